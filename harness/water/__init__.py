@@ -1,0 +1,19 @@
+"""Properties of pure water and the Debye-Hückel constants derived from them."""
+
+from saltbench.water.debye_huckel import (
+    DebyeHuckel,
+    debye_huckel_constants,
+    with_a_phi,
+)
+from saltbench.water.properties import (
+    MOLAR_MASS_WATER,
+    T_MAX,
+    T_MIN,
+    WaterState,
+    water_state,
+)
+
+__all__ = [
+    "DebyeHuckel", "debye_huckel_constants", "with_a_phi",
+    "MOLAR_MASS_WATER", "T_MAX", "T_MIN", "WaterState", "water_state",
+]

@@ -1,0 +1,73 @@
+"""Density and static relative permittivity of liquid water.
+
+Density: IAPWS-95 (Wagner and Pruss, J. Phys. Chem. Ref. Data 31, 387 (2002); IAPWS R6-95).
+Relative permittivity: IAPWS R8-97, "Release on the Static Dielectric Constant of Ordinary Water
+Substance" (Fernández, Goodwin, Lemmon, Levelt Sengers and Williams, J. Phys. Chem. Ref. Data
+26, 1125 (1997)). Both come from the ``iapws`` package (PyPI), a maintained implementation of
+the IAPWS releases, rather than code of our own.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from functools import lru_cache
+
+from saltbench.errors import UserError
+
+#: kg/mol, from the IUPAC standard atomic weights (2 x 1.008 + 15.999), from memory of the IUPAC table.
+MOLAR_MASS_WATER = 0.018015
+
+#: Temperature range (K) saltbench accepts for liquid-water properties: 0 °C to 300 °C.
+#: The IAPWS releases extend further; activity models and published parameters rarely do.
+T_MIN = 273.15
+T_MAX = 573.15
+
+#: Pressure (Pa) used when none is given: 1 atm, or the saturation pressure where that is higher.
+P_STANDARD = 101_325.0
+
+
+@dataclass(frozen=True)
+class WaterState:
+    temperature_k: float
+    pressure_pa: float
+    density: float  # kg/m^3
+    permittivity: float  # relative static permittivity (dimensionless)
+
+
+def check_temperature(temperature_k: float) -> None:
+    if not (T_MIN <= temperature_k <= T_MAX):
+        raise UserError(
+            f"temperature {temperature_k:g} K is outside the range saltbench supports for water "
+            f"properties ({T_MIN:g} K to {T_MAX:g} K)"
+        )
+
+
+@lru_cache(maxsize=512)
+def _state(temperature_k: float, pressure_pa: float | None) -> WaterState:
+    from iapws import IAPWS95  # heavy import kept out of module import time
+    from iapws.iapws97 import _PSat_T
+
+    check_temperature(temperature_k)
+    p = P_STANDARD if pressure_pa is None else float(pressure_pa)
+    if temperature_k > 373.0:
+        # Keep the liquid: below saturation the state would be steam.
+        p_sat = _PSat_T(temperature_k) * 1e6
+        if pressure_pa is None:
+            p = max(p, p_sat * 1.0001)
+        elif p < p_sat:
+            raise UserError(
+                f"pressure {p:g} Pa is below the saturation pressure {p_sat:.6g} Pa at "
+                f"{temperature_k:g} K: water would not be liquid"
+            )
+    state = IAPWS95(T=float(temperature_k), P=p / 1e6)
+    if state.rho is None or state.epsilon is None:
+        raise UserError(f"no liquid-water state at {temperature_k:g} K and {p:g} Pa")
+    return WaterState(float(temperature_k), p, float(state.rho), float(state.epsilon))
+
+
+def water_state(temperature_k: float = 298.15, pressure_pa: float | None = None) -> WaterState:
+    """Liquid-water density and permittivity at ``temperature_k`` and ``pressure_pa``.
+
+    Without a pressure, 101325 Pa is used, or just above saturation above the normal boiling point.
+    """
+    return _state(round(float(temperature_k), 9), None if pressure_pa is None else float(pressure_pa))

@@ -1,0 +1,1 @@
+"""Built-in activity-model plugins, registered through the saltbench.plugins entry-point group."""

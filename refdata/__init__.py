@@ -1,0 +1,1 @@
+"""Curated, cited reference data bundled with saltbench (read through importlib.resources)."""
