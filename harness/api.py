@@ -1,0 +1,85 @@
+"""The Python API: everything the command line does, as functions returning DataFrames.
+
+    from saltbench.api import Session
+    s = Session()                      # default store, seeded from the bundled data on first use
+    s.electrolytes()                   # DataFrame
+    s.points("NaCl")                   # DataFrame of every stored point for NaCl
+"""
+
+from __future__ import annotations
+
+import os
+from collections.abc import Sequence
+from functools import cached_property
+from pathlib import Path
+
+import pandas as pd
+
+from saltbench.store import queries
+from saltbench.store.bundled import sync_bundled
+from saltbench.store.connection import Store, open_store
+from saltbench.store.ingest import IngestReport, ingest
+
+
+class Session:
+    """A store plus, on first need, the plugin registry. Cheap to create."""
+
+    def __init__(self, store: str | os.PathLike[str] | Store | None = None, *,
+                 plugin_files: Sequence[str | os.PathLike[str]] = (), disabled: Sequence[str] = (),
+                 seed: bool = True):
+        self._plugin_files = list(plugin_files)
+        self._disabled = list(disabled)
+        self.store = store if isinstance(store, Store) else open_store(store)
+        if seed:
+            self.refresh_bundled()
+
+    # -- plugins ------------------------------------------------------------------------------
+    @cached_property
+    def registry(self):
+        from saltbench.models.discovery import build_registry
+
+        return build_registry(self._plugin_files, self._disabled)
+
+    def plugin_data_files(self) -> list[tuple[str, Path]]:
+        if not self._plugin_files and not _has_third_party_entry_points():
+            return []
+        out = []
+        for hook in ("register_data_files", "register_parameter_sets"):
+            for rec, path in self.registry.call_list_hook(hook):
+                if rec.name == "saltbench" or rec.kind == "entry-point" and rec.path.startswith("saltbench.plugins"):
+                    continue
+                out.append((rec.name, Path(path)))
+        return out
+
+    # -- data ---------------------------------------------------------------------------------
+    def refresh_bundled(self, force: bool = False) -> IngestReport | None:
+        return sync_bundled(self.store, self.plugin_data_files(), force=force)
+
+    def add(self, paths: Sequence[str | os.PathLike[str]]) -> IngestReport:
+        return ingest(self.store, [Path(p) for p in paths], origin="user", provider="user")
+
+    def electrolytes(self) -> pd.DataFrame:
+        return queries.electrolytes(self.store)
+
+    def datasets(self, electrolyte: str | None = None) -> pd.DataFrame:
+        return queries.datasets(self.store, self.electrolyte(electrolyte).name if electrolyte else None)
+
+    def points(self, electrolyte: str | None = None) -> pd.DataFrame:
+        return queries.points(self.store, self.electrolyte(electrolyte).name if electrolyte else None)
+
+    def electrolyte(self, name: str):
+        return queries.electrolyte(self.store, name)
+
+    def content_hash(self) -> str:
+        return queries.content_hash(self.store)
+
+
+def _has_third_party_entry_points() -> bool:
+    from importlib import metadata
+
+    from saltbench.models.discovery import ENTRY_POINT_GROUP, ENV_PLUGINS
+
+    if os.environ.get(ENV_PLUGINS):
+        return True
+    return any((ep.dist.name if ep.dist else "") != "saltbench"
+               for ep in metadata.entry_points(group=ENTRY_POINT_GROUP))

@@ -1,0 +1,122 @@
+"""``saltbench data``: list, show, export, add and check curated data."""
+
+from __future__ import annotations
+
+import click
+
+from saltbench.cli.output import emit, format_option
+
+POINT_COLUMNS = ["electrolyte", "property", "molality", "value", "uncertainty", "temperature_k",
+                 "source", "dataset", "origin"]
+
+
+@click.group()
+def data() -> None:
+    """Curated reference data and your own measured data."""
+
+
+@data.command("list")
+@format_option
+@click.pass_obj
+def list_(app, fmt: str) -> None:
+    """One line per electrolyte: charge type, datasets, points, sources, range."""
+    s = app.session()
+    frame = s.electrolytes()
+    sources = s.datasets()
+    records = []
+    for r in frame.to_dict("records"):
+        ds = sources[sources.electrolyte == r["electrolyte"]]
+        cites = ds.drop_duplicates("source")[["source", "citation", "doi"]].to_dict("records")
+        records.append({
+            "electrolyte": r["electrolyte"], "charge_type": r["charge_type"],
+            "properties": sorted(set((r["properties"] or "").split(","))),
+            "n_datasets": int(r["n_datasets"]), "n_points": int(r["n_points"]),
+            "max_molality": r["max_molality"], "sources": [c["source"] for c in cites],
+            "citations": cites, "from_memory": bool(r["any_from_memory"]), "origin": r["origin"],
+        })
+    if fmt == "json":
+        emit(records, fmt)
+        return
+    flat = [{**r, "properties": ",".join(r["properties"]), "sources": ", ".join(r["sources"]),
+             "from_memory": "yes (verify)" if r["from_memory"] else "no"} for r in records]
+    emit(flat, fmt, ["electrolyte", "charge_type", "properties", "n_datasets", "n_points",
+                     "max_molality", "from_memory", "sources"],
+         {"charge_type": "type", "n_datasets": "datasets", "n_points": "points",
+          "max_molality": "max m/(mol/kg)", "from_memory": "from memory"})
+
+
+@data.command("show")
+@click.argument("electrolyte")
+@click.option("--points/--no-points", default=True, show_default=True, help="Also list the points.")
+@format_option
+@click.pass_obj
+def show(app, electrolyte: str, points: bool, fmt: str) -> None:
+    """Datasets (with full citations) and points for ELECTROLYTE."""
+    s = app.session()
+    ds = s.datasets(electrolyte)
+    pts = s.points(electrolyte)
+    if fmt == "json":
+        emit([], fmt, json_obj={
+            "electrolyte": s.electrolyte(electrolyte).name,
+            "datasets": ds.to_dict("records"),
+            "points": pts[POINT_COLUMNS].to_dict("records") if points else [],
+        })
+        return
+    if fmt == "csv":
+        emit(pts[POINT_COLUMNS].to_dict("records"), fmt, POINT_COLUMNS)
+        return
+    for d in ds.to_dict("records"):
+        memo = "  ** typed from memory: verify against the original before regulated use **" if d["from_memory"] else ""
+        click.echo(f"{d['key']}  [{d['origin']}]{memo}")
+        click.echo(f"  {d['property']} ({d['basis']} basis, {d['scale']}), {d['temperature_k']:.2f} K, "
+                   f"{d['n_points']} points, m = {d['min_molality']:g} to {d['max_molality']:g} mol/kg")
+        click.echo(f"  source: {d['citation']}")
+        click.echo(f"  table: {d['table_ref']}; precision {d['precision']:g}; "
+                   f"uncertainty {d['uncertainty'] if d['uncertainty'] is not None else 'per point'}")
+        click.echo(f"  typed: {d['typed']}")
+        click.echo(f"  content hash: {d['content_hash'][:16]}")
+        if points:
+            sub = pts[pts.dataset == d["key"]]
+            click.echo("  " + emit_table(sub))
+        click.echo("")
+
+
+def emit_table(frame) -> str:
+    from saltbench.cli.output import table
+
+    rows = frame[["molality", "value", "uncertainty"]].to_dict("records")
+    return table(rows, headers={"molality": "m/(mol/kg)"}).replace("\n", "\n  ")
+
+
+@data.command("export")
+@click.argument("electrolytes", nargs=-1)
+@click.option("--format", "fmt", type=click.Choice(["csv", "json", "table"]), default="csv",
+              show_default=True, help="Output format.")
+@click.pass_obj
+def export(app, electrolytes: tuple[str, ...], fmt: str) -> None:
+    """Every stored point (or those of ELECTROLYTES), one record per point."""
+    s = app.session()
+    frames = [s.points(e) for e in electrolytes] if electrolytes else [s.points()]
+    import pandas as pd
+
+    frame = pd.concat(frames, ignore_index=True) if frames else pd.DataFrame()
+    emit(frame[POINT_COLUMNS].to_dict("records"), fmt, POINT_COLUMNS)
+
+
+@data.command("add")
+@click.argument("paths", nargs=-1, required=True, type=click.Path(dir_okay=False))
+@format_option
+@click.pass_obj
+def add(app, paths: tuple[str, ...], fmt: str) -> None:
+    """Add your own bibliography, dataset and parameter files (all in one transaction).
+
+    Either every file loads, or none does and the store is unchanged.
+    """
+    report = app.session().add(paths)
+    result = {"added": report.added, "updated": report.updated, "unchanged": report.unchanged}
+    if fmt == "json":
+        emit([], fmt, json_obj=result)
+        return
+    for what, items in result.items():
+        for item in items:
+            click.echo(f"{what:9s} {item}")

@@ -1,0 +1,96 @@
+"""Output formats in one place: an aligned table for people, JSON and CSV for scripts."""
+
+from __future__ import annotations
+
+import io
+import json
+import math
+from collections.abc import Sequence
+from typing import Any
+
+import click
+
+FORMATS = ("table", "json", "csv")
+format_option = click.option("--format", "fmt", type=click.Choice(FORMATS), default="table",
+                             show_default=True, help="Output format.")
+
+
+def _clean(value: Any) -> Any:
+    if hasattr(value, "item") and not isinstance(value, (list, dict, str)):
+        try:
+            value = value.item()
+        except (ValueError, AttributeError):
+            pass
+    if isinstance(value, float) and (math.isnan(value) or math.isinf(value)):
+        return None
+    if isinstance(value, dict):
+        return {k: _clean(v) for k, v in value.items()}
+    if isinstance(value, (list, tuple)):
+        return [_clean(v) for v in value]
+    return value
+
+
+def to_json(obj: Any) -> str:
+    return json.dumps(_clean(obj), indent=2, ensure_ascii=False)
+
+
+def _cell(value: Any, digits: int = 6) -> str:
+    value = _clean(value)
+    if value is None:
+        return "-"
+    if isinstance(value, bool):
+        return "yes" if value else "no"
+    if isinstance(value, float):
+        return f"{value:.{digits}g}"
+    if isinstance(value, (list, tuple)):
+        return ", ".join(_cell(v) for v in value)
+    return str(value)
+
+
+def table(records: Sequence[dict[str, Any]], columns: Sequence[str] | None = None,
+          headers: dict[str, str] | None = None) -> str:
+    if not records:
+        return "(nothing to show)"
+    cols = list(columns or records[0].keys())
+    heads = [(headers or {}).get(c, c) for c in cols]
+    rows = [[_cell(r.get(c)) for c in cols] for r in records]
+    widths = [max(len(h), *(len(row[i]) for row in rows)) for i, h in enumerate(heads)]
+    numeric = [all(_is_num(row[i]) for row in rows) for i in range(len(cols))]
+
+    def fmt(cells: list[str]) -> str:
+        return "  ".join(c.rjust(w) if num else c.ljust(w)
+                         for c, w, num in zip(cells, widths, numeric)).rstrip()
+
+    lines = [fmt(heads), "  ".join("-" * w for w in widths)]
+    lines += [fmt(r) for r in rows]
+    return "\n".join(lines)
+
+
+def _is_num(text: str) -> bool:
+    try:
+        float(text)
+        return True
+    except ValueError:
+        return text == "-"
+
+
+def to_csv(records: Sequence[dict[str, Any]], columns: Sequence[str] | None = None) -> str:
+    import csv
+
+    buf = io.StringIO()
+    cols = list(columns or (records[0].keys() if records else []))
+    writer = csv.DictWriter(buf, fieldnames=cols, extrasaction="ignore", lineterminator="\n")
+    writer.writeheader()
+    for r in records:
+        writer.writerow({k: ("" if _clean(v) is None else _clean(v)) for k, v in r.items()})
+    return buf.getvalue()
+
+
+def emit(records: Sequence[dict[str, Any]], fmt: str, columns: Sequence[str] | None = None,
+         headers: dict[str, str] | None = None, json_obj: Any = None) -> None:
+    if fmt == "json":
+        click.echo(to_json(records if json_obj is None else json_obj))
+    elif fmt == "csv":
+        click.echo(to_csv(records, columns), nl=False)
+    else:
+        click.echo(table(records, columns, headers))

@@ -1,0 +1,138 @@
+"""The one reader behind every saltbench file: a ``# field: value`` header block, then CSV rows.
+
+Keeping line numbers with every field and cell is what lets each error name FILE:LINE: field.
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+from dataclasses import dataclass, field
+from pathlib import Path
+
+from saltbench.errors import InputFileError
+
+
+@dataclass(frozen=True)
+class HeaderField:
+    name: str
+    value: str
+    line: int
+
+
+@dataclass
+class Block:
+    """A parsed file: its magic line, header fields, column names and rows (with line numbers)."""
+
+    path: str
+    magic: str
+    header: dict[str, HeaderField]
+    repeated: dict[str, list[HeaderField]]
+    columns: list[str]
+    columns_line: int
+    rows: list[tuple[int, dict[str, str]]] = field(default_factory=list)
+    text: str = ""
+
+    def get(self, name: str, default: str | None = None) -> str | None:
+        f = self.header.get(name)
+        return f.value if f else default
+
+    def require(self, name: str) -> HeaderField:
+        f = self.header.get(name)
+        if f is None or not f.value:
+            raise InputFileError(self.path, None, name, "missing header field")
+        return f
+
+    def error(self, name: str, problem: str) -> InputFileError:
+        f = self.header.get(name)
+        return InputFileError(self.path, f.line if f else None, name, problem)
+
+
+def read_text(path: str | Path) -> str:
+    p = Path(path)
+    try:
+        raw = p.read_bytes()
+    except FileNotFoundError:
+        raise InputFileError(p, None, None, "no such file") from None
+    except IsADirectoryError:
+        raise InputFileError(p, None, None, "is a directory, not a file") from None
+    except OSError as exc:
+        raise InputFileError(p, None, None, f"cannot be read ({exc.strerror})") from None
+    try:
+        return raw.decode("utf-8-sig")
+    except UnicodeDecodeError as exc:
+        line = raw[: exc.start].count(b"\n") + 1
+        raise InputFileError(p, line, None, "is not UTF-8 text") from None
+
+
+def parse_block(path: str | Path, magic_prefix: str, multi: frozenset[str] = frozenset(),
+                text: str | None = None) -> Block:
+    """Parse a header-plus-CSV file. ``multi`` names header fields that may repeat."""
+    text = read_text(path) if text is None else text
+    p = str(path)
+    lines = text.splitlines()
+    if not lines or not lines[0].startswith("#"):
+        raise InputFileError(p, 1, None, f"expected first line '# {magic_prefix} 1'")
+    magic = lines[0].lstrip("#").strip()
+    if not magic.startswith(magic_prefix):
+        raise InputFileError(p, 1, None, f"expected first line '# {magic_prefix} 1', found {lines[0]!r}")
+    version = magic[len(magic_prefix):].strip()
+    if version != "1":
+        raise InputFileError(p, 1, None, f"unsupported format version {version!r} (this saltbench reads 1)")
+    header: dict[str, HeaderField] = {}
+    repeated: dict[str, list[HeaderField]] = {}
+    i = 1
+    while i < len(lines) and (lines[i].startswith("#") or not lines[i].strip()):
+        raw = lines[i].lstrip("#").strip()
+        n = i + 1
+        i += 1
+        if not raw:
+            continue
+        if ":" not in raw:
+            raise InputFileError(p, n, None, f"header line is not 'field: value': {raw!r}")
+        name, value = raw.split(":", 1)
+        name = name.strip().lower()
+        value = value.strip()
+        if not name.replace("_", "").replace("-", "").isalnum():
+            raise InputFileError(p, n, name, "header field names are single words")
+        hf = HeaderField(name, value, n)
+        if name in multi:
+            repeated.setdefault(name, []).append(hf)
+            continue
+        if name in header:
+            raise InputFileError(p, n, name, f"given twice (first on line {header[name].line})")
+        header[name] = hf
+    if i >= len(lines):
+        raise InputFileError(p, len(lines), None, "no table: expected a line of column names")
+    columns_line = i + 1
+    table = "\n".join(lines[i:])
+    reader = csv.reader(io.StringIO(table))
+    try:
+        columns = [c.strip().lower() for c in next(reader)]
+    except StopIteration:
+        raise InputFileError(p, columns_line, None, "no table: expected a line of column names") from None
+    if len(set(columns)) != len(columns):
+        raise InputFileError(p, columns_line, None, "column names repeat")
+    if any(not c for c in columns):
+        raise InputFileError(p, columns_line, None, "empty column name")
+    rows = []
+    for offset, cells in enumerate(reader):
+        n = columns_line + 1 + offset
+        if not cells or all(not c.strip() for c in cells):
+            continue
+        if cells[0].lstrip().startswith("#"):
+            continue
+        if len(cells) != len(columns):
+            raise InputFileError(p, n, None, f"expected {len(columns)} cells ({', '.join(columns)}), found {len(cells)}")
+        rows.append((n, {c: v.strip() for c, v in zip(columns, cells)}))
+    return Block(p, magic, header, repeated, columns, columns_line, rows, text)
+
+
+def parse_float(path: str, line: int | None, field_name: str, text: str) -> float:
+    try:
+        value = float(text)
+    except ValueError:
+        raise InputFileError(path, line, field_name, f"not a number: {text!r}") from None
+    if value != value or value in (float("inf"), float("-inf")):
+        raise InputFileError(path, line, field_name, f"not a finite number: {text!r}")
+    return value

@@ -1,0 +1,278 @@
+"""Dataset files: one property of one electrolyte from one source (format in DEVELOPERS.md).
+
+Reading validates everything that can be judged from the file alone; references to the
+bibliography are checked at ingest, where the known sources are at hand.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import json
+import re
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+
+from saltbench.chemistry.electrolyte import Electrolyte, parse_formula
+from saltbench.chemistry.ions import KNOWN_IONS, Ion, formula_mass
+from saltbench.curation import units
+from saltbench.curation.blocks import Block, parse_block, parse_float
+from saltbench.errors import InputFileError
+from saltbench.water.properties import T_MAX, T_MIN, water_state
+
+MAGIC = "saltbench dataset"
+PROPERTIES = ("gamma_pm", "osmotic", "water_activity")
+BASES = ("linear", "ln", "log10")
+SCALES = ("molality", "molarity", "mole_fraction")
+TYPED_FORMS = ("transcribed from ", "from memory of ", "measured ")
+KNOWN_FIELDS = {"electrolyte", "property", "basis", "scale", "temperature", "pressure", "source",
+                "table", "precision", "uncertainty", "typed", "note", "id", "cation", "anion"}
+
+
+@dataclass
+class Dataset:
+    """A validated dataset, converted to molality and the linear basis."""
+
+    key: str
+    path: str
+    electrolyte: Electrolyte
+    property: str
+    basis: str
+    scale: str
+    temperature_k: float
+    pressure_pa: float
+    source: str
+    source_line: int
+    table: str
+    precision: float
+    uncertainty: float | None
+    typed: str
+    note: str
+    molality: np.ndarray
+    value: np.ndarray  # linear basis (gamma±, phi or a_w)
+    value_printed: np.ndarray
+    u_value: np.ndarray  # standard uncertainty of ``value`` (linear basis)
+    lines: list[int]
+    declared_ions: dict[str, Ion] = field(default_factory=dict)
+    meta: dict[str, str] = field(default_factory=dict)
+
+    @property
+    def from_memory(self) -> bool:
+        return self.typed.lower().startswith("from memory of")
+
+    @property
+    def ln_gamma(self) -> np.ndarray:
+        return np.log(self.value)
+
+    def content_hash(self) -> str:
+        """SHA-256 of the canonical content: header meaning and points, not layout."""
+        doc = {
+            "electrolyte": self.electrolyte.name, "property": self.property, "basis": self.basis,
+            "scale": self.scale, "temperature_k": round(self.temperature_k, 6),
+            "pressure_pa": round(self.pressure_pa, 3), "source": self.source, "table": self.table,
+            "precision": self.precision, "uncertainty": self.uncertainty, "typed": self.typed,
+            "note": self.note,
+            "ions": {k: [i.charge, round(i.molar_mass, 9)] for k, i in sorted(self.declared_ions.items())},
+            "points": [[float(m), float(v), float(u)] for m, v, u in
+                       zip(self.molality, self.value_printed, self.u_value)],
+        }
+        return hashlib.sha256(json.dumps(doc, sort_keys=True).encode()).hexdigest()
+
+
+_ION_DECL = re.compile(
+    r"^(?P<formula>[A-Za-z][A-Za-z0-9()]*)\s*,\s*charge\s+(?P<charge>[+-]?\d+)"
+    r"(?:\s*,\s*count\s+(?P<count>\d+))?"
+    r"(?:\s*,\s*molar\s+mass\s+(?P<mass>\d+(?:\.\d+)?)\s*g/mol)?\s*$"
+)
+
+
+def _declared_ions(b: Block) -> dict[str, Ion]:
+    ions: dict[str, Ion] = {}
+    for role in ("cation", "anion"):
+        for hf in b.repeated.get(role, []):
+            m = _ION_DECL.match(hf.value)
+            if not m:
+                raise InputFileError(b.path, hf.line, role, "expected 'FORMULA, charge +Z, molar mass M "
+                                     f"g/mol', found {hf.value!r}")
+            formula, charge = m.group("formula"), int(m.group("charge"))
+            if charge == 0 or (role == "cation") != (charge > 0):
+                raise InputFileError(b.path, hf.line, role, f"a {role} needs a "
+                                     f"{'positive' if role == 'cation' else 'negative'} charge")
+            if m.group("mass"):
+                mass = float(m.group("mass")) / 1000.0
+                if mass <= 0:
+                    raise InputFileError(b.path, hf.line, role, "molar mass must be positive")
+            elif formula in KNOWN_IONS:
+                mass = KNOWN_IONS[formula].molar_mass
+            else:
+                try:
+                    mass = formula_mass(formula) / 1000.0
+                except ValueError:
+                    raise InputFileError(b.path, hf.line, role, f"unknown ion {formula!r}: give its "
+                                         "molar mass ('molar mass M g/mol')") from None
+            known = KNOWN_IONS.get(formula)
+            if known and known.charge != charge:
+                raise InputFileError(b.path, hf.line, role, f"{formula} is known with charge "
+                                     f"{known.charge:+d}, not {charge:+d}")
+            ions[formula] = Ion(formula, charge, mass)
+    return ions
+
+
+def read_dataset(path: str | Path, text: str | None = None) -> Dataset:
+    """Read and validate one dataset file. Raises InputFileError naming file, line and field."""
+    b = parse_block(path, MAGIC, multi=frozenset({"cation", "anion"}), text=text)
+    p = b.path
+    for name, hf in b.header.items():
+        if name not in KNOWN_FIELDS:
+            raise InputFileError(p, hf.line, name, f"unknown header field (known: {', '.join(sorted(KNOWN_FIELDS))})")
+
+    declared = _declared_ions(b)
+    ef = b.require("electrolyte")
+    try:
+        electrolyte = parse_formula(ef.value, declared)
+    except ValueError as exc:
+        raise InputFileError(p, ef.line, "electrolyte", str(exc)) from None
+
+    prop = b.require("property")
+    if prop.value not in PROPERTIES:
+        raise InputFileError(p, prop.line, "property", f"unknown property {prop.value!r} "
+                             f"(known: {', '.join(PROPERTIES)})")
+    basis = b.get("basis", "linear") or "linear"
+    if basis not in BASES:
+        raise b.error("basis", f"unknown basis {basis!r} (known: {', '.join(BASES)})")
+    if basis != "linear" and prop.value != "gamma_pm":
+        raise b.error("basis", f"a basis other than linear applies only to gamma_pm, not {prop.value}")
+    scale = b.get("scale", "molality") or "molality"
+    if scale not in SCALES:
+        raise b.error("scale", f"unknown concentration scale {scale!r} (known: {', '.join(SCALES)})")
+
+    tf = b.require("temperature")
+    try:
+        temperature_k = units.parse_temperature(tf.value)
+    except ValueError as exc:
+        raise InputFileError(p, tf.line, "temperature", str(exc)) from None
+    if not (T_MIN <= temperature_k <= T_MAX):
+        raise InputFileError(p, tf.line, "temperature", f"{temperature_k:g} K is outside "
+                             f"{T_MIN:g}-{T_MAX:g} K")
+    pressure_pa = 101325.0
+    if b.get("pressure"):
+        try:
+            pressure_pa = units.parse_pressure(b.get("pressure") or "")
+        except ValueError as exc:
+            raise b.error("pressure", str(exc)) from None
+
+    source = b.require("source")
+    table = b.require("table").value
+    precision = parse_float(p, b.require("precision").line, "precision", b.get("precision") or "")
+    if precision <= 0:
+        raise b.error("precision", "must be positive (one unit of the last printed digit)")
+    uncertainty = None
+    if b.get("uncertainty"):
+        uncertainty = parse_float(p, b.header["uncertainty"].line, "uncertainty", b.get("uncertainty") or "")
+        if uncertainty <= 0:
+            raise b.error("uncertainty", "must be positive")
+    typed = b.require("typed")
+    if not typed.value.lower().startswith(TYPED_FORMS):
+        raise InputFileError(p, typed.line, "typed", "must begin 'transcribed from <source, table>', "
+                             "'from memory of <source>; verify against the original ...' or "
+                             "'measured <by whom, where>'")
+    if typed.value.lower().startswith("from memory of") and "verify" not in typed.value.lower():
+        raise InputFileError(p, typed.line, "typed", "values from memory must say 'verify against "
+                             "the original before use in a regulated method'")
+
+    x_col = {"molality": "molality", "molarity": "molarity", "mole_fraction": "mole_fraction"}[scale]
+    if x_col not in b.columns or "value" not in b.columns:
+        raise InputFileError(p, b.columns_line, None, f"expected columns '{x_col},value' "
+                             f"(found {', '.join(b.columns)})")
+    allowed = {x_col, "value", "uncertainty", "density"}
+    for c in b.columns:
+        if c not in allowed:
+            raise InputFileError(p, b.columns_line, c, f"unknown column (allowed: {', '.join(sorted(allowed))})")
+    if uncertainty is None and "uncertainty" not in b.columns:
+        raise InputFileError(p, None, "uncertainty", "missing: give a dataset uncertainty in the "
+                             "header or an uncertainty column")
+    if scale == "molarity" and "density" not in b.columns:
+        raise b.error("scale", "molarity data need a 'density' column (solution density in kg/L) "
+                      "to be converted to molality; none given")
+    if scale != "molality" and prop.value == "osmotic":
+        raise b.error("scale", f"osmotic coefficients on the {scale} scale are not converted; "
+                      "give molal osmotic coefficients")
+    if not b.rows:
+        raise InputFileError(p, b.columns_line, None, "the table has no rows")
+
+    xs, vs, us, lines, dens = [], [], [], [], []
+    seen: dict[float, int] = {}
+    for n, row in b.rows:
+        x = parse_float(p, n, x_col, row[x_col])
+        if x <= 0:
+            raise InputFileError(p, n, x_col, f"must be positive, found {row[x_col]}")
+        if scale == "mole_fraction" and x >= 1:
+            raise InputFileError(p, n, x_col, "a mole fraction must be below 1")
+        if x in seen:
+            raise InputFileError(p, n, x_col, f"duplicate {x_col} {row[x_col]} (also on line {seen[x]})")
+        seen[x] = n
+        v = parse_float(p, n, "value", row["value"])
+        if basis == "linear":
+            if prop.value in ("gamma_pm", "osmotic") and v <= 0:
+                raise InputFileError(p, n, "value", f"{prop.value} must be positive, found {row['value']}")
+            if prop.value == "water_activity" and not (0 < v <= 1):
+                raise InputFileError(p, n, "value", f"water activity must lie in (0, 1], found {row['value']}")
+        u = uncertainty
+        if "uncertainty" in b.columns and row["uncertainty"]:
+            u = parse_float(p, n, "uncertainty", row["uncertainty"])
+            if u <= 0:
+                raise InputFileError(p, n, "uncertainty", "must be positive")
+        if u is None:
+            raise InputFileError(p, n, "uncertainty", "empty, and no dataset uncertainty in the header")
+        if "density" in b.columns:
+            d = parse_float(p, n, "density", row["density"])
+            if not (0.5 < d < 3.0):
+                raise InputFileError(p, n, "density", f"{d:g} kg/L is not a plausible solution density")
+            dens.append(d)
+        xs.append(x)
+        vs.append(v)
+        us.append(u)
+        lines.append(n)
+
+    x = np.array(xs)
+    printed = np.array(vs)
+    u_printed = np.array(us)
+    # to the linear basis
+    if basis == "ln":
+        value = np.exp(printed)
+        u_lin = value * u_printed
+    elif basis == "log10":
+        value = 10.0 ** printed
+        u_lin = value * np.log(10.0) * u_printed
+    else:
+        value, u_lin = printed.copy(), u_printed.copy()
+    # to molality
+    if scale == "molarity":
+        m = units.molality_from_molarity(x, np.array(dens), electrolyte.molar_mass)
+        if np.any(m <= 0):
+            bad = lines[int(np.argmax(m <= 0))]
+            raise InputFileError(p, bad, "density", "density too low for this molarity")
+        if prop.value == "gamma_pm":
+            rho_w = water_state(temperature_k).density / 1000.0
+            factor = units.gamma_from_molar(1.0, x, m, rho_w)
+            value, u_lin = value * factor, u_lin * factor
+    elif scale == "mole_fraction":
+        m = units.molality_from_mole_fraction(x)
+        if prop.value == "gamma_pm":
+            factor = units.gamma_from_rational(1.0, m, electrolyte.nu)
+            value, u_lin = value * factor, u_lin * factor
+    else:
+        m = x
+    order = np.argsort(m)
+    if np.any(np.diff(m[order]) <= 0):
+        raise InputFileError(p, None, x_col, "two rows convert to the same molality")
+    key = b.get("id") or Path(p).name.removesuffix(".csv")
+    return Dataset(
+        key=key, path=p, electrolyte=electrolyte, property=prop.value, basis=basis, scale=scale,
+        temperature_k=temperature_k, pressure_pa=pressure_pa, source=source.value,
+        source_line=source.line, table=table, precision=precision, uncertainty=uncertainty,
+        typed=typed.value, note=b.get("note", "") or "", molality=m[order], value=value[order],
+        value_printed=printed[order], u_value=u_lin[order], lines=[lines[i] for i in order],
+        declared_ions=declared, meta={k: v.value for k, v in b.header.items()},
+    )

@@ -1,0 +1,115 @@
+"""Published parameter-set files (format in DEVELOPERS.md): one model, one source, many rows."""
+
+from __future__ import annotations
+
+import hashlib
+import json
+import re
+from dataclasses import dataclass, field
+from pathlib import Path
+
+from saltbench.curation import units
+from saltbench.curation.blocks import parse_block, parse_float
+from saltbench.errors import InputFileError
+
+MAGIC = "saltbench parameters"
+KNOWN_FIELDS = {"set", "model", "source", "table", "temperature", "a_phi", "typed", "note"}
+SET_ID = re.compile(r"^[a-z0-9]+(?:-[a-z0-9]+)*$")
+
+
+@dataclass
+class ParameterRow:
+    target: str  # electrolyte formula or ion formula
+    values: dict[str, float]
+    m_max: float | None
+    line: int
+
+
+@dataclass
+class ParameterFile:
+    path: str
+    set_id: str
+    model: str
+    model_line: int
+    source: str
+    source_line: int
+    table: str
+    temperature_k: float
+    a_phi: float | None
+    typed: str
+    note: str
+    target_kind: str  # "electrolyte" or "ion"
+    rows: list[ParameterRow] = field(default_factory=list)
+
+    @property
+    def from_memory(self) -> bool:
+        return self.typed.lower().startswith("from memory of")
+
+    def content_hash(self) -> str:
+        doc = {"set": self.set_id, "model": self.model, "source": self.source, "table": self.table,
+               "temperature_k": self.temperature_k, "a_phi": self.a_phi, "typed": self.typed,
+               "note": self.note, "kind": self.target_kind,
+               "rows": [[r.target, sorted(r.values.items()), r.m_max] for r in self.rows]}
+        return hashlib.sha256(json.dumps(doc, sort_keys=True).encode()).hexdigest()
+
+
+def read_parameter_file(path: str | Path) -> ParameterFile:
+    b = parse_block(path, MAGIC)
+    p = b.path
+    for name, hf in b.header.items():
+        if name not in KNOWN_FIELDS:
+            raise InputFileError(p, hf.line, name, f"unknown header field (known: {', '.join(sorted(KNOWN_FIELDS))})")
+    set_f = b.require("set")
+    if not SET_ID.match(set_f.value):
+        raise InputFileError(p, set_f.line, "set", "set ids are lower-case words joined by hyphens")
+    model = b.require("model")
+    source = b.require("source")
+    tf = b.require("temperature")
+    try:
+        temperature_k = units.parse_temperature(tf.value)
+    except ValueError as exc:
+        raise InputFileError(p, tf.line, "temperature", str(exc)) from None
+    a_phi = None
+    if b.get("a_phi"):
+        a_phi = parse_float(p, b.header["a_phi"].line, "a_phi", b.get("a_phi") or "")
+        if not (0.2 < a_phi < 1.5):
+            raise b.error("a_phi", f"{a_phi:g} is not a plausible Debye-Hückel A_phi in (kg/mol)^1/2")
+    typed = b.require("typed")
+    if not typed.value.lower().startswith(("transcribed from ", "from memory of ", "fitted ")):
+        raise InputFileError(p, typed.line, "typed", "must begin 'transcribed from <source, table>' "
+                             "or 'from memory of <source>; verify against the original ...'")
+    first = b.columns[0]
+    if first not in ("electrolyte", "ion"):
+        raise InputFileError(p, b.columns_line, first, "the first column must be 'electrolyte' or 'ion'")
+    names = [c for c in b.columns[1:] if c != "m_max"]
+    for c in names:
+        if not re.fullmatch(r"[A-Za-z_][A-Za-z0-9_]*", c):
+            raise InputFileError(p, b.columns_line, c, "parameter column names are identifiers")
+    pf = ParameterFile(p, set_f.value, model.value, model.line, source.value, source.line,
+                       b.require("table").value, temperature_k, a_phi, typed.value,
+                       b.get("note", "") or "", first)
+    seen: dict[str, int] = {}
+    # parameter names are case-sensitive in models (C_phi, B): keep the header's case.
+    raw_header = next(line for i, line in enumerate(b.text.splitlines(), 1) if i == b.columns_line)
+    case_names = [c.strip() for c in raw_header.split(",")]
+    for n, row in b.rows:
+        target = row[first]
+        if not target:
+            raise InputFileError(p, n, first, "empty")
+        if target in seen:
+            raise InputFileError(p, n, first, f"{target} appears twice (also on line {seen[target]})")
+        seen[target] = n
+        values = {}
+        for c, cased in zip(b.columns[1:], case_names[1:]):
+            if c == "m_max" or not row[c]:
+                continue
+            values[cased] = parse_float(p, n, cased, row[c])
+        m_max = None
+        if "m_max" in b.columns and row["m_max"]:
+            m_max = parse_float(p, n, "m_max", row["m_max"])
+            if m_max <= 0:
+                raise InputFileError(p, n, "m_max", "must be positive")
+        pf.rows.append(ParameterRow(target, values, m_max, n))
+    if not pf.rows:
+        raise InputFileError(p, b.columns_line, None, "the table has no rows")
+    return pf

@@ -1,0 +1,379 @@
+"""A fitting problem: which parameters are free, what the model predicts, and its derivatives.
+
+One problem holds one or more *blocks*, each an electrolyte with its observations. A block maps
+the model's parameter names to entries of one global parameter vector: for a single-salt fit the
+mapping is the identity; for a joint fit a parameter of scope ``cation`` or ``anion`` is shared
+by every salt with that ion (global name ``a_cation[Na]``) and one of scope ``electrolyte`` is
+per salt (``b[NaCl]``).
+
+Predictions are ln(gamma±) at ``ln_gamma`` points and phi at ``osmotic`` points, always obtained
+through :mod:`saltbench.models.evaluate`. The Gibbs-Duhem quadrature runs only at the distinct
+molalities of osmotic points; ln(gamma±) at other molalities comes from one direct call.
+
+Derivatives with respect to a parameter come from the model's ``jacobian`` where it gives them;
+otherwise a parameter marked ``linear`` is differenced with a unit step, which is exact for a
+quantity affine in it, and any other one by central differences with step eps^(1/3) max(1, |p|)
+(the usual choice balancing truncation and rounding error; common practice, no source).
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Iterable, Mapping, Sequence
+from dataclasses import dataclass, field, replace
+
+import numpy as np
+
+from saltbench.chemistry.electrolyte import Electrolyte
+from saltbench.errors import FitError, ModelDomainError, ModelError, UserError
+from saltbench.fitting.data import FitData
+from saltbench.models.contract import ActivityModel, EvalContext
+from saltbench.models.evaluate import call_model, evaluate, make_context
+from saltbench.water.debye_huckel import DebyeHuckel
+
+_FD_STEP = float(np.finfo(float).eps) ** (1.0 / 3.0)
+
+
+@dataclass(frozen=True)
+class GlobalParameter:
+    """One entry of the parameter vector a problem fits."""
+
+    name: str  # e.g. "b", or "a_cation[Na]" in a joint fit
+    model_name: str  # the model's own parameter name
+    lower: float
+    upper: float
+    linear: bool
+    free: bool
+    value: float  # start value if free, held value if not
+
+
+@dataclass
+class Block:
+    """One electrolyte's observations and how its model parameters map to the global vector."""
+
+    electrolyte: Electrolyte
+    ctx: EvalContext
+    data: FitData
+    mapping: dict[str, int]  # model parameter name -> global index
+    # Distinct molalities: osmotic ones first (these need phi), then the others.
+    union: np.ndarray = field(init=False)
+    n_osm_unique: int = field(init=False)
+    position: np.ndarray = field(init=False)  # of each point in ``union``
+    is_osm: np.ndarray = field(init=False)
+
+    def __post_init__(self) -> None:
+        m = self.data.molality
+        self.is_osm = self.data.is_osmotic
+        u_osm = np.unique(m[self.is_osm])
+        rest = np.setdiff1d(np.unique(m[~self.is_osm]), u_osm)
+        self.union = np.concatenate([u_osm, rest])
+        self.n_osm_unique = int(u_osm.size)
+        order = np.argsort(self.union, kind="stable")
+        self.position = order[np.searchsorted(self.union[order], m)]
+
+    def uses(self, index: int) -> list[str]:
+        return [name for name, g in self.mapping.items() if g == index]
+
+
+class FitProblem:
+    """Weighted least squares of one model against one or more blocks of observations."""
+
+    def __init__(self, model: ActivityModel, blocks: list[Block],
+                 params: list[GlobalParameter]) -> None:
+        self.model = model
+        self.blocks = blocks
+        self.params = params
+        self.names = [p.name for p in params]
+        self.theta0 = np.array([p.value for p in params], dtype=float)
+        self.free = np.array([i for i, p in enumerate(params) if p.free], dtype=int)
+        self.linear = np.array([i for i in self.free if params[i].linear], dtype=int)
+        self.nonlinear = np.array([i for i in self.free if not params[i].linear], dtype=int)
+        self.lower = np.array([p.lower for p in params], dtype=float)
+        self.upper = np.array([p.upper for p in params], dtype=float)
+        self.obs = np.concatenate([b.data.value for b in blocks]) if blocks else np.zeros(0)
+        self.sigma = np.concatenate([b.data.uncertainty for b in blocks]) if blocks else np.zeros(0)
+        self.is_osm = np.concatenate([b.data.is_osmotic for b in blocks]) if blocks else \
+            np.zeros(0, dtype=bool)
+        self.molality = np.concatenate([b.data.molality for b in blocks]) if blocks else \
+            np.zeros(0)
+        sizes = [b.data.n for b in blocks]
+        self.slices = [slice(s - n, s) for s, n in zip(np.cumsum(sizes), sizes)]
+        self.n_evaluations = 0
+        self._no_jacobian = False  # the model said it has none; stop asking
+
+    # -- bookkeeping --------------------------------------------------------------------------
+    @property
+    def n(self) -> int:
+        return int(self.obs.size)
+
+    @property
+    def k(self) -> int:
+        return int(self.free.size)
+
+    @property
+    def electrolyte_label(self) -> str:
+        return " + ".join(b.electrolyte.name for b in self.blocks)
+
+    def values_for(self, block: Block, theta: np.ndarray) -> dict[str, float]:
+        return {name: float(theta[g]) for name, g in block.mapping.items()}
+
+    def subset(self, mask: np.ndarray) -> FitProblem:
+        """The same parameters against only the points picked by a boolean ``mask`` (length n)."""
+        mask = np.asarray(mask, dtype=bool)
+        blocks = []
+        for b, sl in zip(self.blocks, self.slices):
+            sel = mask[sl]
+            if sel.any():
+                blocks.append(Block(b.electrolyte, b.ctx, b.data.subset(sel), dict(b.mapping)))
+        sub = FitProblem(self.model, blocks, list(self.params))
+        sub._no_jacobian = self._no_jacobian
+        return sub
+
+    def with_start(self, theta: np.ndarray) -> FitProblem:
+        """The same problem started from ``theta`` (free entries only are taken)."""
+        params = list(self.params)
+        for i in self.free:
+            v = float(np.clip(theta[i], params[i].lower, params[i].upper))
+            params[i] = replace(params[i], value=v)
+        out = FitProblem(self.model, self.blocks, params)
+        out._no_jacobian = self._no_jacobian
+        return out
+
+    # -- predictions --------------------------------------------------------------------------
+    def _block_values(self, block: Block, theta: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """ln(gamma±) at all of ``block.union`` and phi at its first ``n_osm_unique`` entries."""
+        values = self.values_for(block, theta)
+        self.n_evaluations += 1
+        parts_ln, phi = [], np.zeros(0)
+        if block.n_osm_unique:
+            ev = evaluate(self.model, block.electrolyte, block.union[:block.n_osm_unique], values,
+                          ctx=block.ctx)
+            parts_ln.append(ev.ln_gamma_pm)
+            phi = ev.osmotic
+        rest = block.union[block.n_osm_unique:]
+        if rest.size:
+            raw = call_model(self.model, "ln_gamma_pm", rest, values, block.ctx)
+            parts_ln.append(_finite(self.model, "ln_gamma_pm", raw, rest.shape))
+        return np.concatenate(parts_ln), phi
+
+    def predict_block(self, block: Block, theta: np.ndarray) -> np.ndarray:
+        ln_g, phi = self._block_values(block, theta)
+        out = ln_g[block.position]
+        if block.n_osm_unique:
+            out[block.is_osm] = phi[block.position[block.is_osm]]
+        return out
+
+    def predict(self, theta: np.ndarray) -> np.ndarray:
+        """Model values at every observation (ln gamma± or phi by kind), in data order."""
+        if not self.blocks:
+            return np.zeros(0)
+        return np.concatenate([self.predict_block(b, theta) for b in self.blocks])
+
+    # -- derivatives --------------------------------------------------------------------------
+    def _analytic(self, block: Block, theta: np.ndarray
+                  ) -> tuple[dict[str, np.ndarray], dict[str, np.ndarray]] | None:
+        if self._no_jacobian:
+            return None
+        raw = call_model(self.model, "jacobian", block.union, self.values_for(block, theta),
+                         block.ctx)
+        if raw is None:
+            self._no_jacobian = True
+            return None
+        try:
+            d_ln, d_phi = raw  # type: ignore[misc]
+            d_ln, d_phi = dict(d_ln), dict(d_phi)
+        except (TypeError, ValueError) as exc:
+            raise ModelError(f"model {self.model.id}: jacobian must return two dicts") from exc
+        return d_ln, d_phi
+
+    def derivatives(self, theta: np.ndarray, cols: Sequence[int] | np.ndarray,
+                    base: np.ndarray | None = None) -> np.ndarray:
+        """d(prediction)/d(theta[c]) for each global index ``c`` in ``cols``: an (n, len) array.
+
+        ``base`` is ``predict(theta)`` when the caller has it (saves one evaluation).
+        """
+        cols = [int(c) for c in cols]
+        out = np.zeros((self.n, len(cols)))
+        if not cols:
+            return out
+        for b, sl in zip(self.blocks, self.slices):
+            used = [(j, c, b.uses(c)) for j, c in enumerate(cols)]
+            used = [u for u in used if u[2]]
+            if not used:
+                continue
+            analytic = self._analytic(b, theta)
+            y_base = None if base is None else base[sl]
+            for j, c, names in used:
+                col = self._analytic_column(b, analytic, names)
+                if col is None:
+                    if y_base is None:
+                        y_base = self.predict_block(b, theta)
+                    col = self._difference_column(b, theta, c, y_base)
+                out[sl, j] = col
+        return out
+
+    def _analytic_column(self, block: Block, analytic: tuple[dict, dict] | None,
+                         names: list[str]) -> np.ndarray | None:
+        if analytic is None:
+            return None
+        d_ln, d_phi = analytic
+        has_osm, has_ln = bool(block.is_osm.any()), bool((~block.is_osm).any())
+        total = np.zeros(block.data.n)
+        for name in names:
+            if (has_ln and name not in d_ln) or (has_osm and name not in d_phi):
+                return None
+            shape = block.union.shape
+            if has_ln:
+                col = _finite(self.model, f"jacobian[{name}]", d_ln[name], shape)[block.position]
+                total[~block.is_osm] += col[~block.is_osm]
+            if has_osm:
+                col = _finite(self.model, f"jacobian[{name}]", d_phi[name], shape)[block.position]
+                total[block.is_osm] += col[block.is_osm]
+        return total
+
+    def _difference_column(self, block: Block, theta: np.ndarray, c: int,
+                           y_base: np.ndarray) -> np.ndarray:
+        p = self.params[c]
+        x = float(theta[c])
+        if p.linear:
+            # Affine in this parameter, so a unit step gives the derivative exactly.
+            t = theta.copy()
+            t[c] = x + 1.0
+            return self.predict_block(block, t) - y_base
+        h = _FD_STEP * max(1.0, abs(x))
+        t_plus, t_minus = theta.copy(), theta.copy()
+        if x + h > p.upper:  # one-sided towards the inside when a bound is near
+            t_minus[c] = x - h
+            return (y_base - self.predict_block(block, t_minus)) / h
+        if x - h < p.lower:
+            t_plus[c] = x + h
+            return (self.predict_block(block, t_plus) - y_base) / h
+        t_plus[c], t_minus[c] = x + h, x - h
+        return (self.predict_block(block, t_plus) - self.predict_block(block, t_minus)) / (2 * h)
+
+    def linear_design(self, theta: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """Offset and design matrix in the free linear parameters at fixed nonlinear ones.
+
+        prediction = offset + design @ theta[linear]; the offset is the prediction with the free
+        linear parameters at zero.
+        """
+        t0 = theta.copy()
+        t0[self.linear] = 0.0
+        offset = self.predict(t0)
+        return offset, self.derivatives(t0, self.linear, base=offset)
+
+
+def _finite(model: ActivityModel, what: str, value: object, shape: tuple[int, ...]) -> np.ndarray:
+    arr = np.asarray(value, dtype=float)
+    if arr.shape != shape:
+        raise ModelError(f"model {model.id}: {what} has shape {arr.shape}, expected {shape}")
+    if not np.all(np.isfinite(arr)):
+        raise ModelError(f"model {model.id}: {what} is not finite at some molalities")
+    return arr
+
+
+# -- building problems ------------------------------------------------------------------------
+def parse_assignments(items: Iterable[str]) -> dict[str, float]:
+    """``["b=0.2", "a=4"]`` -> ``{"b": 0.2, "a": 4.0}`` (raises UserError on a malformed item)."""
+    out: dict[str, float] = {}
+    for item in items:
+        name, sep, text = str(item).partition("=")
+        name = name.strip()
+        if not sep or not name:
+            raise UserError(f"expected NAME=VALUE, got {item!r}")
+        try:
+            out[name] = float(text)
+        except ValueError:
+            raise UserError(f"parameter {name}: {text.strip()!r} is not a number") from None
+        if not math.isfinite(out[name]):
+            raise UserError(f"parameter {name}: value must be finite")
+    return out
+
+
+def _global_name(param_name: str, scope: str, electrolyte: Electrolyte, joint: bool) -> str:
+    if not joint:
+        return param_name
+    if scope == "cation":
+        return f"{param_name}[{electrolyte.cation.formula}]"
+    if scope == "anion":
+        return f"{param_name}[{electrolyte.anion.formula}]"
+    return f"{param_name}[{electrolyte.name}]"
+
+
+def build_problem(model: ActivityModel, items: Sequence[tuple[Electrolyte, FitData]], *,
+                  joint: bool = False, fixed: Mapping[str, float] | None = None,
+                  start: Mapping[str, float] | None = None, free: Iterable[str] | None = None,
+                  bounds: Mapping[str, tuple[float, float]] | None = None,
+                  dh: DebyeHuckel | None = None, temperature_k: float = 298.15) -> FitProblem:
+    """Set up the parameter vector and blocks; raises UserError for a mistake in the request.
+
+    ``fixed`` holds parameters at given values; ``free`` frees parameters the model holds fixed
+    by default (e.g. Pitzer's alpha); ``start`` sets start values; ``bounds`` narrows the
+    declared bounds. In a joint fit, keys may be a model parameter name (every copy of it) or
+    a global name such as ``a_cation[Na]``.
+    """
+    fixed, start, bounds = dict(fixed or {}), dict(start or {}), dict(bounds or {})
+    free_set = set(free or ())
+    if not items or all(d.n == 0 for _, d in items):
+        raise FitError(f"no data points to fit model {model.id} to")
+    declared = {p.name: p for p in model.parameters}
+    if len(declared) != len(model.parameters):
+        raise ModelError(f"model {model.id}: duplicate parameter names")
+    params: list[GlobalParameter] = []
+    index: dict[str, int] = {}
+    blocks: list[Block] = []
+    for electrolyte, data in items:
+        if data.electrolyte and data.electrolyte != electrolyte.name:
+            raise UserError(f"fit data are for {data.electrolyte}, not {electrolyte.name}")
+        if not model.supports(electrolyte):
+            types = ", ".join(f"{a}-{b}" for a, b in sorted(model.charge_types or ()))
+            raise ModelDomainError(
+                f"model {model.id} does not support {electrolyte.charge_label} electrolytes like "
+                f"{electrolyte.name} (supported: {types})")
+        mapping = {}
+        for p in model.parameters:
+            gname = _global_name(p.name, p.scope, electrolyte, joint)
+            if gname not in index:
+                index[gname] = len(params)
+                params.append(GlobalParameter(gname, p.name, p.lower, p.upper, p.linear,
+                                              not p.fixed, p.default))
+            mapping[p.name] = index[gname]
+        if data.n:
+            ctx = make_context(electrolyte, temperature_k, dh=dh)
+            blocks.append(Block(electrolyte, ctx, data, mapping))
+
+    def targets(key: str, what: str) -> list[int]:
+        if key in index:
+            return [index[key]]
+        hits = [i for i, p in enumerate(params) if p.model_name == key]
+        if not hits:
+            known = ", ".join(p.name for p in params)
+            raise UserError(f"model {model.id} has no parameter {key!r} to {what} "
+                            f"(parameters: {known})")
+        return hits
+
+    for key in free_set:
+        for i in targets(key, "free"):
+            params[i] = replace(params[i], free=True)
+    for key, (lo, hi) in bounds.items():
+        for i in targets(key, "bound"):
+            p = params[i]
+            lo, hi = max(float(lo), p.lower), min(float(hi), p.upper)
+            if not lo <= hi:
+                raise UserError(f"parameter {p.name}: bounds {lo}..{hi} are empty")
+            params[i] = replace(p, lower=lo, upper=hi, value=float(np.clip(p.value, lo, hi)))
+    for key, value in start.items():
+        for i in targets(key, "start"):
+            p = params[i]
+            params[i] = replace(p, value=float(np.clip(float(value), p.lower, p.upper)))
+    for key, value in fixed.items():
+        for i in targets(key, "fix"):
+            p = params[i]
+            value = float(value)
+            if not math.isfinite(value):
+                raise UserError(f"parameter {p.name}: fixed value must be finite")
+            if not p.lower <= value <= p.upper:
+                raise UserError(f"parameter {p.name}: fixed value {value:g} lies outside its "
+                                f"bounds {p.lower:g}..{p.upper:g}")
+            params[i] = replace(p, free=False, value=value)
+    return FitProblem(model, blocks, params)

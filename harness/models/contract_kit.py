@@ -1,0 +1,253 @@
+"""The contract test kit: one call that tells a plugin author what is wrong with a model.
+
+    from saltbench.models.contract_kit import assert_model_contract
+    assert_model_contract(MyModel())
+
+Checks, each reported as one line naming the electrolyte and what failed:
+
+1. the declaration (:func:`saltbench.models.contract.check_declaration`), defaults and any given
+   parameter values inside their bounds;
+2. shape and vectorisation: a length-1 and a length-N array give arrays of that shape, and the
+   length-N result equals the results computed one molality at a time (to 1e-12 relative);
+3. finite values over the declared range (``Validity``; 1 mol/kg where none is declared) for
+   every supported electrolyte of the test list;
+4. the Debye-Hückel limiting law at m = 1e-6 mol/kg: ln gamma± / (-A |z+ z-| sqrt(I)) within
+   ``dh_tolerance`` (default 0.01) of 1. Every ion-size form deviates by about B a sqrt(I), which
+   is 1e-3 for a = 4 Å in NaCl at that molality, so 0.01 leaves room for large ions;
+5. Gibbs-Duhem: an analytic osmotic coefficient agrees with
+   :func:`saltbench.models.evaluate.osmotic_by_gibbs_duhem` to 1e-8 (absolute). The quadrature
+   there is good to about 1e-12, so a failure is the model's;
+6. single-ion values, where given, average to ln gamma± as (nu+ ln g+ + nu- ln g-)/nu (1e-10);
+7. an analytic Jacobian, where given, names only declared parameters, covers every free one and
+   agrees with central finite differences (relative 1e-5, absolute 1e-8).
+
+The kit calls the model functions directly, with the parameter defaults updated by ``params``.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Iterable, Mapping
+
+import numpy as np
+
+from saltbench.chemistry.electrolyte import Electrolyte, parse_formula
+from saltbench.models.contract import ActivityModel, EvalContext, check_declaration
+from saltbench.models.evaluate import make_context, osmotic_by_gibbs_duhem
+
+DEFAULT_ELECTROLYTES = ("NaCl", "CaCl2", "Na2SO4", "MgSO4", "LaCl3")
+DILUTE_MOLALITY = 1e-6  # mol/kg, where the limiting law is checked
+GIBBS_DUHEM_TOLERANCE = 1e-8
+IONS_TOLERANCE = 1e-10
+JACOBIAN_RTOL = 1e-5
+JACOBIAN_ATOL = 1e-8
+FALLBACK_M_MAX = 1.0  # mol/kg, when a model declares no range
+GRID_POINTS = 9
+
+
+def _as_electrolytes(electrolytes: Iterable[Electrolyte | str] | None) -> list[Electrolyte]:
+    items = DEFAULT_ELECTROLYTES if electrolytes is None else electrolytes
+    return [parse_formula(e) if isinstance(e, str) else e for e in items]
+
+
+def _grid(model: ActivityModel, e: Electrolyte) -> np.ndarray:
+    m_max = model.validity.max_molality_for(e) or FALLBACK_M_MAX
+    return np.geomspace(min(1e-4, m_max / 10.0), m_max, GRID_POINTS)
+
+
+class _Problems(list):
+    def add(self, e: Electrolyte | None, text: str) -> None:
+        self.append(f"{e.name}: {text}" if e is not None else text)
+
+
+def _call(problems: _Problems, e: Electrolyte, model: ActivityModel, method: str,
+          m: np.ndarray, params: Mapping[str, float], ctx: EvalContext) -> object:
+    try:
+        return getattr(model, method)(m, params, ctx)
+    except Exception as exc:  # the kit reports, it does not crash on the plugin's bug
+        problems.add(e, f"{method} raised {type(exc).__name__}: {exc}")
+        return _FAILED
+
+
+_FAILED = object()
+
+
+def _array(problems: _Problems, e: Electrolyte, what: str, value: object,
+           n: int) -> np.ndarray | None:
+    try:
+        arr = np.asarray(value, dtype=float)
+    except (TypeError, ValueError):
+        problems.add(e, f"{what} returned {type(value).__name__}, not an array of numbers")
+        return None
+    if arr.shape != (n,):
+        problems.add(e, f"{what} has shape {arr.shape} for {n} molalities, expected ({n},)")
+        return None
+    if not np.all(np.isfinite(arr)):
+        problems.add(e, f"{what} is not finite at some molalities in the declared range")
+        return None
+    return arr
+
+
+def _check_parameters(model: ActivityModel, params: Mapping[str, float], problems: _Problems):
+    names = {p.name for p in model.parameters}
+    for key in params:
+        if key not in names:
+            problems.add(None, f"parameter {key!r} given but not declared")
+    for p in model.parameters:
+        if not (p.lower <= p.default <= p.upper):
+            problems.add(None, f"parameter {p.name}: default {p.default} outside its bounds")
+        value = params.get(p.name, p.default)
+        if not (p.lower <= value <= p.upper):
+            problems.add(None, f"parameter {p.name}: value {value} outside [{p.lower}, {p.upper}]")
+        if p.scope != "electrolyte" and not p.ion_key:
+            problems.add(None, f"parameter {p.name}: per-ion parameters need an ion_key")
+
+
+def _check_method(model, method, e, m, values, ctx, problems) -> np.ndarray | None:
+    """Shape, finiteness and pointwise agreement of one array-valued model function."""
+    out = _call(problems, e, model, method, m, values, ctx)
+    if out is _FAILED:
+        return None
+    if out is None and method == "osmotic":
+        return None
+    full = _array(problems, e, method, out, m.size)
+    one = _call(problems, e, model, method, m[:1].copy(), values, ctx)
+    if one is not _FAILED:
+        _array(problems, e, f"{method} (one molality)", one, 1)
+    if full is None:
+        return None
+    single = []
+    for mk in m:
+        r = _call(problems, e, model, method, np.array([mk]), values, ctx)
+        if r is _FAILED:
+            return full
+        try:
+            single.append(float(np.asarray(r, dtype=float).reshape(-1)[0]))
+        except (TypeError, ValueError, IndexError):
+            problems.add(e, f"{method} of a single molality is not a number")
+            return full
+    if not np.allclose(full, single, rtol=1e-12, atol=1e-14):
+        k = int(np.argmax(np.abs(full - np.array(single))))
+        problems.add(e, f"{method} is not pointwise: at m = {m[k]:g} the array call gives "
+                        f"{full[k]:.15g}, the single call {single[k]:.15g}")
+    return full
+
+
+def _phi(model, m, values, ctx):
+    out = model.osmotic(m, values, ctx)
+    return osmotic_by_gibbs_duhem(model, m, values, ctx) if out is None else np.asarray(out)
+
+
+def _check_jacobian(model, e, m, values, ctx, problems) -> None:
+    jac = _call(problems, e, model, "jacobian", m, values, ctx)
+    if jac is _FAILED or jac is None:
+        return
+    try:
+        d_ln, d_phi = jac
+        d_ln, d_phi = dict(d_ln), dict(d_phi)
+    except (TypeError, ValueError):
+        problems.add(e, "jacobian must return (d_ln_gamma, d_phi), two dicts keyed by parameter")
+        return
+    declared = {p.name: p for p in model.parameters}
+    for key in set(d_ln) | set(d_phi):
+        if key not in declared:
+            problems.add(e, f"jacobian names undeclared parameter {key!r}")
+    for p in model.free_parameters():
+        if p.name not in d_ln or p.name not in d_phi:
+            problems.add(e, f"jacobian lacks free parameter {p.name!r}")
+    for name in sorted(set(d_ln) & set(d_phi) & set(declared)):
+        p = declared[name]
+        x0 = values[name]
+        h = 1e-6 * max(1.0, abs(x0))
+        lo, hi = max(p.lower, x0 - h), min(p.upper, x0 + h)
+        if hi <= lo:
+            continue
+        try:
+            up, dn = dict(values, **{name: hi}), dict(values, **{name: lo})
+            fd_ln = (np.asarray(model.ln_gamma_pm(m, up, ctx))
+                     - np.asarray(model.ln_gamma_pm(m, dn, ctx))) / (hi - lo)
+            fd_phi = (_phi(model, m, up, ctx) - _phi(model, m, dn, ctx)) / (hi - lo)
+        except Exception as exc:
+            problems.add(e, f"finite differences in {name} failed: {type(exc).__name__}: {exc}")
+            continue
+        for what, analytic, fd in (("d ln gamma±", d_ln[name], fd_ln), ("d phi", d_phi[name], fd_phi)):
+            arr = _array(problems, e, f"jacobian {what}/d {name}", analytic, m.size)
+            if arr is None:
+                continue
+            if not np.allclose(arr, fd, rtol=JACOBIAN_RTOL, atol=JACOBIAN_ATOL):
+                k = int(np.argmax(np.abs(arr - fd)))
+                problems.add(e, f"jacobian {what}/d {name} at m = {m[k]:g} is {arr[k]:.8g}, "
+                                f"finite differences give {fd[k]:.8g}")
+
+
+def check_model(model: ActivityModel, electrolytes: Iterable[Electrolyte | str] | None = None,
+                params: Mapping[str, float] | None = None, *, temperature_k: float = 298.15,
+                dh_tolerance: float = 0.01) -> list[str]:
+    """Every contract problem of ``model`` as a list of one-line messages (empty when it passes).
+
+    ``electrolytes`` are formulas or :class:`Electrolyte` objects (default: NaCl, CaCl2, Na2SO4,
+    MgSO4, LaCl3), filtered by what the model supports; ``params`` update the defaults.
+    """
+    problems = _Problems(check_declaration(model))
+    if problems:
+        return list(problems)
+    params = dict(params or {})
+    _check_parameters(model, params, problems)
+    values = {**model.defaults(), **params}
+    supported = [e for e in _as_electrolytes(electrolytes) if model.supports(e)]
+    if not supported:
+        problems.add(None, "supports none of the test electrolytes; pass electrolytes=[...]")
+    for e in supported:
+        ctx = make_context(e, temperature_k)
+        m = _grid(model, e)
+        ln_g = _check_method(model, "ln_gamma_pm", e, m, values, ctx, problems)
+        if ln_g is None:
+            continue
+        # Limiting law at infinite dilution.
+        m0 = np.array([DILUTE_MOLALITY])
+        lim = _call(problems, e, model, "ln_gamma_pm", m0, values, ctx)
+        if lim is not _FAILED:
+            lim_arr = _array(problems, e, "ln_gamma_pm (dilute)", lim, 1)
+            if lim_arr is not None:
+                slope = -ctx.dh.a_gamma * e.zz * math.sqrt(float(e.ionic_strength(DILUTE_MOLALITY)))
+                ratio = float(lim_arr[0]) / slope
+                if abs(ratio - 1.0) > dh_tolerance:
+                    problems.add(e, f"does not reach the Debye-Hückel limiting law: at m = "
+                                    f"{DILUTE_MOLALITY:g} ln gamma± / (-A|z+z-|sqrt(I)) = "
+                                    f"{ratio:.6g}, not 1 within {dh_tolerance:g}")
+        phi = _check_method(model, "osmotic", e, m, values, ctx, problems)
+        if phi is not None:
+            try:
+                gd = osmotic_by_gibbs_duhem(model, m, values, ctx)
+            except Exception as exc:
+                problems.add(e, f"Gibbs-Duhem integration failed: {exc}")
+            else:
+                dev = np.abs(phi - gd)
+                if np.max(dev) > GIBBS_DUHEM_TOLERANCE:
+                    k = int(np.argmax(dev))
+                    problems.add(e, f"osmotic coefficient breaks Gibbs-Duhem: at m = {m[k]:g} "
+                                    f"analytic {phi[k]:.12g}, from ln gamma± {gd[k]:.12g}")
+        ions = _call(problems, e, model, "ln_gamma_ions", m, values, ctx)
+        if ions is not _FAILED and ions is not None:
+            if not isinstance(ions, Mapping) or set(ions) != {"cation", "anion"}:
+                problems.add(e, "ln_gamma_ions must return a dict with keys 'cation' and 'anion'")
+            else:
+                c = _array(problems, e, "ln_gamma_ions['cation']", ions["cation"], m.size)
+                a = _array(problems, e, "ln_gamma_ions['anion']", ions["anion"], m.size)
+                if c is not None and a is not None:
+                    mean = (e.nu_cation * c + e.nu_anion * a) / e.nu
+                    if not np.allclose(mean, ln_g, rtol=IONS_TOLERANCE, atol=IONS_TOLERANCE):
+                        problems.add(e, "single-ion values do not average to ln gamma± "
+                                        f"(largest difference {np.max(np.abs(mean - ln_g)):.3g})")
+        _check_jacobian(model, e, m, values, ctx, problems)
+    return list(problems)
+
+
+def assert_model_contract(model: ActivityModel,
+                          electrolytes: Iterable[Electrolyte | str] | None = None,
+                          params: Mapping[str, float] | None = None, **options: float) -> None:
+    """Raise AssertionError listing every contract problem of ``model`` (see :func:`check_model`)."""
+    problems = check_model(model, electrolytes, params, **options)
+    if problems:
+        raise AssertionError(f"model {getattr(model, 'id', model)!r} breaks the contract:\n  "
+                             + "\n  ".join(problems))

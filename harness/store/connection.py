@@ -1,0 +1,151 @@
+"""Opening a store: where it lives, schema version checks, migrations, transactions.
+
+Location, first match wins: an explicit path (``--store PATH``), ``SALTBENCH_STORE``, then the
+per-user default ``$XDG_DATA_HOME/saltbench/store.sqlite`` (``~/.local/share/...`` without it).
+"""
+
+from __future__ import annotations
+
+import contextlib
+import datetime as _dt
+import os
+import sqlite3
+from collections.abc import Iterator
+from pathlib import Path
+
+import sqlite_utils
+
+from saltbench.errors import StoreError
+from saltbench.store.schema import MIGRATIONS, SCHEMA_VERSION
+
+ENV_STORE = "SALTBENCH_STORE"
+BUSY_TIMEOUT_S = 60.0
+
+
+def default_store_path() -> Path:
+    base = os.environ.get("XDG_DATA_HOME") or os.path.join(os.path.expanduser("~"), ".local", "share")
+    return Path(base) / "saltbench" / "store.sqlite"
+
+
+def resolve_store_path(path: str | os.PathLike[str] | None = None) -> Path:
+    if path:
+        return Path(path)
+    if os.environ.get(ENV_STORE):
+        return Path(os.environ[ENV_STORE])
+    return default_store_path()
+
+
+def _now() -> str:
+    return _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds")
+
+
+class Store:
+    """A saltbench store: an SQLite file reached through sqlite-utils."""
+
+    def __init__(self, db: sqlite_utils.Database, path: Path | None):
+        self.db = db
+        self.path = path
+
+    @property
+    def conn(self) -> sqlite3.Connection:
+        return self.db.conn
+
+    @contextlib.contextmanager
+    def transaction(self) -> Iterator[Store]:
+        """One write transaction, taken with the write lock up front (BEGIN IMMEDIATE), so two
+        processes adding data queue behind each other instead of failing half-way."""
+        if self.conn.in_transaction:
+            with self.db.atomic():
+                yield self
+            return
+        self.conn.execute("BEGIN IMMEDIATE")
+        try:
+            yield self
+        except BaseException:
+            if self.conn.in_transaction:
+                self.conn.execute("ROLLBACK")
+            raise
+        else:
+            self.conn.execute("COMMIT")
+
+    def schema_version(self) -> int:
+        return int(self.conn.execute("PRAGMA user_version").fetchone()[0])
+
+    def meta(self, key: str) -> str | None:
+        row = self.conn.execute("SELECT value FROM meta WHERE key = ?", (key,)).fetchone()
+        return row[0] if row else None
+
+    def set_meta(self, key: str, value: str) -> None:
+        self.conn.execute("INSERT INTO meta (key, value) VALUES (?, ?) "
+                          "ON CONFLICT(key) DO UPDATE SET value = excluded.value", (key, value))
+
+    def close(self) -> None:
+        self.conn.close()
+
+
+def _connect(target: str) -> sqlite3.Connection:
+    conn = sqlite3.connect(target, timeout=BUSY_TIMEOUT_S, isolation_level=None)
+    conn.execute("PRAGMA foreign_keys = ON")
+    return conn
+
+
+def migrate(store: Store) -> list[str]:
+    """Apply every migration the store lacks, each in its own transaction."""
+    version = store.schema_version()
+    if version > SCHEMA_VERSION:
+        raise StoreError(
+            f"store {store.path} has schema version {version}, newer than this saltbench "
+            f"understands ({SCHEMA_VERSION}); upgrade saltbench or use another store. "
+            "The store was not changed.")
+    applied = []
+    for number, (name, sql) in enumerate(MIGRATIONS, start=1):
+        if number <= version:
+            continue
+        with store.transaction():
+            if number == 1:
+                store.conn.execute("CREATE TABLE IF NOT EXISTS meta (key TEXT PRIMARY KEY, value TEXT NOT NULL)")
+                store.conn.execute("CREATE TABLE IF NOT EXISTS migrations (number INTEGER PRIMARY KEY, "
+                                   "name TEXT NOT NULL, applied_at TEXT NOT NULL)")
+            for statement in _statements(sql):
+                store.conn.execute(statement)
+            store.conn.execute("INSERT INTO migrations (number, name, applied_at) VALUES (?, ?, ?)",
+                               (number, name, _now()))
+            store.conn.execute(f"PRAGMA user_version = {number}")
+        applied.append(name)
+    return applied
+
+
+def _statements(sql: str) -> list[str]:
+    # Our migrations hold plain DDL without semicolons inside strings or triggers.
+    return [s.strip() for s in sql.split(";") if s.strip()]
+
+
+def open_store(path: str | os.PathLike[str] | None = None, *, memory: bool = False,
+               create: bool = True) -> Store:
+    """Open (and create, migrate) a store. ``memory=True`` gives a throwaway in-memory store."""
+    if memory:
+        store = Store(sqlite_utils.Database(_connect(":memory:")), None)
+    else:
+        p = resolve_store_path(path)
+        if p.exists() and p.is_dir():
+            raise StoreError(f"store path {p} is a directory")
+        if not p.exists():
+            if not create:
+                raise StoreError(f"no store at {p}")
+            try:
+                p.parent.mkdir(parents=True, exist_ok=True)
+            except OSError as exc:
+                raise StoreError(f"cannot create the folder for store {p}: {exc.strerror}") from None
+        else:
+            with open(p, "rb") as fh:
+                head = fh.read(16)
+            if head and head != b"SQLite format 3\x00":
+                raise StoreError(f"{p} is not a saltbench store (not an SQLite file)")
+        try:
+            conn = _connect(str(p))
+            conn.execute("PRAGMA journal_mode = WAL")
+        except sqlite3.DatabaseError as exc:
+            raise StoreError(f"cannot open store {p}: {exc}") from None
+        store = Store(sqlite_utils.Database(conn), p)
+    migrate(store)
+    return store

@@ -1,0 +1,257 @@
+"""Loading files into the store: all of a command's files in one transaction, or none of them.
+
+Every file is parsed and validated before anything is written; references between files
+(dataset -> citation key) are resolved against the store plus the batch. Unchanged content
+(same content hash) is a no-op; changed bundled content is updated in place; user data is
+never touched by a bundled-data update.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import json
+from collections.abc import Iterable, Sequence
+from dataclasses import dataclass, field
+from pathlib import Path
+
+from saltbench import __version__
+from saltbench.chemistry.electrolyte import Electrolyte
+from saltbench.chemistry.ions import KNOWN_IONS, Ion
+from saltbench.curation.bibliography import Source, read_bibliography
+from saltbench.curation.blocks import read_text
+from saltbench.curation.datasets import Dataset, read_dataset
+from saltbench.curation.parameters import ParameterFile, read_parameter_file
+from saltbench.errors import InputFileError
+from saltbench.store.connection import Store
+
+
+@dataclass
+class IngestReport:
+    added: list[str] = field(default_factory=list)
+    updated: list[str] = field(default_factory=list)
+    unchanged: list[str] = field(default_factory=list)
+    removed: list[str] = field(default_factory=list)
+
+    @property
+    def changed(self) -> bool:
+        return bool(self.added or self.updated or self.removed)
+
+
+@dataclass
+class Batch:
+    sources: list[Source] = field(default_factory=list)
+    datasets: list[Dataset] = field(default_factory=list)
+    parameter_files: list[ParameterFile] = field(default_factory=list)
+
+
+def file_kind(path: str | Path, text: str) -> str:
+    for line in text.splitlines():
+        s = line.strip()
+        if not s:
+            continue
+        if s.startswith("["):
+            return "bibliography"
+        low = s.lstrip("#").strip().lower()
+        if low.startswith("saltbench dataset"):
+            return "dataset"
+        if low.startswith("saltbench parameters"):
+            return "parameters"
+        if low.startswith("saltbench readings"):
+            return "readings"
+        if s.startswith("#"):
+            continue  # a comment above a bibliography's first entry
+        break
+    raise InputFileError(path, 1, None, "not a saltbench file: expected a bibliography ([key] "
+                         "entries) or a first line '# saltbench dataset 1' / '# saltbench parameters 1'")
+
+
+def parse_files(paths: Iterable[str | Path]) -> Batch:
+    """Parse and validate every file (no store access). Raises the first InputFileError."""
+    batch = Batch()
+    seen_keys: dict[str, str] = {}
+    for path in paths:
+        text = read_text(path)
+        kind = file_kind(path, text)
+        if kind == "bibliography":
+            for s in read_bibliography(path):
+                if s.key in seen_keys:
+                    raise InputFileError(path, s.line, "key", f"citation key {s.key!r} is also "
+                                         f"defined in {seen_keys[s.key]}")
+                seen_keys[s.key] = str(path)
+                batch.sources.append(s)
+        elif kind == "dataset":
+            batch.datasets.append(read_dataset(path, text=text))
+        elif kind == "parameters":
+            batch.parameter_files.append(read_parameter_file(path))
+        else:
+            raise InputFileError(path, 1, None, "raw readings are loaded with 'saltbench readings add'")
+    keys: dict[str, str] = {}
+    for d in batch.datasets:
+        if d.key in keys:
+            raise InputFileError(d.path, None, "id", f"dataset id {d.key!r} is also used by {keys[d.key]}")
+        keys[d.key] = d.path
+    return batch
+
+
+def _source_hash(s: Source) -> str:
+    doc = {k: getattr(s, k) for k in ("key", "authors", "title", "year", "journal", "publisher",
+                                      "volume", "issue", "pages", "edition", "doi", "url", "note")}
+    return hashlib.sha256(json.dumps(doc, sort_keys=True).encode()).hexdigest()
+
+
+def _upsert_source(store: Store, s: Source, origin: str, report: IngestReport) -> None:
+    h = _source_hash(s)
+    row = store.conn.execute("SELECT content_hash, origin, file FROM sources WHERE key = ?", (s.key,)).fetchone()
+    values = {
+        "key": s.key, "authors": s.authors, "title": s.title, "year": s.year, "journal": s.journal,
+        "publisher": s.publisher, "volume": s.volume, "issue": s.issue, "pages": s.pages,
+        "edition": s.edition, "doi": s.doi, "url": s.url, "note": s.note, "citation": s.citation(),
+        "origin": origin, "file": Path(s.file).name if origin == "bundled" else s.file, "content_hash": h,
+    }
+    if row is None:
+        store.db["sources"].insert(values)
+        report.added.append(f"source {s.key}")
+    elif row[0] == h:
+        report.unchanged.append(f"source {s.key}")
+    elif row[1] == origin:
+        store.db["sources"].update(s.key, values)
+        report.updated.append(f"source {s.key}")
+    else:
+        raise InputFileError(s.file, s.line, "key", f"citation key {s.key!r} already exists in the "
+                             f"store ({row[1]} entry from {row[2]}) with different content; "
+                             "choose another key")
+
+
+def _ensure_ion(store: Store, ion: Ion, origin: str, path: str) -> None:
+    row = store.conn.execute("SELECT charge, molar_mass FROM ions WHERE formula = ?", (ion.formula,)).fetchone()
+    if row is None:
+        kind = "builtin" if KNOWN_IONS.get(ion.formula) == ion else origin
+        store.db["ions"].insert({"formula": ion.formula, "name": ion.name, "charge": ion.charge,
+                                 "molar_mass": ion.molar_mass, "origin": kind})
+    elif row[0] != ion.charge or abs(row[1] - ion.molar_mass) > 1e-9:
+        raise InputFileError(path, None, "cation" if ion.charge > 0 else "anion",
+                             f"ion {ion.formula} is already in the store with charge {row[0]:+d} and "
+                             f"molar mass {row[1] * 1000:g} g/mol; this file declares {ion.charge:+d}, "
+                             f"{ion.molar_mass * 1000:g} g/mol")
+
+
+def _ensure_electrolyte(store: Store, e: Electrolyte, origin: str, declared: bool, path: str) -> None:
+    _ensure_ion(store, e.cation, origin, path)
+    _ensure_ion(store, e.anion, origin, path)
+    row = store.conn.execute("SELECT cation, anion, nu_cation, nu_anion FROM electrolytes WHERE name = ?",
+                             (e.name,)).fetchone()
+    if row is None:
+        store.db["electrolytes"].insert({
+            "name": e.name, "cation": e.cation.formula, "anion": e.anion.formula,
+            "nu_cation": e.nu_cation, "nu_anion": e.nu_anion, "charge_type": e.charge_label,
+            "molar_mass": e.molar_mass, "origin": origin if declared else "builtin"})
+    elif tuple(row) != (e.cation.formula, e.anion.formula, e.nu_cation, e.nu_anion):
+        raise InputFileError(path, None, "electrolyte", f"{e.name} is already in the store with "
+                             "another composition")
+
+
+def _write_dataset(store: Store, d: Dataset, origin: str, provider: str, known_sources: set[str],
+                   report: IngestReport) -> None:
+    if d.source not in known_sources:
+        raise InputFileError(d.path, d.source_line, "source", f"unknown citation key {d.source!r}: "
+                             "add its entry to a bibliography file in the same command")
+    _ensure_electrolyte(store, d.electrolyte, origin, bool(d.declared_ions), d.path)
+    h = d.content_hash()
+    row = store.conn.execute("SELECT id, content_hash FROM datasets WHERE origin = ? AND key = ?",
+                             (origin, d.key)).fetchone()
+    label = f"dataset {d.key}"
+    if row is not None and row[1] == h:
+        report.unchanged.append(label)
+        return
+    values = {
+        "key": d.key, "origin": origin, "provider": provider, "electrolyte": d.electrolyte.name,
+        "property": d.property, "basis": d.basis, "scale": d.scale, "temperature_k": d.temperature_k,
+        "pressure_pa": d.pressure_pa, "source": d.source, "table_ref": d.table,
+        "precision": d.precision, "uncertainty": d.uncertainty, "typed": d.typed,
+        "from_memory": int(d.from_memory), "note": d.note,
+        "file": Path(d.path).name if origin == "bundled" else d.path, "content_hash": h,
+        "n_points": len(d.molality),
+    }
+    if row is None:
+        dataset_id = store.db["datasets"].insert(values).last_pk
+        report.added.append(label)
+    else:
+        dataset_id = row[0]
+        store.conn.execute("DELETE FROM points WHERE dataset_id = ?", (dataset_id,))
+        store.db["datasets"].update(dataset_id, values)
+        report.updated.append(label)
+    store.db["points"].insert_all(
+        {"dataset_id": dataset_id, "seq": i, "molality": float(m), "value": float(v),
+         "value_printed": float(vp), "u_value": float(u), "line": int(n)}
+        for i, (m, v, vp, u, n) in enumerate(zip(d.molality, d.value, d.value_printed, d.u_value, d.lines))
+    )
+
+
+def _write_parameter_file(store: Store, pf: ParameterFile, origin: str, provider: str,
+                          known_sources: set[str], report: IngestReport) -> None:
+    if pf.source not in known_sources:
+        raise InputFileError(pf.path, pf.source_line, "source", f"unknown citation key {pf.source!r}")
+    h = pf.content_hash()
+    row = store.conn.execute("SELECT id, content_hash, origin FROM parameter_sets WHERE set_id = ?",
+                             (pf.set_id,)).fetchone()
+    label = f"parameter set {pf.set_id}"
+    if row is not None and row[1] == h:
+        report.unchanged.append(label)
+        return
+    if row is not None and row[2] != origin:
+        raise InputFileError(pf.path, None, "set", f"parameter set id {pf.set_id!r} already exists "
+                             f"in the store ({row[2]}); choose another id")
+    values = {
+        "set_id": pf.set_id, "kind": "published", "origin": origin, "provider": provider,
+        "model": pf.model, "source": pf.source, "table_ref": pf.table, "temperature_k": pf.temperature_k,
+        "a_phi": pf.a_phi, "typed": pf.typed, "from_memory": int(pf.from_memory), "note": pf.note,
+        "file": Path(pf.path).name if origin == "bundled" else pf.path, "content_hash": h,
+        "settings": "{}", "data_hashes": "[]", "software_version": __version__,
+    }
+    if row is None:
+        pk = store.db["parameter_sets"].insert(values).last_pk
+        report.added.append(label)
+    else:
+        pk = row[0]
+        store.conn.execute("DELETE FROM parameter_values WHERE set_pk = ?", (pk,))
+        store.db["parameter_sets"].update(pk, values)
+        report.updated.append(label)
+    store.db["parameter_values"].insert_all(
+        {"set_pk": pk, "target": r.target, "target_kind": pf.target_kind, "name": name,
+         "value": value, "stderr": None, "m_max": r.m_max}
+        for r in pf.rows for name, value in r.values.items()
+    )
+
+
+def ingest(store: Store, paths: Sequence[str | Path], *, origin: str = "user",
+           provider: str = "user", sync: bool = False) -> IngestReport:
+    """Load ``paths`` into ``store`` in one transaction.
+
+    ``sync=True`` (bundled data only) also removes bundled datasets and parameter sets that are
+    no longer among the files. Raises InputFileError (store unchanged) on the first problem.
+    """
+    batch = parse_files(paths)
+    report = IngestReport()
+    with store.transaction():
+        for s in batch.sources:
+            _upsert_source(store, s, origin, report)
+        known = {r[0] for r in store.conn.execute("SELECT key FROM sources")}
+        for d in batch.datasets:
+            _write_dataset(store, d, origin, provider, known, report)
+        for pf in batch.parameter_files:
+            _write_parameter_file(store, pf, origin, provider, known, report)
+        if sync:
+            keep = {d.key for d in batch.datasets}
+            for pk, key in store.conn.execute(
+                    "SELECT id, key FROM datasets WHERE origin = 'bundled'").fetchall():
+                if key not in keep:
+                    store.conn.execute("DELETE FROM datasets WHERE id = ?", (pk,))
+                    report.removed.append(f"dataset {key}")
+            keep_sets = {pf.set_id for pf in batch.parameter_files}
+            for pk, sid in store.conn.execute(
+                    "SELECT id, set_id FROM parameter_sets WHERE origin = 'bundled' AND kind = 'published'"
+            ).fetchall():
+                if sid not in keep_sets:
+                    store.conn.execute("DELETE FROM parameter_sets WHERE id = ?", (pk,))
+                    report.removed.append(f"parameter set {sid}")
+    return report

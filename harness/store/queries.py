@@ -1,0 +1,107 @@
+"""Read-only queries returning pandas DataFrames, plus the store's content hash."""
+
+from __future__ import annotations
+
+import hashlib
+
+import pandas as pd
+
+from saltbench.chemistry.electrolyte import Electrolyte
+from saltbench.chemistry.ions import Ion
+from saltbench.errors import UserError
+from saltbench.store.connection import Store
+
+CONTENT_TABLES = ("sources", "ions", "electrolytes", "datasets", "points", "parameter_sets",
+                  "parameter_values", "parameter_covariances")
+
+
+def _frame(store: Store, sql: str, params: tuple = ()) -> pd.DataFrame:
+    return pd.DataFrame(list(store.db.query(sql, params)))
+
+
+def electrolytes(store: Store) -> pd.DataFrame:
+    sql = """
+    SELECT e.name AS electrolyte, e.charge_type, e.cation, e.anion, e.nu_cation, e.nu_anion,
+           e.molar_mass, e.origin,
+           COUNT(d.id) AS n_datasets,
+           COALESCE(SUM(d.n_points), 0) AS n_points,
+           GROUP_CONCAT(DISTINCT d.property) AS properties,
+           GROUP_CONCAT(DISTINCT d.source) AS sources,
+           MAX(CASE WHEN d.property <> 'water_activity' THEN (SELECT MAX(molality) FROM points p WHERE p.dataset_id = d.id) END) AS max_molality,
+           MAX(d.from_memory) AS any_from_memory
+    FROM electrolytes e JOIN datasets d ON d.electrolyte = e.name
+    GROUP BY e.name ORDER BY e.charge_type, e.name
+    """
+    return _frame(store, sql)
+
+
+def datasets(store: Store, electrolyte: str | None = None) -> pd.DataFrame:
+    sql = """
+    SELECT d.id, d.key, d.origin, d.electrolyte, d.property, d.basis, d.scale, d.temperature_k,
+           d.pressure_pa, d.source, s.citation, s.doi, d.table_ref, d.precision, d.uncertainty,
+           d.typed, d.from_memory, d.note, d.file, d.content_hash, d.n_points,
+           (SELECT MIN(molality) FROM points p WHERE p.dataset_id = d.id) AS min_molality,
+           (SELECT MAX(molality) FROM points p WHERE p.dataset_id = d.id) AS max_molality
+    FROM datasets d JOIN sources s ON s.key = d.source
+    """
+    params: tuple = ()
+    if electrolyte:
+        sql += " WHERE d.electrolyte = ?"
+        params = (electrolyte,)
+    sql += " ORDER BY d.electrolyte, d.property, d.source, d.key"
+    return _frame(store, sql, params)
+
+
+def points(store: Store, electrolyte: str | None = None, dataset_ids: list[int] | None = None) -> pd.DataFrame:
+    sql = """
+    SELECT d.electrolyte, d.property, p.molality, p.value, p.u_value AS uncertainty,
+           d.temperature_k, d.source, d.key AS dataset, d.id AS dataset_id, d.origin,
+           p.value_printed, d.basis, p.line, d.file
+    FROM points p JOIN datasets d ON d.id = p.dataset_id
+    """
+    where, params = [], []
+    if electrolyte:
+        where.append("d.electrolyte = ?")
+        params.append(electrolyte)
+    if dataset_ids is not None:
+        where.append(f"d.id IN ({','.join('?' * len(dataset_ids)) or 'NULL'})")
+        params.extend(dataset_ids)
+    if where:
+        sql += " WHERE " + " AND ".join(where)
+    sql += " ORDER BY d.electrolyte, d.property, d.source, d.key, p.molality"
+    return _frame(store, sql, tuple(params))
+
+
+def sources(store: Store) -> pd.DataFrame:
+    return _frame(store, "SELECT * FROM sources ORDER BY key")
+
+
+def electrolyte(store: Store, name: str) -> Electrolyte:
+    """The stored electrolyte ``name`` (case-insensitive match on its formula)."""
+    row = store.conn.execute(
+        "SELECT name, cation, anion, nu_cation, nu_anion FROM electrolytes WHERE name = ? COLLATE NOCASE",
+        (name,)).fetchone()
+    if row is None:
+        known = ", ".join(r[0] for r in store.conn.execute(
+            "SELECT DISTINCT electrolyte FROM datasets ORDER BY electrolyte"))
+        raise UserError(f"no data for electrolyte {name!r} in the store; known: {known or 'none'}")
+    ions = {}
+    for formula in (row[1], row[2]):
+        f, z, mm = store.conn.execute("SELECT formula, charge, molar_mass FROM ions WHERE formula = ?",
+                                      (formula,)).fetchone()
+        ions[f] = Ion(f, int(z), float(mm))
+    return Electrolyte(row[0], ions[row[1]], ions[row[2]], int(row[3]), int(row[4]))
+
+
+def content_hash(store: Store) -> str:
+    """SHA-256 over every content row of every table, in a fixed order (not layout or pages)."""
+    h = hashlib.sha256()
+    h.update(str(store.schema_version()).encode())
+    for table in CONTENT_TABLES:
+        if not store.db[table].exists():
+            continue
+        cols = [c.name for c in store.db[table].columns]
+        h.update(table.encode())
+        for row in store.conn.execute(f"SELECT {', '.join(cols)} FROM {table} ORDER BY {', '.join(cols)}"):
+            h.update(repr(tuple(row)).encode())
+    return h.hexdigest()

@@ -1,0 +1,114 @@
+"""The store's schema, only ever changed through named, numbered forward migrations.
+
+``SCHEMA_VERSION`` is the number of migrations this code knows. A store whose recorded version
+is higher was written by a newer saltbench and is refused untouched.
+"""
+
+from __future__ import annotations
+
+MIGRATIONS: list[tuple[str, str]] = [
+    ("0001_reference_data", """
+CREATE TABLE sources (
+    key TEXT PRIMARY KEY CHECK (length(key) > 0),
+    authors TEXT NOT NULL CHECK (length(authors) > 0),
+    title TEXT NOT NULL CHECK (length(title) > 0),
+    year INTEGER NOT NULL CHECK (year BETWEEN 1800 AND 2100),
+    journal TEXT, publisher TEXT, volume TEXT, issue TEXT, pages TEXT, edition TEXT,
+    doi TEXT, url TEXT, note TEXT,
+    citation TEXT NOT NULL,
+    origin TEXT NOT NULL CHECK (origin IN ('bundled', 'user')),
+    file TEXT NOT NULL,
+    content_hash TEXT NOT NULL
+);
+CREATE TABLE ions (
+    formula TEXT PRIMARY KEY,
+    name TEXT NOT NULL,
+    charge INTEGER NOT NULL CHECK (charge <> 0),
+    molar_mass REAL NOT NULL CHECK (molar_mass > 0),
+    origin TEXT NOT NULL CHECK (origin IN ('builtin', 'bundled', 'user'))
+);
+CREATE TABLE electrolytes (
+    name TEXT PRIMARY KEY,
+    cation TEXT NOT NULL REFERENCES ions(formula),
+    anion TEXT NOT NULL REFERENCES ions(formula),
+    nu_cation INTEGER NOT NULL CHECK (nu_cation > 0),
+    nu_anion INTEGER NOT NULL CHECK (nu_anion > 0),
+    charge_type TEXT NOT NULL,
+    molar_mass REAL NOT NULL CHECK (molar_mass > 0),
+    origin TEXT NOT NULL CHECK (origin IN ('builtin', 'bundled', 'user'))
+);
+CREATE TABLE datasets (
+    id INTEGER PRIMARY KEY,
+    key TEXT NOT NULL,
+    origin TEXT NOT NULL CHECK (origin IN ('bundled', 'user')),
+    provider TEXT NOT NULL,
+    electrolyte TEXT NOT NULL REFERENCES electrolytes(name),
+    property TEXT NOT NULL CHECK (property IN ('gamma_pm', 'osmotic', 'water_activity')),
+    basis TEXT NOT NULL CHECK (basis IN ('linear', 'ln', 'log10')),
+    scale TEXT NOT NULL CHECK (scale IN ('molality', 'molarity', 'mole_fraction')),
+    temperature_k REAL NOT NULL CHECK (temperature_k BETWEEN 273.15 AND 573.15),
+    pressure_pa REAL NOT NULL CHECK (pressure_pa > 0),
+    source TEXT NOT NULL REFERENCES sources(key),
+    table_ref TEXT NOT NULL,
+    precision REAL NOT NULL CHECK (precision > 0),
+    uncertainty REAL CHECK (uncertainty IS NULL OR uncertainty > 0),
+    typed TEXT NOT NULL,
+    from_memory INTEGER NOT NULL CHECK (from_memory IN (0, 1)),
+    note TEXT NOT NULL DEFAULT '',
+    file TEXT NOT NULL,
+    content_hash TEXT NOT NULL,
+    n_points INTEGER NOT NULL CHECK (n_points > 0),
+    UNIQUE (origin, key)
+);
+CREATE INDEX datasets_by_electrolyte ON datasets (electrolyte, property);
+CREATE TABLE points (
+    dataset_id INTEGER NOT NULL REFERENCES datasets(id) ON DELETE CASCADE,
+    seq INTEGER NOT NULL,
+    molality REAL NOT NULL CHECK (molality > 0),
+    value REAL NOT NULL,
+    value_printed REAL NOT NULL,
+    u_value REAL NOT NULL CHECK (u_value > 0),
+    line INTEGER,
+    PRIMARY KEY (dataset_id, seq),
+    UNIQUE (dataset_id, molality)
+);
+CREATE TABLE parameter_sets (
+    id INTEGER PRIMARY KEY,
+    set_id TEXT NOT NULL UNIQUE,
+    kind TEXT NOT NULL CHECK (kind IN ('published', 'fitted')),
+    origin TEXT NOT NULL CHECK (origin IN ('bundled', 'user')),
+    provider TEXT NOT NULL,
+    model TEXT NOT NULL,
+    source TEXT REFERENCES sources(key),
+    table_ref TEXT NOT NULL DEFAULT '',
+    temperature_k REAL NOT NULL CHECK (temperature_k > 0),
+    a_phi REAL CHECK (a_phi IS NULL OR a_phi > 0),
+    typed TEXT NOT NULL DEFAULT '',
+    from_memory INTEGER NOT NULL DEFAULT 0 CHECK (from_memory IN (0, 1)),
+    note TEXT NOT NULL DEFAULT '',
+    file TEXT NOT NULL DEFAULT '',
+    content_hash TEXT NOT NULL,
+    settings TEXT NOT NULL DEFAULT '{}',
+    data_hashes TEXT NOT NULL DEFAULT '[]',
+    software_version TEXT NOT NULL DEFAULT ''
+);
+CREATE TABLE parameter_values (
+    set_pk INTEGER NOT NULL REFERENCES parameter_sets(id) ON DELETE CASCADE,
+    target TEXT NOT NULL,
+    target_kind TEXT NOT NULL CHECK (target_kind IN ('electrolyte', 'ion')),
+    name TEXT NOT NULL,
+    value REAL NOT NULL,
+    stderr REAL CHECK (stderr IS NULL OR stderr >= 0),
+    m_max REAL CHECK (m_max IS NULL OR m_max > 0),
+    PRIMARY KEY (set_pk, target, name)
+);
+CREATE TABLE parameter_covariances (
+    set_pk INTEGER NOT NULL REFERENCES parameter_sets(id) ON DELETE CASCADE,
+    names TEXT NOT NULL,
+    matrix TEXT NOT NULL,
+    PRIMARY KEY (set_pk)
+);
+"""),
+]
+
+SCHEMA_VERSION = len(MIGRATIONS)
