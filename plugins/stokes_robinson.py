@@ -1,0 +1,85 @@
+"""Stokes and Robinson's hydration equation (J. Am. Chem. Soc. 70, 1870-1878 (1948)).
+
+    ln gamma± = -A |z+ z-| sqrt(I) / (1 + B a sqrt(I)) - (h / nu) ln a_w - ln(1 + M_w (nu - h) m)
+
+with h the hydration number of the salt, a the ion size and M_w the molar mass of water (the
+paper prints 0.018 kg/mol; we use saltbench.water.MOLAR_MASS_WATER). Stokes and Robinson put the
+measured water activity into the equation. Here a_w is the model's own: a_w = exp(-nu m M_w phi)
+with phi the model's osmotic coefficient, so that the model is thermodynamically consistent
+without outside data. Then -(h/nu) ln a_w = h M_w m phi, and Gibbs-Duhem,
+d[m (phi - 1)]/dm = m d ln gamma± / dm, becomes a linear equation for psi = m phi:
+
+    psi' (1 - r m) = 1 + m f'(m) - p m / (1 + p m),     p = M_w (nu - h),  r = h M_w,
+
+f being the Debye-Hückel term. Integrating from 0 (derived here; not in the 1948 paper):
+
+    m phi = ln[(1 + p m) / (1 - r m)] / (M_w nu) + int_0^m m' f'(m') / (1 - r m') dm',
+    int_0^m ... = -A |z+ z-| sqrt(I) m int_0^1 u^2 / ((1 + x u)^2 (1 - r m u^2)) du,
+
+x = B a sqrt(I), which is evaluated by 64-point Gauss-Legendre quadrature (smooth in u for
+r m < 1). No iteration is needed. The equation has no meaning once r m >= 1 (all the water bound
+as hydration) or p m <= -1; there the model raises a domain error.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from saltbench.errors import ModelDomainError
+from saltbench.models import ActivityModel, Parameter, Validity, hookimpl
+from saltbench.plugins import _dh_terms as dh
+from saltbench.water import MOLAR_MASS_WATER
+
+_NODES = 64
+_U, _W = np.polynomial.legendre.leggauss(_NODES)
+_U, _W = 0.5 * (_U + 1.0), 0.5 * _W
+
+
+class StokesRobinson(ActivityModel):
+    id = "stokes-robinson"
+    name = "Stokes-Robinson hydration"
+    citation = "R. H. Stokes and R. A. Robinson, J. Am. Chem. Soc. 70, 1870-1878 (1948)"
+    # Stokes and Robinson treated 1-1, 2-1 and 3-1 salts; 2-2 salts associate (from memory of
+    # Robinson and Stokes, Electrolyte Solutions, 1959, ch. 9).
+    charge_types = frozenset({(1, 1), (2, 1), (1, 2), (3, 1)})
+    parameters = (
+        Parameter("h", "h", "1", 3.5, lower=0.0, upper=25.0,
+                  description="hydration number of the salt (water molecules per formula unit)"),
+        Parameter("a", "a", "Å", 4.0, lower=0.0, upper=20.0, description="ion-size parameter"),
+    )
+    validity = Validity(max_molality=4.0,
+                        note="from memory of Stokes and Robinson (1948): fits to about 4 mol/kg")
+
+    def _phi(self, m, params, ctx):
+        e = ctx.electrolyte
+        m = np.asarray(m, dtype=float)
+        h, mw = params["h"], MOLAR_MASS_WATER
+        p, r = mw * (e.nu - h), h * mw
+        if np.any(r * m >= 1.0) or np.any(p * m <= -1.0):
+            raise ModelDomainError(
+                f"Stokes-Robinson with h = {h:g} is undefined above m = {1.0 / r if r else np.inf:.3g}"
+                " mol/kg (the hydration would bind more water than there is)")
+        i = e.ionic_strength(m)
+        s = np.sqrt(i)
+        x = ctx.dh.b_gamma_per_angstrom * params["a"] * s
+        u = _U[None, :]
+        integrand = u**2 / ((1.0 + x[:, None] * u) ** 2 * (1.0 - r * m[:, None] * u**2))
+        q = -ctx.dh.a_gamma * e.zz * s * (integrand @ _W)  # = (1/m) int_0^m m' f' /(1 - r m')
+        mixing = (np.log1p(p * m) - np.log1p(-r * m)) / (mw * e.nu * m)
+        return mixing + q, s, x
+
+    def osmotic(self, m, params, ctx):
+        return self._phi(m, params, ctx)[0]
+
+    def ln_gamma_pm(self, m, params, ctx):
+        e = ctx.electrolyte
+        m = np.asarray(m, dtype=float)
+        phi, s, x = self._phi(m, params, ctx)
+        h, mw = params["h"], MOLAR_MASS_WATER
+        return (dh.size_term(ctx.dh.a_gamma, e.zz, s, x) + h * mw * m * phi
+                - np.log1p(mw * (e.nu - h) * m))
+
+
+@hookimpl
+def register_models(context):
+    return [StokesRobinson()]
