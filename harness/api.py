@@ -83,3 +83,18 @@ def _has_third_party_entry_points() -> bool:
         return True
     return any((ep.dist.name if ep.dist else "") != "saltbench"
                for ep in metadata.entry_points(group=ENTRY_POINT_GROUP))
+
+
+def check_data(session: Session, electrolytes: Sequence[str] = ()):
+    """Run the data checks over the store (or the named electrolytes)."""
+    from saltbench.curation.checks import CheckReport, check_electrolyte
+
+    report = CheckReport()
+    names = [session.electrolyte(n).name for n in electrolytes] or list(session.electrolytes().electrolyte)
+    meta = session.datasets()
+    for name in names:
+        e = session.electrolyte(name)
+        part = check_electrolyte(e, session.points(name), meta[meta.electrolyte == name])
+        report.findings += part.findings
+        report.summary += part.summary
+    return report

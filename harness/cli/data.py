@@ -120,3 +120,28 @@ def add(app, paths: tuple[str, ...], fmt: str) -> None:
     for what, items in result.items():
         for item in items:
             click.echo(f"{what:9s} {item}")
+
+
+@data.command("check")
+@click.argument("electrolytes", nargs=-1)
+@format_option
+@click.pass_obj
+def check(app, electrolytes: tuple[str, ...], fmt: str) -> None:
+    """Cross-check the data: neighbours, Gibbs-Duhem consistency, second sources.
+
+    Exits with status 1 when any point is flagged, naming its file and line.
+    """
+    from saltbench.api import check_data
+
+    report = check_data(app.session(), electrolytes)
+    if fmt == "json":
+        emit([], fmt, json_obj={"ok": report.ok, "findings": [f.as_dict() for f in report.findings],
+                                "checks": report.summary})
+    else:
+        for f in report.findings:
+            click.echo(f"{f.file}:{f.line}: {f.check}: {f.electrolyte} {f.message}")
+        n = len(report.summary)
+        click.echo(f"{n} checks, {len(report.findings)} flagged point(s)" if report.findings
+                   else f"{n} checks passed")
+    if not report.ok:
+        raise SystemExit(1)

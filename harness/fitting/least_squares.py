@@ -53,6 +53,7 @@ class _Projection:
         self.key: bytes | None = None
         self.theta = problem.theta0.copy()
         self.resid = np.zeros(problem.n)
+        self.pred = np.zeros(problem.n)
         self.basis = np.zeros((problem.n, 0))
         self.linear_at_bound: dict[int, str] = {}
         self.failures: list[str] = []
@@ -71,10 +72,10 @@ class _Projection:
             pred = offset + design @ theta[p.linear]
         else:
             pred = p.predict(theta)
-        self.resid = (p.obs - pred) / p.sigma
-        if not np.all(np.isfinite(self.resid)):
+        resid = (p.obs - pred) / p.sigma
+        if not np.all(np.isfinite(resid)):
             raise ModelError(f"model {p.model.id}: residuals are not finite")
-        self.theta, self.key = theta, key
+        self.theta, self.key, self.resid, self.pred = theta, key, resid, pred
 
     def fun(self, x: np.ndarray) -> np.ndarray:
         try:
@@ -171,7 +172,7 @@ def solve(problem: FitProblem, *, max_evaluations: int | None = None,
         flags.append(f"model failed at some trial parameters (steps rejected): "
                      f"{proj.failures[-1]}")
     try:
-        prediction = p.obs - proj.resid * p.sigma
+        prediction = proj.pred
         jac = p.derivatives(theta, p.free, base=prediction) / p.sigma[:, None]
     except _MODEL_FAILURES as exc:
         return Solution(theta, None, None, False, str(exc), flags + [f"model error: {exc}"])

@@ -139,6 +139,19 @@ class FitProblem:
         out._no_jacobian = self._no_jacobian
         return out
 
+    def theta_from(self, values: Mapping[str, float]) -> np.ndarray:
+        """A full parameter vector from values keyed by global or model parameter name."""
+        theta = self.theta0.copy()
+        by_name = {name: i for i, name in enumerate(self.names)}
+        for key, value in values.items():
+            hits = [by_name[key]] if key in by_name else \
+                [i for i, p in enumerate(self.params) if p.model_name == key]
+            if not hits:
+                raise UserError(f"model {self.model.id} has no parameter {key!r} "
+                                f"(parameters: {', '.join(self.names)})")
+            theta[hits] = float(value)
+        return theta
+
     # -- predictions --------------------------------------------------------------------------
     def _block_values(self, block: Block, theta: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         """ln(gamma±) at all of ``block.union`` and phi at its first ``n_osm_unique`` entries."""

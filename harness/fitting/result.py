@@ -1,0 +1,244 @@
+"""The result of a fit: parameters with standard errors, residual statistics, flags, criteria.
+
+Covariance. The unscaled covariance is (J^T J)^-1 with J the Jacobian of the residuals
+(y - f)/u at the optimum (first-order; e.g. Press et al., Numerical Recipes, 3rd ed., 2007,
+sec. 15.5). By default (``covariance_scaling="birge"``) it is multiplied by
+max(1, chi2_red), the squared Birge ratio (Birge, Phys. Rev. 40, 207 (1932)). Reason: when
+chi2_red > 1 the points scatter more than their stated uncertainties allow (the model or the
+uncertainties fall short) and unscaled errors would be too small; when chi2_red < 1 the stated
+uncertainties of curated tables are usually generous (rounding, nominal values), and shrinking
+the errors on that evidence, often from few degrees of freedom, would overstate what the data
+show. ``"none"`` keeps the stated uncertainties as exact (right for synthetic data with known
+noise); ``"always"`` multiplies by chi2_red either way (what a fit with unknown common scale of
+the uncertainties would do).
+
+Conditioning. The condition number is that of J with unit-norm columns, so that it does not
+depend on the parameters' units; above 1e6 the fit is flagged ill-conditioned (standard errors
+then rest on a nearly degenerate combination of parameters), and a smallest singular value
+below 1e-9 of the largest is treated as singular (no covariance). These thresholds are our
+choice, set against the ~1e-10 relative accuracy of central-difference Jacobians.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+
+from saltbench.fitting import criteria
+from saltbench.fitting.least_squares import Solution
+from saltbench.fitting.problem import FitProblem
+
+ILL_CONDITIONED = 1e6
+SINGULAR = 1e-9
+SCALINGS = ("birge", "none", "always")
+
+
+def _json_float(x: Any) -> float | None:
+    if x is None:
+        return None
+    x = float(x)
+    return x if math.isfinite(x) else None
+
+
+@dataclass
+class FitResult:
+    """Everything a fit found. ``to_dict()`` gives a JSON-ready summary."""
+
+    electrolyte: str
+    model: str
+    parameters: list[dict[str, Any]]  # name, value, stderr (None if held or unknown), fixed, unit
+    free_names: list[str]
+    covariance: np.ndarray
+    correlation: np.ndarray
+    covariance_scale: float
+    covariance_scaling: str
+    chi2: float
+    chi2_reduced: float
+    n_points: int
+    n_params: int
+    dof: int
+    residual_stats: dict[str, dict[str, float | int | None]]
+    converged: bool
+    message: str
+    flags: list[str]
+    aic: float
+    aicc: float | None
+    bic: float | None
+    condition_number: float
+    temperature_k: float
+    # per-point arrays, aligned with the problem's data (blocks in order)
+    molality: np.ndarray = field(repr=False)
+    kind: np.ndarray = field(repr=False)
+    observed: np.ndarray = field(repr=False)
+    uncertainty: np.ndarray = field(repr=False)
+    prediction: np.ndarray = field(repr=False)
+    param_map: dict[str, dict[str, str]] = field(default_factory=dict)
+    n_evaluations: int = 0
+
+    @property
+    def ok(self) -> bool:
+        """Converged without a model error, singularity or too few points."""
+        bad = ("model error", "singular", "too few points", "did not converge")
+        return self.converged and not any(f.startswith(bad) for f in self.flags)
+
+    @property
+    def values(self) -> dict[str, float]:
+        return {p["name"]: p["value"] for p in self.parameters}
+
+    @property
+    def stderrs(self) -> dict[str, float | None]:
+        return {p["name"]: p["stderr"] for p in self.parameters}
+
+    def value(self, name: str) -> float:
+        return self.values[name]
+
+    def stderr(self, name: str) -> float | None:
+        return self.stderrs[name]
+
+    def model_values(self, electrolyte: str | None = None) -> dict[str, float]:
+        """Values by the model's own parameter names for one electrolyte of the fit."""
+        key = electrolyte or next(iter(self.param_map))
+        if key not in self.param_map:
+            raise KeyError(f"{key} was not part of this fit")
+        values = self.values
+        return {mname: values[gname] for mname, gname in self.param_map[key].items()}
+
+    @property
+    def residual(self) -> np.ndarray:
+        return self.observed - self.prediction
+
+    def to_dict(self) -> dict[str, Any]:
+        params = [{"name": p["name"], "value": _json_float(p["value"]),
+                   "stderr": _json_float(p["stderr"]), "fixed": bool(p["fixed"]),
+                   "unit": p.get("unit", "")} for p in self.parameters]
+
+        def matrix(a: np.ndarray) -> list[list[float | None]]:
+            return [[_json_float(v) for v in row] for row in np.asarray(a)]
+
+        stats = {kind: {k: (_json_float(v) if isinstance(v, float) else v) for k, v in d.items()}
+                 for kind, d in self.residual_stats.items()}
+        return {
+            "electrolyte": self.electrolyte,
+            "model": self.model,
+            "parameters": params,
+            "correlation": {"names": list(self.free_names), "matrix": matrix(self.correlation)},
+            "covariance": {"names": list(self.free_names), "matrix": matrix(self.covariance),
+                           "scale": _json_float(self.covariance_scale),
+                           "scaling": self.covariance_scaling},
+            "residuals": {
+                "ln_gamma": stats["ln_gamma"],
+                "osmotic": stats["osmotic"],
+                "chi2": _json_float(self.chi2),
+                "chi2_reduced": _json_float(self.chi2_reduced),
+                "n_points": self.n_points,
+                "n_params": self.n_params,
+                "dof": self.dof,
+            },
+            "converged": self.converged,
+            "message": self.message,
+            "flags": list(self.flags),
+            "aic": _json_float(self.aic),
+            "aicc": _json_float(self.aicc),
+            "bic": _json_float(self.bic),
+            "condition_number": _json_float(self.condition_number),
+            "temperature_k": _json_float(self.temperature_k),
+        }
+
+
+def _kind_stats(residual: np.ndarray, sel: np.ndarray) -> dict[str, float | int | None]:
+    r = residual[sel]
+    if r.size == 0:
+        return {"n": 0, "rms": None, "max_abs": None}
+    return {"n": int(r.size), "rms": float(np.sqrt(np.mean(r**2))),
+            "max_abs": float(np.max(np.abs(r)))}
+
+
+def _covariance(jac: np.ndarray, names: list[str]) -> tuple[np.ndarray, float, list[str]]:
+    """Unscaled covariance from the weighted Jacobian; NaN when singular. Also cond and flags."""
+    k = jac.shape[1]
+    nan = np.full((k, k), np.nan)
+    if k == 0:
+        return np.zeros((0, 0)), 1.0, []
+    norms = np.linalg.norm(jac, axis=0)
+    dead = [names[j] for j in range(k) if not norms[j] > 0]
+    if dead:
+        return nan, math.inf, [f"singular (the data carry no information on {', '.join(dead)})"]
+    _, s, vt = np.linalg.svd(jac / norms, full_matrices=False)
+    if s.size < k or s[-1] <= SINGULAR * s[0]:
+        if s.size < k:  # fewer points than parameters: every parameter is involved
+            involved = list(names)
+        else:
+            involved = [names[j] for j in np.argsort(-np.abs(vt[-1])) if abs(vt[-1][j]) > 0.2]
+        return nan, math.inf, [f"singular (no information on a combination of "
+                               f"{', '.join(involved)})"]
+    cond = float(s[0] / s[-1])
+    cov = (vt.T / s**2) @ vt / np.outer(norms, norms)
+    flags = [f"ill-conditioned (condition number {cond:.3g})"] if cond > ILL_CONDITIONED else []
+    return cov, cond, flags
+
+
+def build_result(problem: FitProblem, solution: Solution, *,
+                 covariance_scaling: str = "birge") -> FitResult:
+    """Statistics, covariance and flags of a solved problem."""
+    if covariance_scaling not in SCALINGS:
+        raise ValueError(f"covariance_scaling must be one of {', '.join(SCALINGS)}")
+    p = problem
+    n, k = p.n, p.k
+    free_names = [p.names[i] for i in p.free]
+    flags = list(solution.flags)
+    dof = n - k
+    if dof <= 0:
+        flags.append(f"too few points ({n} points for {k} free parameters)")
+    pred = solution.prediction if solution.prediction is not None else np.full(n, np.nan)
+    residual = p.obs - pred
+    chi2 = float(np.sum((residual / p.sigma) ** 2))
+    chi2_red = chi2 / dof if dof > 0 else math.nan
+    if solution.jacobian is not None:
+        cov, cond, more = _covariance(solution.jacobian, free_names)
+        flags.extend(more)
+    else:
+        cov, cond = np.full((k, k), np.nan), math.nan
+    if covariance_scaling == "birge":
+        scale = max(1.0, chi2_red) if math.isfinite(chi2_red) else 1.0
+    elif covariance_scaling == "always":
+        scale = chi2_red if math.isfinite(chi2_red) else 1.0
+    else:
+        scale = 1.0
+    cov = cov * scale
+    sd = np.sqrt(np.clip(np.diag(cov), 0.0, None)) if k else np.zeros(0)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        corr = cov / np.outer(sd, sd) if k else np.zeros((0, 0))
+    for g, side in sorted(solution.at_bound.items()):
+        bound = p.params[g].lower if side == "lower" else p.params[g].upper
+        flags.append(f"parameter {p.names[g]} at bound ({side} = {bound:g})")
+
+    stderr_of = {int(g): float(sd[j]) for j, g in enumerate(p.free)}
+    units = {q.name: q.unit for q in p.model.parameters}
+    parameters = []
+    for i, gp in enumerate(p.params):
+        parameters.append({"name": gp.name, "value": float(solution.theta[i]),
+                           "stderr": stderr_of.get(i) if gp.free else None,
+                           "fixed": not gp.free, "unit": units.get(gp.model_name, "")})
+    param_map = {b.electrolyte.name: {m: p.names[g] for m, g in b.mapping.items()}
+                 for b in p.blocks}
+    crit_ok = solution.prediction is not None
+    temps = {round(b.ctx.temperature_k, 6) for b in p.blocks}
+    return FitResult(
+        electrolyte=p.electrolyte_label, model=p.model.id, parameters=parameters,
+        free_names=free_names, covariance=cov, correlation=corr, covariance_scale=float(scale),
+        covariance_scaling=covariance_scaling, chi2=chi2, chi2_reduced=chi2_red, n_points=n,
+        n_params=k, dof=dof,
+        residual_stats={"ln_gamma": _kind_stats(residual, ~p.is_osm),
+                        "osmotic": _kind_stats(residual, p.is_osm)},
+        converged=solution.converged, message=solution.message, flags=flags,
+        aic=criteria.aic(chi2, k) if crit_ok else math.nan,
+        aicc=criteria.aicc(chi2, k, n) if crit_ok else None,
+        bic=criteria.bic(chi2, k, n) if crit_ok else None,
+        condition_number=cond, temperature_k=float(temps.pop()) if len(temps) == 1 else math.nan,
+        molality=p.molality.copy(), kind=np.where(p.is_osm, "osmotic", "ln_gamma"),
+        observed=p.obs.copy(), uncertainty=p.sigma.copy(), prediction=pred,
+        param_map=param_map, n_evaluations=p.n_evaluations,
+    )

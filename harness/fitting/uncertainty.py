@@ -1,0 +1,94 @@
+"""Propagating parameter covariance to ln(gamma±), gamma± and phi at chosen molalities.
+
+First-order (linear) propagation, u^2(y) = J C J^T with J = dy/dp at the fitted parameters
+(GUM, JCGM 100:2008, eq. 13), for y = ln(gamma±) and y = phi; then u(gamma±) = gamma± u(ln gamma±)
+by the same rule for gamma± = exp(ln gamma±). J comes from the model's analytic ``jacobian``
+where it gives one, otherwise from differences (see :mod:`saltbench.fitting.problem`).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass, replace
+from typing import Any
+
+import numpy as np
+
+from saltbench.chemistry.electrolyte import Electrolyte
+from saltbench.errors import UserError
+from saltbench.fitting.data import FitData
+from saltbench.fitting.problem import FitProblem, build_problem
+from saltbench.fitting.result import FitResult
+from saltbench.models.contract import ActivityModel
+from saltbench.water.debye_huckel import DebyeHuckel
+
+
+@dataclass(frozen=True)
+class Propagation:
+    molality: np.ndarray
+    ln_gamma: np.ndarray
+    u_ln_gamma: np.ndarray
+    gamma: np.ndarray
+    u_gamma: np.ndarray
+    osmotic: np.ndarray
+    u_osmotic: np.ndarray
+
+    def to_dict(self) -> dict[str, Any]:
+        def clean(a: np.ndarray) -> list[float | None]:
+            return [float(v) if np.isfinite(v) else None for v in a]
+
+        return {k: clean(getattr(self, k)) for k in
+                ("molality", "ln_gamma", "u_ln_gamma", "gamma", "u_gamma", "osmotic",
+                 "u_osmotic")}
+
+
+def propagate(model: ActivityModel, electrolyte: Electrolyte | str,
+              molality: Sequence[float] | np.ndarray, result: FitResult | None = None, *,
+              params: Mapping[str, float] | None = None, covariance: np.ndarray | None = None,
+              names: Sequence[str] | None = None, dh: DebyeHuckel | None = None,
+              temperature_k: float | None = None) -> Propagation:
+    """u(ln gamma±), u(gamma±) and u(phi) at ``molality`` from a fit's covariance.
+
+    Either pass a :class:`FitResult` (single or joint; for a joint fit name the electrolyte) or
+    ``params`` (model parameter names -> values), ``covariance`` and the ``names`` of its rows.
+    """
+    from saltbench.fitting.engine import as_electrolyte
+
+    e = as_electrolyte(electrolyte)
+    if result is not None:
+        if e.name not in result.param_map:
+            raise UserError(f"the fit of {result.electrolyte} does not cover {e.name}")
+        mapping = result.param_map[e.name]
+        values = result.model_values(e.name)
+        row = {g: j for j, g in enumerate(result.free_names)}
+        free_model = [m for m, g in mapping.items() if g in row]
+        idx = [row[mapping[m]] for m in free_model]
+        cov = np.asarray(result.covariance, dtype=float)[np.ix_(idx, idx)]
+        if temperature_k is None and np.isfinite(result.temperature_k):
+            temperature_k = result.temperature_k
+    else:
+        if params is None or covariance is None or names is None:
+            raise UserError("propagate needs a FitResult, or params, covariance and names")
+        values, free_model = dict(params), list(names)
+        cov = np.asarray(covariance, dtype=float)
+        if cov.shape != (len(free_model), len(free_model)):
+            raise UserError("covariance must be square with one row per name")
+    m = np.atleast_1d(np.asarray(molality, dtype=float))
+    n = m.size
+    data = FitData(np.concatenate([m, m]), np.zeros(2 * n), np.ones(2 * n),
+                   np.array(["ln_gamma"] * n + ["osmotic"] * n, dtype=object), "propagation")
+    base = build_problem(model, [(e, data)], dh=dh, temperature_k=temperature_k or 298.15)
+    unknown = [x for x in free_model if x not in base.names]
+    if unknown:
+        raise UserError(f"model {model.id} has no parameter {unknown[0]!r}")
+    params_list = [replace(p, free=p.name in free_model) for p in base.params]
+    problem = FitProblem(model, base.blocks, params_list)
+    theta = problem.theta_from(values)
+    order = [free_model.index(problem.names[i]) for i in problem.free]
+    cov = cov[np.ix_(order, order)]
+    pred = problem.predict(theta)
+    jac = problem.derivatives(theta, problem.free, base=pred)
+    var = np.einsum("ij,jk,ik->i", jac, cov, jac) if problem.k else np.zeros(2 * n)
+    u = np.sqrt(np.clip(var, 0.0, None))
+    ln_g, phi = pred[:n], pred[n:]
+    return Propagation(m, ln_g, u[:n], np.exp(ln_g), np.exp(ln_g) * u[:n], phi, u[n:])

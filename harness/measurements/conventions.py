@@ -1,0 +1,258 @@
+"""Single-ion activity coefficients in solutions of one or more salts, under stated conventions.
+
+Only mean quantities of electroneutral combinations are measurable; every single-ion value here
+rests on a non-thermodynamic convention (Guggenheim, J. Phys. Chem. 33, 842 (1929)), and each
+result says so. Decadic forms, A = A_gamma / ln 10 and B (Å^-1 (kg/mol)^1/2) from
+:func:`saltbench.water.debye_huckel_constants`; I = 1/2 sum m_i z_i^2 in mol/kg.
+
+- MacInnes convention (MacInnes, J. Am. Chem. Soc. 41, 1086 (1919)):
+  gamma(K+) = gamma(Cl-) = gamma±(KCl) at the same ionic strength; other ions follow from their
+  salts' mean values, gamma±^nu = gamma+^nu+ gamma-^nu-.
+- Bates-Guggenheim convention for pH standards (Bates and Guggenheim, Pure Appl. Chem. 1, 163
+  (1960); Buck et al., Pure Appl. Chem. 74, 2169 (2002), eq. 14):
+  log10 gamma(Cl-) = -A sqrt(I) / (1 + 1.5 sqrt(I)),  for I <= 0.1 mol/kg only.
+- Debye-Hückel limiting law (Debye and Hückel, Phys. Z. 24, 185 (1923)):
+  log10 gamma_i = -A z_i^2 sqrt(I).
+- Extended Debye-Hückel with ion size a_i (same source):
+  log10 gamma_i = -A z_i^2 sqrt(I) / (1 + B a_i sqrt(I)).
+- Davies (Davies, Ion Association, Butterworths, 1962, eq. 3.3):
+  log10 gamma_i = -A z_i^2 (sqrt(I)/(1 + sqrt(I)) - b I), b = 0.3.
+- Truesdell-Jones (Truesdell and Jones, J. Res. U.S. Geol. Surv. 2, 233 (1974), eq. 2):
+  log10 gamma_i = -A z_i^2 sqrt(I) / (1 + B a_i sqrt(I)) + b_i I.
+- SIT, specific ion interaction (Guggenheim and Turgeon, Trans. Faraday Soc. 51, 747 (1955);
+  Ciavatta, Ann. Chim. (Rome) 70, 551 (1980)):
+  log10 gamma_i = -z_i^2 D + sum_k eps(i, k) m_k,  D = A sqrt(I) / (1 + 1.5 sqrt(I)),
+  the sum over ions k of opposite charge; eps in kg/mol.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Callable, Mapping, Sequence
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from saltbench.chemistry.electrolyte import Electrolyte
+from saltbench.chemistry.ions import Ion
+from saltbench.errors import UserError
+from saltbench.water.debye_huckel import DebyeHuckel, debye_huckel_constants
+
+SINGLE_ION_CAVEAT = (
+    "Single-ion activity coefficients depend on a non-thermodynamic convention; only mean "
+    "quantities of electroneutral combinations (gamma± of a salt) are measurable."
+)
+PH_CAUTION = (
+    "pH values assigned through the Bates-Guggenheim convention are conventional; for regulated pH "
+    "measurement follow the applicable standard (IUPAC 2002 recommendations), local codes and "
+    "accredited laboratory practice."
+)
+BATES_GUGGENHEIM_MAX_I = 0.1  # mol/kg, the limit stated with the convention
+
+#: A solution: salts with their molalities in mol/kg (numbers or arrays of one shape).
+Composition = Sequence[tuple[Electrolyte, float | np.ndarray]]
+
+
+@dataclass(frozen=True)
+class SingleIonResult:
+    """log10 gamma_i of each ion under one convention, with the caveat that it is conventional."""
+
+    convention: str
+    ionic_strength: np.ndarray
+    temperature_k: float
+    ions: dict[str, Ion]
+    molalities: dict[str, np.ndarray]
+    log10_gamma: dict[str, np.ndarray]
+    parameters: dict[str, object] = field(default_factory=dict)
+    caveat: str = SINGLE_ION_CAVEAT
+    cautions: tuple[str, ...] = ()
+
+    def gamma(self, ion: str) -> np.ndarray:
+        return 10.0 ** self._get(ion)
+
+    def ln_gamma(self, ion: str) -> np.ndarray:
+        return self._get(ion) * math.log(10.0)
+
+    def activity(self, ion: str) -> np.ndarray:
+        if ion not in self.molalities:
+            raise UserError(f"ion {ion} is not in the solution")
+        return self.molalities[ion] * self.gamma(ion)
+
+    def _get(self, ion: str) -> np.ndarray:
+        if ion not in self.log10_gamma:
+            known = ", ".join(self.log10_gamma) or "none"
+            raise UserError(f"no single-ion value for {ion} under the {self.convention} "
+                            f"convention (available: {known})")
+        return self.log10_gamma[ion]
+
+
+def ion_molalities(composition: Composition) -> tuple[dict[str, Ion], dict[str, np.ndarray]]:
+    """The ions of a solution of salts and their molalities (mol/kg), summed over the salts."""
+    if not composition:
+        raise UserError("a solution needs at least one salt")
+    ions: dict[str, Ion] = {}
+    mol: dict[str, np.ndarray] = {}
+    for salt, molality in composition:
+        m = np.asarray(molality, dtype=float)
+        if np.any(~np.isfinite(m)) or np.any(m < 0):
+            raise UserError(f"molality of {salt.name} must be a non-negative number")
+        for ion, nu in ((salt.cation, salt.nu_cation), (salt.anion, salt.nu_anion)):
+            ions[ion.name] = ion
+            mol[ion.name] = mol.get(ion.name, 0.0) + nu * m
+    return ions, mol
+
+
+def ionic_strength(composition: Composition) -> np.ndarray:
+    """I = 1/2 sum_i m_i z_i^2 in mol/kg."""
+    ions, mol = ion_molalities(composition)
+    return 0.5 * sum(mol[n] * ions[n].charge ** 2 for n in ions)
+
+
+def _setup(composition: Composition, temperature_k: float, dh: DebyeHuckel | None):
+    ions, mol = ion_molalities(composition)
+    i = 0.5 * sum(mol[n] * ions[n].charge ** 2 for n in ions)
+    return ions, mol, np.asarray(i, dtype=float), dh or debye_huckel_constants(temperature_k)
+
+
+def _need(mapping: Mapping[str, float], ions: Mapping[str, Ion], what: str) -> dict[str, float]:
+    missing = [n for n in ions if n not in mapping]
+    if missing:
+        raise UserError(f"missing {what} for {', '.join(missing)}")
+    return {n: float(mapping[n]) for n in ions}
+
+
+def debye_huckel_limiting(composition: Composition, temperature_k: float = 298.15, *,
+                          dh: DebyeHuckel | None = None) -> SingleIonResult:
+    ions, mol, i, dh = _setup(composition, temperature_k, dh)
+    s = np.sqrt(i)
+    logs = {n: -dh.a_gamma_log10 * ion.charge**2 * s for n, ion in ions.items()}
+    return SingleIonResult("Debye-Hückel limiting law", i, dh.temperature_k, ions, mol, logs)
+
+
+def extended_debye_huckel(composition: Composition, ion_sizes: Mapping[str, float],
+                          temperature_k: float = 298.15, *,
+                          dh: DebyeHuckel | None = None) -> SingleIonResult:
+    """``ion_sizes`` in Å keyed by ion name (``"Na+"``, ``"SO4-2"``)."""
+    ions, mol, i, dh = _setup(composition, temperature_k, dh)
+    a = _need(ion_sizes, ions, "ion sizes (Å)")
+    s = np.sqrt(i)
+    logs = {n: -dh.a_gamma_log10 * ion.charge**2 * s / (1.0 + dh.b_gamma_per_angstrom * a[n] * s)
+            for n, ion in ions.items()}
+    return SingleIonResult("extended Debye-Hückel", i, dh.temperature_k, ions, mol, logs,
+                           {"ion_sizes_angstrom": a})
+
+
+def davies(composition: Composition, temperature_k: float = 298.15, *, b: float = 0.3,
+           dh: DebyeHuckel | None = None) -> SingleIonResult:
+    ions, mol, i, dh = _setup(composition, temperature_k, dh)
+    s = np.sqrt(i)
+    logs = {n: -dh.a_gamma_log10 * ion.charge**2 * (s / (1.0 + s) - b * i)
+            for n, ion in ions.items()}
+    return SingleIonResult("Davies", i, dh.temperature_k, ions, mol, logs, {"b": b})
+
+
+def truesdell_jones(composition: Composition, ion_sizes: Mapping[str, float],
+                    b_ion: Mapping[str, float], temperature_k: float = 298.15, *,
+                    dh: DebyeHuckel | None = None) -> SingleIonResult:
+    """``ion_sizes`` in Å and ``b_ion`` in kg/mol, both keyed by ion name."""
+    ions, mol, i, dh = _setup(composition, temperature_k, dh)
+    a = _need(ion_sizes, ions, "ion sizes (Å)")
+    bi = _need(b_ion, ions, "Truesdell-Jones b values (kg/mol)")
+    s = np.sqrt(i)
+    logs = {n: -dh.a_gamma_log10 * ion.charge**2 * s / (1.0 + dh.b_gamma_per_angstrom * a[n] * s)
+            + bi[n] * i for n, ion in ions.items()}
+    return SingleIonResult("Truesdell-Jones", i, dh.temperature_k, ions, mol, logs,
+                           {"ion_sizes_angstrom": a, "b": bi})
+
+
+def sit(composition: Composition, epsilon: Mapping[tuple[str, str], float],
+        temperature_k: float = 298.15, *, missing: str = "error",
+        dh: DebyeHuckel | None = None) -> SingleIonResult:
+    """SIT with ``epsilon[(ion, counter_ion)]`` in kg/mol (either order of the pair).
+
+    Pairs of opposite charge without a value are refused (``missing="error"``) or taken as zero
+    (``missing="zero"``, listed in the result's parameters).
+    """
+    if missing not in ("error", "zero"):
+        raise UserError("missing must be 'error' or 'zero'")
+    ions, mol, i, dh = _setup(composition, temperature_k, dh)
+    eps = {frozenset(k): float(v) for k, v in epsilon.items()}
+    d = dh.a_gamma_log10 * np.sqrt(i) / (1.0 + 1.5 * np.sqrt(i))
+    absent: list[str] = []
+    logs = {}
+    for n, ion in ions.items():
+        total = -ion.charge**2 * d
+        for k, other in ions.items():
+            if other.charge * ion.charge >= 0:
+                continue
+            key = frozenset((n, k))
+            if key not in eps:
+                pair = f"{n}/{k}" if ion.charge > 0 else f"{k}/{n}"
+                if pair not in absent:
+                    absent.append(pair)
+                continue
+            total = total + eps[key] * mol[k]
+        logs[n] = total
+    if absent and missing == "error":
+        raise UserError(f"SIT needs epsilon for the ion pairs {', '.join(absent)} (kg/mol); "
+                        "pass them, or missing='zero' to take them as zero")
+    return SingleIonResult("SIT", i, dh.temperature_k, ions, mol, logs,
+                           {"epsilon": {tuple(sorted(k)): v for k, v in eps.items()},
+                            "taken_as_zero": tuple(absent)})
+
+
+def bates_guggenheim(composition: Composition, temperature_k: float = 298.15, *,
+                     dh: DebyeHuckel | None = None) -> SingleIonResult:
+    """gamma(Cl-) at the ionic strength of a pH standard; refused above I = 0.1 mol/kg."""
+    ions, mol, i, dh = _setup(composition, temperature_k, dh)
+    if np.any(i > BATES_GUGGENHEIM_MAX_I * (1 + 1e-9)):
+        raise UserError(
+            f"the Bates-Guggenheim convention is defined only up to I = {BATES_GUGGENHEIM_MAX_I:g} "
+            f"mol/kg; this solution has I = {float(np.max(i)):.4g} mol/kg")
+    s = np.sqrt(i)
+    log_cl = -dh.a_gamma_log10 * s / (1.0 + 1.5 * s)
+    cl = ions.get("Cl-")
+    out_ions = {"Cl-": cl} if cl else {}
+    return SingleIonResult("Bates-Guggenheim", i, dh.temperature_k, out_ions,
+                           {"Cl-": mol["Cl-"]} if cl else {}, {"Cl-": log_cl},
+                           {"a_log10": dh.a_gamma_log10, "b_a": 1.5}, cautions=(PH_CAUTION,))
+
+
+def _mean_at(value: object, i: np.ndarray) -> np.ndarray:
+    g = np.asarray(value(i) if callable(value) else value, dtype=float)
+    if np.any(g <= 0) or np.any(~np.isfinite(g)):
+        raise UserError("mean activity coefficients must be positive")
+    return g
+
+
+def macinnes(composition: Composition, gamma_kcl: float | Callable[[np.ndarray], np.ndarray],
+             temperature_k: float = 298.15, *,
+             mean_gammas: Mapping[Electrolyte, float | Callable[[np.ndarray], np.ndarray]]
+             | None = None) -> SingleIonResult:
+    """MacInnes convention: gamma(K+) = gamma(Cl-) = gamma±(KCl) at the solution's I.
+
+    ``gamma_kcl`` is gamma±(KCl) at that I, or a callable of I (mol/kg). ``mean_gammas`` gives
+    gamma± at the same I of other salts that share K+ or Cl- (e.g. NaCl, K2SO4): their other ion
+    is derived from gamma±^nu = gamma+^nu+ gamma-^nu-.
+    """
+    from saltbench.chemistry.ions import KNOWN_IONS
+
+    ions, mol, i, _ = _setup(composition, temperature_k, None)
+    log_k = np.log10(_mean_at(gamma_kcl, i))
+    logs: dict[str, np.ndarray] = {"K+": log_k, "Cl-": log_k}
+    all_ions = {"K+": KNOWN_IONS["K"], "Cl-": KNOWN_IONS["Cl"], **ions}
+    for salt, value in (mean_gammas or {}).items():
+        log_mean = np.log10(_mean_at(value, i))
+        if salt.anion.name == "Cl-" and salt.cation.name != "K+":
+            other = salt.cation
+            logs[other.name] = (salt.nu * log_mean - salt.nu_anion * log_k) / salt.nu_cation
+        elif salt.cation.name == "K+" and salt.anion.name != "Cl-":
+            other = salt.anion
+            logs[other.name] = (salt.nu * log_mean - salt.nu_cation * log_k) / salt.nu_anion
+        else:
+            raise UserError(f"{salt.name}: the MacInnes convention derives ions only from salts "
+                            "of K+ or Cl- with one other ion")
+        all_ions.setdefault(other.name, other)
+    return SingleIonResult("MacInnes", i, float(temperature_k), {n: all_ions[n] for n in logs},
+                           {n: mol[n] for n in logs if n in mol}, logs,
+                           {"gamma_kcl": "callable" if callable(gamma_kcl) else float(gamma_kcl)})
