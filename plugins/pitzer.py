@@ -1,0 +1,206 @@
+"""Pitzer's ion-interaction equations for a single salt M(nu+) X(nu-) in water.
+
+Sources: K. S. Pitzer, J. Phys. Chem. 77, 268 (1973), eqs. 7, 17, 18 (f^phi, f^gamma) and
+K. S. Pitzer and G. Mayorga, J. Phys. Chem. 77, 2300 (1973), eqs. 3-7 (B^phi, B^gamma, C);
+K. S. Pitzer and G. Mayorga, J. Solution Chem. 3, 539 (1974), eqs. 2-3 (the beta2 term of 2-2
+salts); collected in K. S. Pitzer, Activity Coefficients in Electrolyte Solutions, 2nd ed.,
+CRC Press, 1991, ch. 3, eqs. 49-51. With I the ionic strength, s = sqrt(I), x_k = alpha_k s:
+
+    phi - 1       = |z+ z-| f^phi + m (2 nu+ nu- / nu) B^phi + m^2 (2 (nu+ nu-)^1.5 / nu) C^phi
+    ln gamma±     = |z+ z-| f^gamma + m (2 nu+ nu- / nu) B^gamma + m^2 (2 (nu+ nu-)^1.5 / nu) C^gamma
+
+    f^phi   = -A_phi s / (1 + b s)
+    f^gamma = -A_phi [ s / (1 + b s) + (2 / b) ln(1 + b s) ]
+    B^phi   = beta0 + beta1 exp(-x_1) + beta2 exp(-x_2)
+    B^gamma = 2 beta0 + 2 beta1 g(x_1) + 2 beta2 g(x_2)
+    g(x)    = [1 - (1 + x - x^2/2) exp(-x)] / x^2           (so B^gamma = B + B^phi)
+    C^gamma = (3/2) C^phi,   b = 1.2 (kg/mol)^1/2
+
+A_phi is the Debye-Hückel osmotic slope of the evaluation context (``ctx.dh.a_phi``); the
+published sets were fitted with A_phi = 0.392, which ``saltbench.water.with_a_phi`` restores.
+
+alpha1 and alpha2 are fixed by default at Pitzer's values for the charge type: alpha1 = 2.0
+(no beta2 term) for every type except 2-2, and alpha1 = 1.4, alpha2 = 12 for 2-2 salts
+(Pitzer and Mayorga 1974). The declared default 0 stands for "the value for the charge type"
+(alpha = 0 itself would make the beta1 term a constant, indistinguishable from beta0);
+:meth:`Pitzer.defaults_for` gives the resolved numbers, e.g. as a fit's starting point.
+
+Cost per evaluation: one sqrt, one log1p, and one exp per alpha in use (two at most), whatever
+the number of molalities (see ``tests/test_model_pitzer.py``).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from saltbench.chemistry.electrolyte import Electrolyte
+from saltbench.models import ActivityModel, EvalContext, Parameter, Validity, hookimpl
+
+B_PITZER = 1.2  # (kg/mol)^1/2, Pitzer (1973): one value for all salts
+ALPHA1_DEFAULT = 2.0
+ALPHA1_22 = 1.4
+ALPHA2_22 = 12.0
+# Below this x = alpha sqrt(I), g(x) and g'(x) come from their Taylor series: the closed forms
+# lose digits to cancellation (1 - (1 + x - x^2/2) e^-x is of order x^2).
+_SERIES_BELOW = 1e-2
+
+
+def _g(x: np.ndarray, e: np.ndarray) -> np.ndarray:
+    """g(x) = [1 - (1 + x - x^2/2) e^-x] / x^2, with e = e^-x already computed."""
+    small = x < _SERIES_BELOW
+    xs = np.where(small, 1.0, x)  # keeps the closed form finite where the series is used
+    closed = (1.0 - (1.0 + xs - 0.5 * xs * xs) * e) / (xs * xs)
+    # 1 - 5x/6 + 3x^2/8 - 7x^3/60 + x^4/36: Taylor series of the closed form
+    series = 1.0 + x * (-5.0 / 6.0 + x * (0.375 + x * (-7.0 / 60.0 + x / 36.0)))
+    return np.where(small, series, closed)
+
+
+def _dg(x: np.ndarray, e: np.ndarray) -> np.ndarray:
+    """dg/dx, with e = e^-x already computed."""
+    small = x < _SERIES_BELOW
+    xs = np.where(small, 1.0, x)
+    num = 1.0 - (1.0 + xs - 0.5 * xs * xs) * e
+    closed = e * (2.0 - 0.5 * xs) / xs - 2.0 * num / xs**3
+    series = -5.0 / 6.0 + x * (0.75 + x * (-0.35 + x / 9.0))
+    return np.where(small, series, closed)
+
+
+class Pitzer(ActivityModel):
+    id = "pitzer"
+    name = "Pitzer (binary)"
+    citation = (
+        "K. S. Pitzer, J. Phys. Chem. 77, 268 (1973); K. S. Pitzer and G. Mayorga, J. Phys. "
+        "Chem. 77, 2300 (1973) and J. Solution Chem. 3, 539 (1974)"
+    )
+    parameters = (
+        Parameter("beta0", "β(0)", "kg/mol", 0.0, linear=True,
+                  description="short-range second virial coefficient, constant part"),
+        Parameter("beta1", "β(1)", "kg/mol", 0.0, linear=True,
+                  description="second virial coefficient, part decaying as exp(-alpha1 sqrt(I))"),
+        Parameter("beta2", "β(2)", "kg/mol", 0.0, linear=True,
+                  description="second virial coefficient, part decaying as exp(-alpha2 sqrt(I)); "
+                              "used for 2-2 salts (ion association), 0 otherwise"),
+        Parameter("C_phi", "Cφ", "kg²/mol²", 0.0, linear=True,
+                  description="third virial coefficient of the osmotic coefficient"),
+        Parameter("alpha1", "α1", "(kg/mol)^1/2", 0.0, lower=0.0, upper=50.0, fixed=True,
+                  description="0 selects the charge-type value: 2.0, or 1.4 for 2-2 salts"),
+        Parameter("alpha2", "α2", "(kg/mol)^1/2", 0.0, lower=0.0, upper=100.0, fixed=True,
+                  description="0 selects the charge-type value: 12 for 2-2 salts (and 12 "
+                              "elsewhere, where beta2 is normally 0)"),
+        Parameter("b", "b", "(kg/mol)^1/2", B_PITZER, lower=0.1, upper=10.0, fixed=True,
+                  description="Debye-Hückel term constant, 1.2 for all salts"),
+    )
+    validity = Validity(
+        max_molality=6.0,
+        temperature_k=(298.15, 298.15),
+        note="Pitzer and Mayorga (1973): fits to about 6 mol/kg for 1-1 salts; each published "
+             "set's m_max is the highest molality its authors fitted (lower for 2-1, 3-1, 2-2); "
+             "parameters are for 25 °C",
+    )
+    description = ("Pitzer's virial-type equations for one salt: Debye-Hückel term with b = 1.2 "
+                   "plus second (beta0, beta1, beta2) and third (C_phi) virial coefficients.")
+
+    # -- charge-type defaults ---------------------------------------------------------------
+    @staticmethod
+    def alphas_for(electrolyte: Electrolyte, params: dict[str, float] | None = None
+                   ) -> tuple[float, float]:
+        """(alpha1, alpha2) in use: the given values, 0 meaning the charge-type default."""
+        is_22 = electrolyte.charge_type == (2, 2)
+        a1 = float((params or {}).get("alpha1", 0.0) or 0.0)
+        a2 = float((params or {}).get("alpha2", 0.0) or 0.0)
+        if a1 == 0.0:
+            a1 = ALPHA1_22 if is_22 else ALPHA1_DEFAULT
+        if a2 == 0.0:
+            a2 = ALPHA2_22
+        return a1, a2
+
+    def defaults_for(self, electrolyte: Electrolyte) -> dict[str, float]:
+        """Defaults with alpha1 and alpha2 resolved for ``electrolyte``'s charge type."""
+        values = self.defaults()
+        values["alpha1"], values["alpha2"] = self.alphas_for(electrolyte)
+        return values
+
+    # -- shared pieces ----------------------------------------------------------------------
+    @staticmethod
+    def _stoich(e: Electrolyte) -> tuple[float, float]:
+        nu_prod = float(e.nu_cation * e.nu_anion)
+        return 2.0 * nu_prod / e.nu, 2.0 * nu_prod**1.5 / e.nu
+
+    def _terms(self, m: np.ndarray, params, ctx: EvalContext, need_e2: bool):
+        m = np.asarray(m, dtype=float)
+        e = ctx.electrolyte
+        s = np.sqrt(e.ionic_strength(m))
+        a1, a2 = self.alphas_for(e, params)
+        x1 = a1 * s
+        e1 = np.exp(-x1)
+        if need_e2:
+            x2 = a2 * s
+            e2 = np.exp(-x2)
+        else:
+            x2 = e2 = None
+        return m, s, x1, e1, x2, e2
+
+    # -- the model functions ------------------------------------------------------------------
+    def osmotic(self, m, params, ctx):
+        b = params["b"]
+        beta2 = params["beta2"]
+        m, s, _x1, e1, _x2, e2 = self._terms(m, params, ctx, need_e2=beta2 != 0.0)
+        el = ctx.electrolyte
+        c_b, c_c = self._stoich(el)
+        f_phi = -ctx.dh.a_phi * s / (1.0 + b * s)
+        b_phi = params["beta0"] + params["beta1"] * e1
+        if e2 is not None:
+            b_phi = b_phi + beta2 * e2
+        return 1.0 + el.zz * f_phi + m * c_b * b_phi + m * m * c_c * params["C_phi"]
+
+    def ln_gamma_pm(self, m, params, ctx):
+        b = params["b"]
+        beta2 = params["beta2"]
+        m, s, x1, e1, x2, e2 = self._terms(m, params, ctx, need_e2=beta2 != 0.0)
+        el = ctx.electrolyte
+        c_b, c_c = self._stoich(el)
+        bs = b * s
+        f_gamma = -ctx.dh.a_phi * (s / (1.0 + bs) + (2.0 / b) * np.log1p(bs))
+        b_gamma = 2.0 * params["beta0"] + 2.0 * params["beta1"] * _g(x1, e1)
+        if e2 is not None:
+            b_gamma = b_gamma + 2.0 * beta2 * _g(x2, e2)
+        return el.zz * f_gamma + m * c_b * b_gamma + m * m * c_c * 1.5 * params["C_phi"]
+
+    def jacobian(self, m, params, ctx):
+        """Derivatives with respect to every parameter; the betas and C_phi enter linearly.
+
+        The alpha derivatives are taken at the alphas in use (the charge-type values when the
+        parameter is 0).
+        """
+        b = params["b"]
+        m, s, x1, e1, x2, e2 = self._terms(m, params, ctx, need_e2=True)
+        el = ctx.electrolyte
+        c_b, c_c = self._stoich(el)
+        a_phi = ctx.dh.a_phi
+        bs = b * s
+        mb = m * c_b
+        d_ln = {
+            "beta0": 2.0 * mb,
+            "beta1": 2.0 * mb * _g(x1, e1),
+            "beta2": 2.0 * mb * _g(x2, e2),
+            "C_phi": 1.5 * c_c * m * m,
+            "alpha1": 2.0 * mb * params["beta1"] * _dg(x1, e1) * s,
+            "alpha2": 2.0 * mb * params["beta2"] * _dg(x2, e2) * s,
+            "b": -el.zz * a_phi * (-s * s / (1.0 + bs) ** 2 - (2.0 / b**2) * np.log1p(bs)
+                                   + (2.0 / b) * s / (1.0 + bs)),
+        }
+        d_phi = {
+            "beta0": mb,
+            "beta1": mb * e1,
+            "beta2": mb * e2,
+            "C_phi": c_c * m * m,
+            "alpha1": -mb * params["beta1"] * s * e1,
+            "alpha2": -mb * params["beta2"] * s * e2,
+            "b": el.zz * a_phi * s * s / (1.0 + bs) ** 2,
+        }
+        return d_ln, d_phi
+
+
+@hookimpl
+def register_models(context):
+    return [Pitzer()]
