@@ -98,3 +98,32 @@ def check_data(session: Session, electrolytes: Sequence[str] = ()):
         report.findings += part.findings
         report.summary += part.summary
     return report
+
+
+def resolve_parameters(session: Session, model, electrolyte, choice: str = "auto"):
+    """Parameters for ``model`` and ``electrolyte``: ``auto`` (published if any, else defaults),
+    ``published`` (first published set), ``defaults``, or a parameter-set id."""
+    from saltbench.errors import UserError
+    from saltbench.store import parameter_sets as ps
+
+    if choice in ("auto", "published"):
+        found = ps.published(session.store, model, electrolyte)
+        if found:
+            return found[0]
+        if choice == "published":
+            raise UserError(f"no published parameters for model {model.id} and {electrolyte.name}; "
+                            "use --params defaults, or fit them with 'saltbench fit'")
+    if choice in ("auto", "defaults"):
+        return ps.ResolvedParameters("defaults", "defaults", model.defaults())
+    return ps.by_id(session.store, model, electrolyte, choice)
+
+
+def eval_context(model, electrolyte, params, temperature_k: float = 298.15, own_constant: bool = True):
+    """Context for evaluating ``params``: a published set with its authors' A_phi if asked."""
+    from saltbench.models.evaluate import make_context
+    from saltbench.water.debye_huckel import debye_huckel_constants, with_a_phi
+
+    dh = debye_huckel_constants(temperature_k)
+    if own_constant and params.a_phi is not None and abs(temperature_k - params.temperature_k) < 0.01:
+        dh = with_a_phi(dh, params.a_phi, f"A_phi = {params.a_phi} of parameter set {params.set_id}")
+    return make_context(electrolyte, dh=dh)

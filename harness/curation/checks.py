@@ -32,7 +32,11 @@ CONSISTENCY_LN_GAMMA = 0.01
 SOURCE_SIGMAS = 3.0
 #: A point is judged against neighbours (or another source) only when they bracket it within
 #: this molality ratio: the usual 1-2-5 table grid qualifies, a jump from 2 to 5 mol/kg does not.
-BRACKET_RATIO = 2.05
+BRACKET_RATIO = 1.6
+#: Points on sparser grids (up to this ratio) are judged with ``SPARSE_FACTOR`` times the limit;
+#: beyond it (and at the ends of a dataset) a point is left to the other two checks.
+SPARSE_RATIO = 2.55
+SPARSE_FACTOR = 6.0
 #: A second source is compared at the reference's own molalities, or between reference points
 #: no further apart than this ratio, so the comparison never leans on a long interpolation.
 SOURCE_BRACKET_RATIO = 1.5
@@ -105,9 +109,11 @@ def check_electrolyte(e: Electrolyte, pts: pd.DataFrame, meta: pd.DataFrame) -> 
         fits[key] = (fit, kind, m, y, u, prec_y, g)
         limit = OUTLIER_SIGMAS * u + 0.5 * prec_y
         # only points whose neighbours on both sides are close enough to judge them by
-        dense = np.zeros(len(m), bool)
-        dense[1:-1] = (m[2:] / m[1:-1] <= BRACKET_RATIO) & (m[1:-1] / m[:-2] <= BRACKET_RATIO)
-        loo = np.where(dense, loo, 0.0)
+        gap = np.full(len(m), np.inf)
+        gap[1:-1] = np.maximum(m[2:] / m[1:-1], m[1:-1] / m[:-2])
+        # a sparse 1-2-5 grid judges a point more loosely: it still catches gross slips
+        limit = np.where(gap <= BRACKET_RATIO, limit, SPARSE_FACTOR * limit)
+        loo = np.where(gap <= SPARSE_RATIO, loo, 0.0)
         worst = float(np.max(np.abs(loo) / limit))
         rep.summary.append({"electrolyte": e.name, "dataset": key, "check": "neighbours",
                             "worst_ratio": worst, "n_points": len(m)})
