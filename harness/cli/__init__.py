@@ -20,6 +20,7 @@ COMMANDS = {
     "models": "saltbench.cli.models:models",
     "plugins": "saltbench.cli.models:plugins",
     "predict": "saltbench.cli.predict:predict",
+    "new-model": "saltbench.cli.new_model:new_model",
 }
 HELP_ORDER = list(COMMANDS)
 
