@@ -143,9 +143,16 @@ def open_store(path: str | os.PathLike[str] | None = None, *, memory: bool = Fal
                 raise StoreError(f"{p} is not a saltbench store (not an SQLite file)")
         try:
             conn = _connect(str(p))
-            conn.execute("PRAGMA journal_mode = WAL")
+            # Switching to WAL rewrites the file header, so a store we will refuse (newer
+            # schema) must be refused before it, or it would no longer be byte-for-byte unchanged.
+            if int(conn.execute("PRAGMA user_version").fetchone()[0]) <= SCHEMA_VERSION:
+                conn.execute("PRAGMA journal_mode = WAL")
         except sqlite3.DatabaseError as exc:
             raise StoreError(f"cannot open store {p}: {exc}") from None
         store = Store(sqlite_utils.Database(conn), p)
-    migrate(store)
+    try:
+        migrate(store)
+    except StoreError:
+        store.close()
+        raise
     return store
