@@ -4,11 +4,11 @@ Pure numpy/scipy functions on arrays, SI units and molality inside, with first-o
 uncertainties. Each module cites its method:
 
 - :mod:`~saltbench.measurements.nernst`: Nernst slope, EMF <-> activity, electrode calibration
-- :mod:`~saltbench.measurements.emf_cell`: cells without liquid junction -> gamma±; E° by extrapolation
+- :mod:`~saltbench.measurements.emf_cell`: cells without junction -> gamma±; E° by extrapolation
 - :mod:`~saltbench.measurements.concentration_cell`: activity ratios against a reference solution
 - :mod:`~saltbench.measurements.isopiestic`: phi of a sample from a reference salt
 - :mod:`~saltbench.measurements.water_activity`: phi from a_w readings or vapour-pressure ratios
-- :mod:`~saltbench.measurements.gibbs_duhem`: osmotic <-> activity with an explicit dilute extrapolation
+- :mod:`~saltbench.measurements.gibbs_duhem`: osmotic <-> activity, explicit dilute extrapolation
 - :mod:`~saltbench.measurements.conventions`: single-ion activity coefficients (conventional)
 """
 

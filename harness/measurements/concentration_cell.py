@@ -32,8 +32,8 @@ from saltbench.measurements.emf_cell import CellSpec
 from saltbench.measurements.nernst import CALIBRATION_CAUTION, nernst_slope
 
 SINGLE_ION_NOTE = (
-    "Single-ion activity from one electrode: the liquid-junction potential is not corrected and the "
-    "value rests on a non-thermodynamic convention; only mean quantities are measurable."
+    "Single-ion activity from one electrode: the liquid-junction potential is not corrected and "
+    "the value rests on a non-thermodynamic convention; only mean quantities are measurable."
 )
 
 

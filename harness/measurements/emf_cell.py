@@ -63,7 +63,8 @@ class CellSpec:
         """k = s nu R T / (n F) in volts, eq. (1)."""
         if self.n <= 0 or self.salt_per_reaction <= 0:
             raise UserError("a cell needs a positive electron number and salt count")
-        return self.salt_per_reaction * self.electrolyte.nu * thermal_voltage(temperature_k) / self.n
+        rt_f = thermal_voltage(temperature_k)
+        return self.salt_per_reaction * self.electrolyte.nu * rt_f / self.n
 
 
 def _positive(name: str, values: np.ndarray | float) -> np.ndarray:
@@ -168,11 +169,13 @@ def e_prime(cell: CellSpec, molality: np.ndarray, emf: np.ndarray, ion_size: flo
     dh = dh or debye_huckel_constants(temperature_k)
     m = _positive("molalities", molality)
     k = cell.k(temperature_k)
-    return np.asarray(emf, dtype=float) + k * np.log(cell.q * m) - k * _dh_term(cell, m, ion_size, dh)
+    dh_term = _dh_term(cell, m, ion_size, dh)
+    return np.asarray(emf, dtype=float) + k * np.log(cell.q * m) - k * dh_term
 
 
 def extrapolate_standard_emf(cell: CellSpec, molality: np.ndarray, emf: np.ndarray,
-                             temperature_k: float = 298.15, *, u_emf: np.ndarray | float | None = None,
+                             temperature_k: float = 298.15, *,
+                             u_emf: np.ndarray | float | None = None,
                              ion_size: float | None = None, ion_size_start: float = 4.0,
                              dh: DebyeHuckel | None = None) -> StandardEmf:
     """E° from eq. (2); fits E°, the slope and (unless ``ion_size`` is given) a in Å.

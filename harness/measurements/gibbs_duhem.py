@@ -173,7 +173,8 @@ def _forward_osmotic(electrolyte: Electrolyte, dh: DebyeHuckel, m: np.ndarray, p
     head = float(ext.ln_gamma_pm(m0) - (ext.osmotic(m0) - 1.0))
     u = np.sqrt(m)
     spline = CubicSpline(u, (phi - 1.0) / u)
-    phi_at = np.where(at < m0, ext.osmotic(at), spline(np.sqrt(np.maximum(at, m0))) * np.sqrt(at) + 1.0)
+    inside = spline(np.sqrt(np.maximum(at, m0))) * np.sqrt(at) + 1.0
+    phi_at = np.where(at < m0, ext.osmotic(at), inside)
     # Exact measured values where the requested molality is a measured one.
     idx = np.searchsorted(m, at)
     hit = (idx < m.size) & np.isclose(m[np.minimum(idx, m.size - 1)], at, rtol=1e-12, atol=0)

@@ -26,7 +26,9 @@ from saltbench.chemistry.electrolyte import Electrolyte
 from saltbench.errors import UserError
 from saltbench.water.properties import MOLAR_MASS_WATER
 
-IDEAL_VAPOUR_NOTE = "a_w = p/p*: ideal-vapour approximation (fugacity ratio taken as pressure ratio)"
+IDEAL_VAPOUR_NOTE = (
+    "a_w = p/p*: ideal-vapour approximation (fugacity ratio taken as pressure ratio)"
+)
 
 
 @dataclass(frozen=True)
