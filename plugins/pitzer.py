@@ -32,7 +32,6 @@ the number of molalities (see ``tests/test_model_pitzer.py``).
 from __future__ import annotations
 
 import numpy as np
-
 from saltbench.chemistry.electrolyte import Electrolyte
 from saltbench.models import ActivityModel, EvalContext, Parameter, Validity, hookimpl
 

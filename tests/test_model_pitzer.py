@@ -12,7 +12,6 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-
 from saltbench.chemistry.electrolyte import parse_formula
 from saltbench.curation.bibliography import read_bibliography
 from saltbench.curation.parameters import read_parameter_file
@@ -66,13 +65,13 @@ def test_betas_and_c_phi_are_the_linear_parameters_and_the_rest_fixed():
 
 # -- thermodynamic identities -------------------------------------------------------------------
 IDENTITY_CASES = [
-    ("NaCl", dict(beta0=0.0765, beta1=0.2664, C_phi=0.00127)),
-    ("CaCl2", dict(beta0=0.3159, beta1=1.614, C_phi=-0.00034)),
-    ("Na2SO4", dict(beta0=0.01958, beta1=1.113, C_phi=0.00497)),
-    ("LaCl3", dict(beta0=0.6105, beta1=5.487, C_phi=-0.03198)),
-    ("MgSO4", dict(beta0=0.2210, beta1=3.343, beta2=-37.23, C_phi=0.0250)),
+    ("NaCl", {"beta0": 0.0765, "beta1": 0.2664, "C_phi": 0.00127}),
+    ("CaCl2", {"beta0": 0.3159, "beta1": 1.614, "C_phi": -0.00034}),
+    ("Na2SO4", {"beta0": 0.01958, "beta1": 1.113, "C_phi": 0.00497}),
+    ("LaCl3", {"beta0": 0.6105, "beta1": 5.487, "C_phi": -0.03198}),
+    ("MgSO4", {"beta0": 0.2210, "beta1": 3.343, "beta2": -37.23, "C_phi": 0.0250}),
     # a 4-1 salt with made-up parameters: the equations hold for any charge type
-    ("ThCl4", dict(beta0=1.0, beta1=13.0, beta2=0.5, C_phi=-0.1)),
+    ("ThCl4", {"beta0": 1.0, "beta1": 13.0, "beta2": 0.5, "C_phi": -0.1}),
 ]
 
 
@@ -80,7 +79,7 @@ IDENTITY_CASES = [
 def test_analytic_osmotic_satisfies_gibbs_duhem(formula, params):
     # Gibbs-Duhem for a binary solution (Robinson and Stokes 1959, ch. 2): the analytic phi
     # must equal the one integrated from ln gamma± (common practice, no source) to 1e-8.
-    electrolyte, ctx = pm_context(formula)
+    _electrolyte, ctx = pm_context(formula)
     values = {**MODEL.defaults(), **params}
     m = np.array([1e-4, 1e-3, 0.01, 0.1, 0.5, 1.0, 2.0, 4.0, 6.0])
     analytic = MODEL.osmotic(m, values, ctx)
@@ -115,7 +114,7 @@ def test_alpha_defaults_follow_the_charge_type():
     d22 = MODEL.defaults_for(parse_formula("MgSO4"))
     assert (d22["alpha1"], d22["alpha2"]) == (1.4, 12.0)
     m = np.array([0.01, 0.5, 2.0])
-    p = dict(beta0=0.2210, beta1=3.343, beta2=-37.23, C_phi=0.0250)
+    p = {"beta0": 0.2210, "beta1": 3.343, "beta2": -37.23, "C_phi": 0.0250}
     e, ctx = pm_context("MgSO4")
     by_default = evaluate(MODEL, e, m, p, ctx=ctx)
     explicit = evaluate(MODEL, e, m, {**p, "alpha1": 1.4, "alpha2": 12.0}, ctx=ctx)
@@ -126,10 +125,10 @@ def test_alpha_defaults_follow_the_charge_type():
 
 # -- the Jacobian ---------------------------------------------------------------------------------
 @pytest.mark.parametrize("formula,params", [
-    ("KCl", dict(beta0=0.04835, beta1=0.2122, beta2=0.1, C_phi=-0.00084, alpha1=2.0,
-                 alpha2=12.0, b=1.2)),
-    ("MgSO4", dict(beta0=0.2210, beta1=3.343, beta2=-37.23, C_phi=0.0250, alpha1=1.4,
-                   alpha2=12.0, b=1.2)),
+    ("KCl", {"beta0": 0.04835, "beta1": 0.2122, "beta2": 0.1, "C_phi": -0.00084, "alpha1": 2.0,
+                 "alpha2": 12.0, "b": 1.2}),
+    ("MgSO4", {"beta0": 0.2210, "beta1": 3.343, "beta2": -37.23, "C_phi": 0.0250, "alpha1": 1.4,
+                   "alpha2": 12.0, "b": 1.2}),
 ])
 def test_jacobian_matches_central_differences(formula, params):
     _, ctx = pm_context(formula)
@@ -166,7 +165,7 @@ def test_transcendental_calls_per_evaluation(monkeypatch):
 
     monkeypatch.setattr(mod, "np", CountingNumpy())
     m = np.linspace(0.001, 6.0, 500)
-    e, ctx = pm_context("MgSO4")
+    _, ctx = pm_context("MgSO4")
     p = {**MODEL.defaults(), **published(PM1974, "MgSO4")}
     MODEL.ln_gamma_pm(m, p, ctx)
     assert counts == {"exp": 2, "sqrt": 1, "log1p": 1, "log": 0}
@@ -176,7 +175,7 @@ def test_transcendental_calls_per_evaluation(monkeypatch):
     assert counts["exp"] == 2 and counts["sqrt"] == 1 and counts["log1p"] + counts["log"] == 0
     for k in counts:
         counts[k] = 0
-    e, ctx = pm_context("NaCl")
+    _e, ctx = pm_context("NaCl")
     MODEL.ln_gamma_pm(m, {**MODEL.defaults(), **published(PM1973, "NaCl")}, ctx)
     assert counts["exp"] == 1  # no beta2 term for 1-1 salts: its exponential is skipped
 

@@ -41,7 +41,7 @@ class DebyeHuckel:
 
     @property
     def b_gamma_per_angstrom(self) -> float:
-        """B_gamma in Å^-1 (kg/mol)^1/2 (about 0.3291 at 25 °C), for ion sizes given in Å."""
+        """B_gamma in Å^-1 (kg/mol)^1/2 (about 0.3284 at 25 °C), for ion sizes given in Å."""
         return self.b_gamma * 1e-10
 
 
