@@ -1,0 +1,49 @@
+"""Stokes-Robinson hydration equation: contract, self-consistency, handbook CaCl2 values."""
+
+import numpy as np
+import pytest
+
+from _handbook import CACL2_GAMMA, CACL2_M
+from saltbench.chemistry.electrolyte import parse_formula
+from saltbench.errors import ModelDomainError, ModelError
+from saltbench.models.contract_kit import assert_model_contract
+from saltbench.models.evaluate import evaluate
+from saltbench.plugins.debye_huckel import ExtendedDebyeHuckel
+from saltbench.plugins.stokes_robinson import StokesRobinson
+from saltbench.water import MOLAR_MASS_WATER
+
+
+@pytest.mark.parametrize("h,a", [(0.0, 4.0), (3.5, 3.97), (12.0, 4.73), (13.7, 5.02)])
+def test_contract(h, a):
+    assert_model_contract(StokesRobinson(), params={"h": h, "a": a})
+
+
+def test_published_equation_holds_with_own_water_activity():
+    # Stokes and Robinson (1948): ln gamma± = DH - (h/nu) ln a_w - ln(1 + 0.018 (nu - h) m),
+    # checked with the model's own a_w = exp(-nu m M_w phi).
+    e = parse_formula("NaCl")
+    m = np.array([0.1, 1.0, 3.0])
+    p = {"h": 3.5, "a": 3.97}
+    r = evaluate(StokesRobinson(), e, m, p)
+    dh = evaluate(ExtendedDebyeHuckel(), e, m, {"a": 3.97}).ln_gamma_pm
+    rhs = dh - 3.5 / 2 * np.log(r.water_activity) - np.log1p(MOLAR_MASS_WATER * (2 - 3.5) * m)
+    np.testing.assert_allclose(r.ln_gamma_pm, rhs, rtol=1e-12)
+
+
+def test_handbook_cacl2():
+    # CRC CaCl2 column (see _handbook.py) to 1 mol/kg with h = 12.0, a = 4.73 Å (from memory of
+    # Stokes and Robinson 1948): within 0.005.
+    sel = CACL2_M <= 1.0
+    r = evaluate(StokesRobinson(), parse_formula("CaCl2"), CACL2_M[sel], {"h": 12.0, "a": 4.73})
+    np.testing.assert_allclose(r.gamma_pm, CACL2_GAMMA[sel], atol=0.005)
+
+
+def test_refuses_more_hydration_than_water():
+    # h m M_w >= 1 would bind all the water (Stokes and Robinson 1948, the physical picture).
+    with pytest.raises((ModelDomainError, ModelError)):
+        evaluate(StokesRobinson(), parse_formula("NaCl"), [5.0], {"h": 12.0, "a": 4.0})
+
+
+def test_not_supported_for_2_2():
+    with pytest.raises(ModelDomainError):
+        evaluate(StokesRobinson(), parse_formula("MgSO4"), [0.1])
