@@ -12,7 +12,6 @@ from collections.abc import Iterable, Sequence
 from dataclasses import dataclass
 
 import numpy as np
-
 from saltbench.errors import UserError
 from saltbench.water.properties import MOLAR_MASS_WATER
 
@@ -185,7 +184,7 @@ class FitData:
         wanted = {kinds} if isinstance(kinds, str) else set(kinds)
         unknown = wanted - set(KINDS)
         if unknown:
-            raise UserError(f"fit data: unknown kind {sorted(unknown)[0]!r}")
+            raise UserError(f"fit data: unknown kind {min(unknown)!r}")
         return self.subset(np.isin(self.kind.astype(str), sorted(wanted)))
 
     def sorted_by_molality(self) -> FitData:

@@ -23,7 +23,6 @@ from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass, field, replace
 
 import numpy as np
-
 from saltbench.chemistry.electrolyte import Electrolyte
 from saltbench.errors import FitError, ModelDomainError, ModelError, UserError
 from saltbench.fitting.data import FitData

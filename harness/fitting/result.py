@@ -26,7 +26,6 @@ from dataclasses import dataclass, field
 from typing import Any
 
 import numpy as np
-
 from saltbench.fitting import criteria
 from saltbench.fitting.least_squares import Solution
 from saltbench.fitting.problem import FitProblem
@@ -172,8 +171,8 @@ def _covariance(jac: np.ndarray, names: list[str]) -> tuple[np.ndarray, float, l
             involved = list(names)
         else:
             involved = [names[j] for j in np.argsort(-np.abs(vt[-1])) if abs(vt[-1][j]) > 0.2]
-        return nan, math.inf, [f"singular (no information on a combination of "
-                               f"{', '.join(involved)})"]
+        why = f"singular (no information on a combination of {', '.join(involved)})"
+        return nan, math.inf, [why]
     cond = float(s[0] / s[-1])
     cov = (vt.T / s**2) @ vt / np.outer(norms, norms)
     flags = [f"ill-conditioned (condition number {cond:.3g})"] if cond > ILL_CONDITIONED else []

@@ -1,0 +1,180 @@
+"""The validity range a model earns against data: how far up in molality it stays in tolerance.
+
+Tolerances (defaults |d ln gamma±| <= 0.01 and |d phi| <= 0.01) are absolute deviations from
+the observations; they only mean something where the data are better than the tolerance.
+
+* Fixed parameters (e.g. a published set; no refit): every point is a held-out point. Scanning
+  the data's molalities upwards, the range ends below the lowest molality at which some point
+  is out of tolerance.
+* Refitted parameters: for each trial limit L on the data's molality grid (from the lowest one
+  leaving each fold more points than free parameters), the model is cross-validated on the
+  points with m <= L (see :mod:`saltbench.fitting.crossval`); L passes when every held-out
+  prediction is within tolerance. The range is the last passing L before the first failing one.
+
+When no point or trial fails the range is limited by the data, not the model, and says so.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Iterable, Mapping
+from dataclasses import dataclass, field
+from typing import Any, Literal
+
+import numpy as np
+from saltbench.chemistry.electrolyte import Electrolyte
+from saltbench.errors import ModelDomainError, ModelError
+from saltbench.fitting.crossval import cross_validate_problem
+from saltbench.fitting.data import FitData
+from saltbench.fitting.problem import FitProblem, build_problem
+from saltbench.models.contract import ActivityModel
+from saltbench.water.debye_huckel import DebyeHuckel
+
+DATA_END = "data end before model fails"
+
+
+@dataclass(frozen=True)
+class ValidityRange:
+    max_molality: float | None  # mol/kg; None when no point is valid
+    max_ionic_strength: float | None  # mol/kg
+    limited_by: Literal["tolerance", "data", "none-valid"]
+    first_failing_molality: float | None
+    tolerance: dict[str, float]  # {"ln_gamma": ..., "osmotic": ...}
+    mode: Literal["fixed", "refit"]
+    highest_data_molality: float
+    flags: list[str] = field(default_factory=list)
+    trials: list[dict[str, Any]] = field(default_factory=list, repr=False)
+
+    def to_dict(self) -> dict[str, Any]:
+        def num(x: float | None) -> float | None:
+            return None if x is None or not math.isfinite(x) else float(x)
+
+        return {"max_molality": num(self.max_molality),
+                "max_ionic_strength": num(self.max_ionic_strength),
+                "limited_by": self.limited_by,
+                "first_failing_molality": num(self.first_failing_molality),
+                "tolerance": dict(self.tolerance), "mode": self.mode,
+                "highest_data_molality": num(self.highest_data_molality),
+                "flags": list(self.flags),
+                "trials": [{k: (num(v) if isinstance(v, float) else v) for k, v in t.items()}
+                           for t in self.trials]}
+
+
+def _within(residual: np.ndarray, is_osm: np.ndarray, tol_ln: float,
+            tol_phi: float) -> np.ndarray:
+    tol = np.where(is_osm, tol_phi, tol_ln)
+    return np.isfinite(residual) & (np.abs(residual) <= tol)
+
+
+def _worst(residual: np.ndarray, sel: np.ndarray) -> float | None:
+    r = residual[sel]
+    if r.size == 0:
+        return None
+    return float(np.max(np.abs(r))) if np.all(np.isfinite(r)) else math.nan
+
+
+def _finish(electrolyte: Electrolyte, mode: str, last_ok: float | None,
+            first_fail: float | None, top: float, tol: dict[str, float], flags: list[str],
+            trials: list[dict[str, Any]]) -> ValidityRange:
+    if first_fail is None and last_ok is not None:
+        limited_by = "data"
+        flags.append(f"{DATA_END} (highest data molality {top:g} mol/kg)")
+    elif last_ok is None:
+        limited_by = "none-valid"
+    else:
+        limited_by = "tolerance"
+    ionic = float(electrolyte.ionic_strength(last_ok)) if last_ok is not None else None
+    return ValidityRange(last_ok, ionic, limited_by, first_fail, tol, mode, top,  # type: ignore[arg-type]
+                         flags, trials)
+
+
+def _fixed_scan(problem: FitProblem, theta: np.ndarray, tol_ln: float, tol_phi: float
+                ) -> tuple[float | None, float | None, list[str], list[dict[str, Any]]]:
+    flags: list[str] = []
+    try:
+        resid = problem.obs - problem.predict(theta)
+    except (ModelError, ModelDomainError) as exc:
+        flags.append(f"model error: {exc}")
+        return None, None, flags, []
+    ok = _within(resid, problem.is_osm, tol_ln, tol_phi)
+    m = problem.molality
+    grid = np.unique(m)
+    first_fail = float(m[~ok].min()) if not ok.all() else None
+    below = grid[grid < first_fail] if first_fail is not None else grid
+    last_ok = float(below.max()) if below.size else None
+    trials = [{"limit": float(L), "passed": bool(ok[m <= L].all()),
+               "worst_ln_gamma": _worst(resid, (m <= L) & ~problem.is_osm),
+               "worst_osmotic": _worst(resid, (m <= L) & problem.is_osm)} for L in grid]
+    return last_ok, first_fail, flags, trials
+
+
+def _refit_scan(problem: FitProblem, tol_ln: float, tol_phi: float, folds: int, scheme: str
+                ) -> tuple[float | None, float | None, list[str], list[dict[str, Any]]]:
+    flags: list[str] = []
+    trials: list[dict[str, Any]] = []
+    m = problem.molality
+    k = problem.k
+    last_ok = first_fail = None
+    start = None
+    judged = False
+    for L in np.unique(m):
+        sel = m <= L
+        n = int(sel.sum())
+        f = min(folds, n)
+        if f < 2 or n - math.ceil(n / f) < k + 1:
+            continue  # too few points below L to leave each fold more points than parameters
+        judged = True
+        cv = cross_validate_problem(problem.subset(sel), f, scheme, start=start)
+        if cv.theta is not None:
+            start = cv.theta
+        ok = _within(cv.residual, cv.kind == "osmotic", tol_ln, tol_phi)
+        passed = bool(ok.all())
+        trials.append({"limit": float(L), "passed": passed, "folds": f,
+                       "worst_ln_gamma": _worst(cv.residual, cv.kind == "ln_gamma"),
+                       "worst_osmotic": _worst(cv.residual, cv.kind == "osmotic"),
+                       "flags": list(cv.flags)})
+        if not passed:
+            first_fail = float(L)
+            if cv.flags:
+                flags.append(f"at trial limit {L:g} mol/kg: {cv.flags[0]}")
+            break
+        last_ok = float(L)
+    if not judged:
+        flags.append(f"too few points to judge a refitted model ({problem.n} points for "
+                     f"{k} free parameters)")
+    return last_ok, first_fail, flags, trials
+
+
+def validity_range(model: ActivityModel, electrolyte: Electrolyte | str, data: FitData, *,
+                   params: Mapping[str, float] | None = None,
+                   tolerance_ln_gamma: float = 0.01, tolerance_phi: float = 0.01,
+                   folds: int = 5, scheme: str = "interleaved",
+                   fixed: Mapping[str, float] | None = None,
+                   start: Mapping[str, float] | None = None, free: Iterable[str] | None = None,
+                   bounds: Mapping[str, tuple[float, float]] | None = None,
+                   dh: DebyeHuckel | None = None,
+                   temperature_k: float = 298.15) -> ValidityRange:
+    """Highest molality (and ionic strength) up to which ``model`` stays within tolerance.
+
+    With ``params`` (model parameter names -> values; others at their defaults) the model is
+    judged as given, without refitting. Without them its free parameters are refitted and it
+    is judged on cross-validated held-out predictions (``folds``, ``scheme``; the other
+    options as for :func:`saltbench.fitting.fit`).
+    """
+    from saltbench.fitting.engine import as_electrolyte
+
+    e = as_electrolyte(electrolyte)
+    tol = {"ln_gamma": float(tolerance_ln_gamma), "osmotic": float(tolerance_phi)}
+    if params is not None:
+        problem = build_problem(model, [(e, data)], dh=dh, temperature_k=temperature_k)
+        result = _fixed_scan(problem, problem.theta_from(params), tol["ln_gamma"],
+                             tol["osmotic"])
+        mode = "fixed"
+    else:
+        problem = build_problem(model, [(e, data)], fixed=fixed, start=start, free=free,
+                                bounds=bounds, dh=dh, temperature_k=temperature_k)
+        result = _refit_scan(problem, tol["ln_gamma"], tol["osmotic"], folds, scheme)
+        mode = "refit"
+    last_ok, first_fail, flags, trials = result
+    return _finish(e, mode, last_ok, first_fail, float(problem.molality.max()), tol, flags,
+                   trials)
