@@ -310,6 +310,21 @@ def test_propagation_agrees_between_analytic_and_difference_jacobians():
     np.testing.assert_allclose(analytic.u_osmotic, numeric.u_osmotic, rtol=1e-5)
 
 
+def test_propagation_from_stored_values_and_covariance_pair():
+    # The (names, matrix) form a published set is stored in must give what the FitResult gives.
+    data = synthetic((TRUTH["a"], TRUTH["b"]), NACL, GRID, seed=14)
+    result = fit(ExtendedDH(), NACL, data)
+    at = [0.2, 2.0]
+    stored = (list(reversed(result.free_names)), result.covariance[::-1, ::-1].tolist())
+    ctx = make_context(NACL)
+    from_pair = propagate(ExtendedDH(), NACL, at, result.model_values(), stored, ctx=ctx)
+    direct = propagate(ExtendedDH(), NACL, at, result)
+    np.testing.assert_allclose(from_pair["u_gamma_pm"], direct.u_gamma, rtol=1e-12)
+    np.testing.assert_allclose(from_pair["u_osmotic"], direct.u_osmotic, rtol=1e-12)
+    with pytest.raises(KeyError):
+        from_pair["u_nothing"]
+
+
 def _salt_data(e, a, b, seed):
     # Invented: the per-ion test model's ln(gamma) with noise u = 0.002.
     dh = debye_huckel_constants(298.15)

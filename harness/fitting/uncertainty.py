@@ -18,8 +18,11 @@ from saltbench.errors import UserError
 from saltbench.fitting.data import FitData
 from saltbench.fitting.problem import FitProblem, build_problem
 from saltbench.fitting.result import FitResult
-from saltbench.models.contract import ActivityModel
+from saltbench.models.contract import ActivityModel, EvalContext
 from saltbench.water.debye_huckel import DebyeHuckel
+
+_ALIASES = {"ln_gamma_pm": "ln_gamma", "u_ln_gamma_pm": "u_ln_gamma", "gamma_pm": "gamma",
+            "u_gamma_pm": "u_gamma", "u_phi": "u_osmotic", "phi": "osmotic"}
 
 
 @dataclass(frozen=True)
@@ -32,6 +35,13 @@ class Propagation:
     osmotic: np.ndarray
     u_osmotic: np.ndarray
 
+    def __getitem__(self, key: str) -> np.ndarray:
+        """Also readable by the store's column names (``u_gamma_pm``, ``u_osmotic``...)."""
+        name = _ALIASES.get(key, key)
+        if name not in self.to_dict():
+            raise KeyError(key)
+        return getattr(self, name)
+
     def to_dict(self) -> dict[str, Any]:
         def clean(a: np.ndarray) -> list[float | None]:
             return [float(v) if np.isfinite(v) else None for v in a]
@@ -42,18 +52,29 @@ class Propagation:
 
 
 def propagate(model: ActivityModel, electrolyte: Electrolyte | str,
-              molality: Sequence[float] | np.ndarray, result: FitResult | None = None, *,
-              params: Mapping[str, float] | None = None, covariance: np.ndarray | None = None,
-              names: Sequence[str] | None = None, dh: DebyeHuckel | None = None,
+              molality: Sequence[float] | np.ndarray,
+              result: FitResult | Mapping[str, float] | None = None,
+              covariance: np.ndarray | tuple[Sequence[str], Any] | None = None, *,
+              params: Mapping[str, float] | None = None, names: Sequence[str] | None = None,
+              dh: DebyeHuckel | None = None, ctx: EvalContext | None = None,
               temperature_k: float | None = None) -> Propagation:
     """u(ln gamma±), u(gamma±) and u(phi) at ``molality`` from a fit's covariance.
 
-    Either pass a :class:`FitResult` (single or joint; for a joint fit name the electrolyte) or
-    ``params`` (model parameter names -> values), ``covariance`` and the ``names`` of its rows.
+    Either pass a :class:`FitResult` (single or joint; for a joint fit name the electrolyte), or
+    parameter values (model names -> values, as ``result`` or ``params``) with ``covariance``:
+    a matrix whose rows are ``names`` (default: the model's free parameters in declared order)
+    or a ``(names, matrix)`` pair as stored with published sets. ``ctx`` or ``dh`` fixes the
+    Debye-Hückel constants (e.g. a published A_phi).
     """
     from saltbench.fitting.engine import as_electrolyte
 
     e = as_electrolyte(electrolyte)
+    if isinstance(result, Mapping):
+        params, result = result, None
+    if ctx is not None:
+        dh = ctx.dh
+    if isinstance(covariance, tuple):
+        names, covariance = list(covariance[0]), covariance[1]
     if result is not None:
         if e.name not in result.param_map:
             raise UserError(f"the fit of {result.electrolyte} does not cover {e.name}")
@@ -66,8 +87,10 @@ def propagate(model: ActivityModel, electrolyte: Electrolyte | str,
         if temperature_k is None and np.isfinite(result.temperature_k):
             temperature_k = result.temperature_k
     else:
-        if params is None or covariance is None or names is None:
-            raise UserError("propagate needs a FitResult, or params, covariance and names")
+        if params is None or covariance is None:
+            raise UserError("propagate needs a FitResult, or parameter values and a covariance")
+        if names is None:
+            names = [p.name for p in model.free_parameters()]
         values, free_model = dict(params), list(names)
         cov = np.asarray(covariance, dtype=float)
         if cov.shape != (len(free_model), len(free_model)):
@@ -76,7 +99,8 @@ def propagate(model: ActivityModel, electrolyte: Electrolyte | str,
     n = m.size
     data = FitData(np.concatenate([m, m]), np.zeros(2 * n), np.ones(2 * n),
                    np.array(["ln_gamma"] * n + ["osmotic"] * n, dtype=object), "propagation")
-    base = build_problem(model, [(e, data)], dh=dh, temperature_k=temperature_k or 298.15)
+    base = build_problem(model, [(e, data)], dh=dh,
+                         temperature_k=temperature_k if temperature_k is not None else 298.15)
     unknown = [x for x in free_model if x not in base.names]
     if unknown:
         raise UserError(f"model {model.id} has no parameter {unknown[0]!r}")
