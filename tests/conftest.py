@@ -16,7 +16,6 @@ from pathlib import Path
 
 import pytest
 from click.testing import CliRunner
-
 from saltbench.store import open_store
 from saltbench.store.connection import Store
 
@@ -116,7 +115,7 @@ def write(path: Path, text: str) -> Path:
 
 def bundle_copy(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> Path:
     """Copy the bundled refdata into tmp_path and make the store sync read the copy."""
-    import saltbench.store.bundled as bundled
+    from saltbench.store import bundled
 
     files = bundled.bundled_files()
     root = tmp_path / "bundle"

@@ -8,7 +8,6 @@ import json
 from pathlib import Path
 
 import pytest
-
 from conftest import bundle_copy
 
 # Electrolytes every release bundles with both gamma± and osmotic data (refdata/datasets).

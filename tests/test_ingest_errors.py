@@ -9,7 +9,6 @@ from __future__ import annotations
 from pathlib import Path
 
 import pytest
-
 from conftest import write
 from saltbench.store import open_store
 from saltbench.store.queries import content_hash

@@ -6,7 +6,6 @@ import sqlite3
 from pathlib import Path
 
 import pytest
-
 from conftest import bundle_copy, copy_store, write
 from saltbench.api import Session
 from saltbench.errors import StoreError
@@ -46,7 +45,7 @@ def test_newer_store_is_refused_and_left_byte_for_byte(store_path: Path, run_mai
     assert store_path.read_bytes() == before
 
     code, out, err = run_main("data", "list")
-    assert code == 2
+    assert (code, out) == (2, "")
     assert err.startswith("Error: store ") and "newer than this saltbench" in err
     assert "Traceback" not in err
     assert store_path.read_bytes() == before
@@ -166,7 +165,7 @@ def test_changed_bundled_data_is_updated_not_duplicated(store_path: Path, tmp_pa
 
 def test_bundled_dataset_dropped_from_the_bundle_is_removed(store_path: Path, tmp_path: Path,
                                                             monkeypatch: pytest.MonkeyPatch) -> None:
-    import saltbench.store.bundled as bundled
+    from saltbench.store import bundled
 
     root = bundle_copy(tmp_path, monkeypatch)
     store = open_store(store_path)
@@ -215,10 +214,10 @@ def test_user_data_untouched_by_a_bundled_update(store_path: Path, tmp_path: Pat
     bib = write(tmp_path / "user" / "bib.txt", USER_BIB)
     data = write(tmp_path / "user" / "harbour-nacl.csv", USER_DATA)
     session.add([bib, data])
-    user_rows = lambda: session.store.conn.execute(  # noqa: E731
+    user_rows = lambda: session.store.conn.execute(
         "SELECT d.key, d.content_hash, p.molality, p.value FROM datasets d "
         "JOIN points p ON p.dataset_id = d.id WHERE d.origin = 'user' ORDER BY p.molality").fetchall()
-    user_source = lambda: session.store.conn.execute(  # noqa: E731
+    user_source = lambda: session.store.conn.execute(
         "SELECT * FROM sources WHERE origin = 'user'").fetchall()
     before, src_before = user_rows(), user_source()
     assert len(before) == 3

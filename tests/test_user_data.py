@@ -11,7 +11,6 @@ import json
 from pathlib import Path
 
 import pytest
-
 from conftest import write
 from saltbench.store import open_store
 from saltbench.store.queries import content_hash
