@@ -114,7 +114,7 @@ def resolve_parameters(session: Session, model, electrolyte, choice: str = "auto
             raise UserError(f"no published parameters for model {model.id} and {electrolyte.name}; "
                             "use --params defaults, or fit them with 'saltbench fit'")
     if choice in ("auto", "defaults"):
-        return ps.ResolvedParameters("defaults", "defaults", model.defaults())
+        return ps.ResolvedParameters("defaults", "defaults", model.defaults(electrolyte))
     return ps.by_id(session.store, model, electrolyte, choice)
 
 
@@ -127,3 +127,48 @@ def eval_context(model, electrolyte, params, temperature_k: float = 298.15, own_
     if own_constant and params.a_phi is not None and abs(temperature_k - params.temperature_k) < 0.01:
         dh = with_a_phi(dh, params.a_phi, f"A_phi = {params.a_phi} of parameter set {params.set_id}")
     return make_context(electrolyte, dh=dh)
+
+
+def select_data(session: Session, electrolyte, *, datasets=None, on=None, up_to=None, temperature_k=298.15):
+    from saltbench.fitting.selection import select
+
+    e = session.electrolyte(electrolyte) if isinstance(electrolyte, str) else electrolyte
+    return select(session.points(e.name), session.datasets(e.name), e, datasets=datasets, on=on,
+                  up_to=up_to, temperature_k=temperature_k)
+
+
+def compare(session: Session, electrolytes, settings=None, *, jobs: int = 1, curves: bool = False,
+            progress: bool = False):
+    """Compare models on each electrolyte; returns a :class:`saltbench.comparison.runner.Comparison`."""
+    from saltbench.comparison.assess import PublishedInput
+    from saltbench.comparison.runner import ElectrolyteTask, run_comparison
+    from saltbench.comparison.settings import CompareSettings
+    from saltbench.errors import UserError
+    from saltbench.store import parameter_sets as ps
+
+    settings = settings or CompareSettings()
+    reg = session.registry
+    ids = list(settings.models) or list(reg.models)
+    for mid in ids:
+        reg.model(mid)  # unknown ids are a user error, before any work
+    tasks, skipped = [], {}
+    for name in electrolytes:
+        e = session.electrolyte(name)
+        sel = select_data(session, e, datasets=settings.datasets or None, on=settings.on,
+                          up_to=settings.up_to, temperature_k=settings.temperature_k)
+        supported = [mid for mid in ids if reg.model(mid).supports(e)]
+        skipped[e.name] = [mid for mid in ids if mid not in supported]
+        if not supported:
+            raise UserError(f"none of the chosen models supports {e.name} ({e.charge_label})")
+        published = {}
+        for mid in supported:
+            found = ps.published(session.store, reg.model(mid), e)
+            published[mid] = (PublishedInput(found[0].set_id, found[0].values, found[0].a_phi,
+                                             found[0].from_memory) if found else None)
+        top = float(sel.data.molality.max())
+        target = min(settings.up_to, top) if settings.up_to else top
+        tasks.append(ElectrolyteTask(e, sel.data, sel.datasets, published, supported, target))
+    comp = run_comparison(tasks, settings, registry=reg, plugin_files=session._plugin_files,
+                          disabled=session._disabled, jobs=jobs, curves=curves, progress=progress)
+    comp.skipped = skipped
+    return comp

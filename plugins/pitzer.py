@@ -31,6 +31,8 @@ the number of molalities (see ``tests/test_model_pitzer.py``).
 
 from __future__ import annotations
 
+from dataclasses import replace
+
 import numpy as np
 from saltbench.chemistry.electrolyte import Electrolyte
 from saltbench.models import ActivityModel, EvalContext, Parameter, Validity, hookimpl
@@ -115,9 +117,25 @@ class Pitzer(ActivityModel):
 
     def defaults_for(self, electrolyte: Electrolyte) -> dict[str, float]:
         """Defaults with alpha1 and alpha2 resolved for ``electrolyte``'s charge type."""
-        values = self.defaults()
-        values["alpha1"], values["alpha2"] = self.alphas_for(electrolyte)
-        return values
+        return self.defaults(electrolyte)
+
+    def parameters_for(self, electrolyte: Electrolyte | None = None) -> tuple[Parameter, ...]:
+        """Pitzer's choices per charge type: beta2 (with alpha2 = 12) only for 2-2 salts, where
+        alpha1 = 1.4; alpha1 = 2 otherwise (Pitzer and Mayorga 1973, 1974)."""
+        if electrolyte is None:
+            return self.parameters
+        a1, a2 = self.alphas_for(electrolyte)
+        is_22 = electrolyte.charge_type == (2, 2)
+        out = []
+        for p in self.parameters:
+            if p.name == "alpha1":
+                p = replace(p, default=a1)
+            elif p.name == "alpha2":
+                p = replace(p, default=a2)
+            elif p.name == "beta2" and not is_22:
+                p = replace(p, fixed=True)
+            out.append(p)
+        return tuple(out)
 
     # -- shared pieces ----------------------------------------------------------------------
     @staticmethod

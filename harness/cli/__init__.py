@@ -20,9 +20,12 @@ COMMANDS = {
     "models": "saltbench.cli.models:models",
     "plugins": "saltbench.cli.models:plugins",
     "predict": "saltbench.cli.predict:predict",
+    "compare": "saltbench.cli.compare:compare",
+    "fit": "saltbench.cli.fit:fit",
     "new-model": "saltbench.cli.new_model:new_model",
 }
-HELP_ORDER = list(COMMANDS)
+HELP_ORDER = ["compare", "fit", "predict", "report", "data", "readings", "ion-activity", "models",
+              "plugins", "new-model"]
 
 
 class LazyGroup(click.Group):

@@ -56,7 +56,9 @@ def predict(app, electrolyte: str, model_id: str, molalities: str, params_choice
     if params.covariance is not None:
         from saltbench.fitting import propagate
 
-        unc = propagate(model, e, m, params.values, params.covariance, ctx=ctx)
+        names, matrix = params.covariance
+        unc = propagate(model, e, m, params={**model.defaults(e), **params.values},
+                        covariance=np.array(matrix), names=names, dh=ctx.dh)
     records = []
     for i in range(m.size):
         r = {"molality": float(m[i]), "gamma_pm": float(ev.gamma_pm[i]),

@@ -343,7 +343,7 @@ def build_problem(model: ActivityModel, items: Sequence[tuple[Electrolyte, FitDa
                 f"model {model.id} does not support {electrolyte.charge_label} electrolytes like "
                 f"{electrolyte.name} (supported: {types})")
         mapping = {}
-        for p in model.parameters:
+        for p in model.parameters_for(electrolyte):
             gname = _global_name(p.name, p.scope, electrolyte, joint)
             if gname not in index:
                 index[gname] = len(params)

@@ -108,41 +108,77 @@ def _fixed_scan(problem: FitProblem, theta: np.ndarray, tol_ln: float, tol_phi: 
     return last_ok, first_fail, flags, trials
 
 
+#: Trial limits are first taken on a coarse grid (each at least this factor above the last),
+#: then the step in which the model first fails is searched by bisection over the data's own
+#: molalities. This assumes that a model failing at L also fails above L, which is what the
+#: scan reports anyway (the range ends at the first failure).
+COARSE_FACTOR = 1.35
+
+
+def _coarse(grid: np.ndarray) -> list[int]:
+    picks = [0]
+    for i in range(1, len(grid)):
+        if grid[i] >= grid[picks[-1]] * COARSE_FACTOR:
+            picks.append(i)
+    if picks[-1] != len(grid) - 1:
+        picks.append(len(grid) - 1)
+    return picks
+
+
 def _refit_scan(problem: FitProblem, tol_ln: float, tol_phi: float, folds: int, scheme: str
                 ) -> tuple[float | None, float | None, list[str], list[dict[str, Any]]]:
     flags: list[str] = []
     trials: list[dict[str, Any]] = []
     m = problem.molality
     k = problem.k
-    last_ok = first_fail = None
+    grid = [float(L) for L in np.unique(m)
+            if (lambda n: min(folds, n) >= 2 and n - math.ceil(n / min(folds, n)) >= k + 1)(int((m <= L).sum()))]
+    if not grid:
+        flags.append(f"too few points to judge a refitted model ({problem.n} points for "
+                     f"{k} free parameters)")
+        return None, None, flags, trials
+    cache: dict[int, bool] = {}
     start = None
-    judged = False
-    for L in np.unique(m):
+
+    def passes(i: int) -> bool:
+        nonlocal start
+        if i in cache:
+            return cache[i]
+        L = grid[i]
         sel = m <= L
         n = int(sel.sum())
-        f = min(folds, n)
-        if f < 2 or n - math.ceil(n / f) < k + 1:
-            continue  # too few points below L to leave each fold more points than parameters
-        judged = True
-        cv = cross_validate_problem(problem.subset(sel), f, scheme, start=start)
+        cv = cross_validate_problem(problem.subset(sel), min(folds, n), scheme, start=start)
         if cv.theta is not None:
             start = cv.theta
         ok = _within(cv.residual, cv.kind == "osmotic", tol_ln, tol_phi)
-        passed = bool(ok.all())
-        trials.append({"limit": float(L), "passed": passed, "folds": f,
+        cache[i] = bool(ok.all())
+        trials.append({"limit": L, "passed": cache[i], "folds": min(folds, n),
                        "worst_ln_gamma": _worst(cv.residual, cv.kind == "ln_gamma"),
                        "worst_osmotic": _worst(cv.residual, cv.kind == "osmotic"),
                        "flags": list(cv.flags)})
-        if not passed:
-            first_fail = float(L)
-            if cv.flags:
-                flags.append(f"at trial limit {L:g} mol/kg: {cv.flags[0]}")
+        if not cache[i] and cv.flags:
+            flags.append(f"at trial limit {L:g} mol/kg: {cv.flags[0]}")
+        return cache[i]
+
+    last_pass, first_fail = -1, None
+    for i in _coarse(np.array(grid)):
+        if passes(i):
+            last_pass = i
+        else:
+            first_fail = i
             break
-        last_ok = float(L)
-    if not judged:
-        flags.append(f"too few points to judge a refitted model ({problem.n} points for "
-                     f"{k} free parameters)")
-    return last_ok, first_fail, flags, trials
+    if first_fail is not None:
+        lo, hi = last_pass, first_fail  # grid[lo] passes (or lo = -1), grid[hi] fails
+        while hi - lo > 1:
+            mid = (lo + hi) // 2
+            if passes(mid):
+                lo = mid
+            else:
+                hi = mid
+        last_pass, first_fail = lo, hi
+    trials.sort(key=lambda t: t["limit"])
+    last_ok = grid[last_pass] if last_pass >= 0 else None
+    return last_ok, (grid[first_fail] if first_fail is not None else None), flags, trials
 
 
 def validity_range(model: ActivityModel, electrolyte: Electrolyte | str, data: FitData, *,

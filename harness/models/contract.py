@@ -145,11 +145,19 @@ class ActivityModel:
                 return p
         raise KeyError(name)
 
-    def defaults(self) -> dict[str, float]:
-        return {p.name: p.default for p in self.parameters}
+    def parameters_for(self, electrolyte: Electrolyte | None = None) -> tuple[Parameter, ...]:
+        """The parameters as they apply to ``electrolyte``.
 
-    def free_parameters(self) -> tuple[Parameter, ...]:
-        return tuple(p for p in self.parameters if not p.fixed)
+        Override when defaults or fixed flags depend on the charge type (Pitzer's beta2 and
+        alpha values for 2-2 salts); names and order must stay those of ``parameters``.
+        """
+        return self.parameters
+
+    def defaults(self, electrolyte: Electrolyte | None = None) -> dict[str, float]:
+        return {p.name: p.default for p in self.parameters_for(electrolyte)}
+
+    def free_parameters(self, electrolyte: Electrolyte | None = None) -> tuple[Parameter, ...]:
+        return tuple(p for p in self.parameters_for(electrolyte) if not p.fixed)
 
     def __repr__(self) -> str:
         return f"<{type(self).__name__} {self.id}>"

@@ -105,7 +105,7 @@ def evaluate(model: ActivityModel, electrolyte: Electrolyte, molality: np.ndarra
     m = np.atleast_1d(np.asarray(molality, dtype=float))
     if m.ndim != 1 or np.any(~np.isfinite(m)) or np.any(m <= 0):
         raise ModelDomainError("molalities must be positive finite numbers (mol/kg)")
-    values = dict(model.defaults())
+    values = dict(model.defaults(electrolyte))
     if params:
         values.update(params)
     ctx = ctx or make_context(electrolyte, temperature_k)

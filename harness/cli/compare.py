@@ -1,0 +1,110 @@
+"""``saltbench compare``: which model to trust for which salt, up to which molality."""
+
+from __future__ import annotations
+
+import click
+
+from saltbench.cli.output import emit, format_option
+
+TABLE_COLUMNS = ["model", "n_params", "rms_ln_gamma", "max_ln_gamma", "rms_osmotic",
+                 "heldout_rms_ln_gamma", "aicc", "valid_up_to_published", "valid_up_to_refit", "verdict"]
+HEADERS = {"n_params": "k", "rms_ln_gamma": "rms dlng", "max_ln_gamma": "max dlng",
+           "rms_osmotic": "rms dphi", "heldout_rms_ln_gamma": "held-out dlng", "aicc": "AICc",
+           "valid_up_to_published": "valid to (published)", "valid_up_to_refit": "valid to (refit)"}
+CSV_COLUMNS = ["electrolyte", "model", "n_params", "n_points", "rms_ln_gamma", "max_ln_gamma",
+               "rms_osmotic", "max_osmotic", "chi2_reduced", "heldout_rms_ln_gamma",
+               "heldout_rms_osmotic", "aicc", "bic", "valid_up_to_published", "valid_up_to_refit",
+               "limited_by_refit", "published_set", "converged", "flags", "recommended", "verdict"]
+
+
+def settings_options(f):
+    for opt in reversed([
+        click.option("--models", "models", default="", help="Comma-separated model ids (default: all)."),
+        click.option("--up-to", "up_to", type=float, default=None, help="Highest molality in mol/kg "
+                     "(default: the whole data range)."),
+        click.option("--tol", "tol", default="0.01", show_default=True,
+                     help="Tolerance: one number for both |d ln gamma±| and |d phi|, or LNG,PHI."),
+        click.option("--folds", type=int, default=5, show_default=True, help="Cross-validation folds."),
+        click.option("--on", "on", default="", help="Properties to use: gamma, osmotic, water_activity."),
+        click.option("--data", "data_sel", default="", help="Comma-separated dataset or source keys."),
+        click.option("--temperature", "temperature_k", type=float, default=298.15, show_default=True,
+                     help="Temperature in K."),
+    ]):
+        f = opt(f)
+    return f
+
+
+def build_settings(models: str, up_to, tol: str, folds: int, on: str, data_sel: str, temperature_k: float):
+    from saltbench.comparison.settings import CompareSettings
+    from saltbench.errors import UserError
+    from saltbench.fitting.selection import parse_on
+
+    try:
+        parts = [float(x) for x in tol.split(",")]
+    except ValueError:
+        raise UserError(f"--tol: expected a number or two (LNG,PHI), found {tol!r}") from None
+    if len(parts) not in (1, 2) or any(p <= 0 for p in parts):
+        raise UserError("--tol: give one or two positive numbers")
+    if folds < 2:
+        raise UserError("--folds must be at least 2")
+    tl, tp = (parts[0], parts[0]) if len(parts) == 1 else parts
+    return CompareSettings(
+        models=tuple(m.strip() for m in models.split(",") if m.strip()), up_to=up_to,
+        tol_ln_gamma=tl, tol_phi=tp, folds=folds, temperature_k=temperature_k,
+        on=tuple(parse_on(on or None)), datasets=tuple(d.strip() for d in data_sel.split(",") if d.strip()))
+
+
+@click.command()
+@click.argument("electrolytes", nargs=-1)
+@click.option("--all", "all_", is_flag=True, help="Every electrolyte in the store.")
+@settings_options
+@click.option("--jobs", type=int, default=None, help="Worker processes (default: all cores).")
+@format_option
+@click.pass_obj
+def compare(app, electrolytes, all_, models, up_to, tol, folds, on, data_sel, temperature_k, jobs, fmt):
+    """Fit every model to each electrolyte's data and say which to trust, up to where.
+
+    For each model: fitted parameters, residuals, held-out error (k-fold cross-validation over
+    molality), AICc, and the molality up to which it stays within tolerance with published and
+    with refitted parameters. The recommendation is the simplest model that meets the tolerance
+    over the requested range.
+    """
+    from saltbench.api import compare as run
+    from saltbench.comparison.runner import default_jobs
+    from saltbench.errors import UserError
+
+    s = app.session()
+    names = list(electrolytes)
+    if all_:
+        names = list(s.electrolytes().electrolyte)
+    if not names:
+        raise UserError("name at least one electrolyte, or use --all")
+    settings = build_settings(models, up_to, tol, folds, on, data_sel, temperature_k)
+    comp = run(s, names, settings, jobs=jobs or default_jobs(), progress=True)
+    for p in comp.plugin_problems:
+        click.echo(f"Warning: {p}", err=True)
+    records = comp.records()
+    if fmt == "json":
+        emit(records, fmt)
+        return
+    if fmt == "csv":
+        emit([{**r, "flags": "; ".join(r["flags"])} for r in records], fmt, CSV_COLUMNS)
+        return
+    click.echo(f"Tolerance: |d ln gamma±| <= {settings.tol_ln_gamma:g}, |d phi| <= {settings.tol_phi:g}; "
+               f"held-out error by {settings.folds}-fold cross-validation over molality; T = "
+               f"{settings.temperature_k:g} K. Molalities in mol/kg.")
+    for name, outs in comp.outcomes.items():
+        rec = comp.recommendations[name]
+        ds = comp.datasets[name]
+        memo = " (includes data typed from memory: verify before regulated use)" if any(d["from_memory"] for d in ds) else ""
+        click.echo("")
+        click.echo(f"== {name}: {sum(d['n_points'] for d in ds)} points from {len(ds)} dataset(s), "
+                   f"up to {rec.target_molality:g} mol/kg{memo}")
+        rows = [o.record() for o in outs]
+        emit(rows, "table", TABLE_COLUMNS, HEADERS)
+        if comp.skipped.get(name):
+            click.echo(f"   not applicable to {name}: {', '.join(comp.skipped[name])}")
+        click.echo(f"-> {rec.statement}")
+    click.echo("")
+    click.echo("Validity ranges hold only for these data, this temperature and this tolerance. For dosing, "
+               "safety limits or regulated measurements, verify under local codes and licensed practice.")

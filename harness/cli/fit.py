@@ -1,0 +1,99 @@
+"""``saltbench fit``: weighted least-squares parameters with standard errors, saved to the store."""
+
+from __future__ import annotations
+
+import click
+
+from saltbench.cli.output import emit, format_option
+
+
+@click.command()
+@click.argument("electrolytes", nargs=-1, required=True)
+@click.option("--model", "model_id", required=True, help="Model id (see 'saltbench models').")
+@click.option("--up-to", "up_to", type=float, default=None, help="Highest molality to fit, mol/kg.")
+@click.option("--fix", "fix", multiple=True, metavar="NAME=VALUE", help="Hold a parameter at a value (repeatable).")
+@click.option("--free", "free", multiple=True, metavar="NAME", help="Fit a parameter the model holds fixed by default.")
+@click.option("--data", "data_sel", default="", help="Comma-separated dataset or source keys (default: all).")
+@click.option("--on", "on", default="", help="Properties to fit: gamma, osmotic, water_activity (default: all).")
+@click.option("--temperature", "temperature_k", type=float, default=298.15, show_default=True, help="Temperature in K.")
+@click.option("--name", "set_name", default=None, help="Id for the saved parameter set (default: derived).")
+@click.option("--save/--no-save", default=True, show_default=True, help="Save the result as a parameter set.")
+@format_option
+@click.pass_obj
+def fit(app, electrolytes, model_id, up_to, fix, free, data_sel, on, temperature_k, set_name, save, fmt):
+    """Fit MODEL's free parameters to the data of ELECTROLYTES (activity and osmotic jointly).
+
+    Several electrolytes give one joint fit in which per-ion parameters are shared by ion.
+    """
+    from saltbench.api import select_data
+    from saltbench.fitting import fit as run_fit
+    from saltbench.fitting import fit_joint, parse_assignments
+    from saltbench.fitting.selection import parse_on
+    from saltbench.scaffold.names import slug
+    from saltbench.store.fitted import fit_set_id, save_fit
+    from saltbench.water.debye_huckel import debye_huckel_constants
+
+    s = app.session()
+    model = s.registry.model(model_id)
+    fixed = parse_assignments(fix)
+    props = parse_on(on or None)
+    datasets = [d.strip() for d in data_sel.split(",") if d.strip()] or None
+    sels = []
+    for name in electrolytes:
+        e = s.electrolyte(name)
+        sels.append((e, select_data(s, e, datasets=datasets, on=props, up_to=up_to, temperature_k=temperature_k)))
+    dh = debye_huckel_constants(temperature_k)
+    if len(sels) == 1:
+        e, sel = sels[0]
+        result = run_fit(model, e, sel.data, fixed=fixed, free=free or None, dh=dh)
+    else:
+        result = fit_joint(model, [(e, sel.data) for e, sel in sels], fixed=fixed, free=free or None, dh=dh)
+    names = [e.name for e, _ in sels]
+    hashes = [d["content_hash"] for _, sel in sels for d in sel.datasets]
+    settings = {"up_to": up_to, "fix": fixed, "free": list(free), "data": datasets, "on": props,
+                "temperature_k": temperature_k}
+    out = result.to_dict()
+    out["electrolyte"] = names[0] if len(names) == 1 else names
+    out["datasets"] = [{"key": d["key"], "content_hash": d["content_hash"], "n_points": d["n_points"]}
+                       for _, sel in sels for d in sel.datasets]
+    out["parameter_set"] = None
+    if save:
+        set_id = slug(set_name) if set_name else fit_set_id(model.id, names, settings, hashes)
+        if not set_id:
+            from saltbench.errors import UserError
+
+            raise UserError("--name must contain letters or digits")
+        out["parameter_set"] = save_fit(s.store, result, set_id=set_id, settings=settings, data_hashes=hashes,
+                                        electrolytes=names, temperature_k=temperature_k)
+    if fmt == "json":
+        emit([], fmt, json_obj=out)
+        return
+    rows = [{"name": p["name"], "value": p["value"], "stderr": p["stderr"], "unit": p["unit"],
+             "held": "held" if p["fixed"] else ""} for p in out["parameters"]]
+    if fmt == "csv":
+        emit(rows, fmt)
+        return
+    res = out["residuals"]
+    click.echo(f"{model.name} [{model.id}] fitted to {', '.join(names)}: {res['n_points']} points, "
+               f"{res['n_params']} free parameter(s), {'converged' if out['converged'] else 'DID NOT CONVERGE'}")
+    emit(rows, "table")
+    click.echo("")
+    if out["correlation"]["names"]:
+        corr = [{"": n, **{m: v for m, v in zip(out["correlation"]["names"], row)}}
+                for n, row in zip(out["correlation"]["names"], out["correlation"]["matrix"])]
+        click.echo("correlation:")
+        emit(corr, "table")
+        click.echo("")
+    lg, ph = res["ln_gamma"], res["osmotic"]
+    click.echo(f"residuals: ln gamma± rms {_f(lg.get('rms'))} max {_f(lg.get('max_abs'))} ({lg.get('n', 0)} pts); "
+               f"phi rms {_f(ph.get('rms'))} max {_f(ph.get('max_abs'))} ({ph.get('n', 0)} pts); "
+               f"reduced chi-square {_f(res['chi2_reduced'])}; AICc {_f(out['aicc'])}, BIC {_f(out['bic'])}")
+    for flag in out["flags"]:
+        click.echo(f"flag: {flag}")
+    if out["parameter_set"]:
+        click.echo(f"saved as parameter set {out['parameter_set']} (use: saltbench predict {names[0]} "
+                   f"--model {model.id} --params {out['parameter_set']})")
+
+
+def _f(x) -> str:
+    return "-" if x is None else f"{x:.4g}"

@@ -1,0 +1,91 @@
+"""Assess one model on one electrolyte: fit, held-out error, validity (published and refitted).
+
+Runs in worker processes too, so it takes only picklable inputs and finds the model by id.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from saltbench.chemistry.electrolyte import Electrolyte
+from saltbench.comparison.outcome import ModelOutcome
+from saltbench.comparison.settings import CompareSettings
+from saltbench.errors import SaltbenchError
+from saltbench.fitting.data import FitData
+
+
+@dataclass
+class PublishedInput:
+    set_id: str
+    values: dict[str, float]
+    a_phi: float | None
+    from_memory: bool
+
+
+def _curves(model, e: Electrolyte, values: dict[str, float], m_top: float, dh) -> dict:
+    from saltbench.models.evaluate import evaluate, make_context
+
+    grid = np.geomspace(min(1e-3, m_top / 100), m_top, 80)
+    ev = evaluate(model, e, grid, values, ctx=make_context(e, dh=dh))
+    return {"molality": grid.tolist(), "ln_gamma_pm": ev.ln_gamma_pm.tolist(), "osmotic": ev.osmotic.tolist()}
+
+
+def assess(model, plugin: str, e: Electrolyte, data: FitData, published: PublishedInput | None,
+           settings: CompareSettings, curves: bool = False) -> ModelOutcome:
+    from saltbench.fitting import cross_validate, fit, validity_range
+    from saltbench.water.debye_huckel import debye_huckel_constants, with_a_phi
+
+    n_free = len(model.free_parameters(e))
+    out = ModelOutcome(e.name, model.id, model.name, plugin, n_free, None, None, None, None,
+                       published.set_id if published else None,
+                       bool(published and published.from_memory))
+    dh = debye_huckel_constants(settings.temperature_k)
+    try:
+        result = fit(model, e, data, dh=dh)
+        out.fit = result.to_dict()
+        out.flags += list(result.flags)
+        if not result.converged and not any(f.startswith("did not converge") for f in result.flags):
+            out.flags.append(f"did not converge: {result.message}")
+        if n_free > 0:
+            cv = cross_validate(model, e, data, folds=settings.folds, dh=dh)
+            held = cv.to_dict()
+            held.pop("points", None)
+            out.heldout = held
+        else:
+            pred = result.prediction
+            r = data.value - pred
+            held = {"ln_gamma": _rms(r, data.kind == "ln_gamma"), "osmotic": _rms(r, data.kind == "osmotic")}
+            out.heldout = {"scheme": "none (no free parameters)", "folds": 0,
+                           "held_out": {k: {"rms": v} for k, v in held.items()}, "flags": []}
+        if settings.validity_scan:
+            if n_free > 0:
+                out.valid_refit = validity_range(model, e, data, tolerance_ln_gamma=settings.tol_ln_gamma,
+                                                 tolerance_phi=settings.tol_phi, folds=settings.folds,
+                                                 dh=dh).to_dict()
+            else:
+                out.valid_refit = validity_range(model, e, data, params={}, tolerance_ln_gamma=settings.tol_ln_gamma,
+                                                 tolerance_phi=settings.tol_phi, dh=dh).to_dict()
+            out.valid_refit.pop("trials", None)
+            if published is not None:
+                pdh = with_a_phi(dh, published.a_phi, published.set_id) if published.a_phi else dh
+                out.valid_published = validity_range(
+                    model, e, data, params=published.values, tolerance_ln_gamma=settings.tol_ln_gamma,
+                    tolerance_phi=settings.tol_phi, dh=pdh).to_dict()
+                out.valid_published.pop("trials", None)
+        if curves:
+            top = float(data.molality.max())
+            out.curve = {"refit": _curves(model, e, result.model_values(e.name), top, dh)}
+            if published is not None:
+                pdh = with_a_phi(dh, published.a_phi, published.set_id) if published.a_phi else dh
+                out.curve["published"] = _curves(model, e, {**model.defaults(e), **published.values}, top, pdh)
+    except SaltbenchError as exc:
+        out.error = str(exc)
+    except Exception as exc:  # a plugin bug must not stop the comparison of the other models
+        out.error = f"{type(exc).__name__}: {exc}"
+    return out
+
+
+def _rms(r: np.ndarray, sel: np.ndarray) -> float | None:
+    return float(np.sqrt(np.mean(r[sel] ** 2))) if np.any(sel) else None

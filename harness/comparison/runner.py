@@ -1,0 +1,119 @@
+"""Models x electrolytes: gather the inputs from the store, run assessments (in parallel
+processes with ``jobs > 1``), rank, and return a :class:`Comparison`."""
+
+from __future__ import annotations
+
+import os
+import sys
+from collections.abc import Sequence
+from concurrent.futures import ProcessPoolExecutor
+from dataclasses import dataclass, field
+from typing import Any
+
+from saltbench.comparison.assess import PublishedInput, assess
+from saltbench.comparison.outcome import ModelOutcome
+from saltbench.comparison.ranking import Recommendation, recommend
+from saltbench.comparison.settings import CompareSettings
+
+
+@dataclass
+class ElectrolyteTask:
+    electrolyte: Any  # Electrolyte
+    data: Any  # FitData
+    datasets: list[dict]
+    published: dict[str, PublishedInput | None]
+    model_ids: list[str]
+    target: float
+
+
+@dataclass
+class Comparison:
+    settings: CompareSettings
+    outcomes: dict[str, list[ModelOutcome]] = field(default_factory=dict)
+    recommendations: dict[str, Recommendation] = field(default_factory=dict)
+    datasets: dict[str, list[dict]] = field(default_factory=dict)
+    data: dict[str, Any] = field(default_factory=dict)  # electrolyte -> FitData
+    skipped: dict[str, list[str]] = field(default_factory=dict)  # electrolyte -> unsupported models
+    plugin_problems: list[str] = field(default_factory=list)
+
+    def records(self) -> list[dict]:
+        return [o.record() for outs in self.outcomes.values() for o in outs]
+
+    def frame(self):
+        import pandas as pd
+
+        return pd.DataFrame(self.records())
+
+
+_REGISTRY = None
+
+
+def _worker_registry(plugin_files: Sequence[str], disabled: Sequence[str]):
+    global _REGISTRY
+    if _REGISTRY is None:
+        from saltbench.models.discovery import build_registry
+
+        _REGISTRY = build_registry(list(plugin_files), list(disabled))
+    return _REGISTRY
+
+
+def run_task(task: ElectrolyteTask, settings: CompareSettings, plugin_files: Sequence[str],
+             disabled: Sequence[str], curves: bool, registry=None) -> tuple[str, list[ModelOutcome]]:
+    reg = registry or _worker_registry(plugin_files, disabled)
+    outs = []
+    for mid in task.model_ids:
+        info = reg.models[mid]
+        outs.append(assess(info.model, info.plugin, task.electrolyte, task.data, task.published.get(mid),
+                           settings, curves=curves))
+    return task.electrolyte.name, outs
+
+
+def default_jobs() -> int:
+    return max(1, len(os.sched_getaffinity(0)) if hasattr(os, "sched_getaffinity") else (os.cpu_count() or 1))
+
+
+def run_comparison(tasks: list[ElectrolyteTask], settings: CompareSettings, *, registry,
+                   plugin_files: Sequence[str] = (), disabled: Sequence[str] = (), jobs: int = 1,
+                   curves: bool = False, progress: bool = False) -> Comparison:
+    comp = Comparison(settings)
+    comp.plugin_problems = [str(p) for p in registry.problems]
+    bar = _progress(len(tasks), progress)
+    results: dict[str, list[ModelOutcome]] = {}
+    if jobs > 1 and len(tasks) > 1:
+        with ProcessPoolExecutor(max_workers=min(jobs, len(tasks))) as pool:
+            futures = [pool.submit(run_task, t, settings, list(plugin_files), list(disabled), curves)
+                       for t in tasks]
+            for fut in futures:
+                name, outs = fut.result()
+                results[name] = outs
+                bar(name)
+    else:
+        for t in tasks:
+            name, outs = run_task(t, settings, plugin_files, disabled, curves, registry=registry)
+            results[name] = outs
+            bar(name)
+    bar(None)
+    tol_text = f"|d ln gamma±| <= {settings.tol_ln_gamma:g} and |d phi| <= {settings.tol_phi:g}"
+    for t in tasks:  # keep the order of the request
+        name = t.electrolyte.name
+        comp.outcomes[name] = results[name]
+        comp.recommendations[name] = recommend(results[name], t.target, tol_text)
+        comp.datasets[name] = t.datasets
+        comp.data[name] = t.data
+    return comp
+
+
+def _progress(total: int, enabled: bool):
+    if not enabled or not sys.stderr.isatty() or total < 2:
+        return lambda name: None
+    from tqdm import tqdm
+
+    bar = tqdm(total=total, file=sys.stderr, unit="electrolyte", leave=False)
+
+    def step(name):
+        if name is None:
+            bar.close()
+        else:
+            bar.set_postfix_str(name)
+            bar.update(1)
+    return step

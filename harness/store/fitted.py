@@ -1,0 +1,63 @@
+"""Saving fits as parameter sets, with what is needed to trust and repeat them."""
+
+from __future__ import annotations
+
+import hashlib
+import json
+
+from saltbench import __version__
+from saltbench.errors import UserError
+from saltbench.store.connection import Store
+
+
+def fit_set_id(model: str, electrolytes: list[str], settings: dict, data_hashes: list[str]) -> str:
+    """A deterministic id: the same fit of the same data gets the same id (re-saving updates it)."""
+    doc = json.dumps({"model": model, "electrolytes": electrolytes, "settings": settings,
+                      "data": sorted(data_hashes)}, sort_keys=True)
+    digest = hashlib.sha256(doc.encode()).hexdigest()[:8]
+    slug = "-".join(e.lower().replace("(", "").replace(")", "") for e in electrolytes)[:40]
+    return f"fit-{model}-{slug}-{digest}"
+
+
+def save_fit(store: Store, result, *, set_id: str, settings: dict, data_hashes: list[str],
+             electrolytes: list[str], temperature_k: float, note: str = "") -> str:
+    """Store a FitResult (single or joint) as a fitted parameter set; returns its id."""
+    existing = store.conn.execute("SELECT id, kind FROM parameter_sets WHERE set_id = ?", (set_id,)).fetchone()
+    if existing and existing[1] != "fitted":
+        raise UserError(f"parameter set {set_id!r} is a published set; choose another --name")
+    summary = result.to_dict()
+    values = {
+        "set_id": set_id, "kind": "fitted", "origin": "user", "provider": "saltbench fit",
+        "model": result.model, "source": None, "table_ref": "", "temperature_k": temperature_k,
+        "a_phi": None, "typed": f"fitted by saltbench {__version__}", "from_memory": 0,
+        "note": note, "file": "", "content_hash": hashlib.sha256(json.dumps(summary, sort_keys=True,
+                                                                             default=str).encode()).hexdigest(),
+        "settings": json.dumps({**settings, "residuals": summary["residuals"], "flags": summary["flags"],
+                                "converged": summary["converged"], "electrolytes": electrolytes},
+                               sort_keys=True, default=str),
+        "data_hashes": json.dumps(sorted(data_hashes)), "software_version": __version__,
+    }
+    stderr = result.stderrs
+    with store.transaction():
+        if existing:
+            pk = existing[0]
+            store.conn.execute("DELETE FROM parameter_values WHERE set_pk = ?", (pk,))
+            store.conn.execute("DELETE FROM parameter_covariances WHERE set_pk = ?", (pk,))
+            store.db["parameter_sets"].update(pk, values)
+        else:
+            pk = store.db["parameter_sets"].insert(values).last_pk
+        rows = []
+        for e in electrolytes:
+            for name, gname in result.param_map[e].items():
+                rows.append({"set_pk": pk, "target": e, "target_kind": "electrolyte", "name": name,
+                             "value": float(result.values[gname]),
+                             "stderr": None if stderr.get(gname) is None else float(stderr[gname]),
+                             "m_max": float(max(result.molality)) if len(result.molality) else None})
+        store.db["parameter_values"].insert_all(rows)
+        if len(electrolytes) == 1 and len(result.free_names):
+            gmap = {g: n for n, g in result.param_map[electrolytes[0]].items()}
+            names = [gmap.get(g, g) for g in result.free_names]
+            store.db["parameter_covariances"].insert({
+                "set_pk": pk, "names": json.dumps(names),
+                "matrix": json.dumps([[float(x) for x in row] for row in result.covariance])})
+    return set_id
