@@ -39,8 +39,11 @@ class Block:
 
     def require(self, name: str) -> HeaderField:
         f = self.header.get(name)
-        if f is None or not f.value:
-            raise InputFileError(self.path, None, name, "missing header field")
+        if f is None:
+            # name the end of the header block, where the field belongs
+            raise InputFileError(self.path, self.columns_line - 1, name, "missing header field")
+        if not f.value:
+            raise InputFileError(self.path, f.line, name, "empty header field")
         return f
 
     def error(self, name: str, problem: str) -> InputFileError:

@@ -37,6 +37,9 @@ BRACKET_RATIO = 1.6
 #: beyond it (and at the ends of a dataset) a point is left to the other two checks.
 SPARSE_RATIO = 2.55
 SPARSE_FACTOR = 6.0
+#: ... and only up to this molality, where the curves are gentle enough for a smooth fit of a
+#: sparse grid to judge a point; above it, sparse points are left to the other checks.
+SPARSE_MAX_MOLALITY = 0.5
 #: A second source is compared at the reference's own molalities, or between reference points
 #: no further apart than this ratio, so the comparison never leans on a long interpolation.
 SOURCE_BRACKET_RATIO = 1.5
@@ -113,7 +116,8 @@ def check_electrolyte(e: Electrolyte, pts: pd.DataFrame, meta: pd.DataFrame) -> 
         gap[1:-1] = np.maximum(m[2:] / m[1:-1], m[1:-1] / m[:-2])
         # a sparse 1-2-5 grid judges a point more loosely: it still catches gross slips
         limit = np.where(gap <= BRACKET_RATIO, limit, SPARSE_FACTOR * limit)
-        loo = np.where(gap <= SPARSE_RATIO, loo, 0.0)
+        judged = (gap <= BRACKET_RATIO) | ((gap <= SPARSE_RATIO) & (m <= SPARSE_MAX_MOLALITY))
+        loo = np.where(judged, loo, 0.0)
         worst = float(np.max(np.abs(loo) / limit))
         rep.summary.append({"electrolyte": e.name, "dataset": key, "check": "neighbours",
                             "worst_ratio": worst, "n_points": len(m)})
