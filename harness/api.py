@@ -56,7 +56,9 @@ class Session:
         return sync_bundled(self.store, self.plugin_data_files(), force=force)
 
     def add(self, paths: Sequence[str | os.PathLike[str]]) -> IngestReport:
-        return ingest(self.store, [Path(p) for p in paths], origin="user", provider="user")
+        """Load user files; a folder stands for its bibliographies (``*.sources.txt``,
+        ``sources.txt``) and datasets or parameter files (``*.csv``)."""
+        return ingest(self.store, expand_paths(paths), origin="user", provider="user")
 
     def electrolytes(self) -> pd.DataFrame:
         return queries.electrolytes(self.store)
@@ -72,6 +74,17 @@ class Session:
 
     def content_hash(self) -> str:
         return queries.content_hash(self.store)
+
+
+def expand_paths(paths: Sequence[str | os.PathLike[str]]) -> list[Path]:
+    out: list[Path] = []
+    for p in map(Path, paths):
+        if p.is_dir():
+            bibs = sorted(q for q in p.glob("*.txt") if q.name == "sources.txt" or q.name.endswith(".sources.txt"))
+            out += bibs + sorted(p.glob("*.csv"))
+        else:
+            out.append(p)
+    return out
 
 
 def _has_third_party_entry_points() -> bool:

@@ -104,13 +104,14 @@ def export(app, electrolytes: tuple[str, ...], fmt: str) -> None:
 
 
 @data.command("add")
-@click.argument("paths", nargs=-1, required=True, type=click.Path(dir_okay=False))
+@click.argument("paths", nargs=-1, required=True, type=click.Path())
 @format_option
 @click.pass_obj
 def add(app, paths: tuple[str, ...], fmt: str) -> None:
     """Add your own bibliography, dataset and parameter files (all in one transaction).
 
-    Either every file loads, or none does and the store is unchanged.
+    A folder stands for the bibliographies and CSV files in it. Either every file loads, or none
+    does and the store is unchanged.
     """
     report = app.session().add(paths)
     result = {"added": report.added, "updated": report.updated, "unchanged": report.unchanged}

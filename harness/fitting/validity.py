@@ -9,7 +9,8 @@ the observations; they only mean something where the data are better than the to
 * Refitted parameters: for each trial limit L on the data's molality grid (from the lowest one
   leaving each fold more points than free parameters), the model is cross-validated on the
   points with m <= L (see :mod:`saltbench.fitting.crossval`); L passes when every held-out
-  prediction is within tolerance. The range is the last passing L before the first failing one.
+  prediction is within tolerance. The range is the highest passing L (searched from the top, so
+  that a few dilute points cannot end it early); the first failing limit above it is reported.
 
 When no point or trial fails the range is limited by the data, not the model, and says so.
 """
@@ -109,9 +110,8 @@ def _fixed_scan(problem: FitProblem, theta: np.ndarray, tol_ln: float, tol_phi: 
 
 
 #: Trial limits are first taken on a coarse grid (each at least this factor above the last),
-#: then the step in which the model first fails is searched by bisection over the data's own
-#: molalities. This assumes that a model failing at L also fails above L, which is what the
-#: scan reports anyway (the range ends at the first failure).
+#: searched from the top; the step between the highest passing and the next failing coarse
+#: limit is then refined by bisection over the data's own molalities.
 COARSE_FACTOR = 1.35
 
 
@@ -160,14 +160,20 @@ def _refit_scan(problem: FitProblem, tol_ln: float, tol_phi: float, folds: int, 
             flags.append(f"at trial limit {L:g} mol/kg: {cv.flags[0]}")
         return cache[i]
 
+    # Search from the top: the range is the highest trial limit at which the refitted model
+    # predicts its held-out points within tolerance. Scanning upwards and stopping at the first
+    # failure would let a flexible model's wild extrapolations from a handful of dilute points
+    # end the range before the data that pin it down are even used.
+    coarse = _coarse(np.array(grid))
     last_pass, first_fail = -1, None
-    for i in _coarse(np.array(grid)):
-        if passes(i):
-            last_pass = i
-        else:
-            first_fail = i
+    for j in range(len(coarse) - 1, -1, -1):
+        if passes(coarse[j]):
+            last_pass = coarse[j]
+            if j + 1 < len(coarse):
+                first_fail = coarse[j + 1]
             break
-    if first_fail is not None:
+        first_fail = coarse[j]
+    if first_fail is not None and first_fail - last_pass > 1:
         lo, hi = last_pass, first_fail  # grid[lo] passes (or lo = -1), grid[hi] fails
         while hi - lo > 1:
             mid = (lo + hi) // 2
