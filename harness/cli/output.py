@@ -34,7 +34,7 @@ def to_json(obj: Any) -> str:
     return json.dumps(_clean(obj), indent=2, ensure_ascii=False)
 
 
-def _cell(value: Any, digits: int = 6) -> str:
+def _cell(value: Any, digits: int = 4) -> str:
     value = _clean(value)
     if value is None:
         return "-"
