@@ -97,7 +97,7 @@ def _declared_ions(b: Block) -> dict[str, Ion]:
                                      f"g/mol', found {hf.value!r}")
             formula, charge = m.group("formula"), int(m.group("charge"))
             if charge == 0 or (role == "cation") != (charge > 0):
-                raise InputFileError(b.path, hf.line, role, f"a {role} needs a "
+                raise InputFileError(b.path, hf.line, role, f"{'a' if role == 'cation' else 'an'} {role} needs a "
                                      f"{'positive' if role == 'cation' else 'negative'} charge")
             if m.group("mass"):
                 mass = float(m.group("mass")) / 1000.0
@@ -161,6 +161,10 @@ def read_dataset(path: str | Path, text: str | None = None) -> Dataset:
             pressure_pa = units.parse_pressure(b.get("pressure") or "")
         except ValueError as exc:
             raise b.error("pressure", str(exc)) from None
+        # "0 Pa" parses, but the schema's CHECK (pressure_pa > 0) would then fail mid-ingest
+        # with a traceback instead of a message naming the line.
+        if pressure_pa <= 0:
+            raise b.error("pressure", "must be positive")
 
     source = b.require("source")
     table = b.require("table").value
@@ -190,7 +194,7 @@ def read_dataset(path: str | Path, text: str | None = None) -> Dataset:
         if c not in allowed:
             raise InputFileError(p, b.columns_line, c, f"unknown column (allowed: {', '.join(sorted(allowed))})")
     if uncertainty is None and "uncertainty" not in b.columns:
-        raise InputFileError(p, None, "uncertainty", "missing: give a dataset uncertainty in the "
+        raise InputFileError(p, b.columns_line - 1, "uncertainty", "missing: give a dataset uncertainty in the "
                              "header or an uncertainty column")
     if scale == "molarity" and "density" not in b.columns:
         raise b.error("scale", "molarity data need a 'density' column (solution density in kg/L) "
@@ -239,14 +243,22 @@ def read_dataset(path: str | Path, text: str | None = None) -> Dataset:
     printed = np.array(vs)
     u_printed = np.array(us)
     # to the linear basis
-    if basis == "ln":
-        value = np.exp(printed)
-        u_lin = value * u_printed
-    elif basis == "log10":
-        value = 10.0 ** printed
-        u_lin = value * np.log(10.0) * u_printed
-    else:
-        value, u_lin = printed.copy(), u_printed.copy()
+    with np.errstate(over="ignore"):  # an overflow is reported below, naming its line
+        if basis == "ln":
+            value = np.exp(printed)
+            u_lin = value * u_printed
+        elif basis == "log10":
+            value = 10.0 ** printed
+            u_lin = value * np.log(10.0) * u_printed
+        else:
+            value, u_lin = printed.copy(), u_printed.copy()
+    # A large printed ln or log10 value overflows to inf in the linear basis; refuse it here
+    # rather than store an infinite gamma± that every fit would choke on.
+    bad = ~(np.isfinite(value) & np.isfinite(u_lin) & (value > 0))
+    if np.any(bad):
+        i = int(np.argmax(bad))
+        raise InputFileError(p, lines[i], "value", f"{vs[i]:g} on the {basis} basis gives no "
+                             "positive finite value in the linear basis")
     # to molality
     if scale == "molarity":
         m = units.molality_from_molarity(x, np.array(dens), electrolyte.molar_mass)

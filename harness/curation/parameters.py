@@ -11,6 +11,7 @@ from pathlib import Path
 from saltbench.curation import units
 from saltbench.curation.blocks import parse_block, parse_float
 from saltbench.errors import InputFileError
+from saltbench.water.properties import T_MAX, T_MIN
 
 MAGIC = "saltbench parameters"
 KNOWN_FIELDS = {"set", "model", "source", "table", "temperature", "a_phi", "typed", "note"}
@@ -40,6 +41,7 @@ class ParameterFile:
     note: str
     target_kind: str  # "electrolyte" or "ion"
     rows: list[ParameterRow] = field(default_factory=list)
+    set_line: int | None = None  # where the set id was given, for errors found at ingest
 
     @property
     def from_memory(self) -> bool:
@@ -69,6 +71,11 @@ def read_parameter_file(path: str | Path) -> ParameterFile:
         temperature_k = units.parse_temperature(tf.value)
     except ValueError as exc:
         raise InputFileError(p, tf.line, "temperature", str(exc)) from None
+    # Same range as datasets; without it "-300 C" reached the schema's CHECK (temperature_k > 0)
+    # and surfaced as an SQLite traceback.
+    if not (T_MIN <= temperature_k <= T_MAX):
+        raise InputFileError(p, tf.line, "temperature", f"{temperature_k:g} K is outside "
+                             f"{T_MIN:g}-{T_MAX:g} K")
     a_phi = None
     if b.get("a_phi"):
         a_phi = parse_float(p, b.header["a_phi"].line, "a_phi", b.get("a_phi") or "")
@@ -87,7 +94,7 @@ def read_parameter_file(path: str | Path) -> ParameterFile:
             raise InputFileError(p, b.columns_line, c, "parameter column names are identifiers")
     pf = ParameterFile(p, set_f.value, model.value, model.line, source.value, source.line,
                        b.require("table").value, temperature_k, a_phi, typed.value,
-                       b.get("note", "") or "", first)
+                       b.get("note", "") or "", first, set_line=set_f.line)
     seen: dict[str, int] = {}
     # parameter names are case-sensitive in models (C_phi, B): keep the header's case.
     raw_header = next(line for i, line in enumerate(b.text.splitlines(), 1) if i == b.columns_line)

@@ -199,7 +199,7 @@ def _write_parameter_file(store: Store, pf: ParameterFile, origin: str, provider
         report.unchanged.append(label)
         return
     if row is not None and row[2] != origin:
-        raise InputFileError(pf.path, None, "set", f"parameter set id {pf.set_id!r} already exists "
+        raise InputFileError(pf.path, pf.set_line, "set", f"parameter set id {pf.set_id!r} already exists "
                              f"in the store ({row[2]}); choose another id")
     values = {
         "set_id": pf.set_id, "kind": "published", "origin": origin, "provider": provider,
