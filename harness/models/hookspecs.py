@@ -40,7 +40,8 @@ def register_data_files(context: PluginContext) -> list[Path]:
 
     Called when a store is seeded or refreshed with bundled and plugin data. Return paths to
     files; bibliography files (``*.sources.txt`` or ``sources.txt``) are loaded before datasets.
-    Data contributed this way is stored with origin ``bundled`` under the plugin's name.
+    Data contributed this way is stored with origin ``bundled`` (like saltbench's own bundle)
+    and re-synced whenever those files change; a user's own data are never touched by it.
     """
 
 
