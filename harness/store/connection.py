@@ -58,7 +58,14 @@ class Store:
             with self.db.atomic():
                 yield self
             return
-        self.conn.execute("BEGIN IMMEDIATE")
+        try:
+            self.conn.execute("BEGIN IMMEDIATE")
+        except sqlite3.OperationalError as exc:
+            # Another writer held the lock for longer than the busy timeout: a message, not a
+            # traceback, and nothing was written.
+            raise StoreError(f"store {self.path or ':memory:'} is busy ({exc}); another process "
+                             f"kept it locked for over {BUSY_TIMEOUT_S:g} s. Nothing was written; "
+                             "try again.") from None
         try:
             yield self
         except BaseException:
