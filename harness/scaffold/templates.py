@@ -20,12 +20,13 @@ __version__ = "0.1.0"
 
 
 def _sigma(x):
-    # sigma(x) = 3/x^3 [1 + x - 1/(1 + x) - 2 ln(1 + x)], -> 1 as x -> 0 (series below 1e-3)
+    # sigma(x) = 3/x^3 [1 + x - 1/(1 + x) - 2 ln(1 + x)] = 3 sum (-1)^n (n+1)/(n+3) x^n;
+    # the series is used below x = 1e-3, where the closed form loses digits
     x = np.asarray(x, dtype=float)
     small = x < 1e-3
     xs = np.where(small, 1.0, x)
     exact = 3.0 / xs**3 * (1.0 + xs - 1.0 / (1.0 + xs) - 2.0 * np.log1p(xs))
-    series = 1.0 - 1.5 * x + 2.4 * x**2
+    series = 1.0 - 1.5 * x + 1.8 * x**2 - 2.0 * x**3
     return np.where(small, series, exact)
 
 
