@@ -23,9 +23,12 @@ COMMANDS = {
     "compare": "saltbench.cli.compare:compare",
     "fit": "saltbench.cli.fit:fit",
     "new-model": "saltbench.cli.new_model:new_model",
+    "readings": "saltbench.cli.readings:readings",
+    "ion-activity": "saltbench.cli.ion_activity:ion_activity",
+    "convert": "saltbench.cli.convert:convert",
 }
-HELP_ORDER = ["compare", "fit", "predict", "report", "data", "readings", "ion-activity", "models",
-              "plugins", "new-model"]
+HELP_ORDER = ["compare", "fit", "predict", "report", "data", "readings", "convert", "ion-activity",
+              "models", "plugins", "new-model"]
 
 
 class LazyGroup(click.Group):

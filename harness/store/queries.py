@@ -12,7 +12,8 @@ from saltbench.errors import UserError
 from saltbench.store.connection import Store
 
 CONTENT_TABLES = ("sources", "ions", "electrolytes", "datasets", "points", "parameter_sets",
-                  "parameter_values", "parameter_covariances")
+                  "parameter_values", "parameter_covariances", "measurement_sets", "readings",
+                  "reductions")
 
 
 def _frame(store: Store, sql: str, params: tuple = ()) -> pd.DataFrame:

@@ -109,6 +109,55 @@ CREATE TABLE parameter_covariances (
     PRIMARY KEY (set_pk)
 );
 """),
+    ("0002_measurements", """
+CREATE TABLE measurement_sets (
+    id INTEGER PRIMARY KEY,
+    key TEXT NOT NULL UNIQUE CHECK (length(key) > 0),
+    origin TEXT NOT NULL CHECK (origin IN ('bundled', 'user')),
+    electrolyte TEXT NOT NULL REFERENCES electrolytes(name),
+    kind TEXT NOT NULL CHECK (kind IN ('emf', 'electrode_calibration', 'isopiestic',
+                                       'water_activity', 'vapour_pressure')),
+    temperature_k REAL NOT NULL CHECK (temperature_k BETWEEN 273.15 AND 573.15),
+    source TEXT REFERENCES sources(key),
+    typed TEXT NOT NULL CHECK (length(typed) > 0),
+    from_memory INTEGER NOT NULL CHECK (from_memory IN (0, 1)),
+    method TEXT NOT NULL CHECK (length(method) > 0),
+    method_version TEXT NOT NULL CHECK (length(method_version) > 0),
+    settings TEXT NOT NULL DEFAULT '{}',
+    note TEXT NOT NULL DEFAULT '',
+    file TEXT NOT NULL,
+    content_hash TEXT NOT NULL,
+    n_readings INTEGER NOT NULL CHECK (n_readings > 0)
+);
+CREATE TABLE readings (
+    set_id INTEGER NOT NULL REFERENCES measurement_sets(id) ON DELETE CASCADE,
+    seq INTEGER NOT NULL,
+    molality REAL CHECK (molality IS NULL OR molality > 0),
+    u_molality REAL CHECK (u_molality IS NULL OR u_molality >= 0),
+    activity REAL CHECK (activity IS NULL OR activity > 0),
+    emf_v REAL CHECK (emf_v IS NULL OR abs(emf_v) < 5.0),
+    reference_molality REAL CHECK (reference_molality IS NULL OR reference_molality > 0),
+    water_activity REAL CHECK (water_activity IS NULL OR (water_activity > 0 AND water_activity <= 1)),
+    pressure_pa REAL CHECK (pressure_pa IS NULL OR pressure_pa > 0),
+    u_reading REAL NOT NULL CHECK (u_reading > 0),
+    printed_unit TEXT NOT NULL DEFAULT '',
+    line INTEGER,
+    PRIMARY KEY (set_id, seq),
+    CHECK (molality IS NOT NULL OR activity IS NOT NULL),
+    CHECK ((emf_v IS NOT NULL) + (reference_molality IS NOT NULL) + (water_activity IS NOT NULL)
+           + (pressure_pa IS NOT NULL) = 1)
+);
+CREATE TABLE reductions (
+    id INTEGER PRIMARY KEY,
+    set_id INTEGER NOT NULL UNIQUE REFERENCES measurement_sets(id) ON DELETE CASCADE,
+    dataset_id INTEGER UNIQUE REFERENCES datasets(id) ON DELETE CASCADE,
+    method TEXT NOT NULL CHECK (length(method) > 0),
+    method_version TEXT NOT NULL CHECK (length(method_version) > 0),
+    input_hash TEXT NOT NULL,
+    software_version TEXT NOT NULL,
+    result TEXT NOT NULL DEFAULT '{}'
+);
+"""),
 ]
 
 SCHEMA_VERSION = len(MIGRATIONS)

@@ -1,0 +1,98 @@
+"""``saltbench ion-activity``: single-ion activity coefficients of a solution, under a convention."""
+
+from __future__ import annotations
+
+import click
+from saltbench.cli.output import emit
+
+FORMATS = ("table", "json")
+
+
+def _b_ion(specs: tuple[str, ...]) -> dict[str, float]:
+    from saltbench.errors import UserError
+
+    out = {}
+    for spec in specs:
+        ion, sep, value = spec.partition("=")
+        try:
+            out[ion.strip()] = float(value)
+        except ValueError:
+            raise UserError(f"--b-ion: expected ION=VALUE in kg/mol, e.g. Na+=0.075, found {spec!r}") from None
+        if not sep:
+            raise UserError(f"--b-ion: expected ION=VALUE in kg/mol, found {spec!r}")
+    return out
+
+
+@click.command("ion-activity")
+@click.option("--salt", "salts", multiple=True, required=True, metavar="SALT=MOLALITY",
+              help="A salt and its molality in mol/kg (repeatable), e.g. --salt NaCl=0.1.")
+@click.option("--convention", required=True,
+              type=click.Choice(["macinnes", "bates-guggenheim", "debye-huckel",
+                                 "extended-debye-huckel", "davies", "truesdell-jones", "sit"]),
+              help="How the single-ion values are assigned.")
+@click.option("--temperature", "temperature_k", type=float, default=298.15, show_default=True,
+              help="Temperature in K.")
+@click.option("--b-ion", "b_ion", multiple=True, metavar="ION=VALUE",
+              help="Truesdell-Jones b_i in kg/mol (repeatable), e.g. --b-ion Na+=0.075.")
+@click.option("--missing", type=click.Choice(["error", "zero"]), default="error", show_default=True,
+              help="A missing SIT eps or Truesdell-Jones b_i: refuse, or take it as zero.")
+@click.option("--format", "fmt", type=click.Choice(FORMATS), default="table", show_default=True,
+              help="Output format.")
+@click.pass_obj
+def ion_activity(app, salts: tuple[str, ...], convention: str, temperature_k: float,
+                 b_ion: tuple[str, ...], missing: str, fmt: str) -> None:
+    """Each ion's activity coefficient and activity in a solution of one or more salts.
+
+    A single-ion activity rests on a non-thermodynamic convention; the mean quantity of a salt
+    is the measurable one. The Bates-Guggenheim convention is refused above I = 0.1 mol/kg.
+    """
+    import numpy as np
+    from saltbench.measurements.conventions import SINGLE_ION_CAVEAT
+    from saltbench.measurements.nernst import CALIBRATION_CAUTION
+    from saltbench.measurements.workflow import ion_activity as compute
+    from saltbench.measurements.workflow import parse_salts
+
+    s = app.session()
+    comp = parse_salts(s, salts)
+    out = compute(s, comp, convention, temperature_k, b_ion=_b_ion(b_ion), missing=missing)
+    r = out.result
+
+    def scalar(x) -> float:
+        return float(np.asarray(x, dtype=float).reshape(-1)[0])
+
+    ions = []
+    for name in r.log10_gamma:
+        m = r.molalities.get(name)
+        g = scalar(r.gamma(name))
+        ions.append({"ion": name, "charge": r.ions[name].charge if name in r.ions else None,
+                     "molality": None if m is None else scalar(m),
+                     "log10_gamma": scalar(r.log10_gamma[name]), "gamma": g,
+                     "activity": None if m is None else scalar(m) * g})
+    cautions = list(r.cautions) + [CALIBRATION_CAUTION]
+    doc = {"convention": r.convention, "temperature_k": r.temperature_k,
+           "ionic_strength": scalar(r.ionic_strength),
+           "solution": [{"salt": e.name, "molality": m} for e, m in comp],
+           "ions": ions, "parameters_from": out.sources, "notes": out.notes,
+           "caveat": SINGLE_ION_CAVEAT, "cautions": cautions}
+    if fmt == "json":
+        emit([], "json", json_obj=doc)
+        return
+    sol = " + ".join(f"{e.name} {m:g} mol/kg" for e, m in comp)
+    click.echo(f"{sol}; I = {doc['ionic_strength']:.6g} mol/kg; T = {r.temperature_k:g} K; "
+               f"convention: {r.convention}")
+    click.echo(emit_table(ions))
+    for src in out.sources:
+        click.echo(f"parameters: {src}")
+    for note in out.notes:
+        click.echo(f"note: {note}")
+    click.echo(f"Caveat: {SINGLE_ION_CAVEAT}")
+    for c in cautions:
+        click.echo(f"Caution: {c}")
+
+
+def emit_table(ions: list[dict]) -> str:
+    from saltbench.cli.output import table
+
+    return table(ions, ["ion", "molality", "log10_gamma", "gamma", "activity"],
+                 {"molality": "m/(mol/kg)", "log10_gamma": "log10 gamma_i", "gamma": "gamma_i",
+                  "activity": "a_i"})
