@@ -22,12 +22,13 @@ COMMANDS = {
     "predict": "saltbench.cli.predict:predict",
     "compare": "saltbench.cli.compare:compare",
     "fit": "saltbench.cli.fit:fit",
+    "params": "saltbench.cli.params:params",
     "new-model": "saltbench.cli.new_model:new_model",
     "readings": "saltbench.cli.readings:readings",
     "ion-activity": "saltbench.cli.ion_activity:ion_activity",
     "convert": "saltbench.cli.convert:convert",
 }
-HELP_ORDER = ["compare", "fit", "predict", "report", "data", "readings", "convert", "ion-activity",
+HELP_ORDER = ["compare", "fit", "predict", "report", "data", "params", "readings", "convert", "ion-activity",
               "models", "plugins", "new-model"]
 
 
