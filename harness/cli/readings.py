@@ -16,11 +16,12 @@ def readings() -> None:
 
 
 @readings.command("add")
-@click.argument("paths", nargs=-1, required=True, type=click.Path(dir_okay=False))
+@click.argument("paths", nargs=-1, required=True, type=click.Path())
 @format_option
 @click.pass_obj
 def add(app, paths: tuple[str, ...], fmt: str) -> None:
-    """Add raw-readings files (and the bibliographies they cite) in one transaction.
+    """Add raw-readings files (and the bibliographies they cite, or folders of both) in one
+    transaction.
 
     Either every file loads, or none does and the store is unchanged. Re-adding a corrected
     file updates its set; reduce it again to replace its reduced dataset.

@@ -31,10 +31,13 @@ PROVIDER = "readings"
 
 
 def parse_readings_files(paths: Sequence[str | Path]) -> tuple[list, list[MeasurementSet]]:
-    """Bibliographies and readings files, all parsed and validated before any store access."""
+    """Bibliographies and readings files (or folders of them), all parsed and validated before
+    any store access."""
+    from saltbench.api import expand_paths
+
     sources, sets = [], []
     keys: dict[str, str] = {}
-    for path in paths:
+    for path in expand_paths(paths):
         text = read_text(path)
         kind = file_kind(path, text)
         if kind == "bibliography":
