@@ -53,6 +53,8 @@ def _command(path: Path) -> list[str]:
     # so each fails for its own fault and not for an unknown citation key.
     if path.name.endswith(".sources.txt"):
         return ["data", "add", str(path)]
+    if path.name.endswith(".readings.csv"):
+        return ["readings", "add", str(GOOD_BIB), str(path)]
     return ["data", "add", str(GOOD_BIB), str(path)]
 
 
@@ -83,6 +85,13 @@ def test_the_good_files_do_load(seeded_store: Path, run_main) -> None:
     assert "dataset fennwick-kcl" in added
     assert "parameter set fennwick-bench-pitzer" in added
     assert _hash(seeded_store) != before
+    with_data = _hash(seeded_store)
+    code, out, err = run_main("readings", "add", str(GOOD_BIB),
+                              str(CORPUS / "good" / "fennwick-kcl-aw.readings.csv"), "--format", "json",
+                              store=seeded_store)
+    assert (code, err) == (0, ""), err
+    assert json.loads(out)["added"] == ["measurement set fennwick-kcl-aw.readings"]
+    assert _hash(seeded_store) != with_data
 
 
 # -- plugin files -----------------------------------------------------------------------------
