@@ -47,37 +47,43 @@ class TruesdellJones(ActivityModel):
                         note="from memory of Truesdell and Jones (1974): fitted to about I = 2 "
                              "mol/kg in NaCl-type solutions")
 
-    def _ions(self, m, params, ctx):
+    def _ions(self, m, params, ctx, what: str):
+        """Per ion: ln gamma_i (``what="ln"``), phi_i - 1 (``"phi"``) or the d/da pair (``"d_a"``).
+
+        Only the asked quantity is computed: the fitting engine calls ln_gamma_pm, osmotic and
+        jacobian separately, and the osmotic and derivative terms cost more than ln gamma.
+        """
         e, a, bg = ctx.electrolyte, ctx.dh.a_gamma, ctx.dh.b_gamma_per_angstrom
         i = e.ionic_strength(m)
         s = np.sqrt(i)
         out = {}
         for side, z in (("cation", e.z_cation), ("anion", e.z_anion)):
             x = bg * params[f"a_{side}"] * s
-            lin = LN10 * params[f"b_{side}"]
-            out[side] = (dh.size_term(a, z**2, s, x) + lin * i,
-                         dh.size_term_osmotic(a, z**2, s, x) + lin * i / 2.0,
-                         dh.size_term_d_a(a, z**2, bg, i, x))
+            if what == "ln":
+                out[side] = dh.size_term(a, z**2, s, x) + LN10 * params[f"b_{side}"] * i
+            elif what == "phi":
+                out[side] = dh.size_term_osmotic(a, z**2, s, x) + LN10 * params[f"b_{side}"] * i / 2.0
+            else:
+                out[side] = dh.size_term_d_a(a, z**2, bg, i, x)
         return e, i, out
 
     def ln_gamma_ions(self, m, params, ctx):
-        _, _, out = self._ions(m, params, ctx)
-        return {k: v[0] for k, v in out.items()}
+        return self._ions(m, params, ctx, "ln")[2]
 
     def ln_gamma_pm(self, m, params, ctx):
-        e, _, out = self._ions(m, params, ctx)
-        return (e.nu_cation * out["cation"][0] + e.nu_anion * out["anion"][0]) / e.nu
+        e, _, out = self._ions(m, params, ctx, "ln")
+        return (e.nu_cation * out["cation"] + e.nu_anion * out["anion"]) / e.nu
 
     def osmotic(self, m, params, ctx):
-        e, _, out = self._ions(m, params, ctx)
-        return 1.0 + (e.nu_cation * out["cation"][1] + e.nu_anion * out["anion"][1]) / e.nu
+        e, _, out = self._ions(m, params, ctx, "phi")
+        return 1.0 + (e.nu_cation * out["cation"] + e.nu_anion * out["anion"]) / e.nu
 
     def jacobian(self, m, params, ctx):
-        e, i, out = self._ions(m, params, ctx)
+        e, i, out = self._ions(m, params, ctx, "d_a")
         d_ln, d_phi = {}, {}
         for side, nu in (("cation", e.nu_cation), ("anion", e.nu_anion)):
             w = nu / e.nu
-            da_ln, da_phi = out[side][2]
+            da_ln, da_phi = out[side]
             d_ln[f"a_{side}"], d_phi[f"a_{side}"] = w * da_ln, w * da_phi
             d_ln[f"b_{side}"], d_phi[f"b_{side}"] = w * LN10 * i, w * LN10 * i / 2.0
         return d_ln, d_phi

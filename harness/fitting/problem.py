@@ -6,9 +6,13 @@ mapping is the identity; for a joint fit a parameter of scope ``cation`` or ``an
 by every salt with that ion (global name ``a_cation[Na]``) and one of scope ``electrolyte`` is
 per salt (``b[NaCl]``).
 
-Predictions are ln(gamma±) at ``ln_gamma`` points and phi at ``osmotic`` points, always obtained
-through :mod:`saltbench.models.evaluate`. The Gibbs-Duhem quadrature runs only at the distinct
-molalities of osmotic points; ln(gamma±) at other molalities comes from one direct call.
+Predictions are ln(gamma±) at ``ln_gamma`` points and phi at ``osmotic`` points, with the same
+checks as :func:`saltbench.models.evaluate.evaluate` (shape, finiteness, plugin errors turned into
+ModelError). ln(gamma±) at every distinct molality of a block comes from one model call; phi from
+the model's ``osmotic`` where it has one, otherwise from the Gibbs-Duhem integral of
+:mod:`saltbench.models.evaluate` (same Gauss-Legendre nodes), whose nodes ride in that same call.
+The quadrature runs only at the distinct molalities of osmotic points. A fit calls the model
+hundreds of times on a few dozen points, so per-call overhead, not arithmetic, is what costs.
 
 Derivatives with respect to a parameter come from the model's ``jacobian`` where it gives them;
 otherwise a parameter marked ``linear`` is differenced with a unit step, which is exact for a
@@ -27,10 +31,13 @@ from saltbench.chemistry.electrolyte import Electrolyte
 from saltbench.errors import FitError, ModelDomainError, ModelError, UserError
 from saltbench.fitting.data import FitData
 from saltbench.models.contract import ActivityModel, EvalContext
-from saltbench.models.evaluate import call_model, evaluate, make_context
+from saltbench.models.evaluate import GAUSS_NODES, call_model, make_context
 from saltbench.water.debye_huckel import DebyeHuckel
 
 _FD_STEP = float(np.finfo(float).eps) ** (1.0 / 3.0)
+_NODES, _WEIGHTS = np.polynomial.legendre.leggauss(GAUSS_NODES)
+_NODES = 0.5 * (_NODES + 1.0)  # on [0, 1], as in saltbench.models.evaluate
+_GD_WEIGHTS = 2.0 * _NODES * (0.5 * _WEIGHTS)  # the weights of int_0^1 ln gamma(m u^2) 2u du
 
 
 @dataclass(frozen=True)
@@ -59,6 +66,18 @@ class Block:
     n_osm_unique: int = field(init=False)
     position: np.ndarray = field(init=False)  # of each point in ``union``
     is_osm: np.ndarray = field(init=False)
+    # Points of each kind (indices into the data) and their entries in ``union``.
+    ln_points: np.ndarray = field(init=False, repr=False)
+    ln_union: np.ndarray = field(init=False, repr=False)
+    osm_points: np.ndarray = field(init=False, repr=False)
+    osm_union: np.ndarray = field(init=False, repr=False)
+    # ``union`` followed by the Gibbs-Duhem nodes m u^2 of each osmotic molality.
+    with_nodes: np.ndarray = field(init=False, repr=False)
+    # The last model values and Jacobian asked for, keyed by model and parameter values: the
+    # optimiser asks for the Jacobian at the point it has just evaluated, and the solver again
+    # at the solution.
+    _last_values: tuple | None = field(default=None, init=False, repr=False)
+    _last_jacobian: tuple | None = field(default=None, init=False, repr=False)
 
     def __post_init__(self) -> None:
         m = self.data.molality
@@ -69,6 +88,11 @@ class Block:
         self.n_osm_unique = int(u_osm.size)
         order = np.argsort(self.union, kind="stable")
         self.position = order[np.searchsorted(self.union[order], m)]
+        self.ln_points = np.flatnonzero(~self.is_osm)
+        self.ln_union = self.position[self.ln_points]
+        self.osm_points = np.flatnonzero(self.is_osm)
+        self.osm_union = self.position[self.osm_points]
+        self.with_nodes = np.concatenate([self.union, (u_osm[:, None] * _NODES**2).ravel()])
 
     def uses(self, index: int) -> list[str]:
         return [name for name, g in self.mapping.items() if g == index]
@@ -152,42 +176,69 @@ class FitProblem:
         return theta
 
     # -- predictions --------------------------------------------------------------------------
+    def _key(self, values: dict[str, float]) -> tuple[int, bytes]:
+        return id(self.model), np.array(list(values.values()), dtype=float).tobytes()
+
     def _block_values(self, block: Block, theta: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         """ln(gamma±) at all of ``block.union`` and phi at its first ``n_osm_unique`` entries."""
         values = self.values_for(block, theta)
+        key = self._key(values)
+        if block._last_values is not None and block._last_values[0] == key:
+            return block._last_values[1]
         self.n_evaluations += 1
-        parts_ln, phi = [], np.zeros(0)
-        if block.n_osm_unique:
-            ev = evaluate(self.model, block.electrolyte, block.union[:block.n_osm_unique], values,
-                          ctx=block.ctx)
-            parts_ln.append(ev.ln_gamma_pm)
-            phi = ev.osmotic
-        rest = block.union[block.n_osm_unique:]
-        if rest.size:
-            raw = call_model(self.model, "ln_gamma_pm", rest, values, block.ctx)
-            parts_ln.append(_finite(self.model, "ln_gamma_pm", raw, rest.shape))
-        return np.concatenate(parts_ln), phi
+        model, ctx, n_osm = self.model, block.ctx, block.n_osm_unique
+        phi = None
+        if n_osm and type(model).osmotic is not ActivityModel.osmotic:
+            ln_g = _finite(model, "ln_gamma_pm",
+                           call_model(model, "ln_gamma_pm", block.union, values, ctx),
+                           block.union.shape)
+            raw = call_model(model, "osmotic", block.union[:n_osm], values, ctx)
+            if raw is not None:
+                phi = _finite(model, "osmotic", raw, (n_osm,))
+        if n_osm and phi is None:
+            # Gibbs-Duhem: phi - 1 = ln gamma(m) - int_0^1 ln gamma(m u^2) 2u du, the nodes
+            # evaluated in the same call as the data molalities.
+            every = _finite(model, "ln_gamma_pm",
+                            call_model(model, "ln_gamma_pm", block.with_nodes, values, ctx),
+                            block.with_nodes.shape)
+            ln_g = every[:block.union.size]
+            at_nodes = every[block.union.size:].reshape(n_osm, GAUSS_NODES)
+            phi = 1.0 + ln_g[:n_osm] - (at_nodes * _GD_WEIGHTS[None, :]).sum(axis=1)
+        elif not n_osm:
+            ln_g = _finite(model, "ln_gamma_pm",
+                           call_model(model, "ln_gamma_pm", block.union, values, ctx),
+                           block.union.shape)
+            phi = np.zeros(0)
+        out = (ln_g, phi)
+        block._last_values = (key, out)
+        return out
 
     def predict_block(self, block: Block, theta: np.ndarray) -> np.ndarray:
         ln_g, phi = self._block_values(block, theta)
-        out = ln_g[block.position]
-        if block.n_osm_unique:
-            out[block.is_osm] = phi[block.position[block.is_osm]]
+        out = np.empty(block.data.n)
+        out[block.ln_points] = ln_g[block.ln_union]
+        out[block.osm_points] = phi[block.osm_union]
         return out
 
     def predict(self, theta: np.ndarray) -> np.ndarray:
         """Model values at every observation (ln gamma± or phi by kind), in data order."""
         if not self.blocks:
             return np.zeros(0)
+        if len(self.blocks) == 1:
+            return self.predict_block(self.blocks[0], theta)
         return np.concatenate([self.predict_block(b, theta) for b in self.blocks])
 
     # -- derivatives --------------------------------------------------------------------------
     def _analytic(self, block: Block, theta: np.ndarray
-                  ) -> tuple[dict[str, np.ndarray], dict[str, np.ndarray]] | None:
+                  ) -> tuple[dict[str, np.ndarray], dict[str, np.ndarray], dict] | None:
+        """The model's Jacobian on ``block.union`` (and a memo of checked columns), or None."""
         if self._no_jacobian:
             return None
-        raw = call_model(self.model, "jacobian", block.union, self.values_for(block, theta),
-                         block.ctx)
+        values = self.values_for(block, theta)
+        key = self._key(values)
+        if block._last_jacobian is not None and block._last_jacobian[0] == key:
+            return block._last_jacobian[1]
+        raw = call_model(self.model, "jacobian", block.union, values, block.ctx)
         if raw is None:
             self._no_jacobian = True
             return None
@@ -196,7 +247,9 @@ class FitProblem:
             d_ln, d_phi = dict(d_ln), dict(d_phi)
         except (TypeError, ValueError) as exc:
             raise ModelError(f"model {self.model.id}: jacobian must return two dicts") from exc
-        return d_ln, d_phi
+        out = (d_ln, d_phi, {})
+        block._last_jacobian = (key, out)
+        return out
 
     def derivatives(self, theta: np.ndarray, cols: Sequence[int] | np.ndarray,
                     base: np.ndarray | None = None) -> np.ndarray:
@@ -224,23 +277,27 @@ class FitProblem:
                 out[sl, j] = col
         return out
 
-    def _analytic_column(self, block: Block, analytic: tuple[dict, dict] | None,
+    def _analytic_column(self, block: Block, analytic: tuple[dict, dict, dict] | None,
                          names: list[str]) -> np.ndarray | None:
         if analytic is None:
             return None
-        d_ln, d_phi = analytic
-        has_osm, has_ln = bool(block.is_osm.any()), bool((~block.is_osm).any())
+        d_ln, d_phi, checked = analytic
+        has_osm, has_ln = bool(block.osm_points.size), bool(block.ln_points.size)
         total = np.zeros(block.data.n)
         for name in names:
             if (has_ln and name not in d_ln) or (has_osm and name not in d_phi):
                 return None
             shape = block.union.shape
             if has_ln:
-                col = _finite(self.model, f"jacobian[{name}]", d_ln[name], shape)[block.position]
-                total[~block.is_osm] += col[~block.is_osm]
+                if ("ln", name) not in checked:
+                    checked["ln", name] = _finite(self.model, f"jacobian[{name}]", d_ln[name],
+                                                  shape)
+                total[block.ln_points] += checked["ln", name][block.ln_union]
             if has_osm:
-                col = _finite(self.model, f"jacobian[{name}]", d_phi[name], shape)[block.position]
-                total[block.is_osm] += col[block.is_osm]
+                if ("phi", name) not in checked:
+                    checked["phi", name] = _finite(self.model, f"jacobian[{name}]",
+                                                   d_phi[name], shape)
+                total[block.osm_points] += checked["phi", name][block.osm_union]
         return total
 
     def _difference_column(self, block: Block, theta: np.ndarray, c: int,
