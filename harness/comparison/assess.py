@@ -34,7 +34,10 @@ def _curves(model, e: Electrolyte, values: dict[str, float], m_top: float, dh) -
 
 def assess(model, plugin: str, e: Electrolyte, data: FitData, published: PublishedInput | None,
            settings: CompareSettings, curves: bool = False) -> ModelOutcome:
-    from saltbench.fitting import cross_validate, fit, validity_range
+    from saltbench.fitting import validity_range
+    from saltbench.fitting.crossval import cross_validate_problem
+    from saltbench.fitting.engine import run
+    from saltbench.fitting.problem import build_problem
     from saltbench.water.debye_huckel import debye_huckel_constants, with_a_phi
 
     n_free = len(model.free_parameters(e))
@@ -43,13 +46,19 @@ def assess(model, plugin: str, e: Electrolyte, data: FitData, published: Publish
                        bool(published and published.from_memory))
     dh = debye_huckel_constants(settings.temperature_k)
     try:
-        result = fit(model, e, data, dh=dh)
+        # One problem for the fit and its cross-validation: the folds are seeded from the fit's
+        # optimum, which cross_validate would otherwise compute a second time.
+        problem = build_problem(model, [(e, data)], dh=dh)
+        result = run(problem)
         out.fit = result.to_dict()
         out.flags += list(result.flags)
         if not result.converged and not any(f.startswith("did not converge") for f in result.flags):
             out.flags.append(f"did not converge: {result.message}")
+        cv = None
         if n_free > 0:
-            cv = cross_validate(model, e, data, folds=settings.folds, dh=dh)
+            solved = bool(np.all(np.isfinite(result.prediction)))
+            cv = cross_validate_problem(problem, settings.folds,
+                                        start=problem.theta_from(result.values) if solved else None)
             held = cv.to_dict()
             held.pop("points", None)
             out.heldout = held
@@ -63,7 +72,7 @@ def assess(model, plugin: str, e: Electrolyte, data: FitData, published: Publish
             if n_free > 0:
                 out.valid_refit = validity_range(model, e, data, tolerance_ln_gamma=settings.tol_ln_gamma,
                                                  tolerance_phi=settings.tol_phi, folds=settings.folds,
-                                                 dh=dh).to_dict()
+                                                 dh=dh, full_cv=cv).to_dict()
             else:
                 out.valid_refit = validity_range(model, e, data, params={}, tolerance_ln_gamma=settings.tol_ln_gamma,
                                                  tolerance_phi=settings.tol_phi, dh=dh).to_dict()

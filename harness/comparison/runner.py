@@ -6,7 +6,7 @@ from __future__ import annotations
 import os
 import sys
 from collections.abc import Sequence
-from concurrent.futures import ProcessPoolExecutor
+from concurrent.futures import ProcessPoolExecutor, as_completed
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -68,6 +68,16 @@ def run_task(task: ElectrolyteTask, settings: CompareSettings, plugin_files: Seq
     return task.electrolyte.name, outs
 
 
+def expected_cost(task: ElectrolyteTask) -> float:
+    """A rough measure of a task's run time, to schedule large ones first.
+
+    Each model is fitted and cross-validated at several trial limits; a fit costs a fixed
+    overhead per model call (the constant) plus work in proportion to the number of points.
+    Only the order matters, not the scale.
+    """
+    return len(task.model_ids) * (10.0 + float(task.data.n))
+
+
 def default_jobs() -> int:
     return max(1, len(os.sched_getaffinity(0)) if hasattr(os, "sched_getaffinity") else (os.cpu_count() or 1))
 
@@ -80,10 +90,12 @@ def run_comparison(tasks: list[ElectrolyteTask], settings: CompareSettings, *, r
     bar = _progress(len(tasks), progress)
     results: dict[str, list[ModelOutcome]] = {}
     if jobs > 1 and len(tasks) > 1:
+        # Largest first, so that no long task starts last while the other workers sit idle.
+        by_cost = sorted(tasks, key=expected_cost, reverse=True)
         with ProcessPoolExecutor(max_workers=min(jobs, len(tasks))) as pool:
             futures = [pool.submit(run_task, t, settings, list(plugin_files), list(disabled), curves)
-                       for t in tasks]
-            for fut in futures:
+                       for t in by_cost]
+            for fut in as_completed(futures):
                 name, outs = fut.result()
                 results[name] = outs
                 bar(name)

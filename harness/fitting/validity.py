@@ -25,7 +25,7 @@ from typing import Any, Literal
 import numpy as np
 from saltbench.chemistry.electrolyte import Electrolyte
 from saltbench.errors import ModelDomainError, ModelError
-from saltbench.fitting.crossval import cross_validate_problem
+from saltbench.fitting.crossval import CrossValidation, cross_validate_problem
 from saltbench.fitting.data import FitData
 from saltbench.fitting.problem import FitProblem, build_problem
 from saltbench.models.contract import ActivityModel
@@ -125,7 +125,18 @@ def _coarse(grid: np.ndarray) -> list[int]:
     return picks
 
 
-def _refit_scan(problem: FitProblem, tol_ln: float, tol_phi: float, folds: int, scheme: str
+def _same_points(cv: CrossValidation | None, problem: FitProblem, folds: int,
+                 scheme: str) -> bool:
+    """Whether ``cv`` is a cross-validation of exactly ``problem``'s points with these folds."""
+    return (cv is not None and cv.folds == folds and cv.scheme == scheme
+            and cv.molality.shape == problem.molality.shape
+            and bool(np.array_equal(cv.molality, problem.molality))
+            and bool(np.array_equal(cv.observed, problem.obs))
+            and bool(np.array_equal(cv.kind == "osmotic", problem.is_osm)))
+
+
+def _refit_scan(problem: FitProblem, tol_ln: float, tol_phi: float, folds: int, scheme: str,
+                full_cv: CrossValidation | None = None
                 ) -> tuple[float | None, float | None, list[str], list[dict[str, Any]]]:
     flags: list[str] = []
     trials: list[dict[str, Any]] = []
@@ -147,7 +158,13 @@ def _refit_scan(problem: FitProblem, tol_ln: float, tol_phi: float, folds: int, 
         L = grid[i]
         sel = m <= L
         n = int(sel.sum())
-        cv = cross_validate_problem(problem.subset(sel), min(folds, n), scheme, start=start)
+        sub = problem.subset(sel)
+        # The top trial is the cross-validation of all the data, which a caller such as the
+        # comparison has often run already (same problem, same start): reuse it.
+        if start is None and _same_points(full_cv, sub, min(folds, n), scheme):
+            cv = full_cv
+        else:
+            cv = cross_validate_problem(sub, min(folds, n), scheme, start=start)
         if cv.theta is not None:
             start = cv.theta
         ok = _within(cv.residual, cv.kind == "osmotic", tol_ln, tol_phi)
@@ -195,13 +212,17 @@ def validity_range(model: ActivityModel, electrolyte: Electrolyte | str, data: F
                    start: Mapping[str, float] | None = None, free: Iterable[str] | None = None,
                    bounds: Mapping[str, tuple[float, float]] | None = None,
                    dh: DebyeHuckel | None = None,
-                   temperature_k: float = 298.15) -> ValidityRange:
+                   temperature_k: float = 298.15,
+                   full_cv: CrossValidation | None = None) -> ValidityRange:
     """Highest molality (and ionic strength) up to which ``model`` stays within tolerance.
 
     With ``params`` (model parameter names -> values; others at their defaults) the model is
     judged as given, without refitting. Without them its free parameters are refitted and it
     is judged on cross-validated held-out predictions (``folds``, ``scheme``; the other
-    options as for :func:`saltbench.fitting.fit`).
+    options as for :func:`saltbench.fitting.fit`). ``full_cv`` is the caller's
+    :func:`saltbench.fitting.cross_validate` of the same model on all of ``data`` with the same
+    options; the scan starts with that very computation and then reuses it (it is checked to
+    cover the same points with the same folds, and ignored otherwise).
     """
     from saltbench.fitting.engine import as_electrolyte
 
@@ -215,7 +236,7 @@ def validity_range(model: ActivityModel, electrolyte: Electrolyte | str, data: F
     else:
         problem = build_problem(model, [(e, data)], fixed=fixed, start=start, free=free,
                                 bounds=bounds, dh=dh, temperature_k=temperature_k)
-        result = _refit_scan(problem, tol["ln_gamma"], tol["osmotic"], folds, scheme)
+        result = _refit_scan(problem, tol["ln_gamma"], tol["osmotic"], folds, scheme, full_cv)
         mode = "refit"
     last_ok, first_fail, flags, trials = result
     return _finish(e, mode, last_ok, first_fail, float(problem.molality.max()), tol, flags,
