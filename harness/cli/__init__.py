@@ -21,6 +21,7 @@ COMMANDS = {
     "plugins": "saltbench.cli.models:plugins",
     "predict": "saltbench.cli.predict:predict",
     "compare": "saltbench.cli.compare:compare",
+    "report": "saltbench.cli.report:report",
     "fit": "saltbench.cli.fit:fit",
     "params": "saltbench.cli.params:params",
     "new-model": "saltbench.cli.new_model:new_model",

@@ -1,0 +1,99 @@
+"""``saltbench report``: the comparison written up for a method-validation file."""
+
+from __future__ import annotations
+
+import shlex
+import sys
+from pathlib import Path
+
+import click
+from saltbench.cli.compare import build_settings, settings_options
+
+SETTING_PARAMS = ("models", "up_to", "tol", "folds", "on", "data_sel", "temperature_k", "title")
+
+
+def _command_line(app, electrolytes, settings, title, out_dir, from_manifest) -> str:
+    """The command as a user would type it to get this report again (options spelled out)."""
+    args = ["saltbench"]
+    if app.store_path:
+        args += ["--store", str(app.store_path)]
+    for p in app.plugin_files:
+        args += ["--plugin", str(p)]
+    for d in app.disabled:
+        args += ["--disable-plugin", d]
+    args.append("report")
+    if from_manifest:
+        args += ["--from", str(from_manifest)]
+    else:
+        args += list(electrolytes)
+        if settings.models:
+            args += ["--models", ",".join(settings.models)]
+        if settings.up_to is not None:
+            args += ["--up-to", f"{settings.up_to:g}"]
+        args += ["--tol", f"{settings.tol_ln_gamma:g},{settings.tol_phi:g}", "--folds", str(settings.folds),
+                 "--on", ",".join(settings.on), "--temperature", f"{settings.temperature_k:g}"]
+        if settings.datasets:
+            args += ["--data", ",".join(settings.datasets)]
+        if title:
+            args += ["--title", title]
+    if out_dir:
+        args += ["--out", str(out_dir)]
+    return shlex.join(args)
+
+
+@click.command()
+@click.argument("electrolytes", nargs=-1)
+@settings_options
+@click.option("--out", "out_dir", type=click.Path(file_okay=False, path_type=Path), default=None,
+              help="Folder to write into (default: reports/<slug of the title or electrolytes> here).")
+@click.option("--title", default=None, help="Report title (default: names the electrolytes).")
+@click.option("--from", "from_manifest", type=click.Path(dir_okay=False, path_type=Path), default=None,
+              metavar="MANIFEST", help="Re-run the report a manifest.json describes and say whether the "
+              "results still agree (default folder: the manifest's folder name + '-rerun').")
+@click.option("--jobs", type=int, default=None, help="Worker processes (default: all cores).")
+@click.pass_context
+def report(ctx, electrolytes, models, up_to, tol, folds, on, data_sel, temperature_k, out_dir, title,
+           from_manifest, jobs):
+    """Compare models on each electrolyte and write the report a lab files when it validates the
+    activity correction of a method: HTML (self-contained, prints on A4 or Letter), PDF,
+    Markdown, CSV tables, figures and a JSON manifest for reproducing it.
+
+    The report states its limits. For dosing, safety limits or regulated measurements, verify
+    every result under local codes and licensed practice.
+    """
+    from saltbench.comparison.runner import default_jobs
+    from saltbench.errors import UserError
+    from saltbench.report.writer import make_report, rerun
+
+    app = ctx.obj
+    s = app.session()
+    jobs = jobs or default_jobs()
+    if from_manifest is not None:
+        given = [p for p in SETTING_PARAMS
+                 if ctx.get_parameter_source(p) is not click.core.ParameterSource.DEFAULT]
+        if electrolytes or given:
+            raise UserError("--from re-runs the manifest's own electrolytes and options; give no "
+                            "ELECTROLYTE and no comparison option with it (only --out and --jobs)")
+        if not from_manifest.is_file():
+            raise UserError(f"--from {from_manifest}: no such file")
+        command = _command_line(app, (), None, None, out_dir, from_manifest)
+        result = rerun(s, from_manifest, folder=out_dir, jobs=jobs, command=command, argv=sys.argv)
+    else:
+        if not electrolytes:
+            raise UserError("name at least one electrolyte (or re-run one with --from MANIFEST)")
+        settings = build_settings(models, up_to, tol, folds, on, data_sel, temperature_k)
+        command = _command_line(app, electrolytes, settings, title, out_dir, None)
+        result = make_report(s, electrolytes, settings, title=title, folder=out_dir, command=command,
+                             argv=sys.argv, jobs=jobs)
+    for p in result.problems:
+        click.echo(f"Warning: {p}", err=True)
+    click.echo(f"Report written to {result.folder}:")
+    for path in result.files:
+        click.echo(f"  {path.relative_to(result.folder).as_posix()}")
+    for name, rec in result.comparison.recommendations.items():
+        click.echo(f"{name}: {rec.statement}")
+    if result.agreement is not None:
+        for line in result.agreement.lines():
+            click.echo(line)
+        if not result.agreement.agree:
+            ctx.exit(1)

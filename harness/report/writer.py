@@ -1,0 +1,186 @@
+"""Run a comparison and write its report into one folder: HTML, PDF, Markdown, CSV tables, the
+figures as PNG, and the JSON manifest.
+
+Layout of the folder (names are fixed, so no user text becomes a file name except through
+:func:`saltbench.scaffold.names.slug`, checked by :func:`~saltbench.scaffold.names.inside`)::
+
+    report.html  report.pdf  report.md  manifest.json
+    tables/results.csv parameters.csv correlations.csv datasets.csv recommendations.csv
+    figures/<electrolyte>-<n>.coefficients.png  .residuals.png  .validity.png
+
+The time stamp is the only content that changes between two runs on the same store; it honours
+``SOURCE_DATE_EPOCH`` (reproducible-builds.org) when set.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import json
+import os
+import platform
+from dataclasses import dataclass, field
+from datetime import UTC, datetime
+from pathlib import Path
+
+from saltbench.errors import UserError
+from saltbench.scaffold.names import inside, slug
+
+HTML_NAME, PDF_NAME, MD_NAME, MANIFEST_NAME = "report.html", "report.pdf", "report.md", "manifest.json"
+FIGURE_DIR, TABLE_DIR = "figures", "tables"
+FIGURE_KINDS = ("coefficients", "residuals", "validity")
+
+
+@dataclass
+class ReportResult:
+    folder: Path
+    files: list[Path]
+    comparison: object
+    manifest: dict
+    agreement: object | None = None
+    problems: list[str] = field(default_factory=list)
+
+
+def time_stamp() -> str:
+    epoch = os.environ.get("SOURCE_DATE_EPOCH")
+    when = datetime.fromtimestamp(int(epoch), UTC) if epoch and epoch.isdigit() \
+        else datetime.now(UTC)
+    return when.replace(microsecond=0).isoformat().replace("+00:00", "Z")
+
+
+def default_title(electrolytes) -> str:
+    return "Activity-model comparison: " + ", ".join(electrolytes)
+
+
+def default_folder(title: str, electrolytes, base: Path | None = None) -> Path:
+    """``reports/<slug>`` under ``base`` (the current folder): the slug of the title, else of the
+    electrolyte names, else ``report``."""
+    root = (base or Path.cwd()) / "reports"
+    name = slug(title) or slug("-".join(electrolytes)) or "report"
+    return inside(root, name)
+
+
+def _figures(comparison, residuals) -> dict[str, list]:
+    from saltbench.report import figures as F
+
+    order = list(dict.fromkeys(o.model for outs in comparison.outcomes.values() for o in outs))
+    styles = F.model_styles(order)
+    out = {}
+    for i, (name, outs) in enumerate(comparison.outcomes.items(), start=1):
+        stem = f"{slug(name) or 'electrolyte'}-{i}"
+        data, target = comparison.data[name], comparison.recommendations[name].target_molality
+        out[name] = [
+            F.coefficient_figure(name, outs, data, comparison.datasets[name], styles, f"{stem}.coefficients"),
+            F.residual_figure(name, outs, residuals, comparison.settings, styles, f"{stem}.residuals"),
+            F.validity_figure(name, outs, data, target, styles, f"{stem}.validity"),
+        ]
+    return out
+
+
+def _parameter_sets(session, comparison) -> list[dict]:
+    from saltbench.store import parameter_sets as ps
+
+    out = []
+    for name, outs in comparison.outcomes.items():
+        e = session.electrolyte(name)
+        for o in outs:
+            if not o.published_set:
+                continue
+            found = [p for p in ps.published(session.store, session.registry.model(o.model), e)
+                     if p.set_id == o.published_set]
+            p = found[0] if found else None
+            out.append({"electrolyte": name, "model": o.model, "set": o.published_set,
+                        "values": dict(p.values) if p else None, "a_phi": p.a_phi if p else None,
+                        "source": p.source if p else None, "from_memory": o.published_from_memory})
+    return out
+
+
+def _sha256(path: Path) -> str:
+    return hashlib.sha256(path.read_bytes()).hexdigest()
+
+
+def make_report(session, electrolytes, settings, *, title: str | None = None, folder: Path | None = None,
+                command: str = "", argv: list[str] | None = None, jobs: int = 1,
+                created: str | None = None) -> ReportResult:
+    """Compare, then write every report file into ``folder`` (default ``reports/<slug>``)."""
+    from saltbench import __version__
+    from saltbench.api import compare
+    from saltbench.report.content import ReportFacts, build_document
+    from saltbench.report.html import render_html
+    from saltbench.report.manifest import build_manifest
+    from saltbench.report.markdown import render_markdown
+    from saltbench.report.pdf import write_pdf
+    from saltbench.report.residuals import refit_residuals
+    from saltbench.report.tables import csv_tables
+
+    names = list(electrolytes)
+    if not names:
+        raise UserError("name at least one electrolyte")
+    comparison = compare(session, names, settings, jobs=jobs, curves=True)
+    title = (title or "").strip() or default_title(list(comparison.outcomes))
+    folder = (Path(folder) if folder else default_folder(title, list(comparison.outcomes))).resolve()
+    created = created or time_stamp()
+    reg = session.registry
+    electrolyte_objs = {n: session.electrolyte(n) for n in comparison.outcomes}
+    residuals = refit_residuals(comparison, reg, electrolyte_objs)
+    plugins = [{"name": p.name, "kind": p.kind, "path": p.path, "version": p.version} for p in reg.plugins]
+    models = {mid: {"name": info.model.name, "plugin": info.plugin} for mid, info in reg.models.items()
+              if any(o.model == mid for outs in comparison.outcomes.values() for o in outs)}
+    store_path = str(session.store.path) if session.store.path else "(in memory)"
+    store_hash = session.content_hash()
+    figures = _figures(comparison, residuals)
+    facts = ReportFacts(title=title, created=created, command=command, software_version=__version__,
+                        python=platform.python_version(), platform=platform.platform(),
+                        store_path=store_path, store_hash=store_hash, manifest_name=MANIFEST_NAME,
+                        plugins=plugins, models=models,
+                        electrolytes={n: e.charge_label for n, e in electrolyte_objs.items()},
+                        figures=figures)
+    doc = build_document(comparison, facts)
+
+    try:
+        (folder / FIGURE_DIR).mkdir(parents=True, exist_ok=True)
+        (folder / TABLE_DIR).mkdir(parents=True, exist_ok=True)
+    except OSError as exc:
+        raise UserError(f"cannot create the report folder {folder}: {exc.strerror}") from None
+    written: list[Path] = []
+    for figs in figures.values():
+        for f in figs:
+            path = inside(folder / FIGURE_DIR, f"{f.key}.png")
+            path.write_bytes(f.png)
+            written.append(path)
+    for name, text in csv_tables(comparison).items():
+        path = inside(folder / TABLE_DIR, name)
+        path.write_text(text, encoding="utf-8", newline="")
+        written.append(path)
+    html_path = inside(folder, HTML_NAME)
+    html_path.write_text(render_html(doc, __version__), encoding="utf-8")
+    md_path = inside(folder, MD_NAME)
+    md_path.write_text(render_markdown(doc, FIGURE_DIR), encoding="utf-8")
+    pdf_path = inside(folder, PDF_NAME)
+    write_pdf(doc, pdf_path, __version__)
+    written += [html_path, md_path, pdf_path]
+    files = {p.relative_to(folder).as_posix(): _sha256(p) for p in written}
+    manifest = build_manifest(comparison, title=title, electrolytes=list(comparison.outcomes),
+                              command=command, argv=list(argv or []), created=created,
+                              store_path=store_path, store_hash=store_hash, plugins=plugins, models=models,
+                              parameter_sets=_parameter_sets(session, comparison), files=files)
+    man_path = inside(folder, MANIFEST_NAME)
+    man_path.write_text(json.dumps(manifest, indent=2, ensure_ascii=False) + "\n", encoding="utf-8")
+    written.append(man_path)
+    return ReportResult(folder, written, comparison, manifest, problems=list(comparison.plugin_problems))
+
+
+def rerun(session, manifest_path: Path, *, folder: Path | None = None, jobs: int = 1,
+          command: str = "", argv: list[str] | None = None) -> ReportResult:
+    """Re-run the report a manifest describes and say whether its results still agree."""
+    from saltbench.report.manifest import check_agreement, load_manifest, settings_from
+
+    manifest_path = Path(manifest_path)
+    old = load_manifest(manifest_path)
+    settings = settings_from(old)
+    if folder is None:
+        here = manifest_path.resolve().parent
+        folder = here.parent / f"{here.name}-rerun"
+    result = make_report(session, old["command"]["electrolytes"], settings, title=old["title"],
+                         folder=folder, command=command, argv=argv, jobs=jobs)
+    result.agreement = check_agreement(old, result.manifest)
+    return result
