@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import hashlib
 import json
+import sqlite3
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -21,7 +22,7 @@ from saltbench.curation.bibliography import Source, read_bibliography
 from saltbench.curation.blocks import read_text
 from saltbench.curation.datasets import Dataset, read_dataset
 from saltbench.curation.parameters import ParameterFile, read_parameter_file
-from saltbench.errors import InputFileError
+from saltbench.errors import InputFileError, StoreError
 from saltbench.store.connection import Store
 
 
@@ -231,6 +232,15 @@ def ingest(store: Store, paths: Sequence[str | Path], *, origin: str = "user",
     no longer among the files. Raises InputFileError (store unchanged) on the first problem.
     """
     batch = parse_files(paths)
+    try:
+        return _write_batch(store, batch, origin, provider, sync)
+    except sqlite3.IntegrityError as exc:
+        # The schema's own checks are the last line of defence; the file readers should have
+        # caught the problem first. Either way the transaction was rolled back.
+        raise StoreError(f"the store refused the data ({exc}); nothing was written") from None
+
+
+def _write_batch(store: Store, batch: Batch, origin: str, provider: str, sync: bool) -> IngestReport:
     report = IngestReport()
     with store.transaction():
         for s in batch.sources:
