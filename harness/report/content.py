@@ -28,9 +28,10 @@ from saltbench.report.document import (
 PROPERTY_NAMES = {"gamma_pm": "mean activity coefficient γ±", "osmotic": "osmotic coefficient φ",
                   "water_activity": "water activity (used as φ)"}
 
-VERDICT_COLUMNS = ["Electrolyte", "Model", "k", "rms Δln γ±", "max Δln γ±", "rms Δφ",
-                   "held-out Δln γ±", "AICc", "valid to, published (mol/kg)",
+VERDICT_COLUMNS = ["Electrolyte", "Model", "k", "valid to, published (mol/kg)",
                    "valid to, refitted (mol/kg)", "Verdict"]
+ERROR_COLUMNS = ["Electrolyte", "Model", "rms Δln γ±", "max Δln γ±", "rms Δφ", "max Δφ",
+                 "held-out Δln γ±", "held-out Δφ", "AICc"]
 
 
 @dataclass
@@ -56,17 +57,20 @@ def tolerance_text(settings) -> str:
     return f"|Δ ln γ±| ≤ {settings.tol_ln_gamma:g} and |Δφ| ≤ {settings.tol_phi:g}"
 
 
-def verdict_rows(comparison) -> tuple[list[list[str]], list[str]]:
-    rows, marks = [], []
+def verdict_rows(comparison) -> tuple[list[list[str]], list[list[str]], list[str]]:
+    """Rows of the verdict table and of the error table, and the row marks they share."""
+    verdicts, errors, marks = [], [], []
     for outs in comparison.outcomes.values():
         for o in outs:
             r = o.record()
-            rows.append([r["electrolyte"], r["model"], str(r["n_params"]), num(r["rms_ln_gamma"]),
-                         num(r["max_ln_gamma"]), num(r["rms_osmotic"]), num(r["heldout_rms_ln_gamma"]),
-                         num(r["aicc"]), molality(r["valid_up_to_published"]),
-                         molality(r["valid_up_to_refit"]), r["verdict"]])
+            verdicts.append([r["electrolyte"], r["model"], str(r["n_params"]),
+                             molality(r["valid_up_to_published"]), molality(r["valid_up_to_refit"]),
+                             r["verdict"]])
+            errors.append([r["electrolyte"], r["model"], num(r["rms_ln_gamma"]), num(r["max_ln_gamma"]),
+                           num(r["rms_osmotic"]), num(r["max_osmotic"]), num(r["heldout_rms_ln_gamma"]),
+                           num(r["heldout_rms_osmotic"]), num(r["aicc"])])
             marks.append("recommended" if r["recommended"] else "")
-    return rows, marks
+    return verdicts, errors, marks
 
 
 def build_document(comparison, facts: ReportFacts) -> Document:
@@ -129,15 +133,17 @@ def _findings(comparison) -> Section:
     rec_rows = []
     for name, rec in comparison.recommendations.items():
         rec_rows.append([name, f"{rec.target_molality:g}", rec.model or "none", rec.statement])
-    rows, marks = verdict_rows(comparison)
+    verdicts, errors, marks = verdict_rows(comparison)
     return Section("findings", "2 Findings in brief", [
         Table("recommendations", "Recommendation per electrolyte: the simplest model within tolerance "
               "over the whole judged range", ["Electrolyte", "Judged up to (mol/kg)", "Recommended model",
                                              "Statement"], rec_rows, [False, True, False, False]),
         Table("verdicts", f"Verdict per model (tolerance {tolerance_text(comparison.settings)}); "
-              "k: fitted parameters; Δ: data minus model; the recommended model of each electrolyte "
-              "is marked", VERDICT_COLUMNS, rows, [False, False, True, True, True, True, True, True, True,
-                                                   True, False], marks),
+              "k: fitted parameters; the recommended model of each electrolyte is marked",
+              VERDICT_COLUMNS, verdicts, [False, False, True, True, True, False], marks),
+        Table("errors", "Misfit per model with refitted parameters; Δ: data minus model; held out: "
+              "predicted by fits that did not see the point", ERROR_COLUMNS, errors,
+              [False, False] + [True] * 7, marks),
     ])
 
 

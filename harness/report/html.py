@@ -26,13 +26,15 @@ h1 { font-size: 17pt; margin: 0 0 2pt; }
 .subtitle { color: var(--muted); margin: 0 0 10pt; font-size: 9pt; }
 h2 { font-size: 13pt; border-bottom: 1.5pt solid var(--ink); padding-bottom: 2pt; margin-top: 18pt; }
 h3 { font-size: 11pt; margin: 12pt 0 4pt; }
-nav ol { columns: 2; font-size: 9pt; padding-left: 16pt; }
+nav ul { columns: 2; font-size: 9pt; padding-left: 0; list-style: none; }
 table { border-collapse: collapse; width: 100%; margin: 4pt 0 10pt; font-size: 8pt; }
 caption { text-align: left; font-size: 8.5pt; color: var(--muted); caption-side: top; padding-bottom: 3pt; }
 th, td { border-top: 0.5pt solid var(--rule); border-bottom: 0.5pt solid var(--rule); padding: 2pt 4pt;
          vertical-align: top; text-align: left; }
 th { background: #f0f0f0; font-weight: bold; }
-td.num, th.num { text-align: right; font-variant-numeric: tabular-nums; white-space: nowrap; }
+td.num { text-align: right; font-variant-numeric: tabular-nums; white-space: nowrap; }
+th.num { text-align: right; }
+.wide { overflow-x: auto; }
 td.mono { font-family: "DejaVu Sans Mono", "Liberation Mono", monospace; font-size: 7pt;
           word-break: break-all; }
 tr.memory td { background: var(--memo); }
@@ -82,7 +84,7 @@ TEMPLATE = """<!DOCTYPE html>
 <h1>{{ doc.title }}</h1>
 <p class="subtitle" id="created">{{ doc.subtitle }}</p>
 </header>
-<nav><ol>{% for s in doc.sections %}<li><a href="#{{ s.key }}">{{ s.heading }}</a></li>{% endfor %}</ol></nav>
+<nav><ul>{% for s in doc.sections %}<li><a href="#{{ s.key }}">{{ s.heading }}</a></li>{% endfor %}</ul></nav>
 {% macro block(b) -%}
 {%- set k = kind(b) -%}
 {%- if k == "paragraph" %}<p>{{ b.text }}</p>
@@ -90,7 +92,7 @@ TEMPLATE = """<!DOCTYPE html>
 {%- elif k == "fields" %}<dl class="fields">{% for name, value in b.pairs %}<dt>{{ name }}</dt><dd>{{ value }}</dd>{% endfor %}</dl>
 {%- elif k == "bullets" %}<ul>{% for item in b.items %}<li>{{ item }}</li>{% endfor %}</ul>
 {%- elif k == "table" %}
-<table id="table-{{ b.key }}" data-table="{{ b.key }}">
+<div class="wide"><table id="table-{{ b.key }}" data-table="{{ b.key }}">
 <caption>{{ b.caption }}</caption>
 <thead><tr>{% for c in b.columns %}<th{% if b.numeric[loop.index0] %} class="num"{% endif %} scope="col">{{ c }}</th>{% endfor %}</tr></thead>
 <tbody>
@@ -98,7 +100,7 @@ TEMPLATE = """<!DOCTYPE html>
 <tr{% if mark %} class="{{ mark }}"{% endif %}>{% for cell in row %}{% set i = loop.index0 %}<td class="{{ 'num' if b.numeric[i] else '' }}{{ ' mono' if b.mono and b.mono[i] else '' }}">{{ cell }}{% if i == 0 and mark %}<span class="badge">{{ mark_label(mark) }}</span>{% endif %}</td>{% endfor %}</tr>
 {%- endfor %}
 </tbody>
-</table>
+</table></div>
 {%- elif k == "figure" %}
 <figure id="fig-{{ b.key }}"><img src="data:image/png;base64,{{ b64(b.png) }}" alt="{{ b.alt }}">
 <figcaption>Figure {{ figno(b.key) }}. {{ b.caption }}</figcaption></figure>
