@@ -6,7 +6,7 @@ from __future__ import annotations
 from pathlib import Path
 
 import pytest
-from test_report_common import ELECTROLYTES, non_blank, open_page, shared_report
+from test_report_common import ELECTROLYTES, non_blank, open_page, print_overflow, shared_report
 
 FIGURES_PER_ELECTROLYTE = 3  # coefficients, residuals, validity ranges
 
@@ -44,3 +44,17 @@ def test_page_text_has_every_section(page: dict) -> None:
     for heading in ("What this report covers", "Findings in brief", "Limits and cautions",
                     "Reproducing this report", "Review and sign-off", *ELECTROLYTES):
         assert heading in text
+
+
+# Text width of a page at 96 CSS px per inch with the stylesheet's 14 mm side margins:
+# A4 is 210 mm wide (ISO 216), Letter 8.5 in (ANSI/ASME Y14.1); the narrower one decides.
+A4_TEXT_PX = round((210 - 2 * 14) / 25.4 * 96)
+LETTER_TEXT_PX = round((8.5 * 25.4 - 2 * 14) / 25.4 * 96)
+
+
+@pytest.mark.parametrize("width", [A4_TEXT_PX, LETTER_TEXT_PX], ids=["A4", "Letter"])
+def test_print_layout_fits_the_paper_width(tmp_path_factory, seeded_store_file: Path, width: int) -> None:
+    rep = shared_report(tmp_path_factory, seeded_store_file)
+    info = print_overflow(rep["out"] / "report.html", tmp_path_factory.mktemp("chromium-print"), width)
+    assert info["width"] == width
+    assert info["over"] == []

@@ -180,6 +180,31 @@ def open_page(path: Path, profile: Path) -> dict:
         dt.close()
 
 
+OVERFLOW_JS = ("JSON.stringify((() => { const w = document.documentElement.clientWidth; const over = [];"
+               " document.querySelectorAll('table, figure, img, dl, p, h1, h2, h3, ul').forEach(e => {"
+               " const r = e.getBoundingClientRect(); if (r.right > w + 1) over.push(e.tagName + '#' +"
+               " (e.id || '') + ' ' + Math.round(r.right)); }); return {width: w, over: over}; })())")
+
+
+def print_overflow(path: Path, profile: Path, width_px: int) -> dict:
+    """Lay the page out with the print stylesheet at ``width_px`` CSS pixels (a paper's text
+    width) and list the elements that stick out on the right."""
+    dt = DevTools(profile)
+    try:
+        target = dt.send("Target.createTarget", {"url": "about:blank"})["targetId"]
+        sid = dt.send("Target.attachToTarget", {"targetId": target, "flatten": True})["sessionId"]
+        dt.send("Page.enable", session=sid)
+        dt.send("Emulation.setEmulatedMedia", {"media": "print"}, session=sid)
+        dt.send("Emulation.setDeviceMetricsOverride", {"width": width_px, "height": 1200,
+                                                        "deviceScaleFactor": 1, "mobile": False}, session=sid)
+        dt.send("Page.navigate", {"url": path.resolve().as_uri()}, session=sid)
+        dt.wait_event("Page.loadEventFired")
+        return json.loads(dt.send("Runtime.evaluate", {"expression": OVERFLOW_JS, "returnByValue": True},
+                                  session=sid)["result"]["value"])
+    finally:
+        dt.close()
+
+
 def non_blank(png: bytes) -> tuple[float, int]:
     """(share of pixels darker than near-white, number of distinct grey levels) of a PNG."""
     import numpy as np
@@ -241,3 +266,12 @@ def test_markdown_escape_renders_user_text_as_text() -> None:
         import html as h
 
         assert h.unescape(inner) == text.replace("\n", " "), (text, html)
+
+
+def test_overflow_check_sees_a_table_wider_than_the_page(tmp_path: Path) -> None:
+    page = tmp_path / "wide.html"
+    page.write_text("<!DOCTYPE html><html><body><table id='t'><tr><td style='white-space:nowrap'>"
+                    + "wide " * 200 + "</td></tr></table></body></html>", encoding="utf-8")
+    info = print_overflow(page, tmp_path / "profile", 400)
+    assert info["width"] == 400
+    assert any(o.startswith("TABLE#t") for o in info["over"])

@@ -121,3 +121,39 @@ def test_from_refuses_extra_electrolytes_or_options(runs: dict, run_main) -> Non
     assert code == 2
     assert err.strip() == ("Error: --from re-runs the manifest's own electrolytes and options; give no "
                            "ELECTROLYTE and no comparison option with it (only --out and --jobs)")
+
+
+def test_time_stamp_follows_source_date_epoch(monkeypatch: pytest.MonkeyPatch) -> None:
+    from saltbench.report.writer import time_stamp
+
+    # the Unix epoch, 1970-01-01 00:00:00 UTC (POSIX.1-2017, sec. 4.16; from memory of the standard)
+    monkeypatch.setenv("SOURCE_DATE_EPOCH", "0")
+    assert time_stamp() == "1970-01-01T00:00:00Z"
+    monkeypatch.setenv("SOURCE_DATE_EPOCH", "86400")  # one day later (common practice, no source)
+    assert time_stamp() == "1970-01-02T00:00:00Z"
+
+
+def test_pdf_bytes_repeat_and_carry_no_creation_date(tmp_path: Path) -> None:
+    import matplotlib
+
+    matplotlib.use("Agg", force=True)
+    import matplotlib.pyplot as plt
+    from saltbench.report.document import Document, Figure, Paragraph, Section, Table
+    from saltbench.report.figures import render_png
+    from saltbench.report.pdf import write_pdf
+
+    fig, ax = plt.subplots(figsize=(3, 2))
+    ax.plot([0, 1, 2], [1, 0.8, 0.9])
+    png = render_png(fig)
+    doc = Document("Two runs", "fixed", "fixed", [Section("s", "1 One", [
+        Paragraph("A paragraph with $dollars$ kept as typed."),
+        Table("t", "A table", ["a", "b"], [["x", "1.5"], ["y", "2"]], [False, True]),
+        Figure("f", "A figure", "alt", png)])])
+    write_pdf(doc, tmp_path / "a.pdf", "0")
+    write_pdf(doc, tmp_path / "b.pdf", "0")
+    a, b = (tmp_path / "a.pdf").read_bytes(), (tmp_path / "b.pdf").read_bytes()
+    assert a == b
+    assert b"/CreationDate" not in a
+    text = subprocess.run([poppler("pdftotext"), str(tmp_path / "a.pdf"), "-"], check=True,
+                          capture_output=True, text=True).stdout
+    assert "A paragraph with $dollars$ kept as typed." in text
