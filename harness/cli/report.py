@@ -54,9 +54,11 @@ def _command_line(app, electrolytes, settings, title, out_dir, from_manifest) ->
 @click.pass_context
 def report(ctx, electrolytes, models, up_to, tol, folds, on, data_sel, temperature_k, out_dir, title,
            from_manifest, jobs):
-    """Compare models on each electrolyte and write the report a lab files when it validates the
-    activity correction of a method: HTML (self-contained, prints on A4 or Letter), PDF,
-    Markdown, CSV tables, figures and a JSON manifest for reproducing it.
+    """Compare models and write it up for a method-validation file, ready to sign.
+
+    The report a lab files when it validates the activity correction of a method: HTML
+    (self-contained, prints on A4 or Letter), PDF, Markdown, CSV tables, figures and a JSON
+    manifest for reproducing it.
 
     The report states its limits. For dosing, safety limits or regulated measurements, verify
     every result under local codes and licensed practice.
