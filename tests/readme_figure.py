@@ -1,6 +1,6 @@
-"""Regenerate docs/report-figure.png: the coefficient figure of a report on the bundled NaCl data.
+"""Regenerate reports/example/report-figure.png: the coefficient figure of a report on the bundled NaCl data.
 
-    python docs/report_figure.py [STORE]
+    python tests/readme_figure.py [STORE]
 
 Uses a throwaway store seeded from the bundled data unless STORE is given.
 """
@@ -25,7 +25,7 @@ def main(argv: list[str]) -> None:
         result = make_report(session, ["NaCl"], CompareSettings(models=MODELS), folder=Path(tmp) / "out",
                              command="saltbench report NaCl --models " + ",".join(MODELS))
         png = next(p for p in result.files if p.name.endswith(".coefficients.png"))
-        target = Path(__file__).resolve().parent / "report-figure.png"
+        target = Path(__file__).resolve().parents[1] / "reports" / "example" / "report-figure.png"
         target.write_bytes(png.read_bytes())
         session.store.close()
         print(f"wrote {target}")
