@@ -72,10 +72,12 @@ def assess(model, plugin: str, e: Electrolyte, data: FitData, published: Publish
             if n_free > 0:
                 out.valid_refit = validity_range(model, e, data, tolerance_ln_gamma=settings.tol_ln_gamma,
                                                  tolerance_phi=settings.tol_phi, folds=settings.folds,
-                                                 dh=dh, full_cv=cv).to_dict()
+                                                 dh=dh, full_cv=cv, stop_early=True).to_dict()
             else:
                 out.valid_refit = validity_range(model, e, data, params={}, tolerance_ln_gamma=settings.tol_ln_gamma,
                                                  tolerance_phi=settings.tol_phi, dh=dh).to_dict()
+            # The comparison keeps only the range and its limits, so each trial's folds stop at
+            # the first one out of tolerance (pass or fail is then known; see validity_range).
             out.valid_refit.pop("trials", None)
             if published is not None:
                 pdh = with_a_phi(dh, published.a_phi, published.set_id) if published.a_phi else dh

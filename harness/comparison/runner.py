@@ -68,6 +68,20 @@ def run_task(task: ElectrolyteTask, settings: CompareSettings, plugin_files: Seq
     return task.electrolyte.name, outs
 
 
+def _warm_before_fork(settings: CompareSettings, registry) -> None:
+    """Do once, here, the set-up every worker needs: the water state (which imports iapws and
+    scipy.optimize) and the plugin registry. Workers started by fork (the default on Linux)
+    inherit them instead of each paying about a second for them; spawned workers still build
+    their own registry, from the same plugin files and disabled names."""
+    global _REGISTRY
+    import scipy.optimize  # noqa: F401  (needed by every fit)
+
+    from saltbench.water.debye_huckel import debye_huckel_constants
+
+    debye_huckel_constants(settings.temperature_k)
+    _REGISTRY = registry
+
+
 def expected_cost(task: ElectrolyteTask) -> float:
     """A rough measure of a task's run time, to schedule large ones first.
 
@@ -90,6 +104,7 @@ def run_comparison(tasks: list[ElectrolyteTask], settings: CompareSettings, *, r
     bar = _progress(len(tasks), progress)
     results: dict[str, list[ModelOutcome]] = {}
     if jobs > 1 and len(tasks) > 1:
+        _warm_before_fork(settings, registry)
         # Largest first, so that no long task starts last while the other workers sit idle.
         by_cost = sorted(tasks, key=expected_cost, reverse=True)
         with ProcessPoolExecutor(max_workers=min(jobs, len(tasks))) as pool:

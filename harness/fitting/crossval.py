@@ -53,6 +53,12 @@ class CrossValidation:
     fold: np.ndarray = field(repr=False)
     flags: list[str] = field(default_factory=list)
     theta: np.ndarray | None = field(default=None, repr=False)  # last fold's parameters
+    folds_run: int | None = None  # fewer than ``folds`` when stopped early (see stop_outside)
+
+    @property
+    def ran(self) -> np.ndarray:
+        """Which points belong to a fold that was run."""
+        return self.fold < (self.folds if self.folds_run is None else self.folds_run)
 
     @property
     def residual(self) -> np.ndarray:
@@ -98,13 +104,22 @@ class CrossValidation:
                        for m, k, o, p, f in zip(self.molality, self.kind, self.observed,
                                                 self.prediction, self.fold)],
             "flags": list(self.flags),
+            **({"folds_run": self.folds_run}
+               if self.folds_run is not None and self.folds_run < self.folds else {}),
         }
 
 
 def cross_validate_problem(problem: FitProblem, folds: int | str = 5,
                            scheme: str = "interleaved",
-                           start: np.ndarray | None = None) -> CrossValidation:
-    """Cross-validate a prepared problem; ``start`` (a full parameter vector) seeds each fold."""
+                           start: np.ndarray | None = None,
+                           stop_outside: tuple[float, float] | None = None) -> CrossValidation:
+    """Cross-validate a prepared problem; ``start`` (a full parameter vector) seeds each fold.
+
+    ``stop_outside`` = (tolerance on ln gamma±, on phi) stops after the first fold with a
+    held-out point outside it, or with no prediction: for a caller that only asks whether every
+    held-out point is within tolerance, the answer is then known. The folds not run keep NaN
+    predictions and ``folds_run`` says how many ran.
+    """
     n = problem.n
     if folds == "loo":
         folds, scheme = n, "interleaved"
@@ -119,7 +134,9 @@ def cross_validate_problem(problem: FitProblem, folds: int | str = 5,
     pred = np.full(n, np.nan)
     flags: list[str] = []
     theta = None
+    folds_run = 0
     for f in range(int(folds)):
+        folds_run = f + 1
         held = labels == f
         train = seeded.subset(~held)
         sol = solve(train)
@@ -128,6 +145,8 @@ def cross_validate_problem(problem: FitProblem, folds: int | str = 5,
             flags.append(f"{label}: too few points ({train.n} for {train.k} free parameters)")
         if sol.prediction is None:
             flags.append(f"{label}: {sol.flags[-1] if sol.flags else sol.message}")
+            if stop_outside is not None:
+                break
             continue
         if not sol.converged:
             flags.append(f"{label}: did not converge: {sol.message}")
@@ -136,9 +155,14 @@ def cross_validate_problem(problem: FitProblem, folds: int | str = 5,
             pred[held] = seeded.subset(held).predict(sol.theta)
         except (ModelError, ModelDomainError) as exc:
             flags.append(f"{label}: model error on held-out points: {exc}")
+        if stop_outside is not None:
+            r = np.abs(problem.obs[held] - pred[held])
+            tol = np.where(problem.is_osm[held], stop_outside[1], stop_outside[0])
+            if not np.all(r <= tol):  # NaN (no prediction) counts as outside
+                break
     kind = np.where(problem.is_osm, "osmotic", "ln_gamma")
     return CrossValidation(scheme, int(folds), problem.molality.copy(), kind, problem.obs.copy(),
-                           pred, labels, flags, theta)
+                           pred, labels, flags, theta, folds_run)
 
 
 def cross_validate(model: ActivityModel, electrolyte: Electrolyte | str, data: FitData, *,

@@ -172,8 +172,17 @@ class FitData:
     def subset(self, selector: np.ndarray) -> FitData:
         """The points picked by a boolean mask or an index array, in that order."""
         sel = np.asarray(selector)
-        return FitData(self.molality[sel], self.value[sel], self.uncertainty[sel],
-                       self.kind[sel], self.dataset[sel], self.electrolyte)
+        parts = (self.molality[sel], self.value[sel], self.uncertainty[sel], self.kind[sel],
+                 self.dataset[sel])
+        if parts[0].ndim != 1:
+            return FitData(*parts, self.electrolyte)
+        # These points passed the checks when this FitData was made; cross-validation takes
+        # thousands of subsets, so they are not checked again.
+        out = object.__new__(FitData)
+        for name, arr in zip(("molality", "value", "uncertainty", "kind", "dataset"), parts):
+            object.__setattr__(out, name, arr)
+        object.__setattr__(out, "electrolyte", self.electrolyte)
+        return out
 
     def up_to(self, max_molality: float) -> FitData:
         """Only the points with m <= ``max_molality`` (mol/kg)."""

@@ -54,6 +54,7 @@ class _Projection:
         self.resid = np.zeros(problem.n)
         self.pred = np.zeros(problem.n)
         self.basis = np.zeros((problem.n, 0))
+        self.design = np.zeros((problem.n, 0))
         self.linear_at_bound: dict[int, str] = {}
         self.failures: list[str] = []
 
@@ -68,6 +69,7 @@ class _Projection:
             offset, design = p.linear_design(theta)
             theta[p.linear], self.basis, self.linear_at_bound = solve_linear(
                 p, offset, design)
+            self.design = design
             pred = offset + design @ theta[p.linear]
         else:
             pred = p.predict(theta)
@@ -172,7 +174,11 @@ def solve(problem: FitProblem, *, max_evaluations: int | None = None,
                      f"{proj.failures[-1]}")
     try:
         prediction = proj.pred
-        jac = p.derivatives(theta, p.free, base=prediction) / p.sigma[:, None]
+        if p.nonlinear.size == 0 and p.linear.size:
+            # Affine in every free parameter: the Jacobian is the design matrix, at any point.
+            jac = proj.design / p.sigma[:, None]
+        else:
+            jac = p.derivatives(theta, p.free, base=prediction) / p.sigma[:, None]
     except _MODEL_FAILURES as exc:
         return Solution(theta, None, None, False, str(exc), flags + [f"model error: {exc}"])
     return Solution(theta, prediction, jac, converged, message, flags, at_bound, iterations)

@@ -25,6 +25,7 @@ from __future__ import annotations
 import math
 from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass, field, replace
+from functools import cached_property
 
 import numpy as np
 from saltbench.chemistry.electrolyte import Electrolyte
@@ -71,8 +72,6 @@ class Block:
     ln_union: np.ndarray = field(init=False, repr=False)
     osm_points: np.ndarray = field(init=False, repr=False)
     osm_union: np.ndarray = field(init=False, repr=False)
-    # ``union`` followed by the Gibbs-Duhem nodes m u^2 of each osmotic molality.
-    with_nodes: np.ndarray = field(init=False, repr=False)
     # The last model values and Jacobian asked for, keyed by model and parameter values: the
     # optimiser asks for the Jacobian at the point it has just evaluated, and the solver again
     # at the solution.
@@ -92,7 +91,12 @@ class Block:
         self.ln_union = self.position[self.ln_points]
         self.osm_points = np.flatnonzero(self.is_osm)
         self.osm_union = self.position[self.osm_points]
-        self.with_nodes = np.concatenate([self.union, (u_osm[:, None] * _NODES**2).ravel()])
+
+    @cached_property
+    def with_nodes(self) -> np.ndarray:
+        """``union`` followed by the Gibbs-Duhem nodes m u^2 of each osmotic molality."""
+        u_osm = self.union[:self.n_osm_unique]
+        return np.concatenate([self.union, (u_osm[:, None] * _NODES**2).ravel()])
 
     def uses(self, index: int) -> list[str]:
         return [name for name, g in self.mapping.items() if g == index]

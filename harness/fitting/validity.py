@@ -136,7 +136,7 @@ def _same_points(cv: CrossValidation | None, problem: FitProblem, folds: int,
 
 
 def _refit_scan(problem: FitProblem, tol_ln: float, tol_phi: float, folds: int, scheme: str,
-                full_cv: CrossValidation | None = None
+                full_cv: CrossValidation | None = None, stop_early: bool = False
                 ) -> tuple[float | None, float | None, list[str], list[dict[str, Any]]]:
     flags: list[str] = []
     trials: list[dict[str, Any]] = []
@@ -164,14 +164,17 @@ def _refit_scan(problem: FitProblem, tol_ln: float, tol_phi: float, folds: int, 
         if start is None and _same_points(full_cv, sub, min(folds, n), scheme):
             cv = full_cv
         else:
-            cv = cross_validate_problem(sub, min(folds, n), scheme, start=start)
+            cv = cross_validate_problem(sub, min(folds, n), scheme, start=start,
+                                        stop_outside=(tol_ln, tol_phi) if stop_early else None)
         if cv.theta is not None:
             start = cv.theta
         ok = _within(cv.residual, cv.kind == "osmotic", tol_ln, tol_phi)
         cache[i] = bool(ok.all())
+        ran = cv.ran
         trials.append({"limit": L, "passed": cache[i], "folds": min(folds, n),
-                       "worst_ln_gamma": _worst(cv.residual, cv.kind == "ln_gamma"),
-                       "worst_osmotic": _worst(cv.residual, cv.kind == "osmotic"),
+                       "folds_run": int(cv.folds_run or cv.folds),
+                       "worst_ln_gamma": _worst(cv.residual, (cv.kind == "ln_gamma") & ran),
+                       "worst_osmotic": _worst(cv.residual, (cv.kind == "osmotic") & ran),
                        "flags": list(cv.flags)})
         if not cache[i] and cv.flags:
             flags.append(f"at trial limit {L:g} mol/kg: {cv.flags[0]}")
@@ -213,7 +216,8 @@ def validity_range(model: ActivityModel, electrolyte: Electrolyte | str, data: F
                    bounds: Mapping[str, tuple[float, float]] | None = None,
                    dh: DebyeHuckel | None = None,
                    temperature_k: float = 298.15,
-                   full_cv: CrossValidation | None = None) -> ValidityRange:
+                   full_cv: CrossValidation | None = None,
+                   stop_early: bool = False) -> ValidityRange:
     """Highest molality (and ionic strength) up to which ``model`` stays within tolerance.
 
     With ``params`` (model parameter names -> values; others at their defaults) the model is
@@ -222,7 +226,10 @@ def validity_range(model: ActivityModel, electrolyte: Electrolyte | str, data: F
     options as for :func:`saltbench.fitting.fit`). ``full_cv`` is the caller's
     :func:`saltbench.fitting.cross_validate` of the same model on all of ``data`` with the same
     options; the scan starts with that very computation and then reuses it (it is checked to
-    cover the same points with the same folds, and ignored otherwise).
+    cover the same points with the same folds, and ignored otherwise). ``stop_early`` ends a
+    trial's cross-validation at its first fold with a held-out point out of tolerance: the
+    range, the limits and pass or fail of every trial stay the same, but a failing trial's
+    worst deviations and flags then cover only the folds run (``folds_run`` in its record).
     """
     from saltbench.fitting.engine import as_electrolyte
 
@@ -236,7 +243,8 @@ def validity_range(model: ActivityModel, electrolyte: Electrolyte | str, data: F
     else:
         problem = build_problem(model, [(e, data)], fixed=fixed, start=start, free=free,
                                 bounds=bounds, dh=dh, temperature_k=temperature_k)
-        result = _refit_scan(problem, tol["ln_gamma"], tol["osmotic"], folds, scheme, full_cv)
+        result = _refit_scan(problem, tol["ln_gamma"], tol["osmotic"], folds, scheme, full_cv,
+                             stop_early)
         mode = "refit"
     last_ok, first_fail, flags, trials = result
     return _finish(e, mode, last_ok, first_fail, float(problem.molality.max()), tol, flags,
