@@ -102,3 +102,19 @@ def test_unknown_model_is_a_user_error(seeded_store, run_main):
     code, out, err = run_main("compare", "NaCl", "--models", "no-such-model", store=seeded_store)
     assert code == 2
     assert err.startswith("Error: unknown model 'no-such-model'")
+
+
+def test_leave_one_out_and_k_fold_both_work(seeded_store, run_main):
+    code, out, err = run_main("compare", "KCl", "--models", "pitzer", "--folds", "loo", "--jobs", "1",
+                              "--format", "json", store=seeded_store)
+    assert code == 0, err
+    loo = json.loads(out)[0]
+    code, out, err = run_main("compare", "KCl", "--models", "pitzer", "--folds", "3", "--jobs", "1",
+                              "--format", "json", store=seeded_store)
+    k3 = json.loads(out)[0]
+    # the same fit; held-out errors differ with the folds but stay near the fit's own residuals
+    assert loo["rms_ln_gamma"] == k3["rms_ln_gamma"]
+    assert loo["heldout_rms_ln_gamma"] != k3["heldout_rms_ln_gamma"]
+    assert loo["rms_ln_gamma"] <= loo["heldout_rms_ln_gamma"] < 3 * loo["rms_ln_gamma"]
+    code, _, err = run_main("compare", "KCl", "--folds", "one", store=seeded_store)
+    assert code == 2 and "--folds" in err

@@ -24,7 +24,8 @@ def settings_options(f):
                      "(default: the whole data range)."),
         click.option("--tol", "tol", default="0.01", show_default=True,
                      help="Tolerance: one number for both |d ln gamma±| and |d phi|, or LNG,PHI."),
-        click.option("--folds", type=int, default=5, show_default=True, help="Cross-validation folds."),
+        click.option("--folds", default="5", show_default=True,
+                     help="Cross-validation folds over molality: a number (k-fold) or 'loo'."),
         click.option("--on", "on", default="", help="Properties to use: gamma, osmotic, water_activity."),
         click.option("--data", "data_sel", default="", help="Comma-separated dataset or source keys."),
         click.option("--temperature", "temperature_k", type=float, default=298.15, show_default=True,
@@ -34,7 +35,7 @@ def settings_options(f):
     return f
 
 
-def build_settings(models: str, up_to, tol: str, folds: int, on: str, data_sel: str, temperature_k: float):
+def build_settings(models: str, up_to, tol: str, folds, on: str, data_sel: str, temperature_k: float):
     from saltbench.comparison.settings import CompareSettings
     from saltbench.errors import UserError
     from saltbench.fitting.selection import parse_on
@@ -45,8 +46,15 @@ def build_settings(models: str, up_to, tol: str, folds: int, on: str, data_sel: 
         raise UserError(f"--tol: expected a number or two (LNG,PHI), found {tol!r}") from None
     if len(parts) not in (1, 2) or any(p <= 0 for p in parts):
         raise UserError("--tol: give one or two positive numbers")
-    if folds < 2:
-        raise UserError("--folds must be at least 2")
+    if str(folds).strip().lower() == "loo":
+        folds = "loo"
+    else:
+        try:
+            folds = int(folds)
+        except ValueError:
+            raise UserError(f"--folds: expected a whole number or 'loo', found {folds!r}") from None
+        if folds < 2:
+            raise UserError("--folds must be at least 2")
     tl, tp = (parts[0], parts[0]) if len(parts) == 1 else parts
     return CompareSettings(
         models=tuple(m.strip() for m in models.split(",") if m.strip()), up_to=up_to,
@@ -91,7 +99,7 @@ def compare(app, electrolytes, all_, models, up_to, tol, folds, on, data_sel, te
         emit([{**r, "flags": "; ".join(r["flags"])} for r in records], fmt, CSV_COLUMNS)
         return
     click.echo(f"Tolerance: |d ln gamma±| <= {settings.tol_ln_gamma:g}, |d phi| <= {settings.tol_phi:g}; "
-               f"held-out error by {settings.folds}-fold cross-validation over molality; T = "
+               f"held-out error by {settings.folds_text} over molality; T = "
                f"{settings.temperature_k:g} K. Molalities in mol/kg.")
     for name, outs in comp.outcomes.items():
         rec = comp.recommendations[name]

@@ -70,7 +70,7 @@ def assess(model, plugin: str, e: Electrolyte, data: FitData, published: Publish
         if settings.validity_scan:
             if n_free > 0:
                 out.valid_refit = validity_range(model, e, data, tolerance_ln_gamma=settings.tol_ln_gamma,
-                                                 tolerance_phi=settings.tol_phi, folds=settings.folds,
+                                                 tolerance_phi=settings.tol_phi, folds=settings.scan_folds,
                                                  dh=dh, full_cv=cv, stop_early=True).to_dict()
             else:
                 out.valid_refit = validity_range(model, e, data, params={}, tolerance_ln_gamma=settings.tol_ln_gamma,

@@ -11,12 +11,21 @@ class CompareSettings:
     up_to: float | None = None  # mol/kg; None: the whole data range
     tol_ln_gamma: float = 0.01
     tol_phi: float = 0.01
-    folds: int = 5
+    folds: int | str = 5  # a number of folds, or "loo" for leave-one-out
     temperature_k: float = 298.15
     on: tuple[str, ...] = ("gamma_pm", "osmotic", "water_activity")
     datasets: tuple[str, ...] = ()
     validity_scan: bool = True
     extra: dict = field(default_factory=dict)
+
+    @property
+    def scan_folds(self) -> int:
+        """Folds for the validity scan: leave-one-out means one fold per point at every trial."""
+        return 10**9 if self.folds == "loo" else int(self.folds)
+
+    @property
+    def folds_text(self) -> str:
+        return "leave-one-out cross-validation" if self.folds == "loo" else f"{self.folds}-fold cross-validation"
 
     def to_dict(self) -> dict:
         d = asdict(self)

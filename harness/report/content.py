@@ -119,7 +119,7 @@ def _scope(comparison, facts: ReportFacts) -> Section:
             ("Temperature", f"{s.temperature_k:g} K ({s.temperature_k - 273.15:.2f} °C)"),
             ("Molality range", "; ".join(ranges)),
             ("Tolerance", tolerance_text(s)),
-            ("Held-out error", f"{s.folds}-fold cross-validation over molality"),
+            ("Held-out error", f"{s.folds_text} over molality"),
             ("Properties used", ", ".join(PROPERTY_NAMES.get(p, p) for p in s.on)),
             ("Datasets", ", ".join(s.datasets) if s.datasets else "every stored dataset of each electrolyte"),
             ("Models", ", ".join(order)),
