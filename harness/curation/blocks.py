@@ -50,6 +50,38 @@ class Block:
         f = self.header.get(name)
         return InputFileError(self.path, f.line if f else None, name, problem)
 
+    def check_fields(self, allowed: set[str] | frozenset[str], what: str = "") -> None:
+        """Refuse a header field not in ``allowed``, naming its line."""
+        for name, hf in self.header.items():
+            if name not in allowed:
+                raise InputFileError(self.path, hf.line, name, f"unknown header field{what} "
+                                     f"(known: {', '.join(sorted(allowed))})")
+
+    def temperature_k(self) -> float:
+        """The required ``temperature`` field in kelvin, within the range water properties allow."""
+        from saltbench.curation.units import parse_temperature
+        from saltbench.water.properties import T_MAX, T_MIN
+
+        tf = self.require("temperature")
+        try:
+            value = parse_temperature(tf.value)
+        except ValueError as exc:
+            raise InputFileError(self.path, tf.line, "temperature", str(exc)) from None
+        if not (T_MIN <= value <= T_MAX):
+            raise InputFileError(self.path, tf.line, "temperature", f"{value:g} K is outside "
+                                 f"{T_MIN:g}-{T_MAX:g} K")
+        return value
+
+    def electrolyte(self, declared: dict):
+        """The required ``electrolyte`` field as an Electrolyte (with ions declared in the file)."""
+        from saltbench.chemistry.electrolyte import parse_formula
+
+        ef = self.require("electrolyte")
+        try:
+            return parse_formula(ef.value, declared)
+        except ValueError as exc:
+            raise InputFileError(self.path, ef.line, "electrolyte", str(exc)) from None
+
 
 def read_text(path: str | Path) -> str:
     p = Path(path)

@@ -14,12 +14,12 @@ from pathlib import Path
 
 import numpy as np
 
-from saltbench.chemistry.electrolyte import Electrolyte, parse_formula
+from saltbench.chemistry.electrolyte import Electrolyte
 from saltbench.chemistry.ions import KNOWN_IONS, Ion, formula_mass
 from saltbench.curation import units
 from saltbench.curation.blocks import Block, parse_block, parse_float
 from saltbench.errors import InputFileError
-from saltbench.water.properties import T_MAX, T_MIN, water_state
+from saltbench.water.properties import water_state
 
 MAGIC = "saltbench dataset"
 PROPERTIES = ("gamma_pm", "osmotic", "water_activity")
@@ -123,16 +123,9 @@ def read_dataset(path: str | Path, text: str | None = None) -> Dataset:
     """Read and validate one dataset file. Raises InputFileError naming file, line and field."""
     b = parse_block(path, MAGIC, multi=frozenset({"cation", "anion"}), text=text)
     p = b.path
-    for name, hf in b.header.items():
-        if name not in KNOWN_FIELDS:
-            raise InputFileError(p, hf.line, name, f"unknown header field (known: {', '.join(sorted(KNOWN_FIELDS))})")
-
+    b.check_fields(KNOWN_FIELDS)
     declared = _declared_ions(b)
-    ef = b.require("electrolyte")
-    try:
-        electrolyte = parse_formula(ef.value, declared)
-    except ValueError as exc:
-        raise InputFileError(p, ef.line, "electrolyte", str(exc)) from None
+    electrolyte = b.electrolyte(declared)
 
     prop = b.require("property")
     if prop.value not in PROPERTIES:
@@ -147,14 +140,7 @@ def read_dataset(path: str | Path, text: str | None = None) -> Dataset:
     if scale not in SCALES:
         raise b.error("scale", f"unknown concentration scale {scale!r} (known: {', '.join(SCALES)})")
 
-    tf = b.require("temperature")
-    try:
-        temperature_k = units.parse_temperature(tf.value)
-    except ValueError as exc:
-        raise InputFileError(p, tf.line, "temperature", str(exc)) from None
-    if not (T_MIN <= temperature_k <= T_MAX):
-        raise InputFileError(p, tf.line, "temperature", f"{temperature_k:g} K is outside "
-                             f"{T_MIN:g}-{T_MAX:g} K")
+    temperature_k = b.temperature_k()
     pressure_pa = 101325.0
     if b.get("pressure"):
         try:

@@ -8,10 +8,8 @@ import re
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from saltbench.curation import units
 from saltbench.curation.blocks import parse_block, parse_float
 from saltbench.errors import InputFileError
-from saltbench.water.properties import T_MAX, T_MIN
 
 MAGIC = "saltbench parameters"
 KNOWN_FIELDS = {"set", "model", "source", "table", "temperature", "a_phi", "typed", "note"}
@@ -58,24 +56,15 @@ class ParameterFile:
 def read_parameter_file(path: str | Path) -> ParameterFile:
     b = parse_block(path, MAGIC)
     p = b.path
-    for name, hf in b.header.items():
-        if name not in KNOWN_FIELDS:
-            raise InputFileError(p, hf.line, name, f"unknown header field (known: {', '.join(sorted(KNOWN_FIELDS))})")
+    b.check_fields(KNOWN_FIELDS)
     set_f = b.require("set")
     if not SET_ID.match(set_f.value):
         raise InputFileError(p, set_f.line, "set", "set ids are lower-case words joined by hyphens")
     model = b.require("model")
     source = b.require("source")
-    tf = b.require("temperature")
-    try:
-        temperature_k = units.parse_temperature(tf.value)
-    except ValueError as exc:
-        raise InputFileError(p, tf.line, "temperature", str(exc)) from None
     # Same range as datasets; without it "-300 C" reached the schema's CHECK (temperature_k > 0)
     # and surfaced as an SQLite traceback.
-    if not (T_MIN <= temperature_k <= T_MAX):
-        raise InputFileError(p, tf.line, "temperature", f"{temperature_k:g} K is outside "
-                             f"{T_MIN:g}-{T_MAX:g} K")
+    temperature_k = b.temperature_k()
     a_phi = None
     if b.get("a_phi"):
         a_phi = parse_float(p, b.header["a_phi"].line, "a_phi", b.get("a_phi") or "")

@@ -17,12 +17,10 @@ from pathlib import Path
 import numpy as np
 from saltbench.chemistry.electrolyte import Electrolyte, parse_formula
 from saltbench.chemistry.ions import Ion
-from saltbench.curation import units
 from saltbench.curation.blocks import Block, parse_block, parse_float
 from saltbench.curation.datasets import TYPED_FORMS, _declared_ions
 from saltbench.errors import InputFileError, UserError
 from saltbench.measurements.methods import KINDS, default_method, method_for
-from saltbench.water.properties import T_MAX, T_MIN
 
 MAGIC = "saltbench readings"
 COMMON_FIELDS = {"kind", "electrolyte", "temperature", "source", "typed", "method", "note", "id",
@@ -204,24 +202,10 @@ def read_readings(path: str | Path, text: str | None = None) -> MeasurementSet:
         raise InputFileError(p, kf.line, "kind", f"unknown kind {kf.value!r} (known: {', '.join(KINDS)})")
     kind = kf.value
     allowed = COMMON_FIELDS | KIND_FIELDS[kind]
-    for name, hf in b.header.items():
-        if name not in allowed:
-            raise InputFileError(p, hf.line, name, f"unknown header field for {kind} readings "
-                                 f"(known: {', '.join(sorted(allowed))})")
+    b.check_fields(allowed, f" for {kind} readings")
     declared = _declared_ions(b)
-    ef = b.require("electrolyte")
-    try:
-        electrolyte = parse_formula(ef.value, declared)
-    except ValueError as exc:
-        raise InputFileError(p, ef.line, "electrolyte", str(exc)) from None
-    tf = b.require("temperature")
-    try:
-        temperature_k = units.parse_temperature(tf.value)
-    except ValueError as exc:
-        raise InputFileError(p, tf.line, "temperature", str(exc)) from None
-    if not (T_MIN <= temperature_k <= T_MAX):
-        raise InputFileError(p, tf.line, "temperature", f"{temperature_k:g} K is outside "
-                             f"{T_MIN:g}-{T_MAX:g} K")
+    electrolyte = b.electrolyte(declared)
+    temperature_k = b.temperature_k()
     source = b.require("source")
     typed = b.require("typed")
     if not typed.value.lower().startswith(TYPED_FORMS):
