@@ -34,6 +34,7 @@ from __future__ import annotations
 from dataclasses import replace
 
 import numpy as np
+
 from saltbench.chemistry.electrolyte import Electrolyte
 from saltbench.models import ActivityModel, EvalContext, Parameter, Validity, hookimpl
 

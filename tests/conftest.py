@@ -16,6 +16,7 @@ from pathlib import Path
 
 import pytest
 from click.testing import CliRunner
+
 from saltbench.store import open_store
 from saltbench.store.connection import Store
 

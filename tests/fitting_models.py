@@ -17,6 +17,7 @@ All synthetic data here are generated from these formulas with stated Gaussian n
 from __future__ import annotations
 
 import numpy as np
+
 from saltbench.fitting import FitData
 from saltbench.models import ActivityModel, Parameter
 

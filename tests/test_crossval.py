@@ -8,6 +8,7 @@ from __future__ import annotations
 import numpy as np
 import pytest
 from fitting_models import ExtendedDH, NaNModel, PowerSeries, synthetic
+
 from saltbench.chemistry.electrolyte import parse_formula
 from saltbench.errors import UserError
 from saltbench.fitting import cross_validate, fit

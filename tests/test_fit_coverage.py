@@ -9,9 +9,10 @@ from __future__ import annotations
 import numpy as np
 import pytest
 from fitting_models import ExtendedDH, synthetic
+from scipy import stats
+
 from saltbench.chemistry.electrolyte import parse_formula
 from saltbench.fitting import fit
-from scipy import stats
 
 NACL = parse_formula("NaCl")
 GRID = np.round(np.linspace(0.05, 2.0, 20), 3)

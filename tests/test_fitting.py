@@ -24,13 +24,14 @@ from fitting_models import (
     ext_dh_osmotic,
     synthetic,
 )
+from scipy import stats
+
 from saltbench.chemistry.electrolyte import parse_formula
 from saltbench.errors import FitError, UserError
 from saltbench.fitting import FitData, criteria, fit, fit_joint, parse_assignments, propagate
 from saltbench.models.evaluate import make_context, osmotic_by_gibbs_duhem
 from saltbench.plugins.davies import Davies
 from saltbench.water import debye_huckel_constants
-from scipy import stats
 
 NACL = parse_formula("NaCl")
 GRID = np.round(np.arange(0.1, 3.01, 0.1), 2)  # invented molality grid, mol/kg

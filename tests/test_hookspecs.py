@@ -3,8 +3,8 @@
 import inspect
 
 import pluggy
-
 from developers_blocks import DEVELOPERS, render
+
 from saltbench.models import hookspecs
 from saltbench.models.discovery import HOOK_NAMES
 

@@ -10,6 +10,7 @@ from pathlib import Path
 
 import pytest
 from conftest import write
+
 from saltbench.store import open_store
 from saltbench.store.queries import content_hash
 

@@ -12,6 +12,7 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+
 from saltbench.chemistry.electrolyte import parse_formula
 from saltbench.curation.bibliography import read_bibliography
 from saltbench.curation.parameters import read_parameter_file

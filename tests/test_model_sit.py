@@ -4,8 +4,8 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-
 from _handbook import CACL2_GAMMA, CACL2_M
+
 from saltbench.chemistry.electrolyte import parse_formula
 from saltbench.curation.parameters import read_parameter_file
 from saltbench.models.contract_kit import assert_model_contract

@@ -2,8 +2,8 @@
 
 import numpy as np
 import pytest
-
 from _handbook import CACL2_GAMMA, CACL2_M
+
 from saltbench.chemistry.electrolyte import parse_formula
 from saltbench.errors import ModelDomainError, ModelError
 from saltbench.models.contract_kit import assert_model_contract

@@ -1,9 +1,8 @@
 """Truesdell-Jones and b-dot: contract, reductions, and handbook CaCl2 values."""
 
 import numpy as np
-import pytest
-
 from _handbook import CACL2_GAMMA, CACL2_M
+
 from saltbench.chemistry.electrolyte import parse_formula
 from saltbench.models.contract_kit import assert_model_contract
 from saltbench.models.evaluate import evaluate

@@ -19,6 +19,7 @@ import numpy as np
 import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
+
 from saltbench.chemistry.electrolyte import Electrolyte
 from saltbench.chemistry.ions import KNOWN_IONS
 from saltbench.errors import ModelDomainError

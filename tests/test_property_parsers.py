@@ -16,6 +16,7 @@ import numpy as np
 import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
+
 from saltbench.chemistry.electrolyte import parse_formula
 from saltbench.chemistry.ions import KNOWN_IONS
 from saltbench.curation.datasets import read_dataset

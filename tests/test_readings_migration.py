@@ -7,6 +7,7 @@ from pathlib import Path
 
 import pytest
 from conftest import write
+
 from saltbench.store import connection, ingest, open_store
 from saltbench.store.queries import content_hash
 from saltbench.store.schema import MIGRATIONS

@@ -252,6 +252,7 @@ def test_markdown_escape_renders_user_text_as_text() -> None:
     """Rendered by markdown-it-py (a CommonMark reference implementation), escaped user text
     comes back as the same text with no element of its own."""
     from markdown_it import MarkdownIt
+
     from saltbench.report.markdown import escape
 
     md = MarkdownIt("commonmark").enable("table")

@@ -11,8 +11,9 @@ from pathlib import Path
 
 import pytest
 from conftest import copy_store
-from saltbench.errors import UserError
 from test_report_common import poppler, run
+
+from saltbench.errors import UserError
 
 TITLE = "../../etc"
 ARGS = ("report", "NaCl", "--models", "davies,pitzer", "--title", TITLE, "--jobs", "1")
@@ -138,6 +139,7 @@ def test_pdf_bytes_repeat_and_carry_no_creation_date(tmp_path: Path) -> None:
 
     matplotlib.use("Agg", force=True)
     import matplotlib.pyplot as plt
+
     from saltbench.report.document import Document, Figure, Paragraph, Section, Table
     from saltbench.report.figures import render_png
     from saltbench.report.pdf import write_pdf

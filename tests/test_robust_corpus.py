@@ -13,6 +13,7 @@ import json
 from pathlib import Path
 
 import pytest
+
 from saltbench.store import open_store
 from saltbench.store.queries import content_hash
 

@@ -12,6 +12,7 @@ import os
 from pathlib import Path
 
 import pytest
+
 from saltbench.errors import UserError
 from saltbench.scaffold.names import inside
 

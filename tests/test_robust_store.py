@@ -20,6 +20,7 @@ from pathlib import Path
 
 import pytest
 from conftest import copy_store, write
+
 from saltbench.store import open_store, queries
 from saltbench.store.ingest import ingest
 from saltbench.store.queries import content_hash

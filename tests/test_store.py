@@ -7,6 +7,7 @@ from pathlib import Path
 
 import pytest
 from conftest import bundle_copy, copy_store, write
+
 from saltbench.api import Session
 from saltbench.errors import StoreError
 from saltbench.store import open_store, resolve_store_path

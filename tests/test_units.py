@@ -14,6 +14,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 from conftest import write
+
 from saltbench.curation import units
 from saltbench.curation.datasets import read_dataset
 from saltbench.errors import InputFileError

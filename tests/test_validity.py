@@ -10,6 +10,7 @@ from __future__ import annotations
 import numpy as np
 import pytest
 from fitting_models import ExtendedDH, RaisingModel, synthetic
+
 from saltbench.chemistry.electrolyte import parse_formula
 from saltbench.fitting import FitData, validity_range
 from saltbench.fitting.validity import DATA_END

@@ -10,9 +10,10 @@ import math
 
 import numpy as np
 import pytest
+from scipy import constants as sc
+
 from saltbench.errors import UserError
 from saltbench.water import T_MAX, T_MIN, debye_huckel_constants, water_state, with_a_phi
-from scipy import constants as sc
 
 EPS_WYMAN_INGALLS_25C = 78.54  # from memory of Wyman and Ingalls (1938): the older tables' value
 

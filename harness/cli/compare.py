@@ -104,7 +104,8 @@ def compare(app, electrolytes, all_, models, up_to, tol, folds, on, data_sel, te
     for name, outs in comp.outcomes.items():
         rec = comp.recommendations[name]
         ds = comp.datasets[name]
-        memo = " (includes data typed from memory: verify before regulated use)" if any(d["from_memory"] for d in ds) else ""
+        memo = (" (includes data typed from memory: verify before regulated use)"
+                if any(d["from_memory"] for d in ds) else "")
         click.echo("")
         click.echo(f"== {name}: {sum(d['n_points'] for d in ds)} points from {len(ds)} dataset(s), "
                    f"up to {rec.target_molality:g} mol/kg{memo}")

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import click
+
 from saltbench.cli.output import emit, format_option, table
 
 

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import click
+
 from saltbench.cli.output import emit
 
 FORMATS = ("table", "json")
@@ -47,6 +48,7 @@ def ion_activity(app, salts: tuple[str, ...], convention: str, temperature_k: fl
     is the measurable one. The Bates-Guggenheim convention is refused above I = 0.1 mol/kg.
     """
     import numpy as np
+
     from saltbench.measurements.conventions import SINGLE_ION_CAVEAT
     from saltbench.measurements.nernst import CALIBRATION_CAUTION
     from saltbench.measurements.workflow import ion_activity as compute

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import click
+
 from saltbench.cli.output import emit, format_option, table
 
 KIND_LABEL = {"emf": "E", "electrode_calibration": "E", "isopiestic": "m_ref",
@@ -163,6 +164,7 @@ def _plot(ext, key: str, path: str) -> None:
 def show(app, key: str, plot_path: str | None, fmt: str) -> None:
     """A measurement set: its header, readings, E° extrapolation points and stored reduction."""
     import numpy as np
+
     from saltbench.errors import UserError
     from saltbench.measurements.nernst import CALIBRATION_CAUTION
     from saltbench.measurements.reduce import standard_emf_extrapolation

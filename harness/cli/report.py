@@ -7,6 +7,7 @@ import sys
 from pathlib import Path
 
 import click
+
 from saltbench.cli.compare import build_settings, settings_options
 
 SETTING_PARAMS = ("models", "up_to", "tol", "folds", "on", "data_sel", "temperature_k", "title")

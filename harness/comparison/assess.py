@@ -8,6 +8,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
+
 from saltbench.chemistry.electrolyte import Electrolyte
 from saltbench.comparison.outcome import ModelOutcome
 from saltbench.comparison.settings import CompareSettings

@@ -75,6 +75,7 @@ def _warm_before_fork(settings: CompareSettings, registry) -> None:
     their own registry, from the same plugin files and disabled names."""
     global _REGISTRY
     import scipy.optimize  # noqa: F401  (needed by every fit)
+
     from saltbench.water.debye_huckel import debye_huckel_constants
 
     debye_huckel_constants(settings.temperature_k)

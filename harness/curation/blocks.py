@@ -158,7 +158,8 @@ def parse_block(path: str | Path, magic_prefix: str, multi: frozenset[str] = fro
         if cells[0].lstrip().startswith("#"):
             continue
         if len(cells) != len(columns):
-            raise InputFileError(p, n, None, f"expected {len(columns)} cells ({', '.join(columns)}), found {len(cells)}")
+            raise InputFileError(p, n, None, f"expected {len(columns)} cells ({', '.join(columns)}), "
+                                 f"found {len(cells)}")
         rows.append((n, {c: v.strip() for c, v in zip(columns, cells)}))
     return Block(p, magic, header, repeated, columns, columns_line, rows, text)
 

@@ -1,8 +1,9 @@
 """Fitting: weighted least squares with covariance, cross-validation and validity ranges.
 
 Works on in-memory data (:class:`FitData`); models are called only through
-:func:`saltbench.models.evaluate.call_model`, with the same checks as ``evaluate``. Modules: ``data`` (observations), ``problem`` (parameter
-vector, predictions, derivatives), ``least_squares`` (variable projection), ``result``
+:func:`saltbench.models.evaluate.call_model`, with the same checks as ``evaluate``.
+Modules: ``data`` (observations), ``problem`` (parameter vector, predictions, derivatives),
+``least_squares`` (variable projection), ``result``
 (covariance, statistics, flags), ``criteria`` (AIC, AICc, BIC), ``uncertainty`` (propagation),
 ``crossval`` (held-out error), ``validity`` (validity ranges), ``engine`` (entry points).
 """

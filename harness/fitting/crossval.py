@@ -15,6 +15,7 @@ from dataclasses import dataclass, field
 from typing import Any
 
 import numpy as np
+
 from saltbench.chemistry.electrolyte import Electrolyte
 from saltbench.errors import ModelDomainError, ModelError, UserError
 from saltbench.fitting.data import FitData

@@ -12,6 +12,7 @@ from collections.abc import Iterable, Sequence
 from dataclasses import dataclass
 
 import numpy as np
+
 from saltbench.errors import UserError
 from saltbench.water.properties import MOLAR_MASS_WATER
 

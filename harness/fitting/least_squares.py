@@ -20,6 +20,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 
 import numpy as np
+
 from saltbench.errors import ModelDomainError, ModelError
 from saltbench.fitting.problem import FitProblem
 

@@ -28,6 +28,7 @@ from dataclasses import dataclass, field, replace
 from functools import cached_property
 
 import numpy as np
+
 from saltbench.chemistry.electrolyte import Electrolyte
 from saltbench.errors import FitError, ModelDomainError, ModelError, UserError
 from saltbench.fitting.data import FitData

@@ -26,6 +26,7 @@ from dataclasses import dataclass, field
 from typing import Any
 
 import numpy as np
+
 from saltbench.fitting import criteria
 from saltbench.fitting.least_squares import Solution
 from saltbench.fitting.problem import FitProblem

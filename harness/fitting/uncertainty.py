@@ -13,6 +13,7 @@ from dataclasses import dataclass, replace
 from typing import Any
 
 import numpy as np
+
 from saltbench.chemistry.electrolyte import Electrolyte
 from saltbench.errors import UserError
 from saltbench.fitting.data import FitData

@@ -23,6 +23,7 @@ from dataclasses import dataclass, field
 from typing import Any, Literal
 
 import numpy as np
+
 from saltbench.chemistry.electrolyte import Electrolyte
 from saltbench.errors import ModelDomainError, ModelError
 from saltbench.fitting.crossval import CrossValidation, cross_validate_problem

@@ -15,6 +15,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 import numpy as np
+
 from saltbench.chemistry.electrolyte import Electrolyte, parse_formula
 from saltbench.chemistry.ions import Ion
 from saltbench.curation.blocks import Block, parse_block, parse_float

@@ -14,6 +14,7 @@ from collections.abc import Callable
 from dataclasses import dataclass, field
 
 import numpy as np
+
 from saltbench.errors import UserError
 from saltbench.measurements.emf_cell import (
     CellSpec,

@@ -36,7 +36,7 @@ def resolve_store_path(path: str | os.PathLike[str] | None = None) -> Path:
 
 
 def _now() -> str:
-    return _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds")
+    return _dt.datetime.now(_dt.UTC).isoformat(timespec="seconds")
 
 
 class Store:

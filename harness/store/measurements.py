@@ -15,6 +15,7 @@ from pathlib import Path
 
 import numpy as np
 import pandas as pd
+
 from saltbench import __version__
 from saltbench.chemistry.electrolyte import parse_formula
 from saltbench.curation.bibliography import read_bibliography

@@ -58,7 +58,7 @@ def resolve(store: Store, model: ActivityModel, electrolyte: Electrolyte, set_ro
                     break
     # values of a fitted set are stored under the model's own parameter names
     if kind == "fitted" and elec:
-        for name, (v, se, mm) in elec.items():
+        for name, (v, se, _) in elec.items():
             values.setdefault(name, v)
             if se is not None:
                 stderr.setdefault(name, se)
@@ -105,4 +105,5 @@ def list_sets(store: Store):
     return pd.DataFrame(list(store.db.query(
         "SELECT s.set_id, s.kind, s.model, s.source, s.table_ref, s.a_phi, s.from_memory, s.origin, "
         "COUNT(DISTINCT v.target) AS n_targets, GROUP_CONCAT(DISTINCT v.target) AS targets "
-        "FROM parameter_sets s LEFT JOIN parameter_values v ON v.set_pk = s.id GROUP BY s.id ORDER BY s.model, s.set_id")))
+        "FROM parameter_sets s LEFT JOIN parameter_values v ON v.set_pk = s.id "
+        "GROUP BY s.id ORDER BY s.model, s.set_id")))

@@ -28,7 +28,8 @@ def electrolytes(store: Store) -> pd.DataFrame:
            COALESCE(SUM(d.n_points), 0) AS n_points,
            GROUP_CONCAT(DISTINCT d.property) AS properties,
            GROUP_CONCAT(DISTINCT d.source) AS sources,
-           MAX(CASE WHEN d.property <> 'water_activity' THEN (SELECT MAX(molality) FROM points p WHERE p.dataset_id = d.id) END) AS max_molality,
+           MAX(CASE WHEN d.property <> 'water_activity'
+                    THEN (SELECT MAX(molality) FROM points p WHERE p.dataset_id = d.id) END) AS max_molality,
            MAX(d.from_memory) AS any_from_memory
     FROM electrolytes e JOIN datasets d ON d.electrolyte = e.name
     GROUP BY e.name ORDER BY e.charge_type, e.name

@@ -203,8 +203,9 @@ def baseline_pitzer_fit(data) -> np.ndarray:
 
 def baseline_model_fit(model, e, data, free) -> np.ndarray:
     """curve_fit with finite differences over the model evaluated one point at a time."""
-    from saltbench.models.evaluate import evaluate
     from scipy.optimize import curve_fit
+
+    from saltbench.models.evaluate import evaluate
 
     names = [p.name for p in free]
     defaults = model.defaults(e)
@@ -430,8 +431,9 @@ def bench_startup(quick: bool) -> dict[str, Any]:
 # -- scaling -----------------------------------------------------------------------------------
 def denser(data, factor: int):
     """SYNTHETIC: each dataset of ``data`` interpolated onto a grid ``factor`` times denser."""
-    from saltbench.fitting import FitData
     from scipy.interpolate import PchipInterpolator
+
+    from saltbench.fitting import FitData
 
     if factor == 1:
         return data

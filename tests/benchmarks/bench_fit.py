@@ -18,6 +18,7 @@ import statistics
 import time
 
 import numpy as np
+
 from saltbench.chemistry.electrolyte import parse_formula
 from saltbench.fitting import FitData, fit
 from saltbench.models import ActivityModel, Parameter
