@@ -70,7 +70,9 @@ def register_models(context: PluginContext) -> list[ActivityModel]:
 def register_report_sections(context: PluginContext) -> list[Any]:
     """Contribute extra report sections: objects with ``title`` and ``render(comparison)``.
 
-    ``render`` returns Markdown text (it is escaped and converted for HTML by the report writer).
-    Called once per report, after the built-in sections are laid out; sections appear in
-    plugin load order at the end of the report body.
+    ``render`` receives the :class:`saltbench.comparison.runner.Comparison` and returns plain
+    text, paragraphs separated by blank lines; it is escaped in every output format. Called once
+    per report; the sections appear in plugin load order after the per-electrolyte sections and
+    before the limits and cautions. A section whose ``render`` raises is replaced by a note
+    saying so, and the report is still written.
     """

@@ -51,6 +51,7 @@ class ReportFacts:
     models: dict[str, dict] = field(default_factory=dict)  # id -> {"name", "plugin"}
     electrolytes: dict[str, str] = field(default_factory=dict)  # name -> charge type label
     figures: dict[str, list] = field(default_factory=dict)  # electrolyte -> [FigureImage]
+    extra_sections: list[tuple[str, str, str]] = field(default_factory=list)  # plugin, title, text
 
 
 def tolerance_text(settings) -> str:
@@ -82,6 +83,11 @@ def build_document(comparison, facts: ReportFacts) -> Document:
     for i, name in enumerate(comparison.outcomes, start=3):
         doc.sections.append(_electrolyte(comparison, facts, name, i))
     n = len(comparison.outcomes) + 3
+    for plugin, title, text in facts.extra_sections:
+        paragraphs = [Paragraph(p.strip()) for p in text.split("\n\n") if p.strip()]
+        doc.sections.append(Section(f"plugin-{n}", f"{n} {title}",
+                                    [*paragraphs, Paragraph(f"(Section contributed by plugin {plugin}.)")]))
+        n += 1
     doc.sections.append(_cautions(comparison, n, s))
     doc.sections.append(_reproduce(facts, n + 1))
     doc.sections.append(Section("sign-off", f"{n + 2} Review and sign-off", [

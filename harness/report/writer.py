@@ -94,6 +94,19 @@ def _parameter_sets(session, comparison) -> list[dict]:
     return out
 
 
+def _plugin_sections(reg, comparison) -> list[tuple[str, str, str]]:
+    """Sections from ``register_report_sections``; a failing one becomes a visible note."""
+    out = []
+    for rec, section in reg.call_list_hook("register_report_sections"):
+        title = str(getattr(section, "title", "") or f"Section from plugin {rec.name}")
+        try:
+            text = str(section.render(comparison))
+        except Exception as exc:  # a plugin's bug must not stop the report
+            text = f"This section could not be produced: {type(exc).__name__}: {exc}"
+        out.append((rec.name, title, text))
+    return out
+
+
 def _sha256(path: Path) -> str:
     return hashlib.sha256(path.read_bytes()).hexdigest()
 
@@ -128,12 +141,13 @@ def make_report(session, electrolytes, settings, *, title: str | None = None, fo
     store_path = str(session.store.path) if session.store.path else "(in memory)"
     store_hash = session.content_hash()
     figures = _figures(comparison, residuals)
+    extra = _plugin_sections(reg, comparison)
     facts = ReportFacts(title=title, created=created, command=command, software_version=__version__,
                         python=platform.python_version(), platform=platform.platform(),
                         store_path=store_path, store_hash=store_hash, manifest_name=MANIFEST_NAME,
                         plugins=plugins, models=models,
                         electrolytes={n: e.charge_label for n, e in electrolyte_objs.items()},
-                        figures=figures)
+                        figures=figures, extra_sections=extra)
     doc = build_document(comparison, facts)
 
     try:
