@@ -125,8 +125,14 @@ class Pitzer(ActivityModel):
         alpha1 = 1.4; alpha1 = 2 otherwise (Pitzer and Mayorga 1973, 1974)."""
         if electrolyte is None:
             return self.parameters
-        a1, a2 = self.alphas_for(electrolyte)
         is_22 = electrolyte.charge_type == (2, 2)
+        # The answer depends only on whether the salt is 2-2; a fit asks for it every time, so
+        # it is kept per instance (checked against ``parameters`` in case that was replaced).
+        cache = self.__dict__.setdefault("_parameters_for", {})
+        hit = cache.get(is_22)
+        if hit is not None and hit[0] is self.parameters:
+            return hit[1]
+        a1, a2 = self.alphas_for(electrolyte)
         out = []
         for p in self.parameters:
             if p.name == "alpha1":
@@ -136,7 +142,8 @@ class Pitzer(ActivityModel):
             elif p.name == "beta2" and not is_22:
                 p = replace(p, fixed=True)
             out.append(p)
-        return tuple(out)
+        cache[is_22] = (self.parameters, tuple(out))
+        return cache[is_22][1]
 
     # -- shared pieces ----------------------------------------------------------------------
     @staticmethod

@@ -10,6 +10,7 @@ from __future__ import annotations
 
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass
+from functools import cached_property
 
 import numpy as np
 
@@ -162,13 +163,15 @@ class FitData:
     def __len__(self) -> int:
         return self.n
 
-    @property
+    # Comparing an object array of strings is slow next to the arithmetic of a fit, which asks
+    # for these often; the masks are kept, read-only so that a caller cannot corrupt them.
+    @cached_property
     def is_osmotic(self) -> np.ndarray:
-        return self.kind == OSMOTIC
+        return _frozen(self.kind == OSMOTIC)
 
-    @property
+    @cached_property
     def is_ln_gamma(self) -> np.ndarray:
-        return self.kind == LN_GAMMA
+        return _frozen(self.kind == LN_GAMMA)
 
     def subset(self, selector: np.ndarray) -> FitData:
         """The points picked by a boolean mask or an index array, in that order."""
@@ -199,6 +202,11 @@ class FitData:
 
     def sorted_by_molality(self) -> FitData:
         return self.subset(np.argsort(self.molality, kind="stable"))
+
+
+def _frozen(arr: np.ndarray) -> np.ndarray:
+    arr.flags.writeable = False
+    return arr
 
 
 def _has(frame: object, column: str) -> bool:

@@ -11,12 +11,18 @@ method of scipy.optimize.least_squares (Branch, Coleman and Li, SIAM J. Sci. Com
 respect to theta_N projected onto the orthogonal complement of the columns of D. When every free
 parameter is linear no iterative optimiser runs.
 
+When every free parameter is linear, one singular value decomposition of the weighted design
+with its columns scaled to unit norm gives the solution and also the covariance and condition
+number of :mod:`saltbench.fitting.result` (the Jacobian is then that design); scaling the columns
+leaves the least-squares solution unchanged.
+
 Model failures never escape: a plugin error at a trial point rejects the step (the optimiser
 shrinks its trust region); at the start point it ends the fit with a flag.
 """
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -25,6 +31,33 @@ from saltbench.errors import ModelDomainError, ModelError
 from saltbench.fitting.problem import FitProblem
 
 _MODEL_FAILURES = (ModelError, ModelDomainError, FloatingPointError, np.linalg.LinAlgError)
+
+
+_EPS = float(np.finfo(float).eps)
+
+
+@dataclass(frozen=True)
+class ScaledSVD:
+    """a / norms = u diag(s) vt, the columns of ``a`` scaled to unit norm (zero columns kept)."""
+
+    norms: np.ndarray
+    u: np.ndarray
+    s: np.ndarray
+    vt: np.ndarray
+
+
+def scaled_svd(a: np.ndarray) -> ScaledSVD:
+    norms = np.sqrt(np.einsum("ij,ij->j", a, a))
+    u, s, vt = np.linalg.svd(a / np.where(norms > 0, norms, 1.0), full_matrices=False)
+    return ScaledSVD(norms, u, s, vt)
+
+
+def _rank(svd: ScaledSVD, shape: tuple[int, int]) -> int:
+    """Singular values above eps max(shape) of the largest count (numpy's lstsq default)."""
+    s = svd.s
+    if not s.size or not s[0] > 0:
+        return 0
+    return int(np.count_nonzero(s > s[0] * max(shape) * _EPS))
 
 
 @dataclass
@@ -39,6 +72,9 @@ class Solution:
     flags: list[str] = field(default_factory=list)
     at_bound: dict[int, str] = field(default_factory=dict)  # global index -> "lower" | "upper"
     iterations: int = 0
+    # The decomposition of ``jacobian`` when the solver already has it (every free parameter
+    # linear: the Jacobian is the weighted design), so that the report need not repeat it.
+    jacobian_svd: ScaledSVD | None = None
 
 
 class _Abort(Exception):
@@ -56,6 +92,8 @@ class _Projection:
         self.pred = np.zeros(problem.n)
         self.basis = np.zeros((problem.n, 0))
         self.design = np.zeros((problem.n, 0))
+        self.weighted = np.zeros((problem.n, 0))
+        self.svd: ScaledSVD | None = None
         self.linear_at_bound: dict[int, str] = {}
         self.failures: list[str] = []
 
@@ -68,14 +106,15 @@ class _Projection:
         theta[p.nonlinear] = x
         if p.linear.size:
             offset, design = p.linear_design(theta)
-            theta[p.linear], self.basis, self.linear_at_bound = solve_linear(
-                p, offset, design)
-            self.design = design
+            lin = solve_linear(p, offset, design, projection=bool(p.nonlinear.size))
+            theta[p.linear], self.basis, self.linear_at_bound = lin.x, lin.basis, lin.pinned
+            self.design, self.weighted, self.svd = design, lin.weighted, lin.svd
             pred = offset + design @ theta[p.linear]
         else:
             pred = p.predict(theta)
         resid = (p.obs - pred) / p.sigma
-        if not np.all(np.isfinite(resid)):
+        # A sum is finite only if every term is; the elementwise test runs only when it is not.
+        if not math.isfinite(resid.sum()) and not np.isfinite(resid).all():
             raise ModelError(f"model {p.model.id}: residuals are not finite")
         self.theta, self.key, self.resid, self.pred = theta, key, resid, pred
 
@@ -100,20 +139,40 @@ class _Projection:
         return j
 
 
-def solve_linear(problem: FitProblem, offset: np.ndarray, design: np.ndarray
-                 ) -> tuple[np.ndarray, np.ndarray, dict[int, str]]:
+@dataclass
+class LinearSolution:
+    x: np.ndarray  # the free linear parameters
+    basis: np.ndarray  # orthonormal basis of the weighted columns of those left off their bounds
+    pinned: dict[int, str]  # global index -> "lower" | "upper"
+    weighted: np.ndarray  # design / u
+    svd: ScaledSVD | None  # of ``weighted``, when it was needed
+
+
+def solve_linear(problem: FitProblem, offset: np.ndarray, design: np.ndarray, *,
+                 projection: bool = True) -> LinearSolution:
     """Weighted linear least squares in the free linear parameters, within their bounds.
 
-    Returns the values, an orthonormal basis of the weighted design columns of the parameters
-    left off their bounds (for the projection), and the parameters pinned at a bound.
+    With ``projection`` (nonlinear parameters are free) it also gives an orthonormal basis of
+    the weighted design columns of the parameters left off their bounds, computed as it always
+    was: the optimiser's path through a flat or symmetric minimum can hinge on its last digits.
+    Without, the basis is not needed and one decomposition of the scaled design gives the
+    solution and, later, the covariance.
     """
     idx = problem.linear
     a = design / problem.sigma[:, None]
     rhs = (problem.obs - offset) / problem.sigma
-    x = np.linalg.lstsq(a, rhs, rcond=None)[0]
-    lo, hi = problem.lower[idx], problem.upper[idx]
+    svd = None
+    if projection:
+        x = np.linalg.lstsq(a, rhs, rcond=None)[0]
+    else:
+        svd = scaled_svd(a)
+        if _rank(svd, a.shape) == a.shape[1]:
+            x = (svd.vt.T @ ((svd.u.T @ rhs) / svd.s)) / svd.norms
+        else:  # rank-deficient: numpy's minimum-norm solution, as without the scaling
+            x = np.linalg.lstsq(a, rhs, rcond=None)[0]
+    lo, hi = problem.linear_lower, problem.linear_upper
     pinned: dict[int, str] = {}
-    if np.any(x < lo) or np.any(x > hi):
+    if problem.linear_bounded and ((x < lo).any() or (x > hi).any()):
         from scipy.optimize import lsq_linear
 
         x = lsq_linear(a, rhs, bounds=(lo, hi), method="bvls", tol=1e-12).x
@@ -123,14 +182,13 @@ def solve_linear(problem: FitProblem, offset: np.ndarray, design: np.ndarray
                 pinned[int(g)], x[j] = "lower", lo[j]
             elif abs(x[j] - hi[j]) <= tol[j]:
                 pinned[int(g)], x[j] = "upper", hi[j]
+    basis = np.zeros((a.shape[0], 0))
     keep = [j for j, g in enumerate(idx) if int(g) not in pinned]
-    sub = a[:, keep]
-    if sub.shape[1]:
+    if projection and keep:
+        sub = a[:, keep]
         u, s, _ = np.linalg.svd(sub, full_matrices=False)
-        basis = u[:, s > s[0] * max(sub.shape) * np.finfo(float).eps] if s[0] > 0 else u[:, :0]
-    else:
-        basis = np.zeros((a.shape[0], 0))
-    return x, basis, pinned
+        basis = u[:, s > s[0] * max(sub.shape) * _EPS] if s[0] > 0 else u[:, :0]
+    return LinearSolution(x, basis, pinned, a, svd)
 
 
 def solve(problem: FitProblem, *, max_evaluations: int | None = None,
@@ -175,11 +233,13 @@ def solve(problem: FitProblem, *, max_evaluations: int | None = None,
                      f"{proj.failures[-1]}")
     try:
         prediction = proj.pred
+        jac_svd = None
         if p.nonlinear.size == 0 and p.linear.size:
             # Affine in every free parameter: the Jacobian is the design matrix, at any point.
-            jac = proj.design / p.sigma[:, None]
+            jac, jac_svd = proj.weighted, proj.svd
         else:
             jac = p.derivatives(theta, p.free, base=prediction) / p.sigma[:, None]
     except _MODEL_FAILURES as exc:
         return Solution(theta, None, None, False, str(exc), flags + [f"model error: {exc}"])
-    return Solution(theta, prediction, jac, converged, message, flags, at_bound, iterations)
+    return Solution(theta, prediction, jac, converged, message, flags, at_bound, iterations,
+                    jac_svd)

@@ -26,6 +26,7 @@ import math
 from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass, field, replace
 from functools import cached_property
+from itertools import accumulate
 
 import numpy as np
 
@@ -68,11 +69,14 @@ class Block:
     n_osm_unique: int = field(init=False)
     position: np.ndarray = field(init=False)  # of each point in ``union``
     is_osm: np.ndarray = field(init=False)
-    # Points of each kind (indices into the data) and their entries in ``union``.
-    ln_points: np.ndarray = field(init=False, repr=False)
-    ln_union: np.ndarray = field(init=False, repr=False)
-    osm_points: np.ndarray = field(init=False, repr=False)
-    osm_union: np.ndarray = field(init=False, repr=False)
+    # Model values come as ln(gamma±) on ``union`` followed by phi on its first
+    # ``n_osm_unique`` entries; ``gather`` picks each point's value out of that stack.
+    gather: np.ndarray = field(init=False, repr=False)
+    has_ln: bool = field(init=False, repr=False)
+    has_osm: bool = field(init=False, repr=False)
+    names: tuple[str, ...] = field(init=False, repr=False)
+    indices: np.ndarray = field(init=False, repr=False)  # global index of each of ``names``
+    users: dict[int, list[str]] = field(init=False, repr=False)  # global index -> names
     # The last model values and Jacobian asked for, keyed by model and parameter values: the
     # optimiser asks for the Jacobian at the point it has just evaluated, and the solver again
     # at the solution.
@@ -80,18 +84,27 @@ class Block:
     _last_jacobian: tuple | None = field(default=None, init=False, repr=False)
 
     def __post_init__(self) -> None:
-        m = self.data.molality
-        self.is_osm = self.data.is_osmotic
-        u_osm = np.unique(m[self.is_osm])
-        rest = np.setdiff1d(np.unique(m[~self.is_osm]), u_osm)
-        self.union = np.concatenate([u_osm, rest])
-        self.n_osm_unique = int(u_osm.size)
-        order = np.argsort(self.union, kind="stable")
-        self.position = order[np.searchsorted(self.union[order], m)]
-        self.ln_points = np.flatnonzero(~self.is_osm)
-        self.ln_union = self.position[self.ln_points]
-        self.osm_points = np.flatnonzero(self.is_osm)
-        self.osm_union = self.position[self.osm_points]
+        is_osm = self.is_osm = self.data.is_osmotic
+        # Plain Python on lists: a fit builds blocks often, mostly of a few dozen points, where
+        # each numpy call costs more than the work it does (floats compare and hash as numpy's).
+        ml, osm = self.data.molality.tolist(), is_osm.tolist()
+        u_osm = sorted({x for x, o in zip(ml, osm) if o})
+        rest = sorted({x for x, o in zip(ml, osm) if not o}.difference(u_osm))
+        union = u_osm + rest
+        where = {x: i for i, x in enumerate(union)}
+        self.union = np.array(union, dtype=float)
+        self.n_osm_unique = len(u_osm)
+        self.position = np.array([where[x] for x in ml], dtype=np.intp)
+        self.gather = np.array([where[x] + len(union) if o else where[x]
+                                for x, o in zip(ml, osm)], dtype=np.intp)
+        self.has_osm = bool(self.n_osm_unique)
+        self.has_ln = not all(osm)
+        self.names = tuple(self.mapping)
+        self.indices = np.array(list(self.mapping.values()), dtype=np.intp)
+        users: dict[int, list[str]] = {}
+        for name, g in self.mapping.items():
+            users.setdefault(g, []).append(name)
+        self.users = users
 
     @cached_property
     def with_nodes(self) -> np.ndarray:
@@ -100,7 +113,7 @@ class Block:
         return np.concatenate([self.union, (u_osm[:, None] * _NODES**2).ravel()])
 
     def uses(self, index: int) -> list[str]:
-        return [name for name, g in self.mapping.items() if g == index]
+        return list(self.users.get(int(index), ()))
 
 
 class FitProblem:
@@ -118,14 +131,20 @@ class FitProblem:
         self.nonlinear = np.array([i for i in self.free if not params[i].linear], dtype=int)
         self.lower = np.array([p.lower for p in params], dtype=float)
         self.upper = np.array([p.upper for p in params], dtype=float)
-        self.obs = np.concatenate([b.data.value for b in blocks]) if blocks else np.zeros(0)
-        self.sigma = np.concatenate([b.data.uncertainty for b in blocks]) if blocks else np.zeros(0)
-        self.is_osm = np.concatenate([b.data.is_osmotic for b in blocks]) if blocks else \
-            np.zeros(0, dtype=bool)
-        self.molality = np.concatenate([b.data.molality for b in blocks]) if blocks else \
-            np.zeros(0)
+        self.linear_lower, self.linear_upper = self.lower[self.linear], self.upper[self.linear]
+        self.linear_bounded = bool(np.isfinite(self.linear_lower).any()
+                                   or np.isfinite(self.linear_upper).any())
+        if len(blocks) == 1:
+            d = blocks[0].data
+            self.obs, self.sigma, self.molality = d.value, d.uncertainty, d.molality
+            self.is_osm = blocks[0].is_osm
+        else:
+            self.obs = _stack([b.data.value for b in blocks], float)
+            self.sigma = _stack([b.data.uncertainty for b in blocks], float)
+            self.is_osm = _stack([b.is_osm for b in blocks], bool)
+            self.molality = _stack([b.data.molality for b in blocks], float)
         sizes = [b.data.n for b in blocks]
-        self.slices = [slice(s - n, s) for s, n in zip(np.cumsum(sizes), sizes)]
+        self.slices = [slice(s - n, s) for s, n in zip(accumulate(sizes), sizes)]
         self.n_evaluations = 0
         self._no_jacobian = False  # the model said it has none; stop asking
 
@@ -143,7 +162,7 @@ class FitProblem:
         return " + ".join(b.electrolyte.name for b in self.blocks)
 
     def values_for(self, block: Block, theta: np.ndarray) -> dict[str, float]:
-        return {name: float(theta[g]) for name, g in block.mapping.items()}
+        return dict(zip(block.names, theta[block.indices].tolist()))
 
     def subset(self, mask: np.ndarray) -> FitProblem:
         """The same parameters against only the points picked by a boolean ``mask`` (length n)."""
@@ -181,15 +200,15 @@ class FitProblem:
         return theta
 
     # -- predictions --------------------------------------------------------------------------
-    def _key(self, values: dict[str, float]) -> tuple[int, bytes]:
-        return id(self.model), np.array(list(values.values()), dtype=float).tobytes()
+    def _key(self, block: Block, theta: np.ndarray) -> tuple[int, bytes]:
+        return id(self.model), theta[block.indices].tobytes()
 
-    def _block_values(self, block: Block, theta: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-        """ln(gamma±) at all of ``block.union`` and phi at its first ``n_osm_unique`` entries."""
-        values = self.values_for(block, theta)
-        key = self._key(values)
+    def _block_values(self, block: Block, theta: np.ndarray) -> np.ndarray:
+        """ln(gamma±) at all of ``block.union`` followed by phi at its first ``n_osm_unique``."""
+        key = self._key(block, theta)
         if block._last_values is not None and block._last_values[0] == key:
             return block._last_values[1]
+        values = self.values_for(block, theta)
         self.n_evaluations += 1
         model, ctx, n_osm = self.model, block.ctx, block.n_osm_unique
         phi = None
@@ -213,17 +232,12 @@ class FitProblem:
             ln_g = _finite(model, "ln_gamma_pm",
                            call_model(model, "ln_gamma_pm", block.union, values, ctx),
                            block.union.shape)
-            phi = np.zeros(0)
-        out = (ln_g, phi)
+        out = np.concatenate((ln_g, phi)) if n_osm else ln_g
         block._last_values = (key, out)
         return out
 
     def predict_block(self, block: Block, theta: np.ndarray) -> np.ndarray:
-        ln_g, phi = self._block_values(block, theta)
-        out = np.empty(block.data.n)
-        out[block.ln_points] = ln_g[block.ln_union]
-        out[block.osm_points] = phi[block.osm_union]
-        return out
+        return self._block_values(block, theta)[block.gather]
 
     def predict(self, theta: np.ndarray) -> np.ndarray:
         """Model values at every observation (ln gamma± or phi by kind), in data order."""
@@ -239,10 +253,10 @@ class FitProblem:
         """The model's Jacobian on ``block.union`` (and a memo of checked columns), or None."""
         if self._no_jacobian:
             return None
-        values = self.values_for(block, theta)
-        key = self._key(values)
+        key = self._key(block, theta)
         if block._last_jacobian is not None and block._last_jacobian[0] == key:
             return block._last_jacobian[1]
+        values = self.values_for(block, theta)
         raw = call_model(self.model, "jacobian", block.union, values, block.ctx)
         if raw is None:
             self._no_jacobian = True
@@ -262,48 +276,77 @@ class FitProblem:
 
         ``base`` is ``predict(theta)`` when the caller has it (saves one evaluation).
         """
-        cols = [int(c) for c in cols]
+        cols = np.asarray(cols, dtype=np.intp).tolist()
         out = np.zeros((self.n, len(cols)))
         if not cols:
             return out
         for b, sl in zip(self.blocks, self.slices):
-            used = [(j, c, b.uses(c)) for j, c in enumerate(cols)]
-            used = [u for u in used if u[2]]
+            used = [(j, c, b.users[c]) for j, c in enumerate(cols) if c in b.users]
             if not used:
                 continue
             analytic = self._analytic(b, theta)
             y_base = None if base is None else base[sl]
+            given: list[tuple[int, list[str], np.ndarray]] = []
             for j, c, names in used:
                 col = self._analytic_column(b, analytic, names)
-                if col is None:
-                    if y_base is None:
-                        y_base = self.predict_block(b, theta)
-                    col = self._difference_column(b, theta, c, y_base)
-                out[sl, j] = col
+                if col is not None:
+                    given.append((j, names, col))
+                    continue
+                if y_base is None:
+                    y_base = self.predict_block(b, theta)
+                out[sl, j] = self._difference_column(b, theta, c, y_base)
+            if given:
+                # The model's columns are checked together, and spread to the points at once.
+                stacked = np.column_stack([col for _, _, col in given])
+                if not math.isfinite(stacked.sum()):
+                    self._raise_non_finite(b, analytic, [names for _, names, _ in given])
+                out[sl, [j for j, _, _ in given]] = stacked[b.gather]
         return out
 
     def _analytic_column(self, block: Block, analytic: tuple[dict, dict, dict] | None,
                          names: list[str]) -> np.ndarray | None:
+        """The summed derivatives of ``names`` stacked as model values are (see ``gather``),
+        not yet checked for finiteness; None if the model does not give one of them."""
         if analytic is None:
             return None
-        d_ln, d_phi, checked = analytic
-        has_osm, has_ln = bool(block.osm_points.size), bool(block.ln_points.size)
-        total = np.zeros(block.data.n)
+        checked = analytic[2]
+        total = None
         for name in names:
-            if (has_ln and name not in d_ln) or (has_osm and name not in d_phi):
+            if name not in checked:
+                checked[name] = self._stacked_derivative(block, analytic, name)
+            col = checked[name]
+            if col is None:
                 return None
-            shape = block.union.shape
-            if has_ln:
-                if ("ln", name) not in checked:
-                    checked["ln", name] = _finite(self.model, f"jacobian[{name}]", d_ln[name],
-                                                  shape)
-                total[block.ln_points] += checked["ln", name][block.ln_union]
-            if has_osm:
-                if ("phi", name) not in checked:
-                    checked["phi", name] = _finite(self.model, f"jacobian[{name}]",
-                                                   d_phi[name], shape)
-                total[block.osm_points] += checked["phi", name][block.osm_union]
+            total = col if total is None else total + col
         return total
+
+    def _stacked_derivative(self, block: Block, analytic: tuple[dict, dict, dict],
+                            name: str) -> np.ndarray | None:
+        """d ln(gamma±) on ``union`` followed by d phi on its osmotic part, shape-checked; None
+        when the model leaves out a derivative the block needs."""
+        d_ln, d_phi, _ = analytic
+        if (block.has_ln and name not in d_ln) or (block.has_osm and name not in d_phi):
+            return None
+        shape = block.union.shape
+        ln_part = _shaped(self.model, f"jacobian[{name}]", d_ln[name], shape) \
+            if block.has_ln else np.zeros(shape)
+        if not block.has_osm:
+            return ln_part
+        phi_part = _shaped(self.model, f"jacobian[{name}]", d_phi[name], shape)
+        return np.concatenate((ln_part, phi_part[:block.n_osm_unique]))
+
+    def _raise_non_finite(self, block: Block, analytic: tuple[dict, dict, dict],
+                          columns: list[list[str]]) -> None:
+        """Name the first derivative that is not finite where the block uses it."""
+        d_ln, d_phi, _ = analytic
+        for names in columns:
+            for name in names:
+                if block.has_ln:
+                    _finite(self.model, f"jacobian[{name}]", d_ln[name], block.union.shape)
+                if block.has_osm:
+                    _finite(self.model, f"jacobian[{name}]",
+                            np.asarray(d_phi[name], dtype=float)[:block.n_osm_unique],
+                            (block.n_osm_unique,))
 
     def _difference_column(self, block: Block, theta: np.ndarray, c: int,
                            y_base: np.ndarray) -> np.ndarray:
@@ -337,11 +380,24 @@ class FitProblem:
         return offset, self.derivatives(t0, self.linear, base=offset)
 
 
+def _stack(parts: list[np.ndarray], dtype: type) -> np.ndarray:
+    return np.concatenate(parts) if parts else np.zeros(0, dtype=dtype)
+
+
+def _shaped(model: ActivityModel, what: str, value: object, shape: tuple[int, ...]
+            ) -> np.ndarray:
+    arr = np.asarray(value, dtype=float)
+    if arr.shape != shape:
+        raise ModelError(f"model {model.id}: {what} has shape {arr.shape}, expected {shape}")
+    return arr
+
+
 def _finite(model: ActivityModel, what: str, value: object, shape: tuple[int, ...]) -> np.ndarray:
     arr = np.asarray(value, dtype=float)
     if arr.shape != shape:
         raise ModelError(f"model {model.id}: {what} has shape {arr.shape}, expected {shape}")
-    if not np.all(np.isfinite(arr)):
+    # A sum is finite only if every term is; the elementwise test runs only when it is not.
+    if not math.isfinite(arr.sum()) and not np.isfinite(arr).all():
         raise ModelError(f"model {model.id}: {what} is not finite at some molalities")
     return arr
 

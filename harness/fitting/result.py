@@ -28,7 +28,7 @@ from typing import Any
 import numpy as np
 
 from saltbench.fitting import criteria
-from saltbench.fitting.least_squares import Solution
+from saltbench.fitting.least_squares import ScaledSVD, Solution, scaled_svd
 from saltbench.fitting.problem import FitProblem
 
 ILL_CONDITIONED = 1e6
@@ -152,21 +152,26 @@ def _kind_stats(residual: np.ndarray, sel: np.ndarray) -> dict[str, float | int 
     r = residual[sel]
     if r.size == 0:
         return {"n": 0, "rms": None, "max_abs": None}
-    return {"n": int(r.size), "rms": float(np.sqrt(np.mean(r**2))),
-            "max_abs": float(np.max(np.abs(r)))}
+    return {"n": int(r.size), "rms": math.sqrt(float(r @ r) / r.size),
+            "max_abs": float(np.abs(r).max())}
 
 
-def _covariance(jac: np.ndarray, names: list[str]) -> tuple[np.ndarray, float, list[str]]:
-    """Unscaled covariance from the weighted Jacobian; NaN when singular. Also cond and flags."""
+def _covariance(jac: np.ndarray, names: list[str], svd: ScaledSVD | None = None
+                ) -> tuple[np.ndarray, float, list[str]]:
+    """Unscaled covariance from the weighted Jacobian; NaN when singular. Also cond and flags.
+
+    ``svd`` is the decomposition of ``jac`` when the solver already made it.
+    """
     k = jac.shape[1]
     nan = np.full((k, k), np.nan)
     if k == 0:
         return np.zeros((0, 0)), 1.0, []
-    norms = np.linalg.norm(jac, axis=0)
-    dead = [names[j] for j in range(k) if not norms[j] > 0]
-    if dead:
+    if svd is None:
+        svd = scaled_svd(jac)
+    norms, s, vt = svd.norms, svd.s, svd.vt
+    if not (norms > 0).all():
+        dead = [names[j] for j in range(k) if not norms[j] > 0]
         return nan, math.inf, [f"singular (the data carry no information on {', '.join(dead)})"]
-    _, s, vt = np.linalg.svd(jac / norms, full_matrices=False)
     if s.size < k or s[-1] <= SINGULAR * s[0]:
         if s.size < k:  # fewer points than parameters: every parameter is involved
             involved = list(names)
@@ -194,10 +199,11 @@ def build_result(problem: FitProblem, solution: Solution, *,
         flags.append(f"too few points ({n} points for {k} free parameters)")
     pred = solution.prediction if solution.prediction is not None else np.full(n, np.nan)
     residual = p.obs - pred
-    chi2 = float(np.sum((residual / p.sigma) ** 2))
+    weighted = residual / p.sigma
+    chi2 = float(weighted @ weighted)
     chi2_red = chi2 / dof if dof > 0 else math.nan
     if solution.jacobian is not None:
-        cov, cond, more = _covariance(solution.jacobian, free_names)
+        cov, cond, more = _covariance(solution.jacobian, free_names, solution.jacobian_svd)
         flags.extend(more)
     else:
         cov, cond = np.full((k, k), np.nan), math.nan
@@ -207,19 +213,25 @@ def build_result(problem: FitProblem, solution: Solution, *,
         scale = chi2_red if math.isfinite(chi2_red) else 1.0
     else:
         scale = 1.0
-    cov = cov * scale
+    if scale != 1.0:
+        cov = cov * scale
     sd = np.sqrt(np.clip(np.diag(cov), 0.0, None)) if k else np.zeros(0)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        corr = cov / np.outer(sd, sd) if k else np.zeros((0, 0))
+    if not k:
+        corr = np.zeros((0, 0))
+    elif (sd > 0).all():
+        corr = cov / np.outer(sd, sd)
+    else:  # zero or unknown standard errors: NaN or inf entries, without warnings
+        with np.errstate(invalid="ignore", divide="ignore"):
+            corr = cov / np.outer(sd, sd)
     for g, side in sorted(solution.at_bound.items()):
         bound = p.params[g].lower if side == "lower" else p.params[g].upper
         flags.append(f"parameter {p.names[g]} at bound ({side} = {bound:g})")
 
-    stderr_of = {int(g): float(sd[j]) for j, g in enumerate(p.free)}
+    stderr_of = dict(zip(p.free.tolist(), sd.tolist()))
     units = {q.name: q.unit for q in p.model.parameters}
     parameters = []
-    for i, gp in enumerate(p.params):
-        parameters.append({"name": gp.name, "value": float(solution.theta[i]),
+    for i, (gp, value) in enumerate(zip(p.params, solution.theta.tolist())):
+        parameters.append({"name": gp.name, "value": value,
                            "stderr": stderr_of.get(i) if gp.free else None,
                            "fixed": not gp.free, "unit": units.get(gp.model_name, "")})
     param_map = {b.electrolyte.name: {m: p.names[g] for m, g in b.mapping.items()}
