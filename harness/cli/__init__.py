@@ -34,6 +34,15 @@ HELP_ORDER = ["compare", "fit", "predict", "report", "data", "params", "readings
 
 
 class LazyGroup(click.Group):
+    def invoke(self, ctx: click.Context):
+        try:
+            return super().invoke(ctx)
+        except BrokenPipeError:
+            # The reader (e.g. `| head`) has gone: stop quietly and successfully. Point stdout at
+            # devnull so the interpreter's final flush cannot raise again.
+            _silence_stdout()
+            raise click.exceptions.Exit(0) from None
+
     def list_commands(self, ctx: click.Context) -> list[str]:
         return sorted(COMMANDS, key=lambda n: HELP_ORDER.index(n) if n in HELP_ORDER else 99)
 
@@ -67,11 +76,25 @@ def cli(ctx: click.Context, store_path: str | None, plugin_files: tuple[str, ...
     ctx.obj = AppContext(store_path, list(plugin_files), list(disabled))
 
 
+def _silence_stdout() -> None:
+    import os
+
+    try:
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())
+    except (OSError, ValueError, AttributeError):
+        pass  # not a real file (a test runner's buffer): nothing left to flush into a closed pipe
+
+
 def main(argv: list[str] | None = None) -> None:
     from saltbench.errors import SaltbenchError
 
     try:
-        cli.main(args=argv, prog_name="saltbench", standalone_mode=False)
+        # Outside standalone mode click returns the code a command exits with (ctx.exit(1) of
+        # `report --from` on disagreement); it must reach the shell.
+        code = cli.main(args=argv, prog_name="saltbench", standalone_mode=False)
+        if isinstance(code, int) and code != 0:
+            sys.exit(code)
     except click.exceptions.Abort:
         click.echo("Aborted.", err=True)
         sys.exit(130)
@@ -85,4 +108,5 @@ def main(argv: list[str] | None = None) -> None:
         click.echo("Interrupted.", err=True)
         sys.exit(130)
     except BrokenPipeError:
+        _silence_stdout()
         sys.exit(0)
