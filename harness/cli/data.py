@@ -8,6 +8,8 @@ from saltbench.cli.output import emit, format_option
 
 POINT_COLUMNS = ["electrolyte", "property", "molality", "value", "uncertainty", "temperature_k",
                  "source", "dataset", "origin"]
+# Stored values print as typed (1.1158, not 1.116): a reader checks them against the printed table.
+POINT_DIGITS = {"molality": 10, "value": 10, "uncertainty": 10, "temperature_k": 10}
 
 
 @click.group()
@@ -85,7 +87,7 @@ def emit_table(frame) -> str:
     from saltbench.cli.output import table
 
     rows = frame[["molality", "value", "uncertainty"]].to_dict("records")
-    return table(rows, headers={"molality": "m/(mol/kg)"}).replace("\n", "\n  ")
+    return table(rows, headers={"molality": "m/(mol/kg)"}, digits=POINT_DIGITS).replace("\n", "\n  ")
 
 
 @data.command("export")
@@ -100,7 +102,7 @@ def export(app, electrolytes: tuple[str, ...], fmt: str) -> None:
     import pandas as pd
 
     frame = pd.concat(frames, ignore_index=True) if frames else pd.DataFrame()
-    emit(frame[POINT_COLUMNS].to_dict("records"), fmt, POINT_COLUMNS)
+    emit(frame[POINT_COLUMNS].to_dict("records"), fmt, POINT_COLUMNS, digits=POINT_DIGITS)
 
 
 @data.command("add")

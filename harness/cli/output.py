@@ -48,12 +48,14 @@ def _cell(value: Any, digits: int = 4) -> str:
 
 
 def table(records: Sequence[dict[str, Any]], columns: Sequence[str] | None = None,
-          headers: dict[str, str] | None = None) -> str:
+          headers: dict[str, str] | None = None, digits: dict[str, int] | None = None) -> str:
+    """Aligned text table; ``digits`` gives a column more significant digits than 4 (a water
+    activity of 0.99996 or a temperature of 298.15 K must not print as 1 or 298.1)."""
     if not records:
         return "(nothing to show)"
     cols = list(columns or records[0].keys())
     heads = [(headers or {}).get(c, c) for c in cols]
-    rows = [[_cell(r.get(c)) for c in cols] for r in records]
+    rows = [[_cell(r.get(c), (digits or {}).get(c, 4)) for c in cols] for r in records]
     widths = [max(len(h), *(len(row[i]) for row in rows)) for i, h in enumerate(heads)]
     numeric = [all(_is_num(row[i]) for row in rows) for i in range(len(cols))]
 
@@ -87,10 +89,24 @@ def to_csv(records: Sequence[dict[str, Any]], columns: Sequence[str] | None = No
 
 
 def emit(records: Sequence[dict[str, Any]], fmt: str, columns: Sequence[str] | None = None,
-         headers: dict[str, str] | None = None, json_obj: Any = None) -> None:
+         headers: dict[str, str] | None = None, json_obj: Any = None,
+         digits: dict[str, int] | None = None) -> None:
     if fmt == "json":
         click.echo(to_json(records if json_obj is None else json_obj))
     elif fmt == "csv":
         click.echo(to_csv(records, columns), nl=False)
     else:
-        click.echo(table(records, columns, headers))
+        click.echo(table(records, columns, headers, digits))
+
+
+REGULATED_USE_CAUTION = ("Caution: for dosing, safety limits or regulated measurements, verify these numbers "
+                         "under local codes and licensed practice.")
+
+
+def echo_caution(fmt: str, text: str = REGULATED_USE_CAUTION) -> None:
+    """The regulated-use caution: after a table on stdout; on stderr for JSON and CSV, so a
+    script's parsed output keeps its shape while a person running it still sees the caution."""
+    if fmt == "table":
+        click.echo(text)
+    else:
+        click.echo(text, err=True)

@@ -51,7 +51,8 @@ def list_(app, fmt: str) -> None:
             "method_version", "status", "dataset", "source"]
     records = [] if frame.empty else frame[cols].to_dict("records")
     emit(records, fmt, cols, {"temperature_k": "T/K", "n_readings": "readings",
-                              "method_version": "version", "dataset": "reduced dataset"})
+                              "method_version": "version", "dataset": "reduced dataset"},
+         digits={"temperature_k": 10})
 
 
 @readings.command("reduce")
