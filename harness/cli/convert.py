@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import click
 
-from saltbench.cli.output import emit, format_option, table
+from saltbench.cli.output import echo_caution, emit, format_option, table
 
 
 @click.command()
@@ -13,7 +13,7 @@ from saltbench.cli.output import emit, format_option, table
               help="Convert stored osmotic coefficients to gamma±, or gamma± to phi.")
 @click.option("--dataset", default=None, metavar="KEY",
               help="Which stored dataset, when the electrolyte has several of that property.")
-@click.option("--fit-points", type=int, default=5, show_default=True,
+@click.option("--fit-points", type=click.IntRange(min=1), default=5, show_default=True,
               help="Lowest points the dilute-range Hückel form is fitted to.")
 @format_option
 @click.pass_obj
@@ -44,9 +44,10 @@ def convert(app, electrolyte: str, from_: str, dataset: str | None, fit_points: 
            "notes": list(r.notes), "points": records}
     if fmt == "json":
         emit([], fmt, json_obj=doc)
-        return
-    if fmt == "csv":
+    elif fmt == "csv":
         emit(records, fmt)
+    if fmt != "table":
+        echo_caution(fmt)
         return
     click.echo(f"{c.electrolyte.name}: {c.direction} from dataset {c.dataset}")
     click.echo(table(records, headers={"molality": "m/(mol/kg)", "gamma_pm": "gamma±",
@@ -55,3 +56,4 @@ def convert(app, electrolyte: str, from_: str, dataset: str | None, fit_points: 
     click.echo(f"Extrapolation: {statement}.")
     for n in r.notes:
         click.echo(f"note: {n}")
+    echo_caution(fmt)

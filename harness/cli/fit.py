@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import click
 
-from saltbench.cli.output import emit, format_option
+from saltbench.cli.output import echo_caution, emit, format_option
 
 
 @click.command()
@@ -67,11 +67,13 @@ def fit(app, electrolytes, model_id, up_to, fix, free, data_sel, on, temperature
                                         electrolytes=names, temperature_k=temperature_k)
     if fmt == "json":
         emit([], fmt, json_obj=out)
+        echo_caution(fmt)
         return
     rows = [{"name": p["name"], "value": p["value"], "stderr": p["stderr"], "unit": p["unit"],
              "held": "held" if p["fixed"] else ""} for p in out["parameters"]]
     if fmt == "csv":
         emit(rows, fmt)
+        echo_caution(fmt)
         return
     res = out["residuals"]
     click.echo(f"{model.name} [{model.id}] fitted to {', '.join(names)}: {res['n_points']} points, "
@@ -93,6 +95,7 @@ def fit(app, electrolytes, model_id, up_to, fix, free, data_sel, on, temperature
     if out["parameter_set"]:
         click.echo(f"saved as parameter set {out['parameter_set']} (use: saltbench predict {names[0]} "
                    f"--model {model.id} --params {out['parameter_set']})")
+    echo_caution(fmt)
 
 
 def _f(x) -> str:

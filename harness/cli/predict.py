@@ -5,7 +5,7 @@ from __future__ import annotations
 import click
 import numpy as np
 
-from saltbench.cli.output import emit, format_option
+from saltbench.cli.output import echo_caution, emit, format_option
 from saltbench.errors import UserError
 
 
@@ -76,8 +76,16 @@ def predict(app, electrolyte: str, model_id: str, molalities: str, params_choice
     if params.from_memory:
         click.echo(f"Note: parameter set {params.set_id} was typed from memory; verify against the "
                    "original before use in a regulated method.", err=True)
+    set_t = getattr(params, "temperature_k", None)
+    if params.kind != "defaults" and set_t is not None and abs(temperature_k - set_t) >= 0.01:
+        # Only the Debye-Hückel constant follows the temperature; the set's own parameters do not.
+        click.echo(f"Warning: parameter set {params.set_id} holds values for {set_t:g} K; at "
+                   f"{temperature_k:g} K only the Debye-Hückel constant is recomputed, the "
+                   "parameters are used unchanged, so the results are an extrapolation in temperature.",
+                   err=True)
     if fmt == "json":
         emit(records, fmt)
+        echo_caution(fmt)
         return
     if fmt == "table":
         click.echo(f"{e.name} with {model.name} [{model.id}], parameters: {params.set_id}, "
@@ -87,4 +95,6 @@ def predict(app, electrolyte: str, model_id: str, molalities: str, params_choice
         cols += ["u_gamma_pm", "u_osmotic"]
     emit(records, fmt, cols + ["extrapolated"],
          {"molality": "m/(mol/kg)", "gamma_pm": "gamma±", "ln_gamma_pm": "ln gamma±",
-          "osmotic": "phi", "water_activity": "a_w"})
+          "osmotic": "phi", "water_activity": "a_w"},
+         digits={"water_activity": 6})
+    echo_caution(fmt)
