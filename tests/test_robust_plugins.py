@@ -42,7 +42,8 @@ def reference_pitzer(seeded_store_file: Path, tmp_path_factory: pytest.TempPathF
     buf, err = io.StringIO(), io.StringIO()
     with contextlib.redirect_stdout(buf), contextlib.redirect_stderr(err):
         main(["--store", str(store), "compare", "NaCl", "--models", "pitzer", "--format", "json"])
-    assert err.getvalue() == ""
+    # Nothing on stderr but the regulated-use caution that every machine-readable output carries.
+    assert [line for line in err.getvalue().splitlines() if not line.startswith("Validity ranges hold only")] == []
     return _by_model(buf.getvalue())["pitzer"]
 
 

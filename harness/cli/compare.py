@@ -4,13 +4,44 @@ from __future__ import annotations
 
 import click
 
-from saltbench.cli.output import emit, format_option
+from saltbench.cli.output import echo_caution, emit, format_option
 
 TABLE_COLUMNS = ["model", "n_params", "rms_ln_gamma", "max_ln_gamma", "rms_osmotic",
                  "heldout_rms_ln_gamma", "aicc", "valid_up_to_published", "valid_up_to_refit", "verdict"]
 HEADERS = {"n_params": "k", "rms_ln_gamma": "rms dlng", "max_ln_gamma": "max dlng",
-           "rms_osmotic": "rms dphi", "heldout_rms_ln_gamma": "held-out dlng", "aicc": "AICc",
-           "valid_up_to_published": "valid to (published)", "valid_up_to_refit": "valid to (refit)"}
+           "rms_osmotic": "rms dphi", "heldout_rms_ln_gamma": "held-out", "aicc": "AICc",
+           "valid_up_to_published": "to (pub)", "valid_up_to_refit": "to (refit)", "short_verdict": "verdict"}
+CAUTION = ("Validity ranges hold only for these data, this temperature and this tolerance. For dosing, "
+           "safety limits or regulated measurements, verify under local codes and licensed practice.")
+TABLE_COLUMNS_SHORT = [c if c != "verdict" else "short_verdict" for c in TABLE_COLUMNS]
+TABLE_LEGEND = ("held-out: RMS of ln gamma± on points left out of the fit; to (pub), to (refit): highest "
+                "molality within tolerance with published and with refitted parameters; whole range*: "
+                "the data end before the model leaves the tolerance; flagged: not ranked, for the reason "
+                "given below the table.")
+
+
+def wrap(text: str, indent: str = "") -> str:
+    """Prose lines of the table output folded at 100 columns (tables themselves are not)."""
+    import textwrap
+
+    return textwrap.fill(text, width=100, subsequent_indent=indent, break_on_hyphens=False,
+                         break_long_words=False)
+
+
+def short_verdict(record: dict) -> str:
+    """The table's verdict, short enough for a 100-column terminal; the full wording stays in
+    JSON, CSV and reports. The molality it rests on is in the 'to (refit)' column."""
+    full = record.get("verdict") or ""
+    if full.startswith("failed:"):
+        return "failed (below)"
+    if full.startswith("not ranked:"):
+        return "flagged (below)"
+    v = record.get("valid_up_to_refit")
+    if v is None:
+        return "fails at lowest m"
+    if full.startswith("within tolerance over the whole range"):
+        return "whole range*" if record.get("limited_by_refit") == "data" else "whole range"
+    return f"only to {v:g}"
 CSV_COLUMNS = ["electrolyte", "model", "n_params", "n_points", "rms_ln_gamma", "max_ln_gamma",
                "rms_osmotic", "max_osmotic", "chi2_reduced", "heldout_rms_ln_gamma",
                "heldout_rms_osmotic", "aicc", "bic", "valid_up_to_published", "valid_up_to_refit",
@@ -94,13 +125,15 @@ def compare(app, electrolytes, all_, models, up_to, tol, folds, on, data_sel, te
     records = comp.records()
     if fmt == "json":
         emit(records, fmt)
+        echo_caution(fmt, CAUTION)
         return
     if fmt == "csv":
         emit([{**r, "flags": "; ".join(r["flags"])} for r in records], fmt, CSV_COLUMNS)
+        echo_caution(fmt, CAUTION)
         return
-    click.echo(f"Tolerance: |d ln gamma±| <= {settings.tol_ln_gamma:g}, |d phi| <= {settings.tol_phi:g}; "
-               f"held-out error by {settings.folds_text} over molality; T = "
-               f"{settings.temperature_k:g} K. Molalities in mol/kg.")
+    click.echo(wrap(f"Tolerance: |d ln gamma±| <= {settings.tol_ln_gamma:g}, |d phi| <= {settings.tol_phi:g}; "
+                    f"held-out error by {settings.folds_text} over molality; T = "
+                    f"{settings.temperature_k:g} K. Molalities in mol/kg."))
     for name, outs in comp.outcomes.items():
         rec = comp.recommendations[name]
         ds = comp.datasets[name]
@@ -109,11 +142,14 @@ def compare(app, electrolytes, all_, models, up_to, tol, folds, on, data_sel, te
         click.echo("")
         click.echo(f"== {name}: {sum(d['n_points'] for d in ds)} points from {len(ds)} dataset(s), "
                    f"up to {rec.target_molality:g} mol/kg{memo}")
-        rows = [o.record() for o in outs]
-        emit(rows, "table", TABLE_COLUMNS, HEADERS)
+        rows = [{**r, "short_verdict": short_verdict(r)} for r in (o.record() for o in outs)]
+        emit(rows, "table", TABLE_COLUMNS_SHORT, HEADERS)
+        for r in rows:
+            if r["short_verdict"].endswith("(below)"):
+                click.echo(wrap(f"   {r['model']}: {r['verdict']}", indent="     "))
         if comp.skipped.get(name):
             click.echo(f"   not applicable to {name}: {', '.join(comp.skipped[name])}")
-        click.echo(f"-> {rec.statement}")
+        click.echo(wrap(f"-> {rec.statement}", indent="   "))
     click.echo("")
-    click.echo("Validity ranges hold only for these data, this temperature and this tolerance. For dosing, "
-               "safety limits or regulated measurements, verify under local codes and licensed practice.")
+    click.echo(wrap(TABLE_LEGEND))
+    click.echo(wrap(CAUTION))
