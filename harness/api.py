@@ -81,7 +81,14 @@ def expand_paths(paths: Sequence[str | os.PathLike[str]]) -> list[Path]:
     for p in map(Path, paths):
         if p.is_dir():
             bibs = sorted(q for q in p.glob("*.txt") if q.name == "sources.txt" or q.name.endswith(".sources.txt"))
-            out += bibs + sorted(p.glob("*.csv"))
+            found = bibs + sorted(p.glob("*.csv"))
+            if not found:
+                from saltbench.errors import UserError
+
+                # Adding nothing and saying nothing reads as success; the user meant some files.
+                raise UserError(f"{p}: folder holds no bibliography (*.sources.txt, sources.txt) "
+                                "or CSV file to add")
+            out += found
         else:
             out.append(p)
     return out

@@ -29,7 +29,8 @@ def _b_ion(specs: tuple[str, ...]) -> dict[str, float]:
               help="A salt and its molality in mol/kg (repeatable), e.g. --salt NaCl=0.1.")
 @click.option("--convention", required=True,
               type=click.Choice(["macinnes", "bates-guggenheim", "debye-huckel",
-                                 "extended-debye-huckel", "davies", "truesdell-jones", "sit"]),
+                                 "extended-debye-huckel", "davies", "truesdell-jones", "sit"],
+                                case_sensitive=False),
               help="How the single-ion values are assigned.")
 @click.option("--temperature", "temperature_k", type=float, default=298.15, show_default=True,
               help="Temperature in K.")
@@ -49,14 +50,23 @@ def ion_activity(app, salts: tuple[str, ...], convention: str, temperature_k: fl
     """
     import numpy as np
 
-    from saltbench.measurements.conventions import SINGLE_ION_CAVEAT
+    from saltbench.errors import UserError
+    from saltbench.measurements.conventions import SINGLE_ION_CAVEAT, ion_molalities
     from saltbench.measurements.nernst import CALIBRATION_CAUTION
     from saltbench.measurements.workflow import ion_activity as compute
     from saltbench.measurements.workflow import parse_salts
 
+    convention = convention.lower()
     s = app.session()
     comp = parse_salts(s, salts)
-    out = compute(s, comp, convention, temperature_k, b_ion=_b_ion(b_ion), missing=missing)
+    given = _b_ion(b_ion)
+    present = list(ion_molalities(comp)[0])
+    # A b_i for an ion not in the solution (often 'Na' for 'Na+') would be silently ignored.
+    for ion in given:
+        if ion not in present:
+            raise UserError(f"--b-ion {ion}: no ion {ion!r} in this solution; its ions are "
+                            f"{', '.join(present)}")
+    out = compute(s, comp, convention, temperature_k, b_ion=given, missing=missing)
     r = out.result
 
     def scalar(x) -> float:

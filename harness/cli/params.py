@@ -23,6 +23,7 @@ def params(app, set_id: str | None, model_id: str | None, fmt: str) -> None:
     if set_id is None:
         frame = list_sets(s.store)
         if model_id:
+            s.registry.model(model_id)  # an unknown or misspelt id is an error, not an empty list
             frame = frame[frame.model == model_id]
         records = frame.to_dict("records")
         for r in records:

@@ -67,8 +67,12 @@ class PluginRegistry:
         try:
             return self.models[model_id].model
         except KeyError:
+            import difflib
+
             known = ", ".join(sorted(self.models)) or "none"
-            raise UserError(f"unknown model {model_id!r}; known models: {known}") from None
+            close = difflib.get_close_matches(model_id.lower(), list(self.models), n=1, cutoff=0.6)
+            hint = f" (did you mean {close[0]!r}?)" if close else ""
+            raise UserError(f"unknown model {model_id!r}{hint}; known models: {known}") from None
 
     def call_list_hook(self, name: str, **kwargs: object) -> list[tuple[PluginRecord, object]]:
         """Call a list-returning hook plugin by plugin, in load order, isolating failures.
