@@ -1,0 +1,188 @@
+"""What a user sees when they use the command line the way people do: mistakes give one
+``Error: ...`` line and exit status 2 (never a traceback), numbers print without losing the digits
+that matter, outputs carry the regulated-use caution, and ``| head`` ends quietly.
+
+Check values name their source beside them; behaviour of a command line (exit statuses, error
+wording, a closed pipe) is common practice, no source.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+import os
+import subprocess
+import sys
+from pathlib import Path
+
+import pytest
+from conftest import REFDATA
+
+CAUTION = ("Caution: for dosing, safety limits or regulated measurements, verify these numbers "
+           "under local codes and licensed practice.")
+
+
+def test_a_folder_with_nothing_to_add_is_an_error(run_main, seeded_store, tmp_path: Path) -> None:
+    empty = tmp_path / "empty"
+    empty.mkdir()
+    code, out, err = run_main("data", "add", str(empty), store=seeded_store)
+    assert code == 2 and out == ""
+    assert err.strip() == (f"Error: {empty}: folder holds no bibliography (*.sources.txt, sources.txt) "
+                           "or CSV file to add")
+
+
+def test_b_ion_for_an_ion_not_in_the_solution_is_an_error(run_main, seeded_store) -> None:
+    # 'Na' for 'Na+' used to be ignored silently, and the run then asked for b_i of Na+.
+    code, _, err = run_main("ion-activity", "--salt", "NaCl=0.1", "--convention", "truesdell-jones",
+                            "--b-ion", "Na=0.075", store=seeded_store)
+    assert code == 2
+    assert err.strip() == "Error: --b-ion Na: no ion 'Na' in this solution; its ions are Na+, Cl-"
+
+
+def test_convention_is_accepted_in_any_case(run_main, seeded_store) -> None:
+    outs = []
+    for name in ("macinnes", "MacInnes"):
+        code, out, err = run_main("ion-activity", "--salt", "KCl=0.1", "--convention", name,
+                                  "--format", "json", store=seeded_store)
+        assert code == 0, err
+        outs.append(json.loads(out))
+    assert outs[0] == outs[1] and outs[0]["convention"] == "MacInnes"
+
+
+def test_misspelt_model_id_suggests_the_right_one(run_main, seeded_store) -> None:
+    code, _, err = run_main("predict", "NaCl", "--model", "Pitzer", store=seeded_store)
+    assert code == 2
+    assert err.startswith("Error: unknown model 'Pitzer' (did you mean 'pitzer'?); known models: ")
+    code, _, err = run_main("params", "--model", "pitzr", store=seeded_store)
+    assert code == 2
+    assert err.startswith("Error: unknown model 'pitzr' (did you mean 'pitzer'?); known models: ")
+    code, _, err = run_main("predict", "NaCl", "--model", "zzz", store=seeded_store)
+    assert code == 2 and err.startswith("Error: unknown model 'zzz'; known models: ")
+
+
+def test_convert_refuses_zero_fit_points(run_main, seeded_store) -> None:
+    code, _, err = run_main("convert", "NaCl", "--from", "gamma", "--dataset", "NaCl.gamma_pm.crc-handbook",
+                            "--fit-points", "0", store=seeded_store)
+    assert code == 2
+    assert err.strip().endswith("Error: Invalid value for '--fit-points': 0 is not in the range x>=1.")
+
+
+def test_predict_warns_when_a_set_is_used_away_from_its_temperature(run_main, seeded_store) -> None:
+    code, _, err = run_main("predict", "NaCl", "--model", "pitzer", "--m", "5", "--temperature", "323.15",
+                            store=seeded_store)
+    assert code == 0
+    assert ("Warning: parameter set pitzer-mayorga-1973 holds values for 298.15 K; at 323.15 K only the "
+            "Debye-Hückel constant is recomputed, the parameters are used unchanged, so the results are "
+            "an extrapolation in temperature.") in err
+    code, _, err = run_main("predict", "NaCl", "--model", "pitzer", "--m", "5", store=seeded_store)
+    assert code == 0 and "extrapolation in temperature" not in err
+
+
+def test_water_activity_is_not_rounded_to_one(run_main, seeded_store) -> None:
+    code, out, err = run_main("predict", "NaCl", "--model", "davies", "--m", "0.001", store=seeded_store)
+    assert code == 0, err
+    lines = out.splitlines()
+    assert lines[1].split()[-2:] == ["a_w", "extrapolated"]
+    a_w = lines[3].split()[-2]
+    # ln a_w = -nu m M_w phi (from memory of the IUPAC Green Book, 3rd ed., 2007, chemical
+    # thermodynamics); M_w = 0.018015 kg/mol (IUPAC standard atomic weights); phi ~ 0.988 for NaCl
+    # at 0.001 mol/kg (from memory of Robinson and Stokes 1959, appendix). The tolerance allows
+    # phi to be off by 0.05.
+    expected = math.exp(-2 * 0.001 * 0.018015 * 0.988)
+    assert a_w != "1"
+    assert float(a_w) == pytest.approx(expected, abs=2e-6)
+
+
+def test_data_show_prints_stored_values_as_typed(run_main, seeded_store) -> None:
+    # The value as printed in the bundled file (from memory of Robinson and Stokes 1959,
+    # Appendix 8.10; the file says so) must appear digit for digit, not rounded to 4 digits.
+    path = REFDATA / "datasets" / "NaCl.osmotic.robinson-stokes-1959.csv"
+    rows = [line.split(",") for line in path.read_text(encoding="utf-8").splitlines()
+            if line and not line.startswith("#") and not line.startswith("molality")]
+    long = [(m, v) for m, v, *_ in rows if len(v.replace(".", "").lstrip("0")) >= 5]
+    assert long, "the file should hold a value with five significant digits"
+    code, out, err = run_main("data", "show", "NaCl", store=seeded_store)
+    assert code == 0, err
+    printed = {tuple(line.split()[:2]) for line in out.splitlines() if line.startswith("  ")}
+    for m, v in long:
+        assert (f"{float(m):g}", v) in printed
+
+
+def test_readings_list_prints_the_temperature_in_full(run_main, seeded_store) -> None:
+    folder = REFDATA / "examples" / "readings-fenwick-quay"
+    code, _, err = run_main("readings", "add", str(folder), store=seeded_store)
+    assert code == 0, err
+    code, out, err = run_main("readings", "list", store=seeded_store)
+    assert code == 0, err
+    # 25 °C = 298.15 K (definition of the Celsius scale, SI Brochure 9th ed., 2019, 2.3.1).
+    assert all(" 298.15 " in line for line in out.splitlines()[2:])
+
+
+@pytest.mark.parametrize("args", [
+    ("predict", "NaCl", "--model", "davies"),
+    ("fit", "NaCl", "--model", "huckel", "--no-save"),
+    ("convert", "NaCl", "--from", "osmotic"),
+])
+@pytest.mark.parametrize("fmt", ["table", "json", "csv"])
+def test_numbers_carry_the_caution(run_main, seeded_store, args, fmt) -> None:
+    code, out, err = run_main(*args, "--format", fmt, store=seeded_store)
+    assert code == 0, err
+    if fmt == "table":
+        assert out.rstrip().endswith(CAUTION)
+    else:
+        assert CAUTION in err and CAUTION not in out
+        if fmt == "json":
+            json.loads(out)
+
+
+def test_compare_table_fits_100_columns_and_keeps_full_verdicts_in_json(run_main, seeded_store) -> None:
+    args = ("compare", "NaCl", "--models", "davies,huckel,pitzer", "--jobs", "1")
+    code, out, err = run_main(*args, store=seeded_store)
+    assert code == 0, err
+    assert max(len(line) for line in out.splitlines() if not line.startswith("==")) <= 100
+    assert "only to 0.1" in out and "Validity ranges hold only" in out
+    code, out, err = run_main(*args, "--format", "json", store=seeded_store)
+    assert code == 0, err
+    verdicts = {r["model"]: r["verdict"] for r in json.loads(out)}
+    assert verdicts["davies"].startswith("within tolerance only up to ")
+    assert "Validity ranges hold only" in err
+
+
+def test_compare_gives_the_reason_of_a_flagged_row_below_the_table(run_main, seeded_store) -> None:
+    code, out, err = run_main("compare", "NaCl", "--models", "truesdell-jones", "--jobs", "1",
+                              store=seeded_store)
+    assert code == 0, err
+    flagged = [line for line in out.splitlines() if line.startswith("truesdell-jones")]
+    assert flagged and flagged[0].endswith("flagged (below)")
+    assert any(line.startswith("   truesdell-jones: not ranked: ") for line in out.splitlines())
+
+
+def test_report_from_a_manifest_that_disagrees_exits_1(run_main, seeded_store, tmp_path: Path) -> None:
+    # `report --from` says 'differ' with exit status 1; main() used to drop that status.
+    first = tmp_path / "first"
+    code, _, err = run_main("report", "NaCl", "--models", "davies", "--out", str(first), "--jobs", "1",
+                            store=seeded_store)
+    assert code == 0, err
+    manifest = json.loads((first / "manifest.json").read_text(encoding="utf-8"))
+    manifest["results"]["records"][0]["rms_ln_gamma"] *= 1.01
+    edited = tmp_path / "manifest.json"
+    edited.write_text(json.dumps(manifest), encoding="utf-8")
+    code, out, _ = run_main("report", "--from", str(edited), "--out", str(tmp_path / "rerun"), "--jobs", "1",
+                            store=seeded_store)
+    assert code == 1
+    assert "Results differ from the manifest in 1 place(s):" in out
+
+
+def test_piping_into_head_ends_quietly(seeded_store) -> None:
+    # Far more output than a pipe buffer holds, so the write fails once the reader has gone.
+    many = ",".join(f"{0.001 * i:g}" for i in range(1, 6000))
+    env = {**os.environ, "SALTBENCH_STORE": str(seeded_store)}
+    proc = subprocess.Popen([sys.executable, "-m", "saltbench", "predict", "NaCl", "--model", "davies",
+                             "--m", many], stdout=subprocess.PIPE, stderr=subprocess.PIPE, env=env)
+    first = proc.stdout.readline()
+    proc.stdout.close()
+    err = proc.stderr.read().decode()
+    proc.stderr.close()
+    assert proc.wait() == 0
+    assert first.startswith(b"NaCl with Davies")
+    assert "Traceback" not in err and "BrokenPipe" not in err
