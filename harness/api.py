@@ -153,7 +153,18 @@ def select_data(session: Session, electrolyte, *, datasets=None, on=None, up_to=
     from saltbench.fitting.selection import select
 
     e = session.electrolyte(electrolyte) if isinstance(electrolyte, str) else electrolyte
-    return select(session.points(e.name), session.datasets(e.name), e, datasets=datasets, on=on,
+    points = session.points(e.name)
+    stored = sorted({round(float(t), 2) for t in points.temperature_k})
+    if stored and all(abs(t - temperature_k) >= 0.05 for t in stored):
+        from saltbench.errors import UserError
+
+        # Say which temperatures there are: the bundled data are all at 25 °C, and a model is
+        # judged only against data at the temperature asked.
+        raise UserError(f"no data for {e.name} at {temperature_k:g} K; its data are at "
+                        f"{', '.join(f'{t:g}' for t in stored)} K (add your own measurements at "
+                        f"{temperature_k:g} K with 'saltbench data add', or use 'saltbench predict "
+                        "--temperature', which warns that it extrapolates)")
+    return select(points, session.datasets(e.name), e, datasets=datasets, on=on,
                   up_to=up_to, temperature_k=temperature_k)
 
 
