@@ -81,10 +81,15 @@ def ion_activity(app, salts: tuple[str, ...], convention: str, temperature_k: fl
                      "log10_gamma": scalar(r.log10_gamma[name]), "gamma": g,
                      "activity": None if m is None else scalar(m) * g})
     cautions = list(r.cautions) + [CALIBRATION_CAUTION]
+    notes = list(out.notes)
+    if abs(temperature_k - 298.15) >= 0.01 and any("parameter set" in src for src in out.sources):
+        # Stored eps and b_i are 25 °C values; only the Debye-Hückel term follows the temperature.
+        notes.append(f"the stored parameters are 25 °C values used unchanged at {temperature_k:g} K; "
+                     "only the Debye-Hückel term follows the temperature")
     doc = {"convention": r.convention, "temperature_k": r.temperature_k,
            "ionic_strength": scalar(r.ionic_strength),
            "solution": [{"salt": e.name, "molality": m} for e, m in comp],
-           "ions": ions, "parameters_from": out.sources, "notes": out.notes,
+           "ions": ions, "parameters_from": out.sources, "notes": notes,
            "caveat": SINGLE_ION_CAVEAT, "cautions": cautions}
     if fmt == "json":
         emit([], "json", json_obj=doc)
@@ -95,7 +100,7 @@ def ion_activity(app, salts: tuple[str, ...], convention: str, temperature_k: fl
     click.echo(emit_table(ions))
     for src in out.sources:
         click.echo(f"parameters: {src}")
-    for note in out.notes:
+    for note in notes:
         click.echo(f"note: {note}")
     click.echo(f"Caveat: {SINGLE_ION_CAVEAT}")
     for c in cautions:
