@@ -5,6 +5,7 @@ from __future__ import annotations
 import click
 
 from saltbench.cli.output import echo_caution, emit, format_option
+from saltbench.cli.output import fold as wrap
 
 TABLE_COLUMNS = ["model", "n_params", "rms_ln_gamma", "max_ln_gamma", "rms_osmotic",
                  "heldout_rms_ln_gamma", "aicc", "valid_up_to_published", "valid_up_to_refit", "verdict"]
@@ -18,14 +19,6 @@ TABLE_LEGEND = ("held-out: RMS of ln gamma± on points left out of the fit; to (
                 "molality within tolerance with published and with refitted parameters; whole range*: "
                 "the data end before the model leaves the tolerance; flagged: not ranked, for the reason "
                 "given below the table.")
-
-
-def wrap(text: str, indent: str = "") -> str:
-    """Prose lines of the table output folded at 100 columns (tables themselves are not)."""
-    import textwrap
-
-    return textwrap.fill(text, width=100, subsequent_indent=indent, break_on_hyphens=False,
-                         break_long_words=False)
 
 
 def short_verdict(record: dict) -> str:

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import click
 
-from saltbench.cli.output import emit, format_option
+from saltbench.cli.output import emit, fold, format_option
 
 POINT_COLUMNS = ["electrolyte", "property", "molality", "value", "uncertainty", "temperature_k",
                  "source", "dataset", "origin"]
@@ -68,14 +68,15 @@ def show(app, electrolyte: str, points: bool, fmt: str) -> None:
         emit(pts[POINT_COLUMNS].to_dict("records"), fmt, POINT_COLUMNS)
         return
     for d in ds.to_dict("records"):
-        memo = "  ** typed from memory: verify against the original before regulated use **" if d["from_memory"] else ""
-        click.echo(f"{d['key']}  [{d['origin']}]{memo}")
+        click.echo(f"{d['key']}  [{d['origin']}]")
+        if d["from_memory"]:
+            click.echo("  ** typed from memory: verify against the original before regulated use **")
         click.echo(f"  {d['property']} ({d['basis']} basis, {d['scale']}), {d['temperature_k']:.2f} K, "
                    f"{d['n_points']} points, m = {d['min_molality']:g} to {d['max_molality']:g} mol/kg")
-        click.echo(f"  source: {d['citation']}")
-        click.echo(f"  table: {d['table_ref']}; precision {d['precision']:g}; "
-                   f"uncertainty {d['uncertainty'] if d['uncertainty'] is not None else 'per point'}")
-        click.echo(f"  typed: {d['typed']}")
+        click.echo(fold(d["citation"], "    ", "  source: "))
+        click.echo(fold(f"{d['table_ref']}; precision {d['precision']:g}; uncertainty "
+                        f"{d['uncertainty'] if d['uncertainty'] is not None else 'per point'}", "    ", "  table: "))
+        click.echo(fold(d["typed"], "    ", "  typed: "))
         click.echo(f"  content hash: {d['content_hash'][:16]}")
         if points:
             sub = pts[pts.dataset == d["key"]]

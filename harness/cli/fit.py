@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import click
 
-from saltbench.cli.output import echo_caution, emit, format_option
+from saltbench.cli.output import echo_caution, emit, fold, format_option
 
 
 @click.command()
@@ -87,14 +87,15 @@ def fit(app, electrolytes, model_id, up_to, fix, free, data_sel, on, temperature
         emit(corr, "table")
         click.echo("")
     lg, ph = res["ln_gamma"], res["osmotic"]
-    click.echo(f"residuals: ln gamma± rms {_f(lg.get('rms'))} max {_f(lg.get('max_abs'))} ({lg.get('n', 0)} pts); "
-               f"phi rms {_f(ph.get('rms'))} max {_f(ph.get('max_abs'))} ({ph.get('n', 0)} pts); "
-               f"reduced chi-square {_f(res['chi2_reduced'])}; AICc {_f(out['aicc'])}, BIC {_f(out['bic'])}")
+    click.echo(fold(f"residuals: ln gamma± rms {_f(lg.get('rms'))} max {_f(lg.get('max_abs'))} "
+                    f"({lg.get('n', 0)} pts); phi rms {_f(ph.get('rms'))} max {_f(ph.get('max_abs'))} "
+                    f"({ph.get('n', 0)} pts); reduced chi-square {_f(res['chi2_reduced'])}; AICc "
+                    f"{_f(out['aicc'])}, BIC {_f(out['bic'])}", "  "))
     for flag in out["flags"]:
         click.echo(f"flag: {flag}")
     if out["parameter_set"]:
-        click.echo(f"saved as parameter set {out['parameter_set']} (use: saltbench predict {names[0]} "
-                   f"--model {model.id} --params {out['parameter_set']})")
+        click.echo(fold(f"saved as parameter set {out['parameter_set']} (use: saltbench predict {names[0]} "
+                        f"--model {model.id} --params {out['parameter_set']})", "  "))
     echo_caution(fmt)
 
 

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import click
 
-from saltbench.cli.output import emit, format_option
+from saltbench.cli.output import emit, fold, format_option
 
 
 def _model_record(info) -> dict:
@@ -41,10 +41,18 @@ def models(app, fmt: str) -> None:
         return
     flat = [{"id": r["id"], "name": r["name"], "plugin": r["plugin"],
              "charge_types": ",".join(r["charge_types"]),
-             "parameters": ", ".join(p["name"] + ("*" if p["fixed"] else "") for p in r["parameters"]) or "-",
+             "parameters": ", ".join(p["name"] + ("*" if p["fixed"] else "") for p in r["parameters"]) or "none",
              "citation": r["citation"]} for r in records]
-    emit(flat, fmt, ["id", "name", "plugin", "charge_types", "parameters", "citation"],
-         {"charge_types": "types", "parameters": "parameters (* fixed by default)"})
+    if fmt == "csv":
+        emit(flat, fmt, ["id", "name", "plugin", "charge_types", "parameters", "citation"])
+        return
+    # One block per model: a citation does not fit a table column at 100 columns.
+    for r in flat:
+        click.echo(f"{r['id']}: {r['name']}")
+        click.echo(f"  plugin: {r['plugin']}; charge types: {r['charge_types']}")
+        for label in ("parameters", "citation"):
+            click.echo(fold(r[label], indent="    ", first=f"  {label}: "))
+    click.echo("(* held fixed by default; free it with 'saltbench fit --free NAME')")
 
 
 @click.command()

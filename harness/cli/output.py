@@ -110,3 +110,12 @@ def echo_caution(fmt: str, text: str = REGULATED_USE_CAUTION) -> None:
         click.echo(text)
     else:
         click.echo(text, err=True)
+
+
+def fold(text: str, indent: str = "", first: str = "") -> str:
+    """A prose line folded at 100 columns (tables are never folded); ``first`` prefixes the
+    first line, ``indent`` the others."""
+    import textwrap
+
+    return textwrap.fill(text, width=100, initial_indent=first, subsequent_indent=indent,
+                         break_on_hyphens=False, break_long_words=False)

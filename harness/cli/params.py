@@ -6,7 +6,7 @@ import json
 
 import click
 
-from saltbench.cli.output import emit, format_option
+from saltbench.cli.output import emit, fold, format_option
 
 
 @click.command()
@@ -59,10 +59,11 @@ def params(app, set_id: str | None, model_id: str | None, fmt: str) -> None:
         return
     click.echo(f"{doc['set_id']}  [{doc['kind']}] model {doc['model']}")
     if doc.get("citation"):
-        click.echo(f"  source: {doc['citation']}; {doc['table_ref']}")
-    click.echo(f"  typed: {doc['typed']}")
+        click.echo(fold(f"{doc['citation']}; {doc['table_ref']}", "    ", "  source: "))
+    click.echo(fold(doc["typed"], "    ", "  typed: "))
     if doc["a_phi"]:
         click.echo(f"  A_phi used by the authors: {doc['a_phi']}")
     if doc["note"]:
-        click.echo(f"  note: {doc['note']}")
-    emit(values, "table", ["target", "name", "value", "stderr", "m_max"])
+        click.echo(fold(doc["note"], "    ", "  note: "))
+    # Six digits: every published value shows as typed (0.04995, not rounded to four digits).
+    emit(values, "table", ["target", "name", "value", "stderr", "m_max"], digits={"value": 6})
