@@ -186,3 +186,55 @@ def test_piping_into_head_ends_quietly(seeded_store) -> None:
     assert proc.wait() == 0
     assert first.startswith(b"NaCl with Davies")
     assert "Traceback" not in err and "BrokenPipe" not in err
+
+
+def test_compare_away_from_the_data_temperature_says_where_the_data_are(run_main, seeded_store) -> None:
+    # The bundled data are at 25 °C = 298.15 K (the bundled files' headers say '25 C').
+    for args in (("compare", "NaCl", "--models", "davies"), ("fit", "NaCl", "--model", "davies")):
+        code, _, err = run_main(*args, "--temperature", "323.15", store=seeded_store)
+        assert code == 2
+        assert err.strip() == ("Error: no data for NaCl at 323.15 K; its data are at 298.15 K (add your own "
+                               "measurements at 323.15 K with 'saltbench data add', or use 'saltbench "
+                               "predict --temperature', which warns that it extrapolates)")
+
+
+def test_ion_activity_notes_25_c_parameters_used_at_another_temperature(run_main, seeded_store) -> None:
+    note = ("the stored parameters are 25 °C values used unchanged at 323.15 K; only the Debye-Hückel "
+            "term follows the temperature")
+    code, out, err = run_main("ion-activity", "--salt", "NaCl=0.1", "--convention", "sit", "--temperature",
+                              "323.15", "--format", "json", store=seeded_store)
+    assert code == 0, err
+    assert note in json.loads(out)["notes"]
+    code, out, err = run_main("ion-activity", "--salt", "NaCl=0.1", "--convention", "sit", "--format", "json",
+                              store=seeded_store)
+    assert code == 0, err
+    assert not any("25 °C values" in n for n in json.loads(out)["notes"])
+
+
+@pytest.mark.parametrize("args", [("models",), ("data", "show", "NaCl"), ("params", "pitzer-mayorga-1973")])
+def test_listings_fit_100_columns(run_main, seeded_store, args) -> None:
+    code, out, err = run_main(*args, store=seeded_store)
+    assert code == 0, err
+    assert max(len(line) for line in out.splitlines()) <= 100
+
+
+def test_models_lists_every_citation(run_main, seeded_store) -> None:
+    code, out, _ = run_main("models", "--format", "json", store=seeded_store)
+    models = json.loads(out)
+    code, text, _ = run_main("models", store=seeded_store)
+    assert code == 0
+    flat = " ".join(text.split())
+    for m in models:
+        assert f"{m['id']}: {m['name']}" in text
+        assert " ".join(m["citation"].split()) in flat
+
+
+def test_params_show_prints_published_values_as_typed(run_main, seeded_store) -> None:
+    # MgCl2 beta0 = 0.35235 and beta1 = 1.6815 as typed in refdata/parameters/pitzer-mayorga-1973.csv
+    # (from memory of Pitzer and Mayorga 1973, Table II; the file says so): five significant digits.
+    path = REFDATA / "parameters" / "pitzer-mayorga-1973.csv"
+    assert any(line.startswith("MgCl2,0.35235,1.6815,") for line in path.read_text(encoding="utf-8").splitlines())
+    code, out, err = run_main("params", "pitzer-mayorga-1973", store=seeded_store)
+    assert code == 0, err
+    rows = {tuple(line.split()[:3]) for line in out.splitlines()}
+    assert ("MgCl2", "beta0", "0.35235") in rows and ("MgCl2", "beta1", "1.6815") in rows
