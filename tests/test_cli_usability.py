@@ -238,3 +238,17 @@ def test_params_show_prints_published_values_as_typed(run_main, seeded_store) ->
     assert code == 0, err
     rows = {tuple(line.split()[:3]) for line in out.splitlines()}
     assert ("MgCl2", "beta0", "0.35235") in rows and ("MgCl2", "beta1", "1.6815") in rows
+
+
+def test_electrolytes_given_with_commas_get_a_hint(run_main, seeded_store) -> None:
+    code, _, err = run_main("compare", "NaCl,KCl", "--models", "davies", store=seeded_store)
+    assert code == 2
+    assert err.startswith("Error: no data for electrolyte 'NaCl,KCl' in the store (name several electrolytes "
+                          "with spaces between them, not commas); known: ")
+
+
+@pytest.mark.parametrize("command", ["compare", "report"])
+def test_jobs_must_be_at_least_one(run_main, seeded_store, command) -> None:
+    code, _, err = run_main(command, "NaCl", "--models", "davies", "--jobs", "0", store=seeded_store)
+    assert code == 2
+    assert err.strip().endswith("Error: Invalid value for '--jobs': 0 is not in the range x>=1.")

@@ -90,7 +90,7 @@ def build_settings(models: str, up_to, tol: str, folds, on: str, data_sel: str, 
 @click.argument("electrolytes", nargs=-1)
 @click.option("--all", "all_", is_flag=True, help="Every electrolyte in the store.")
 @settings_options
-@click.option("--jobs", type=int, default=None, help="Worker processes (default: all cores).")
+@click.option("--jobs", type=click.IntRange(min=1), default=None, help="Worker processes (default: all cores).")
 @format_option
 @click.pass_obj
 def compare(app, electrolytes, all_, models, up_to, tol, folds, on, data_sel, temperature_k, jobs, fmt):

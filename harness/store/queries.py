@@ -86,7 +86,8 @@ def electrolyte(store: Store, name: str) -> Electrolyte:
     if row is None:
         known = ", ".join(r[0] for r in store.conn.execute(
             "SELECT DISTINCT electrolyte FROM datasets ORDER BY electrolyte"))
-        raise UserError(f"no data for electrolyte {name!r} in the store; known: {known or 'none'}")
+        hint = " (name several electrolytes with spaces between them, not commas)" if "," in name else ""
+        raise UserError(f"no data for electrolyte {name!r} in the store{hint}; known: {known or 'none'}")
     ions = {}
     for formula in (row[1], row[2]):
         f, z, mm = store.conn.execute("SELECT formula, charge, molar_mass FROM ions WHERE formula = ?",
