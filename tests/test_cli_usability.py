@@ -252,3 +252,18 @@ def test_jobs_must_be_at_least_one(run_main, seeded_store, command) -> None:
     code, _, err = run_main(command, "NaCl", "--models", "davies", "--jobs", "0", store=seeded_store)
     assert code == 2
     assert err.strip().endswith("Error: Invalid value for '--jobs': 0 is not in the range x>=1.")
+
+
+def test_reduce_all_on_a_store_without_readings_says_so(run_main, seeded_store) -> None:
+    code, _, err = run_main("readings", "reduce", "--all", store=seeded_store)
+    assert code == 2
+    assert err.strip() == ("Error: --all: the store holds no measurement sets; add raw readings with "
+                           "'saltbench readings add FILE' first")
+
+
+def test_report_command_output_carries_the_caution(run_main, seeded_store, tmp_path: Path) -> None:
+    code, out, err = run_main("report", "NaCl", "--models", "davies", "--out", str(tmp_path / "r"), "--jobs", "1",
+                              store=seeded_store)
+    assert code == 0, err
+    assert ("Caution: for dosing, safety limits or regulated measurements, verify the report's results "
+            "under local codes and licensed practice.") in out.splitlines()

@@ -75,6 +75,9 @@ def reduce(app, keys: tuple[str, ...], all_: bool, method: str | None, fmt: str)
     if all_ and keys:
         raise UserError("give set ids or --all, not both")
     todo = all_keys(s) if all_ else list(keys)
+    if all_ and not todo:
+        raise UserError("--all: the store holds no measurement sets; add raw readings with "
+                        "'saltbench readings add FILE' first")
     if not todo:
         raise UserError("name a measurement set to reduce (see 'saltbench readings list'), or --all")
     out = []

@@ -95,6 +95,8 @@ def report(ctx, electrolytes, models, up_to, tol, folds, on, data_sel, temperatu
         click.echo(f"  {path.relative_to(result.folder).as_posix()}")
     for name, rec in result.comparison.recommendations.items():
         click.echo(f"{name}: {rec.statement}")
+    click.echo("Caution: for dosing, safety limits or regulated measurements, verify the report's results "
+               "under local codes and licensed practice.")
     if result.agreement is not None:
         for line in result.agreement.lines():
             click.echo(line)
