@@ -151,6 +151,22 @@ def _ensure_electrolyte(store: Store, e: Electrolyte, origin: str, declared: boo
                              "another composition")
 
 
+def upsert_parent(store: Store, table: str, existing_pk: int | None, values: dict, child_table: str,
+                  child_key: str, report: IngestReport, label: str) -> int:
+    """Insert a parent row, or update it in place and clear its child rows; returns its key.
+
+    Datasets (points), parameter sets (values) and measurement sets (readings) are all replaced
+    this way, so a changed file updates its row instead of adding a second one.
+    """
+    if existing_pk is None:
+        report.added.append(label)
+        return store.db[table].insert(values).last_pk
+    store.conn.execute(f"DELETE FROM {child_table} WHERE {child_key} = ?", (existing_pk,))
+    store.db[table].update(existing_pk, values)
+    report.updated.append(label)
+    return existing_pk
+
+
 def _write_dataset(store: Store, d: Dataset, origin: str, provider: str, known_sources: set[str],
                    report: IngestReport) -> None:
     if d.source not in known_sources:
@@ -173,14 +189,8 @@ def _write_dataset(store: Store, d: Dataset, origin: str, provider: str, known_s
         "file": Path(d.path).name if origin == "bundled" else d.path, "content_hash": h,
         "n_points": len(d.molality),
     }
-    if row is None:
-        dataset_id = store.db["datasets"].insert(values).last_pk
-        report.added.append(label)
-    else:
-        dataset_id = row[0]
-        store.conn.execute("DELETE FROM points WHERE dataset_id = ?", (dataset_id,))
-        store.db["datasets"].update(dataset_id, values)
-        report.updated.append(label)
+    dataset_id = upsert_parent(store, "datasets", row[0] if row else None, values, "points", "dataset_id",
+                               report, label)
     store.db["points"].insert_all(
         {"dataset_id": dataset_id, "seq": i, "molality": float(m), "value": float(v),
          "value_printed": float(vp), "u_value": float(u), "line": int(n)}
@@ -209,14 +219,8 @@ def _write_parameter_file(store: Store, pf: ParameterFile, origin: str, provider
         "file": Path(pf.path).name if origin == "bundled" else pf.path, "content_hash": h,
         "settings": "{}", "data_hashes": "[]", "software_version": __version__,
     }
-    if row is None:
-        pk = store.db["parameter_sets"].insert(values).last_pk
-        report.added.append(label)
-    else:
-        pk = row[0]
-        store.conn.execute("DELETE FROM parameter_values WHERE set_pk = ?", (pk,))
-        store.db["parameter_sets"].update(pk, values)
-        report.updated.append(label)
+    pk = upsert_parent(store, "parameter_sets", row[0] if row else None, values, "parameter_values", "set_pk",
+                       report, label)
     store.db["parameter_values"].insert_all(
         {"set_pk": pk, "target": r.target, "target_kind": pf.target_kind, "name": name,
          "value": value, "stderr": None, "m_max": r.m_max}

@@ -26,7 +26,7 @@ from saltbench.measurements.readings_file import MeasurementSet, read_readings
 from saltbench.measurements.reduce import Reduction
 from saltbench.store import queries
 from saltbench.store.connection import Store
-from saltbench.store.ingest import IngestReport, _ensure_electrolyte, _upsert_source, file_kind
+from saltbench.store.ingest import IngestReport, _ensure_electrolyte, _upsert_source, file_kind, upsert_parent
 
 PROVIDER = "readings"
 
@@ -99,14 +99,8 @@ def _write_set(store: Store, ms: MeasurementSet, report: IngestReport) -> None:
         "settings": json.dumps(ms.settings, sort_keys=True), "note": ms.note, "file": ms.path,
         "content_hash": h, "n_readings": int(ms.reading.size),
     }
-    if row is None:
-        pk = store.db["measurement_sets"].insert(values).last_pk
-        report.added.append(label)
-    else:
-        pk = row[0]
-        store.conn.execute("DELETE FROM readings WHERE set_id = ?", (pk,))
-        store.db["measurement_sets"].update(pk, values)
-        report.updated.append(label)
+    pk = upsert_parent(store, "measurement_sets", row[0] if row else None, values, "readings", "set_id",
+                       report, label)
     col = ms.store_column
 
     def num(x: float) -> float | None:
