@@ -47,24 +47,37 @@ ALPHA2_22 = 12.0
 _SERIES_BELOW = 1e-2
 
 
-def _g(x: np.ndarray, e: np.ndarray) -> np.ndarray:
-    """g(x) = [1 - (1 + x - x^2/2) e^-x] / x^2, with e = e^-x already computed."""
-    small = x < _SERIES_BELOW
-    xs = np.where(small, 1.0, x)  # keeps the closed form finite where the series is used
+def _g(x: np.ndarray, e: np.ndarray, small: bool) -> np.ndarray:
+    """g(x) = [1 - (1 + x - x^2/2) e^-x] / x^2, with e = e^-x already computed.
+
+    ``small`` says whether any x is below _SERIES_BELOW; without such x the closed form runs
+    alone, on the whole array (the usual case: x > 0.01 above I ~ 2.5e-5 mol/kg).
+    """
+    if not small:
+        x2 = x * x
+        return (1.0 - (1.0 + x - 0.5 * x2) * e) / x2
+    below = x < _SERIES_BELOW
+    xs = np.where(below, 1.0, x)  # keeps the closed form finite where the series is used
     closed = (1.0 - (1.0 + xs - 0.5 * xs * xs) * e) / (xs * xs)
     # 1 - 5x/6 + 3x^2/8 - 7x^3/60 + x^4/36: Taylor series of the closed form
     series = 1.0 + x * (-5.0 / 6.0 + x * (0.375 + x * (-7.0 / 60.0 + x / 36.0)))
-    return np.where(small, series, closed)
+    return np.where(below, series, closed)
 
 
-def _dg(x: np.ndarray, e: np.ndarray) -> np.ndarray:
-    """dg/dx, with e = e^-x already computed."""
-    small = x < _SERIES_BELOW
-    xs = np.where(small, 1.0, x)
+def _dg(x: np.ndarray, e: np.ndarray, small: bool) -> np.ndarray:
+    """dg/dx, with e = e^-x already computed (``small`` as for :func:`_g`)."""
+    if not small:
+        num = 1.0 - (1.0 + x - 0.5 * x * x) * e
+        return e * (2.0 - 0.5 * x) / x - 2.0 * num / x**3
+    below = x < _SERIES_BELOW
+    xs = np.where(below, 1.0, x)
     num = 1.0 - (1.0 + xs - 0.5 * xs * xs) * e
     closed = e * (2.0 - 0.5 * xs) / xs - 2.0 * num / xs**3
     series = -5.0 / 6.0 + x * (0.75 + x * (-0.35 + x / 9.0))
-    return np.where(small, series, closed)
+    return np.where(below, series, closed)
+
+
+_ALL = frozenset(("beta0", "beta1", "beta2", "C_phi", "alpha1", "alpha2", "b"))
 
 
 class Pitzer(ActivityModel):
@@ -151,79 +164,111 @@ class Pitzer(ActivityModel):
         nu_prod = float(e.nu_cation * e.nu_anion)
         return 2.0 * nu_prod / e.nu, 2.0 * nu_prod**1.5 / e.nu
 
-    def _terms(self, m: np.ndarray, params, ctx: EvalContext, need_e2: bool):
+    def _evaluate(self, m, params, ctx: EvalContext, *, ln: bool, phi: bool,
+                  wrt: frozenset[str] | None):
+        """ln gamma± and phi (where asked) and the derivatives named in ``wrt`` (all for None;
+        none for an empty set), each intermediate term computed once.
+
+        Returns ``(ln_gamma, phi, d_ln, d_phi)`` with None for what was not asked. A virial term
+        whose coefficients are all zero is left out rather than added as zeros (a fit evaluates
+        the model with its linear parameters at zero); the sums are the same.
+        """
         m = np.asarray(m, dtype=float)
-        e = ctx.electrolyte
-        s = np.sqrt(e.ionic_strength(m))
-        a1, a2 = self.alphas_for(e, params)
+        el = ctx.electrolyte
+        wrt = _ALL if wrt is None else _ALL.intersection(wrt)
+        b, beta0, beta1, beta2 = params["b"], params["beta0"], params["beta1"], params["beta2"]
+        c_phi = params["C_phi"]
+        a1, a2 = self.alphas_for(el, params)
+        c_b, c_c = self._stoich(el)
+        zz_a = el.zz * ctx.dh.a_phi
+        s = np.sqrt(el.ionic_strength(m))
+        mb, mm = m * c_b, m * m
         x1 = a1 * s
         e1 = np.exp(-x1)
+        use_b1 = (ln or phi) and beta1 != 0.0
+        use_b2 = (ln or phi) and beta2 != 0.0
+        # beta2's exponential only where its term or one of its derivatives is in use
+        need_e2 = use_b2 or "beta2" in wrt or "alpha2" in wrt
         if need_e2:
             x2 = a2 * s
             e2 = np.exp(-x2)
-        else:
-            x2 = e2 = None
-        return m, s, x1, e1, x2, e2
+        # x is smallest where s is: one test of the smallest s picks the form of g and g'
+        s_min = float(np.minimum.reduce(s, axis=None)) if s.size else 0.0
+        small1 = a1 * s_min < _SERIES_BELOW
+        small2 = a2 * s_min < _SERIES_BELOW
+        if (ln and use_b1) or "beta1" in wrt:
+            g1 = _g(x1, e1, small1)
+        if (ln and use_b2) or "beta2" in wrt:
+            g2 = _g(x2, e2, small2)
+        bs = b * s
+        one_bs = 1.0 + bs
+        s_bs = s / one_bs
+        if ln or "b" in wrt:
+            log_bs = np.log1p(bs)
+        ln_g = phi_v = None
+        if ln:
+            # |z+ z-| f^gamma = -|z+ z-| A_phi [s / (1 + b s) + (2 / b) ln(1 + b s)]
+            ln_g = (-zz_a) * s_bs + (-zz_a * 2.0 / b) * log_bs
+            if beta0 != 0.0 or use_b1 or use_b2:
+                b_gamma = 2.0 * beta0 + 2.0 * beta1 * g1 if use_b1 else 2.0 * beta0
+                if use_b2:
+                    b_gamma = b_gamma + 2.0 * beta2 * g2
+                ln_g = ln_g + mb * b_gamma
+            if c_phi != 0.0:
+                ln_g = ln_g + mm * (c_c * 1.5 * c_phi)
+        if phi:
+            phi_v = 1.0 + (-zz_a) * s_bs
+            if beta0 != 0.0 or use_b1 or use_b2:
+                b_phi = beta0 + beta1 * e1 if use_b1 else beta0
+                if use_b2:
+                    b_phi = b_phi + beta2 * e2
+                phi_v = phi_v + mb * b_phi
+            if c_phi != 0.0:
+                phi_v = phi_v + mm * (c_c * c_phi)
+        if not wrt:
+            return ln_g, phi_v, {}, {}
+        d_ln: dict[str, np.ndarray] = {}
+        d_phi: dict[str, np.ndarray] = {}
+        two_mb = 2.0 * mb
+        if "beta0" in wrt:
+            d_ln["beta0"], d_phi["beta0"] = two_mb, mb
+        if "beta1" in wrt:
+            d_ln["beta1"], d_phi["beta1"] = two_mb * g1, mb * e1
+        if "beta2" in wrt:
+            d_ln["beta2"], d_phi["beta2"] = two_mb * g2, mb * e2
+        if "C_phi" in wrt:
+            d_ln["C_phi"], d_phi["C_phi"] = (1.5 * c_c) * mm, c_c * mm
+        if "alpha1" in wrt:
+            d_ln["alpha1"] = (2.0 * beta1) * mb * _dg(x1, e1, small1) * s
+            d_phi["alpha1"] = (-beta1) * mb * s * e1
+        if "alpha2" in wrt:
+            d_ln["alpha2"] = (2.0 * beta2) * mb * _dg(x2, e2, small2) * s
+            d_phi["alpha2"] = (-beta2) * mb * s * e2
+        if "b" in wrt:
+            ss_bs2 = s * s_bs / one_bs  # s^2 / (1 + b s)^2
+            d_ln["b"] = -zz_a * (-ss_bs2 - (2.0 / b**2) * log_bs + (2.0 / b) * s_bs)
+            d_phi["b"] = zz_a * ss_bs2
+        return ln_g, phi_v, d_ln, d_phi
 
     # -- the model functions ------------------------------------------------------------------
     def osmotic(self, m, params, ctx):
-        b = params["b"]
-        beta2 = params["beta2"]
-        m, s, _x1, e1, _x2, e2 = self._terms(m, params, ctx, need_e2=beta2 != 0.0)
-        el = ctx.electrolyte
-        c_b, c_c = self._stoich(el)
-        f_phi = -ctx.dh.a_phi * s / (1.0 + b * s)
-        b_phi = params["beta0"] + params["beta1"] * e1
-        if e2 is not None:
-            b_phi = b_phi + beta2 * e2
-        return 1.0 + el.zz * f_phi + m * c_b * b_phi + m * m * c_c * params["C_phi"]
+        return self._evaluate(m, params, ctx, ln=False, phi=True, wrt=frozenset())[1]
 
     def ln_gamma_pm(self, m, params, ctx):
-        b = params["b"]
-        beta2 = params["beta2"]
-        m, s, x1, e1, x2, e2 = self._terms(m, params, ctx, need_e2=beta2 != 0.0)
-        el = ctx.electrolyte
-        c_b, c_c = self._stoich(el)
-        bs = b * s
-        f_gamma = -ctx.dh.a_phi * (s / (1.0 + bs) + (2.0 / b) * np.log1p(bs))
-        b_gamma = 2.0 * params["beta0"] + 2.0 * params["beta1"] * _g(x1, e1)
-        if e2 is not None:
-            b_gamma = b_gamma + 2.0 * beta2 * _g(x2, e2)
-        return el.zz * f_gamma + m * c_b * b_gamma + m * m * c_c * 1.5 * params["C_phi"]
+        return self._evaluate(m, params, ctx, ln=True, phi=False, wrt=frozenset())[0]
 
     def jacobian(self, m, params, ctx):
-        """Derivatives with respect to every parameter; the betas and C_phi enter linearly.
+        """Derivatives with respect to every parameter (those in ``ctx.wrt`` when it is given);
+        the betas and C_phi enter linearly.
 
         The alpha derivatives are taken at the alphas in use (the charge-type values when the
         parameter is 0).
         """
-        b = params["b"]
-        m, s, x1, e1, x2, e2 = self._terms(m, params, ctx, need_e2=True)
-        el = ctx.electrolyte
-        c_b, c_c = self._stoich(el)
-        a_phi = ctx.dh.a_phi
-        bs = b * s
-        mb = m * c_b
-        d_ln = {
-            "beta0": 2.0 * mb,
-            "beta1": 2.0 * mb * _g(x1, e1),
-            "beta2": 2.0 * mb * _g(x2, e2),
-            "C_phi": 1.5 * c_c * m * m,
-            "alpha1": 2.0 * mb * params["beta1"] * _dg(x1, e1) * s,
-            "alpha2": 2.0 * mb * params["beta2"] * _dg(x2, e2) * s,
-            "b": -el.zz * a_phi * (-s * s / (1.0 + bs) ** 2 - (2.0 / b**2) * np.log1p(bs)
-                                   + (2.0 / b) * s / (1.0 + bs)),
-        }
-        d_phi = {
-            "beta0": mb,
-            "beta1": mb * e1,
-            "beta2": mb * e2,
-            "C_phi": c_c * m * m,
-            "alpha1": -mb * params["beta1"] * s * e1,
-            "alpha2": -mb * params["beta2"] * s * e2,
-            "b": el.zz * a_phi * s * s / (1.0 + bs) ** 2,
-        }
-        return d_ln, d_phi
+        return self._evaluate(m, params, ctx, ln=False, phi=False, wrt=ctx.wrt)[2:]
+
+    def values_and_jacobian(self, m, params, ctx):
+        """ln gamma±, phi and the Jacobian in one pass over the shared terms."""
+        return self._evaluate(m, params, ctx, ln=True, phi=True, wrt=ctx.wrt)
 
 
 @hookimpl

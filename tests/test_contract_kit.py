@@ -112,6 +112,40 @@ def test_catches_wrong_jacobian():
     assert _has(check_model(_broken(jacobian=jac), ["NaCl"]), "jacobian d phi/d c")
 
 
+def _together(self, m, p, c):
+    d_ln, d_phi = self.jacobian(m, p, c)
+    return self.ln_gamma_pm(m, p, c), self.osmotic(m, p, c), d_ln, d_phi
+
+
+def test_values_and_jacobian_that_agrees_passes():
+    assert check_model(_broken(values_and_jacobian=_together)) == []
+
+
+def test_catches_values_and_jacobian_that_disagrees():
+    def off_phi(self, m, p, c):
+        ln_g, phi, d_ln, d_phi = _together(self, m, p, c)
+        return ln_g, phi + 1e-9, d_ln, d_phi  # a slip far below the Gibbs-Duhem tolerance
+
+    def off_derivative(self, m, p, c):
+        ln_g, phi, d_ln, d_phi = _together(self, m, p, c)
+        return ln_g, phi, {"c": d_ln["c"] * (1 + 1e-9)}, d_phi
+
+    assert _has(check_model(_broken(values_and_jacobian=off_phi), ["NaCl"]),
+                "values_and_jacobian gives another phi")
+    assert _has(check_model(_broken(values_and_jacobian=off_derivative), ["NaCl"]),
+                "values_and_jacobian gives another d ln gamma±/d c")
+
+
+def test_catches_jacobian_that_changes_with_wrt():
+    def jac(self, m, p, c):
+        m = np.asarray(m, dtype=float)
+        scale = 1.0 if c.wrt is None else 1.0 + 1e-9  # asked for less, answers differently
+        return {"c": m * scale}, {"c": m / 2}
+
+    assert _has(check_model(_broken(jacobian=jac), ["NaCl"]),
+                "jacobian with ctx.wrt = {'c'} gives another d ln gamma±/d c")
+
+
 def test_catches_exceptions_and_declaration():
     def boom(self, m, p, c):
         raise RuntimeError("boom")

@@ -69,10 +69,10 @@ class Electrolyte:
 
     def ionic_strength(self, molality: np.ndarray | float) -> np.ndarray:
         """I = 1/2 sum m_i z_i^2 in mol/kg for the salt at ``molality`` mol/kg."""
-        m = np.asarray(molality, dtype=float)
-        return 0.5 * m * (
-            self.nu_cation * self.cation.charge**2 + self.nu_anion * self.anion.charge**2
-        )
+        # One product: half an integer is exact, so this rounds as 0.5 * m * (...) did.
+        half_sum = 0.5 * (self.nu_cation * self.cation.charge**2
+                          + self.nu_anion * self.anion.charge**2)
+        return np.asarray(molality, dtype=float) * half_sum
 
     def molality_at_ionic_strength(self, ionic_strength: np.ndarray | float) -> np.ndarray:
         return np.asarray(ionic_strength, dtype=float) / float(self.ionic_strength(1.0))

@@ -24,6 +24,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, field
+from typing import NamedTuple
 
 import numpy as np
 
@@ -36,8 +37,7 @@ _MODEL_FAILURES = (ModelError, ModelDomainError, FloatingPointError, np.linalg.L
 _EPS = float(np.finfo(float).eps)
 
 
-@dataclass(frozen=True)
-class ScaledSVD:
+class ScaledSVD(NamedTuple):
     """a / norms = u diag(s) vt, the columns of ``a`` scaled to unit norm (zero columns kept)."""
 
     norms: np.ndarray
@@ -46,18 +46,41 @@ class ScaledSVD:
     vt: np.ndarray
 
 
+_gesdd = None
+
+
+def thin_svd(a: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """``np.linalg.svd(a, full_matrices=False)`` through LAPACK's dgesdd (the routine numpy uses
+    too), called through scipy's thin wrapper: on the few columns of a fit, numpy's own
+    wrapper costs more than the decomposition. Failures are left to numpy, to raise as it does.
+    """
+    global _gesdd
+    if _gesdd is None:
+        from scipy.linalg.lapack import dgesdd  # not at import time (see CONVENTIONS)
+
+        _gesdd = dgesdd
+    if a.dtype == np.float64 and a.ndim == 2 and a.size:
+        u, s, vt, info = _gesdd(a, compute_uv=1, full_matrices=0)
+        if info == 0 and math.isfinite(np.add.reduce(s)):  # else numpy's error, as before
+            return u, s, vt
+    return np.linalg.svd(a, full_matrices=False)
+
+
 def scaled_svd(a: np.ndarray) -> ScaledSVD:
     norms = np.sqrt(np.einsum("ij,ij->j", a, a))
-    u, s, vt = np.linalg.svd(a / np.where(norms > 0, norms, 1.0), full_matrices=False)
+    # zero columns stay zero (divided by 1); the test runs on a few plain numbers
+    positive = all(x > 0 for x in norms.tolist())
+    u, s, vt = thin_svd(a / (norms if positive else np.where(norms > 0, norms, 1.0)))
     return ScaledSVD(norms, u, s, vt)
 
 
 def _rank(svd: ScaledSVD, shape: tuple[int, int]) -> int:
     """Singular values above eps max(shape) of the largest count (numpy's lstsq default)."""
-    s = svd.s
-    if not s.size or not s[0] > 0:
+    s = svd.s.tolist()  # a few numbers: plain Python counts them
+    if not s or not s[0] > 0:
         return 0
-    return int(np.count_nonzero(s > s[0] * max(shape) * _EPS))
+    tol = s[0] * max(shape) * _EPS
+    return sum(1 for x in s if x > tol)
 
 
 @dataclass
@@ -75,6 +98,7 @@ class Solution:
     # The decomposition of ``jacobian`` when the solver already has it (every free parameter
     # linear: the Jacobian is the weighted design), so that the report need not repeat it.
     jacobian_svd: ScaledSVD | None = None
+    weighted_residual: np.ndarray | None = None  # (y - prediction) / u, when known
 
 
 class _Abort(Exception):
@@ -87,12 +111,13 @@ class _Projection:
     def __init__(self, problem: FitProblem) -> None:
         self.p = problem
         self.key: bytes | None = None
-        self.theta = problem.theta0.copy()
-        self.resid = np.zeros(problem.n)
-        self.pred = np.zeros(problem.n)
-        self.basis = np.zeros((problem.n, 0))
-        self.design = np.zeros((problem.n, 0))
-        self.weighted = np.zeros((problem.n, 0))
+        self.theta = problem.theta0
+        # set by the first set_point, which comes before any use
+        self.resid: np.ndarray | None = None
+        self.pred: np.ndarray | None = None
+        self.basis: np.ndarray | None = None
+        self.design: np.ndarray | None = None
+        self.weighted: np.ndarray | None = None
         self.svd: ScaledSVD | None = None
         self.linear_at_bound: dict[int, str] = {}
         self.failures: list[str] = []
@@ -111,10 +136,11 @@ class _Projection:
             self.design, self.weighted, self.svd = design, lin.weighted, lin.svd
             pred = offset + design @ theta[p.linear]
         else:
+            self.basis = None
             pred = p.predict(theta)
         resid = (p.obs - pred) / p.sigma
         # A sum is finite only if every term is; the elementwise test runs only when it is not.
-        if not math.isfinite(resid.sum()) and not np.isfinite(resid).all():
+        if not math.isfinite(np.add.reduce(resid)) and not np.isfinite(resid).all():
             raise ModelError(f"model {p.model.id}: residuals are not finite")
         self.theta, self.key, self.resid, self.pred = theta, key, resid, pred
 
@@ -134,7 +160,7 @@ class _Projection:
         except _MODEL_FAILURES as exc:
             self.failures.append(str(exc))
             raise _Abort(str(exc)) from exc
-        if self.basis.shape[1]:
+        if self.basis is not None and self.basis.shape[1]:
             j = j - self.basis @ (self.basis.T @ j)
         return j
 
@@ -182,13 +208,17 @@ def solve_linear(problem: FitProblem, offset: np.ndarray, design: np.ndarray, *,
                 pinned[int(g)], x[j] = "lower", lo[j]
             elif abs(x[j] - hi[j]) <= tol[j]:
                 pinned[int(g)], x[j] = "upper", hi[j]
-    basis = np.zeros((a.shape[0], 0))
-    keep = [j for j, g in enumerate(idx) if int(g) not in pinned]
-    if projection and keep:
-        sub = a[:, keep]
-        u, s, _ = np.linalg.svd(sub, full_matrices=False)
-        basis = u[:, s > s[0] * max(sub.shape) * _EPS] if s[0] > 0 else u[:, :0]
+    basis = _NO_BASIS
+    if projection:
+        keep = [j for j, g in enumerate(idx) if int(g) not in pinned]
+        if keep:
+            sub = a[:, keep]
+            u, s, _ = np.linalg.svd(sub, full_matrices=False)
+            basis = u[:, s > s[0] * max(sub.shape) * _EPS] if s[0] > 0 else u[:, :0]
     return LinearSolution(x, basis, pinned, a, svd)
+
+
+_NO_BASIS = np.zeros((0, 0))  # no projection: nothing reads the basis
 
 
 def solve(problem: FitProblem, *, max_evaluations: int | None = None,
@@ -242,4 +272,4 @@ def solve(problem: FitProblem, *, max_evaluations: int | None = None,
     except _MODEL_FAILURES as exc:
         return Solution(theta, None, None, False, str(exc), flags + [f"model error: {exc}"])
     return Solution(theta, prediction, jac, converged, message, flags, at_bound, iterations,
-                    jac_svd)
+                    jac_svd, proj.resid)

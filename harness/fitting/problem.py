@@ -14,19 +14,23 @@ the model's ``osmotic`` where it has one, otherwise from the Gibbs-Duhem integra
 The quadrature runs only at the distinct molalities of osmotic points. A fit calls the model
 hundreds of times on a few dozen points, so per-call overhead, not arithmetic, is what costs.
 
-Derivatives with respect to a parameter come from the model's ``jacobian`` where it gives them;
-otherwise a parameter marked ``linear`` is differenced with a unit step, which is exact for a
-quantity affine in it, and any other one by central differences with step eps^(1/3) max(1, |p|)
-(the usual choice balancing truncation and rounding error; common practice, no source).
+Derivatives with respect to a parameter come from the model's ``jacobian`` where it gives them,
+asked only for the parameters a request needs (``EvalContext.wrt``); where values and
+derivatives are both needed at the same parameters (the linear design of variable projection)
+a model that offers ``values_and_jacobian`` gives them in one call. Otherwise a parameter marked
+``linear`` is differenced with a unit step, which is exact for a quantity affine in it, and any
+other one by central differences with step eps^(1/3) max(1, |p|) (the usual choice balancing
+truncation and rounding error; common practice, no source).
 """
 
 from __future__ import annotations
 
 import math
 from collections.abc import Iterable, Mapping, Sequence
-from dataclasses import dataclass, field, replace
+from dataclasses import dataclass, field
 from functools import cached_property
 from itertools import accumulate
+from typing import NamedTuple
 
 import numpy as np
 
@@ -43,9 +47,8 @@ _NODES = 0.5 * (_NODES + 1.0)  # on [0, 1], as in saltbench.models.evaluate
 _GD_WEIGHTS = 2.0 * _NODES * (0.5 * _WEIGHTS)  # the weights of int_0^1 ln gamma(m u^2) 2u du
 
 
-@dataclass(frozen=True)
-class GlobalParameter:
-    """One entry of the parameter vector a problem fits."""
+class GlobalParameter(NamedTuple):
+    """One entry of the parameter vector a problem fits (immutable; ``_replace`` to change)."""
 
     name: str  # e.g. "b", or "a_cation[Na]" in a joint fit
     model_name: str  # the model's own parameter name
@@ -54,6 +57,16 @@ class GlobalParameter:
     linear: bool
     free: bool
     value: float  # start value if free, held value if not
+
+
+class _Jacobian(NamedTuple):
+    """A model's derivatives on a block's ``union`` at one parameter vector."""
+
+    key: tuple[int, bytes]
+    wrt: frozenset[str] | None  # what was asked for (None: everything)
+    d_ln: dict[str, np.ndarray]
+    d_phi: dict[str, np.ndarray]
+    checked: dict[str, tuple | None]  # shape-checked (ln part, phi part) by name
 
 
 @dataclass
@@ -67,7 +80,6 @@ class Block:
     # Distinct molalities: osmotic ones first (these need phi), then the others.
     union: np.ndarray = field(init=False)
     n_osm_unique: int = field(init=False)
-    position: np.ndarray = field(init=False)  # of each point in ``union``
     is_osm: np.ndarray = field(init=False)
     # Model values come as ln(gamma±) on ``union`` followed by phi on its first
     # ``n_osm_unique`` entries; ``gather`` picks each point's value out of that stack.
@@ -81,7 +93,7 @@ class Block:
     # optimiser asks for the Jacobian at the point it has just evaluated, and the solver again
     # at the solution.
     _last_values: tuple | None = field(default=None, init=False, repr=False)
-    _last_jacobian: tuple | None = field(default=None, init=False, repr=False)
+    _last_jacobian: _Jacobian | None = field(default=None, init=False, repr=False)
 
     def __post_init__(self) -> None:
         is_osm = self.is_osm = self.data.is_osmotic
@@ -94,8 +106,8 @@ class Block:
         where = {x: i for i, x in enumerate(union)}
         self.union = np.array(union, dtype=float)
         self.n_osm_unique = len(u_osm)
-        self.position = np.array([where[x] for x in ml], dtype=np.intp)
-        self.gather = np.array([where[x] + len(union) if o else where[x]
+        n_union = len(union)
+        self.gather = np.array([where[x] + n_union if o else where[x]
                                 for x, o in zip(ml, osm)], dtype=np.intp)
         self.has_osm = bool(self.n_osm_unique)
         self.has_ln = not all(osm)
@@ -124,16 +136,20 @@ class FitProblem:
         self.model = model
         self.blocks = blocks
         self.params = params
+        # Plain lists first: these are a handful of entries, where numpy costs more per call.
+        free = [i for i, p in enumerate(params) if p.free]
+        linear = [i for i in free if params[i].linear]
         self.names = [p.name for p in params]
         self.theta0 = np.array([p.value for p in params], dtype=float)
-        self.free = np.array([i for i, p in enumerate(params) if p.free], dtype=int)
-        self.linear = np.array([i for i in self.free if params[i].linear], dtype=int)
-        self.nonlinear = np.array([i for i in self.free if not params[i].linear], dtype=int)
+        self.free = np.array(free, dtype=int)
+        self.linear = np.array(linear, dtype=int)
+        self.nonlinear = np.array([i for i in free if not params[i].linear], dtype=int)
         self.lower = np.array([p.lower for p in params], dtype=float)
         self.upper = np.array([p.upper for p in params], dtype=float)
-        self.linear_lower, self.linear_upper = self.lower[self.linear], self.upper[self.linear]
-        self.linear_bounded = bool(np.isfinite(self.linear_lower).any()
-                                   or np.isfinite(self.linear_upper).any())
+        self.linear_lower = np.array([params[i].lower for i in linear], dtype=float)
+        self.linear_upper = np.array([params[i].upper for i in linear], dtype=float)
+        self.linear_bounded = any(math.isfinite(params[i].lower)
+                                  or math.isfinite(params[i].upper) for i in linear)
         if len(blocks) == 1:
             d = blocks[0].data
             self.obs, self.sigma, self.molality = d.value, d.uncertainty, d.molality
@@ -147,6 +163,11 @@ class FitProblem:
         self.slices = [slice(s - n, s) for s, n in zip(accumulate(sizes), sizes)]
         self.n_evaluations = 0
         self._no_jacobian = False  # the model said it has none; stop asking
+        model_type = type(model)
+        self._analytic_osmotic = model_type.osmotic is not ActivityModel.osmotic
+        self._combined = (self._analytic_osmotic and model_type.values_and_jacobian
+                          is not ActivityModel.values_and_jacobian)
+        self._contexts: dict[tuple[int, frozenset[str]], EvalContext] = {}
 
     # -- bookkeeping --------------------------------------------------------------------------
     @property
@@ -181,7 +202,7 @@ class FitProblem:
         params = list(self.params)
         for i in self.free:
             v = float(np.clip(theta[i], params[i].lower, params[i].upper))
-            params[i] = replace(params[i], value=v)
+            params[i] = params[i]._replace(value=v)
         out = FitProblem(self.model, self.blocks, params)
         out._no_jacobian = self._no_jacobian
         return out
@@ -212,7 +233,7 @@ class FitProblem:
         self.n_evaluations += 1
         model, ctx, n_osm = self.model, block.ctx, block.n_osm_unique
         phi = None
-        if n_osm and type(model).osmotic is not ActivityModel.osmotic:
+        if n_osm and self._analytic_osmotic:
             ln_g = _finite(model, "ln_gamma_pm",
                            call_model(model, "ln_gamma_pm", block.union, values, ctx),
                            block.union.shape)
@@ -236,6 +257,39 @@ class FitProblem:
         block._last_values = (key, out)
         return out
 
+    def _values_and_jacobian(self, block: Block, theta: np.ndarray, wrt: frozenset[str]) -> None:
+        """Values and the derivatives in ``wrt`` at ``theta`` from one model call, where the model
+        offers one; both are kept as the block's last values and Jacobian (else nothing)."""
+        if not self._combined or self._no_jacobian:
+            return
+        key = self._key(block, theta)
+        if (block._last_values is not None and block._last_values[0] == key) or \
+                (block._last_jacobian is not None and block._last_jacobian.key == key):
+            return  # one of them is known already: the other is asked for on its own
+        values = self.values_for(block, theta)
+        raw = call_model(self.model, "values_and_jacobian", block.union, values,
+                         self._context(block, wrt))
+        if raw is None:
+            self._combined = False
+            return
+        try:
+            ln_g, phi, d_ln, d_phi = raw  # type: ignore[misc]
+            d_ln, d_phi = dict(d_ln), dict(d_phi)
+        except (TypeError, ValueError) as exc:
+            raise ModelError(f"model {self.model.id}: values_and_jacobian must return "
+                             f"(ln_gamma_pm, osmotic, d_ln_gamma, d_phi)") from exc
+        self.n_evaluations += 1
+        shape, n_osm = block.union.shape, block.n_osm_unique
+        ln_g = _finite(self.model, "ln_gamma_pm", ln_g, shape)
+        if n_osm:
+            phi = _finite(self.model, "osmotic", _shaped(self.model, "osmotic", phi, shape)[:n_osm],
+                          (n_osm,))
+            out = np.concatenate((ln_g, phi))
+        else:
+            out = ln_g
+        block._last_values = (key, out)
+        block._last_jacobian = _Jacobian(key, wrt, d_ln, d_phi, {})
+
     def predict_block(self, block: Block, theta: np.ndarray) -> np.ndarray:
         return self._block_values(block, theta)[block.gather]
 
@@ -248,16 +302,31 @@ class FitProblem:
         return np.concatenate([self.predict_block(b, theta) for b in self.blocks])
 
     # -- derivatives --------------------------------------------------------------------------
-    def _analytic(self, block: Block, theta: np.ndarray
-                  ) -> tuple[dict[str, np.ndarray], dict[str, np.ndarray], dict] | None:
-        """The model's Jacobian on ``block.union`` (and a memo of checked columns), or None."""
+    def _context(self, block: Block, wrt: frozenset[str] | None) -> EvalContext:
+        """The block's context asking for the derivatives in ``wrt`` (kept per problem)."""
+        if wrt is None:
+            return block.ctx
+        key = (id(block), wrt)  # the problem holds its blocks, so their ids stay theirs
+        ctx = self._contexts.get(key)
+        if ctx is None:
+            ctx = self._contexts[key] = EvalContext(block.ctx.electrolyte, block.ctx.dh, wrt)
+        return ctx
+
+    def _wrt(self, block: Block, cols: Iterable[int]) -> frozenset[str]:
+        """The block's model parameter names behind the global indices ``cols``."""
+        users = block.users
+        return frozenset(name for c in cols if c in users for name in users[c])
+
+    def _analytic(self, block: Block, theta: np.ndarray, wrt: frozenset[str]) -> _Jacobian | None:
+        """The model's Jacobian on ``block.union`` covering ``wrt`` (kept), or None."""
         if self._no_jacobian:
             return None
         key = self._key(block, theta)
-        if block._last_jacobian is not None and block._last_jacobian[0] == key:
-            return block._last_jacobian[1]
+        last = block._last_jacobian
+        if last is not None and last.key == key and (last.wrt is None or wrt <= last.wrt):
+            return last
         values = self.values_for(block, theta)
-        raw = call_model(self.model, "jacobian", block.union, values, block.ctx)
+        raw = call_model(self.model, "jacobian", block.union, values, self._context(block, wrt))
         if raw is None:
             self._no_jacobian = True
             return None
@@ -266,8 +335,7 @@ class FitProblem:
             d_ln, d_phi = dict(d_ln), dict(d_phi)
         except (TypeError, ValueError) as exc:
             raise ModelError(f"model {self.model.id}: jacobian must return two dicts") from exc
-        out = (d_ln, d_phi, {})
-        block._last_jacobian = (key, out)
+        out = block._last_jacobian = _Jacobian(key, wrt, d_ln, d_phi, {})
         return out
 
     def derivatives(self, theta: np.ndarray, cols: Sequence[int] | np.ndarray,
@@ -277,68 +345,100 @@ class FitProblem:
         ``base`` is ``predict(theta)`` when the caller has it (saves one evaluation).
         """
         cols = np.asarray(cols, dtype=np.intp).tolist()
+        if len(self.blocks) == 1:
+            return self._block_derivatives(self.blocks[0], theta, cols, base)
         out = np.zeros((self.n, len(cols)))
         if not cols:
             return out
         for b, sl in zip(self.blocks, self.slices):
-            used = [(j, c, b.users[c]) for j, c in enumerate(cols) if c in b.users]
-            if not used:
-                continue
-            analytic = self._analytic(b, theta)
-            y_base = None if base is None else base[sl]
-            given: list[tuple[int, list[str], np.ndarray]] = []
-            for j, c, names in used:
-                col = self._analytic_column(b, analytic, names)
-                if col is not None:
-                    given.append((j, names, col))
-                    continue
-                if y_base is None:
-                    y_base = self.predict_block(b, theta)
-                out[sl, j] = self._difference_column(b, theta, c, y_base)
-            if given:
-                # The model's columns are checked together, and spread to the points at once.
-                stacked = np.column_stack([col for _, _, col in given])
-                if not math.isfinite(stacked.sum()):
-                    self._raise_non_finite(b, analytic, [names for _, names, _ in given])
-                out[sl, [j for j, _, _ in given]] = stacked[b.gather]
+            out[sl] = self._block_derivatives(b, theta, cols, None if base is None else base[sl])
         return out
 
-    def _analytic_column(self, block: Block, analytic: tuple[dict, dict, dict] | None,
-                         names: list[str]) -> np.ndarray | None:
-        """The summed derivatives of ``names`` stacked as model values are (see ``gather``),
-        not yet checked for finiteness; None if the model does not give one of them."""
+    def _block_derivatives(self, b: Block, theta: np.ndarray, cols: list[int],
+                           y_base: np.ndarray | None) -> np.ndarray:
+        used = [(j, c, b.users[c]) for j, c in enumerate(cols) if c in b.users]
+        if len(used) < len(cols) or not cols:
+            out = np.zeros((b.data.n, len(cols)))
+            if not used:
+                return out
+        else:
+            out = None
+        analytic = self._analytic(b, theta, self._wrt(b, cols))
+        given: list[tuple[int, list[str], tuple[np.ndarray, np.ndarray | None]]] = []
+        missing: list[tuple[int, int]] = []
+        for j, c, names in used:
+            col = self._analytic_column(b, analytic, names)
+            if col is None:
+                missing.append((j, c))
+            else:
+                given.append((j, names, col))
+        if given:
+            # The model's columns are stacked as its values are (ln gamma± on ``union``, then
+            # phi on its osmotic part; see ``gather``), checked together and spread to the
+            # points at once: a few numpy calls whatever the number of columns.
+            rows = np.array([ln for _, _, (ln, _) in given])
+            if b.has_osm:
+                rows = np.concatenate((rows, np.array([phi for _, _, (_, phi) in given])),
+                                      axis=1)
+            if not math.isfinite(np.add.reduce(rows, axis=None)):
+                self._raise_non_finite(b, analytic, [names for _, names, _ in given])
+            spread = rows.T[b.gather]
+            if out is None and len(given) == len(cols):
+                out = spread
+            else:
+                if out is None:
+                    out = np.zeros((b.data.n, len(cols)))
+                out[:, [j for j, _, _ in given]] = spread
+        if missing:
+            if out is None:
+                out = np.zeros((b.data.n, len(cols)))
+            if y_base is None:
+                y_base = self.predict_block(b, theta)
+            for j, c in missing:
+                out[:, j] = self._difference_column(b, theta, c, y_base)
+        return out
+
+    def _analytic_column(self, block: Block, analytic: _Jacobian | None, names: list[str]
+                         ) -> tuple[np.ndarray, np.ndarray | None] | None:
+        """The summed derivatives of ``names``: d ln(gamma±) on ``union`` and d phi on its
+        osmotic part (None without osmotic points), shape-checked but not yet checked for
+        finiteness; None if the model does not give one of them."""
         if analytic is None:
             return None
-        checked = analytic[2]
+        checked = analytic.checked
         total = None
         for name in names:
             if name not in checked:
-                checked[name] = self._stacked_derivative(block, analytic, name)
+                checked[name] = self._derivative_parts(block, analytic, name)
             col = checked[name]
             if col is None:
                 return None
-            total = col if total is None else total + col
+            if total is None:
+                total = col
+            else:
+                total = (total[0] + col[0], None if col[1] is None else total[1] + col[1])
         return total
 
-    def _stacked_derivative(self, block: Block, analytic: tuple[dict, dict, dict],
-                            name: str) -> np.ndarray | None:
-        """d ln(gamma±) on ``union`` followed by d phi on its osmotic part, shape-checked; None
-        when the model leaves out a derivative the block needs."""
-        d_ln, d_phi, _ = analytic
+    def _derivative_parts(self, block: Block, analytic: _Jacobian, name: str
+                          ) -> tuple[np.ndarray, np.ndarray | None] | None:
+        """d ln(gamma±) on ``union`` and d phi on its osmotic part, shape-checked; None when the
+        model leaves out a derivative the block needs."""
+        d_ln, d_phi = analytic.d_ln, analytic.d_phi
         if (block.has_ln and name not in d_ln) or (block.has_osm and name not in d_phi):
             return None
         shape = block.union.shape
+        # Without ln(gamma±) points ``gather`` never looks at the first part; zeros hold it.
         ln_part = _shaped(self.model, f"jacobian[{name}]", d_ln[name], shape) \
             if block.has_ln else np.zeros(shape)
         if not block.has_osm:
-            return ln_part
+            return ln_part, None
         phi_part = _shaped(self.model, f"jacobian[{name}]", d_phi[name], shape)
-        return np.concatenate((ln_part, phi_part[:block.n_osm_unique]))
+        return ln_part, phi_part[:block.n_osm_unique]
 
-    def _raise_non_finite(self, block: Block, analytic: tuple[dict, dict, dict],
+    def _raise_non_finite(self, block: Block, analytic: _Jacobian,
                           columns: list[list[str]]) -> None:
         """Name the first derivative that is not finite where the block uses it."""
-        d_ln, d_phi, _ = analytic
+        d_ln, d_phi = analytic.d_ln, analytic.d_phi
         for names in columns:
             for name in names:
                 if block.has_ln:
@@ -376,8 +476,11 @@ class FitProblem:
         """
         t0 = theta.copy()
         t0[self.linear] = 0.0
+        cols = self.linear.tolist()
+        for b in self.blocks:
+            self._values_and_jacobian(b, t0, self._wrt(b, cols))
         offset = self.predict(t0)
-        return offset, self.derivatives(t0, self.linear, base=offset)
+        return offset, self.derivatives(t0, cols, base=offset)
 
 
 def _stack(parts: list[np.ndarray], dtype: type) -> np.ndarray:
@@ -397,7 +500,7 @@ def _finite(model: ActivityModel, what: str, value: object, shape: tuple[int, ..
     if arr.shape != shape:
         raise ModelError(f"model {model.id}: {what} has shape {arr.shape}, expected {shape}")
     # A sum is finite only if every term is; the elementwise test runs only when it is not.
-    if not math.isfinite(arr.sum()) and not np.isfinite(arr).all():
+    if not math.isfinite(np.add.reduce(arr, axis=None)) and not np.isfinite(arr).all():
         raise ModelError(f"model {model.id}: {what} is not finite at some molalities")
     return arr
 
@@ -484,18 +587,18 @@ def build_problem(model: ActivityModel, items: Sequence[tuple[Electrolyte, FitDa
 
     for key in free_set:
         for i in targets(key, "free"):
-            params[i] = replace(params[i], free=True)
+            params[i] = params[i]._replace(free=True)
     for key, (lo, hi) in bounds.items():
         for i in targets(key, "bound"):
             p = params[i]
             lo, hi = max(float(lo), p.lower), min(float(hi), p.upper)
             if not lo <= hi:
                 raise UserError(f"parameter {p.name}: bounds {lo}..{hi} are empty")
-            params[i] = replace(p, lower=lo, upper=hi, value=float(np.clip(p.value, lo, hi)))
+            params[i] = p._replace(lower=lo, upper=hi, value=float(np.clip(p.value, lo, hi)))
     for key, value in start.items():
         for i in targets(key, "start"):
             p = params[i]
-            params[i] = replace(p, value=float(np.clip(float(value), p.lower, p.upper)))
+            params[i] = p._replace(value=float(np.clip(float(value), p.lower, p.upper)))
     for key, value in fixed.items():
         for i in targets(key, "fix"):
             p = params[i]
@@ -505,5 +608,5 @@ def build_problem(model: ActivityModel, items: Sequence[tuple[Electrolyte, FitDa
             if not p.lower <= value <= p.upper:
                 raise UserError(f"parameter {p.name}: fixed value {value:g} lies outside its "
                                 f"bounds {p.lower:g}..{p.upper:g}")
-            params[i] = replace(p, free=False, value=value)
+            params[i] = p._replace(free=False, value=value)
     return FitProblem(model, blocks, params)

@@ -23,6 +23,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, field
+from functools import cached_property
 from typing import Any
 
 import numpy as np
@@ -45,14 +46,17 @@ def _json_float(x: Any) -> float | None:
 
 @dataclass
 class FitResult:
-    """Everything a fit found. ``to_dict()`` gives a JSON-ready summary."""
+    """Everything a fit found. ``to_dict()`` gives a JSON-ready summary.
+
+    ``correlation``, ``residual_stats`` and ``kind`` are worked out on first reading: most
+    callers never read them, and a fit to a few dozen points costs little more than they do.
+    """
 
     electrolyte: str
     model: str
     parameters: list[dict[str, Any]]  # name, value, stderr (None if held or unknown), fixed, unit
     free_names: list[str]
     covariance: np.ndarray
-    correlation: np.ndarray
     covariance_scale: float
     covariance_scaling: str
     chi2: float
@@ -60,7 +64,6 @@ class FitResult:
     n_points: int
     n_params: int
     dof: int
-    residual_stats: dict[str, dict[str, float | int | None]]
     converged: bool
     message: str
     flags: list[str]
@@ -71,10 +74,11 @@ class FitResult:
     temperature_k: float
     # per-point arrays, aligned with the problem's data (blocks in order)
     molality: np.ndarray = field(repr=False)
-    kind: np.ndarray = field(repr=False)
+    is_osmotic: np.ndarray = field(repr=False)  # of each point
     observed: np.ndarray = field(repr=False)
     uncertainty: np.ndarray = field(repr=False)
     prediction: np.ndarray = field(repr=False)
+    stderr_free: np.ndarray = field(repr=False)  # standard errors of the free parameters
     param_map: dict[str, dict[str, str]] = field(default_factory=dict)
     n_evaluations: int = 0
 
@@ -109,6 +113,32 @@ class FitResult:
     @property
     def residual(self) -> np.ndarray:
         return self.observed - self.prediction
+
+    @cached_property
+    def kind(self) -> np.ndarray:
+        """``"ln_gamma"`` or ``"osmotic"`` for each point."""
+        return np.where(self.is_osmotic, "osmotic", "ln_gamma")
+
+    @cached_property
+    def correlation(self) -> np.ndarray:
+        """Correlation matrix of the free parameters (NaN where a standard error is unknown)."""
+        k = self.n_params
+        if not k:
+            return np.zeros((0, 0))
+        sd = self.stderr_free
+        outer = sd[:, None] * sd
+        if (sd > 0).all():
+            return self.covariance / outer
+        # zero or unknown standard errors: NaN or inf entries, without warnings
+        with np.errstate(invalid="ignore", divide="ignore"):
+            return self.covariance / outer
+
+    @cached_property
+    def residual_stats(self) -> dict[str, dict[str, float | int | None]]:
+        """Count, RMS and largest absolute residual per kind (``ln_gamma``, ``osmotic``)."""
+        residual = self.residual
+        return {"ln_gamma": _kind_stats(residual, ~self.is_osmotic),
+                "osmotic": _kind_stats(residual, self.is_osmotic)}
 
     def to_dict(self) -> dict[str, Any]:
         params = [{"name": p["name"], "value": _json_float(p["value"]),
@@ -163,24 +193,25 @@ def _covariance(jac: np.ndarray, names: list[str], svd: ScaledSVD | None = None
     ``svd`` is the decomposition of ``jac`` when the solver already made it.
     """
     k = jac.shape[1]
-    nan = np.full((k, k), np.nan)
     if k == 0:
         return np.zeros((0, 0)), 1.0, []
     if svd is None:
         svd = scaled_svd(jac)
     norms, s, vt = svd.norms, svd.s, svd.vt
-    if not (norms > 0).all():
-        dead = [names[j] for j in range(k) if not norms[j] > 0]
-        return nan, math.inf, [f"singular (the data carry no information on {', '.join(dead)})"]
-    if s.size < k or s[-1] <= SINGULAR * s[0]:
-        if s.size < k:  # fewer points than parameters: every parameter is involved
+    norm_list, s_list = norms.tolist(), s.tolist()  # a few numbers: plain Python tests them
+    if not all(x > 0 for x in norm_list):
+        dead = [names[j] for j in range(k) if not norm_list[j] > 0]
+        return (np.full((k, k), np.nan), math.inf,
+                [f"singular (the data carry no information on {', '.join(dead)})"])
+    if len(s_list) < k or s_list[-1] <= SINGULAR * s_list[0]:
+        if len(s_list) < k:  # fewer points than parameters: every parameter is involved
             involved = list(names)
         else:
             involved = [names[j] for j in np.argsort(-np.abs(vt[-1])) if abs(vt[-1][j]) > 0.2]
         why = f"singular (no information on a combination of {', '.join(involved)})"
-        return nan, math.inf, [why]
-    cond = float(s[0] / s[-1])
-    cov = (vt.T / s**2) @ vt / np.outer(norms, norms)
+        return np.full((k, k), np.nan), math.inf, [why]
+    cond = s_list[0] / s_list[-1]
+    cov = (vt.T / s**2) @ vt / (norms[:, None] * norms)
     flags = [f"ill-conditioned (condition number {cond:.3g})"] if cond > ILL_CONDITIONED else []
     return cov, cond, flags
 
@@ -192,14 +223,20 @@ def build_result(problem: FitProblem, solution: Solution, *,
         raise ValueError(f"covariance_scaling must be one of {', '.join(SCALINGS)}")
     p = problem
     n, k = p.n, p.k
-    free_names = [p.names[i] for i in p.free]
+    free = p.free.tolist()
+    free_names = [p.names[i] for i in free]
     flags = list(solution.flags)
     dof = n - k
     if dof <= 0:
         flags.append(f"too few points ({n} points for {k} free parameters)")
-    pred = solution.prediction if solution.prediction is not None else np.full(n, np.nan)
-    residual = p.obs - pred
-    weighted = residual / p.sigma
+    if solution.prediction is not None:
+        pred = solution.prediction
+        weighted = solution.weighted_residual
+        if weighted is None:
+            weighted = (p.obs - pred) / p.sigma
+    else:
+        pred = np.full(n, np.nan)
+        weighted = (p.obs - pred) / p.sigma
     chi2 = float(weighted @ weighted)
     chi2_red = chi2 / dof if dof > 0 else math.nan
     if solution.jacobian is not None:
@@ -215,42 +252,34 @@ def build_result(problem: FitProblem, solution: Solution, *,
         scale = 1.0
     if scale != 1.0:
         cov = cov * scale
-    sd = np.sqrt(np.clip(np.diag(cov), 0.0, None)) if k else np.zeros(0)
-    if not k:
-        corr = np.zeros((0, 0))
-    elif (sd > 0).all():
-        corr = cov / np.outer(sd, sd)
-    else:  # zero or unknown standard errors: NaN or inf entries, without warnings
-        with np.errstate(invalid="ignore", divide="ignore"):
-            corr = cov / np.outer(sd, sd)
+    # sqrt(max(var, 0)), NaN kept: the same numbers as numpy's, without its per-call cost
+    sd_list = [math.sqrt(v) if not v < 0.0 else 0.0 for v in cov.diagonal().tolist()]
     for g, side in sorted(solution.at_bound.items()):
         bound = p.params[g].lower if side == "lower" else p.params[g].upper
         flags.append(f"parameter {p.names[g]} at bound ({side} = {bound:g})")
 
-    stderr_of = dict(zip(p.free.tolist(), sd.tolist()))
+    stderr_of = dict(zip(free, sd_list))
     units = {q.name: q.unit for q in p.model.parameters}
-    parameters = []
-    for i, (gp, value) in enumerate(zip(p.params, solution.theta.tolist())):
-        parameters.append({"name": gp.name, "value": value,
-                           "stderr": stderr_of.get(i) if gp.free else None,
-                           "fixed": not gp.free, "unit": units.get(gp.model_name, "")})
+    parameters = [{"name": gp.name, "value": value,
+                   "stderr": stderr_of.get(i) if gp.free else None,
+                   "fixed": not gp.free, "unit": units.get(gp.model_name, "")}
+                  for i, (gp, value) in enumerate(zip(p.params, solution.theta.tolist()))]
     param_map = {b.electrolyte.name: {m: p.names[g] for m, g in b.mapping.items()}
                  for b in p.blocks}
     crit_ok = solution.prediction is not None
     temps = {round(b.ctx.temperature_k, 6) for b in p.blocks}
     return FitResult(
         electrolyte=p.electrolyte_label, model=p.model.id, parameters=parameters,
-        free_names=free_names, covariance=cov, correlation=corr, covariance_scale=float(scale),
+        free_names=free_names, covariance=cov, covariance_scale=float(scale),
         covariance_scaling=covariance_scaling, chi2=chi2, chi2_reduced=chi2_red, n_points=n,
-        n_params=k, dof=dof,
-        residual_stats={"ln_gamma": _kind_stats(residual, ~p.is_osm),
-                        "osmotic": _kind_stats(residual, p.is_osm)},
-        converged=solution.converged, message=solution.message, flags=flags,
+        n_params=k, dof=dof, converged=solution.converged, message=solution.message,
+        flags=flags,
         aic=criteria.aic(chi2, k) if crit_ok else math.nan,
         aicc=criteria.aicc(chi2, k, n) if crit_ok else None,
         bic=criteria.bic(chi2, k, n) if crit_ok else None,
         condition_number=cond, temperature_k=float(temps.pop()) if len(temps) == 1 else math.nan,
-        molality=p.molality.copy(), kind=np.where(p.is_osm, "osmotic", "ln_gamma"),
-        observed=p.obs.copy(), uncertainty=p.sigma.copy(), prediction=pred,
-        param_map=param_map, n_evaluations=p.n_evaluations,
+        molality=p.molality.copy(), is_osmotic=p.is_osm, observed=p.obs.copy(),
+        uncertainty=p.sigma.copy(), prediction=pred,
+        stderr_free=np.array(sd_list, dtype=float), param_map=param_map,
+        n_evaluations=p.n_evaluations,
     )

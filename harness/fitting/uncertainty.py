@@ -9,7 +9,7 @@ where it gives one, otherwise from differences (see :mod:`saltbench.fitting.prob
 from __future__ import annotations
 
 from collections.abc import Mapping, Sequence
-from dataclasses import dataclass, replace
+from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
@@ -105,7 +105,7 @@ def propagate(model: ActivityModel, electrolyte: Electrolyte | str,
     unknown = [x for x in free_model if x not in base.names]
     if unknown:
         raise UserError(f"model {model.id} has no parameter {unknown[0]!r}")
-    params_list = [replace(p, free=p.name in free_model) for p in base.params]
+    params_list = [p._replace(free=p.name in free_model) for p in base.params]
     problem = FitProblem(model, base.blocks, params_list)
     theta = problem.theta_from(values)
     order = [free_model.index(problem.names[i]) for i in problem.free]

@@ -75,10 +75,16 @@ class Validity:
 
 @dataclass(frozen=True)
 class EvalContext:
-    """Everything about the conditions of one evaluation, passed to every model function."""
+    """Everything about the conditions of one evaluation, passed to every model function.
+
+    ``wrt`` names the parameters whose derivatives the caller of ``jacobian`` (or
+    ``values_and_jacobian``) will use; ``None`` means all of them. A model may skip the others
+    (a fit needs only its free parameters) or ignore ``wrt`` and return every derivative.
+    """
 
     electrolyte: Electrolyte
     dh: DebyeHuckel
+    wrt: frozenset[str] | None = None
 
     @property
     def temperature_k(self) -> float:
@@ -98,7 +104,8 @@ class ActivityModel:
     Required: ``id`` (lower-case words joined by hyphens, stable forever), ``name``, ``citation``,
     ``parameters`` and :meth:`ln_gamma_pm`. Optional: :meth:`osmotic` (analytic; otherwise the
     harness integrates Gibbs-Duhem), :meth:`ln_gamma_ions` (single-ion values, where the model
-    defines them), :meth:`jacobian` (analytic derivatives with respect to the parameters).
+    defines them), :meth:`jacobian` (analytic derivatives with respect to the parameters) and
+    :meth:`values_and_jacobian` (the three at once, sharing their intermediate terms).
     ``charge_types`` is a set of ``(|z+|, |z-|)`` the model supports, or ``None`` for any.
     """
 
@@ -132,7 +139,22 @@ class ActivityModel:
     def jacobian(
         self, m: np.ndarray, params: Params, ctx: EvalContext
     ) -> tuple[dict[str, np.ndarray], dict[str, np.ndarray]] | None:
-        """Analytic d ln(gamma±)/d p and d phi/d p for each parameter name, or ``None``."""
+        """Analytic d ln(gamma±)/d p and d phi/d p for each parameter name, or ``None``.
+
+        Only the parameters named in ``ctx.wrt`` are needed when it is not ``None``.
+        """
+        return None
+
+    def values_and_jacobian(
+        self, m: np.ndarray, params: Params, ctx: EvalContext
+    ) -> tuple[np.ndarray, np.ndarray, dict[str, np.ndarray], dict[str, np.ndarray]] | None:
+        """``(ln_gamma_pm, osmotic, d_ln_gamma, d_phi)`` at once, or ``None`` (the default).
+
+        For models with an analytic osmotic coefficient and Jacobian whose three functions share
+        intermediate terms: a fit needs all three at the same parameters, and one call computes
+        those terms once. The results must equal those of the three functions (the contract kit
+        checks it); ``ctx.wrt`` applies as for :meth:`jacobian`.
+        """
         return None
 
     # -- helpers the harness and plugin authors share -----------------------------------------

@@ -19,7 +19,10 @@ Checks, each reported as one line naming the electrolyte and what failed:
    there is good to about 1e-12, so a failure is the model's;
 6. single-ion values, where given, average to ln gamma± as (nu+ ln g+ + nu- ln g-)/nu (1e-10);
 7. an analytic Jacobian, where given, names only declared parameters, covers every free one and
-   agrees with central finite differences (relative 1e-5, absolute 1e-8).
+   agrees with central finite differences (relative 1e-5, absolute 1e-8); asked for one
+   parameter at a time (``ctx.wrt``) it gives that derivative as the full call does (1e-12);
+8. ``values_and_jacobian``, where given, equals ``ln_gamma_pm``, ``osmotic`` and ``jacobian``
+   (relative 1e-12), with and without ``ctx.wrt``.
 
 The kit calls the model functions directly, with the parameter defaults updated by ``params``.
 """
@@ -28,6 +31,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Iterable, Mapping
+from dataclasses import replace
 
 import numpy as np
 
@@ -39,6 +43,7 @@ DEFAULT_ELECTROLYTES = ("NaCl", "CaCl2", "Na2SO4", "MgSO4", "LaCl3")
 DILUTE_MOLALITY = 1e-6  # mol/kg, where the limiting law is checked
 GIBBS_DUHEM_TOLERANCE = 1e-8
 IONS_TOLERANCE = 1e-10
+SAME_RTOL = 1e-12  # one quantity computed by two routes of the same model
 JACOBIAN_RTOL = 1e-5
 JACOBIAN_ATOL = 1e-8
 FALLBACK_M_MAX = 1.0  # mol/kg, when a model declares no range
@@ -170,7 +175,8 @@ def _check_jacobian(model, e, m, values, ctx, problems) -> None:
         except Exception as exc:
             problems.add(e, f"finite differences in {name} failed: {type(exc).__name__}: {exc}")
             continue
-        for what, analytic, fd in (("d ln gamma±", d_ln[name], fd_ln), ("d phi", d_phi[name], fd_phi)):
+        for what, analytic, fd in (("d ln gamma±", d_ln[name], fd_ln),
+                                   ("d phi", d_phi[name], fd_phi)):
             arr = _array(problems, e, f"jacobian {what}/d {name}", analytic, m.size)
             if arr is None:
                 continue
@@ -178,6 +184,66 @@ def _check_jacobian(model, e, m, values, ctx, problems) -> None:
                 k = int(np.argmax(np.abs(arr - fd)))
                 problems.add(e, f"jacobian {what}/d {name} at m = {m[k]:g} is {arr[k]:.8g}, "
                                 f"finite differences give {fd[k]:.8g}")
+    for name in sorted(set(d_ln) & set(d_phi) & set(declared)):
+        one = _call(problems, e, model, "jacobian", m, values,
+                    replace(ctx, wrt=frozenset((name,))))
+        if one is _FAILED:
+            return
+        _check_same_jacobian(problems, e, f"jacobian with ctx.wrt = {{{name!r}}}", one,
+                             d_ln, d_phi, [name])
+
+
+def _differs(a: object, b: np.ndarray) -> bool:
+    try:
+        arr = np.asarray(a, dtype=float)
+    except (TypeError, ValueError):
+        return True
+    return arr.shape != b.shape or not np.allclose(arr, b, rtol=SAME_RTOL, atol=0.0)
+
+
+def _check_same_jacobian(problems, e, what, got, d_ln, d_phi, names) -> None:
+    """``got`` (a (d_ln, d_phi) pair) gives each of ``names`` as ``d_ln``/``d_phi`` do."""
+    try:
+        got_ln, got_phi = got
+        got_ln, got_phi = dict(got_ln), dict(got_phi)
+    except (TypeError, ValueError):
+        problems.add(e, f"{what} must return two dicts keyed by parameter")
+        return
+    for name in names:
+        for part, mine, full in (("d ln gamma±", got_ln, d_ln), ("d phi", got_phi, d_phi)):
+            if name not in mine:
+                problems.add(e, f"{what} lacks {part}/d {name}")
+            elif _differs(mine[name], np.asarray(full[name], dtype=float)):
+                problems.add(e, f"{what} gives another {part}/d {name} than the full jacobian")
+
+
+def _check_values_and_jacobian(model, e, m, values, ctx, ln_g, phi, problems) -> None:
+    """``values_and_jacobian`` agrees with the model's three separate functions."""
+    for wrt in (None, frozenset(p.name for p in model.free_parameters(e))):
+        c = ctx if wrt is None else replace(ctx, wrt=wrt)
+        got = _call(problems, e, model, "values_and_jacobian", m, values, c)
+        if got is _FAILED or got is None:
+            return
+        label = "values_and_jacobian" + ("" if wrt is None else " with ctx.wrt")
+        try:
+            got_ln, got_phi, got_dln, got_dphi = got
+        except (TypeError, ValueError):
+            problems.add(e, f"{label} must return (ln_gamma_pm, osmotic, d_ln_gamma, d_phi)")
+            return
+        if _differs(got_ln, ln_g):
+            problems.add(e, f"{label} gives another ln gamma± than ln_gamma_pm")
+        if phi is None or _differs(got_phi, phi):
+            problems.add(e, f"{label} gives another phi than osmotic (which it needs)")
+        jac = _call(problems, e, model, "jacobian", m, values, c)
+        if jac is _FAILED or jac is None:
+            problems.add(e, f"{label} is given but jacobian is not")
+            return
+        try:
+            d_ln, d_phi = (dict(part) for part in jac)
+        except (TypeError, ValueError):
+            return  # reported by _check_jacobian
+        names = sorted(set(d_ln) & set(d_phi)) if wrt is None else sorted(wrt)
+        _check_same_jacobian(problems, e, label, (got_dln, got_dphi), d_ln, d_phi, names)
 
 
 def check_model(model: ActivityModel, electrolytes: Iterable[Electrolyte | str] | None = None,
@@ -240,6 +306,7 @@ def check_model(model: ActivityModel, electrolytes: Iterable[Electrolyte | str] 
                         problems.add(e, "single-ion values do not average to ln gamma± "
                                         f"(largest difference {np.max(np.abs(mean - ln_g)):.3g})")
         _check_jacobian(model, e, m, values, ctx, problems)
+        _check_values_and_jacobian(model, e, m, values, ctx, ln_g, phi, problems)
     return list(problems)
 
 
