@@ -253,9 +253,7 @@ class FitProblem:
             ln_g = _finite(model, "ln_gamma_pm",
                            call_model(model, "ln_gamma_pm", block.union, values, ctx),
                            block.union.shape)
-        out = np.concatenate((ln_g, phi)) if n_osm else ln_g
-        block._last_values = (key, out)
-        return out
+        return _keep_values(block, key, ln_g, phi)
 
     def _values_and_jacobian(self, block: Block, theta: np.ndarray, wrt: frozenset[str]) -> None:
         """Values and the derivatives in ``wrt`` at ``theta`` from one model call, where the model
@@ -284,10 +282,7 @@ class FitProblem:
         if n_osm:
             phi = _finite(self.model, "osmotic", _shaped(self.model, "osmotic", phi, shape)[:n_osm],
                           (n_osm,))
-            out = np.concatenate((ln_g, phi))
-        else:
-            out = ln_g
-        block._last_values = (key, out)
+        _keep_values(block, key, ln_g, phi if n_osm else None)
         block._last_jacobian = _Jacobian(key, wrt, d_ln, d_phi, {})
 
     def predict_block(self, block: Block, theta: np.ndarray) -> np.ndarray:
@@ -481,6 +476,15 @@ class FitProblem:
             self._values_and_jacobian(b, t0, self._wrt(b, cols))
         offset = self.predict(t0)
         return offset, self.derivatives(t0, cols, base=offset)
+
+
+def _keep_values(block: Block, key: tuple, ln_g: np.ndarray, phi: np.ndarray | None
+                 ) -> np.ndarray:
+    """Stack checked values as ``gather`` reads them (ln gamma± on ``union``, then phi on its
+    osmotic part) and keep them as the block's last values."""
+    out = ln_g if phi is None else np.concatenate((ln_g, phi))
+    block._last_values = (key, out)
+    return out
 
 
 def _stack(parts: list[np.ndarray], dtype: type) -> np.ndarray:
