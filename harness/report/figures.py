@@ -91,6 +91,20 @@ def _pyplot():
     return plt
 
 
+def legend_below(fig, handles: list, labels: list[str], most: int = 5):
+    """A frameless legend under the panels, in as many columns (up to ``most``) as fit the
+    figure's width: model ids are the plugins' own and may be long."""
+    renderer = fig.canvas.get_renderer()
+    width = fig.bbox.width
+    for ncol in range(max(1, min(most, len(labels))), 0, -1):
+        leg = fig.legend(handles, labels, loc="outside lower center", ncol=ncol, frameon=False,
+                         handlelength=3.2)
+        if ncol == 1 or leg.get_window_extent(renderer).width <= width:
+            return leg
+        leg.remove()
+    return None  # not reached: one column is always kept
+
+
 def render_png(fig) -> bytes:
     buf = io.BytesIO()
     fig.savefig(buf, format="png", dpi=DPI, metadata={"Software": None}, bbox_inches=None)
@@ -185,8 +199,7 @@ def coefficient_figure(name: str, outcomes, data, datasets: list[dict], styles: 
             ax.set_ylabel(ylabel)
         axes[0].set_title(f"{name}: " + r"$\gamma_\pm$")
         axes[1].set_title(f"{name}: " + r"$\varphi$")
-        fig.legend(handles, labels, loc="outside lower center", ncol=min(4, max(1, len(labels))),
-                   frameon=False, handlelength=3.2)
+        legend_below(fig, handles, labels)
         png = render_png(fig)
     return FigureImage(key, f"{name}: mean activity coefficient and osmotic coefficient against the "
                        "square root of molality. Open black symbols: data (one shape per dataset); "
@@ -252,8 +265,7 @@ def residual_figure(name: str, outcomes, residuals: dict, settings, styles: dict
             ax.set_title(note, fontsize=7.5, loc="left", color="#333333")
         fig.suptitle(f"{name}: residuals of the refitted models", fontsize=9.5)
         if handles:
-            fig.legend(handles, labels, loc="outside lower center", ncol=min(5, len(labels)),
-                       frameon=False, handlelength=3.2)
+            legend_below(fig, handles, labels)
         png = render_png(fig)
     return FigureImage(key, f"{name}: residuals (data minus model) of each refitted model against the "
                        "square root of molality; the grey band is the tolerance. Residuals are on the "
