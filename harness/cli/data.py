@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import click
 
-from saltbench.cli.output import emit, fold, format_option
+from saltbench.cli.output import emit, emit_ingest, fold, format_option
 
 POINT_COLUMNS = ["electrolyte", "property", "molality", "value", "uncertainty", "temperature_k",
                  "source", "dataset", "origin"]
@@ -117,13 +117,7 @@ def add(app, paths: tuple[str, ...], fmt: str) -> None:
     does and the store is unchanged.
     """
     report = app.session().add(paths)
-    result = {"added": report.added, "updated": report.updated, "unchanged": report.unchanged}
-    if fmt == "json":
-        emit([], fmt, json_obj=result)
-        return
-    for what, items in result.items():
-        for item in items:
-            click.echo(f"{what:9s} {item}")
+    emit_ingest(report, fmt)
 
 
 @data.command("check")

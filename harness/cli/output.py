@@ -99,6 +99,18 @@ def emit(records: Sequence[dict[str, Any]], fmt: str, columns: Sequence[str] | N
         click.echo(table(records, columns, headers, digits))
 
 
+def emit_ingest(report: Any, fmt: str) -> None:
+    """What an ingest did (``report.added``, ``.updated``, ``.unchanged``): one JSON object, or a
+    line per item."""
+    result = {"added": report.added, "updated": report.updated, "unchanged": report.unchanged}
+    if fmt == "json":
+        emit([], fmt, json_obj=result)
+        return
+    for what, items in result.items():
+        for item in items:
+            click.echo(f"{what:9s} {item}")
+
+
 REGULATED_USE_CAUTION = ("Caution: for dosing, safety limits or regulated measurements, verify these numbers "
                          "under local codes and licensed practice.")
 

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import click
 
-from saltbench.cli.output import emit, format_option, table
+from saltbench.cli.output import emit, emit_ingest, format_option, table
 
 KIND_LABEL = {"emf": "E", "electrode_calibration": "E", "isopiestic": "m_ref",
               "water_activity": "a_w", "vapour_pressure": "p"}
@@ -30,13 +30,7 @@ def add(app, paths: tuple[str, ...], fmt: str) -> None:
     from saltbench.store.measurements import add_readings
 
     report = add_readings(app.session().store, paths)
-    result = {"added": report.added, "updated": report.updated, "unchanged": report.unchanged}
-    if fmt == "json":
-        emit([], fmt, json_obj=result)
-        return
-    for what, items in result.items():
-        for item in items:
-            click.echo(f"{what:9s} {item}")
+    emit_ingest(report, fmt)
 
 
 @readings.command("list")
