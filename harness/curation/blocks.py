@@ -57,6 +57,21 @@ class Block:
                 raise InputFileError(self.path, hf.line, name, f"unknown header field{what} "
                                      f"(known: {', '.join(sorted(allowed))})")
 
+    def typed(self, forms: dict[str, str]) -> HeaderField:
+        """The required ``typed`` field: how the values reached the file. It must begin with one
+        of ``forms`` (opening words -> how the message shows that form), and values typed from
+        memory must carry the caution to verify them."""
+        tf = self.require("typed")
+        text = tf.value.lower()
+        if not text.startswith(tuple(forms)):
+            shown = list(forms.values())
+            listed = ", ".join(f"'{f}'" for f in shown[:-1]) + f" or '{shown[-1]}'"
+            raise InputFileError(self.path, tf.line, "typed", f"must begin {listed}")
+        if text.startswith("from memory of") and "verify" not in text:
+            raise InputFileError(self.path, tf.line, "typed", "values from memory must say "
+                                 "'verify against the original before use in a regulated method'")
+        return tf
+
     def temperature_k(self) -> float:
         """The required ``temperature`` field in kelvin, within the range water properties allow."""
         from saltbench.curation.units import parse_temperature

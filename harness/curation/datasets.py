@@ -25,7 +25,9 @@ MAGIC = "saltbench dataset"
 PROPERTIES = ("gamma_pm", "osmotic", "water_activity")
 BASES = ("linear", "ln", "log10")
 SCALES = ("molality", "molarity", "mole_fraction")
-TYPED_FORMS = ("transcribed from ", "from memory of ", "measured ")
+TYPED_FORMS = {"transcribed from ": "transcribed from <source, table>",
+               "from memory of ": "from memory of <source>; verify against the original ...",
+               "measured ": "measured <by whom, where>"}
 KNOWN_FIELDS = {"electrolyte", "property", "basis", "scale", "temperature", "pressure", "source",
                 "table", "precision", "uncertainty", "typed", "note", "id", "cation", "anion"}
 
@@ -162,14 +164,7 @@ def read_dataset(path: str | Path, text: str | None = None) -> Dataset:
         uncertainty = parse_float(p, b.header["uncertainty"].line, "uncertainty", b.get("uncertainty") or "")
         if uncertainty <= 0:
             raise b.error("uncertainty", "must be positive")
-    typed = b.require("typed")
-    if not typed.value.lower().startswith(TYPED_FORMS):
-        raise InputFileError(p, typed.line, "typed", "must begin 'transcribed from <source, table>', "
-                             "'from memory of <source>; verify against the original ...' or "
-                             "'measured <by whom, where>'")
-    if typed.value.lower().startswith("from memory of") and "verify" not in typed.value.lower():
-        raise InputFileError(p, typed.line, "typed", "values from memory must say 'verify against "
-                             "the original before use in a regulated method'")
+    typed = b.typed(TYPED_FORMS)
 
     x_col = {"molality": "molality", "molarity": "molarity", "mole_fraction": "mole_fraction"}[scale]
     if x_col not in b.columns or "value" not in b.columns:

@@ -12,6 +12,9 @@ from saltbench.curation.blocks import parse_block, parse_float
 from saltbench.errors import InputFileError
 
 MAGIC = "saltbench parameters"
+TYPED_FORMS = {"transcribed from ": "transcribed from <source, table>",
+               "from memory of ": "from memory of <source>; verify against the original ...",
+               "fitted ": "fitted <by whom, to which data>"}
 KNOWN_FIELDS = {"set", "model", "source", "table", "temperature", "a_phi", "typed", "note"}
 SET_ID = re.compile(r"^[a-z0-9]+(?:-[a-z0-9]+)*$")
 
@@ -70,10 +73,7 @@ def read_parameter_file(path: str | Path) -> ParameterFile:
         a_phi = parse_float(p, b.header["a_phi"].line, "a_phi", b.get("a_phi") or "")
         if not (0.2 < a_phi < 1.5):
             raise b.error("a_phi", f"{a_phi:g} is not a plausible Debye-Hückel A_phi in (kg/mol)^1/2")
-    typed = b.require("typed")
-    if not typed.value.lower().startswith(("transcribed from ", "from memory of ", "fitted ")):
-        raise InputFileError(p, typed.line, "typed", "must begin 'transcribed from <source, table>' "
-                             "or 'from memory of <source>; verify against the original ...'")
+    typed = b.typed(TYPED_FORMS)
     first = b.columns[0]
     if first not in ("electrolyte", "ion"):
         raise InputFileError(p, b.columns_line, first, "the first column must be 'electrolyte' or 'ion'")

@@ -19,7 +19,8 @@ import numpy as np
 from saltbench.chemistry.electrolyte import Electrolyte, parse_formula
 from saltbench.chemistry.ions import Ion
 from saltbench.curation.blocks import Block, parse_block, parse_float
-from saltbench.curation.datasets import TYPED_FORMS, _declared_ions
+from saltbench.curation.datasets import TYPED_FORMS as DATASET_TYPED_FORMS
+from saltbench.curation.datasets import _declared_ions
 from saltbench.errors import InputFileError, UserError
 from saltbench.measurements.methods import KINDS, default_method, method_for
 
@@ -53,6 +54,9 @@ READING_U_FIELD = {"emf": "u_emf", "electrode_calibration": "u_emf",
 VOLTS = {"V": 1.0, "mV": 1e-3}
 PASCALS = {"Pa": 1.0, "kPa": 1e3}
 _QUANTITY = re.compile(r"^\s*([-+]?\d+(?:\.\d*)?(?:[eE][-+]?\d+)?)\s*(\S*)\s*$")
+
+# readings are mostly measured: that form is named first
+TYPED_FORMS = {k: DATASET_TYPED_FORMS[k] for k in ("measured ", "transcribed from ", "from memory of ")}
 
 
 @dataclass
@@ -208,14 +212,7 @@ def read_readings(path: str | Path, text: str | None = None) -> MeasurementSet:
     electrolyte = b.electrolyte(declared)
     temperature_k = b.temperature_k()
     source = b.require("source")
-    typed = b.require("typed")
-    if not typed.value.lower().startswith(TYPED_FORMS):
-        raise InputFileError(p, typed.line, "typed", "must begin 'measured <by whom, where>', "
-                             "'transcribed from <source, table>' or 'from memory of <source>; "
-                             "verify against the original ...'")
-    if typed.value.lower().startswith("from memory of") and "verify" not in typed.value.lower():
-        raise InputFileError(p, typed.line, "typed", "values from memory must say 'verify against "
-                             "the original before use in a regulated method'")
+    typed = b.typed(TYPED_FORMS)
 
     if kind == "emf":
         settings = _emf_settings(b)
