@@ -20,6 +20,11 @@ class HeaderField:
     line: int
 
 
+# How values may reach any curated file: copied off a table, or recalled (to be verified).
+TYPED_FROM_SOURCE = {"transcribed from ": "transcribed from <source, table>",
+                     "from memory of ": "from memory of <source>; verify against the original ..."}
+
+
 @dataclass
 class Block:
     """A parsed file: its magic line, header fields, column names and rows (with line numbers)."""
@@ -59,8 +64,9 @@ class Block:
 
     def typed(self, forms: dict[str, str]) -> HeaderField:
         """The required ``typed`` field: how the values reached the file. It must begin with one
-        of ``forms`` (opening words -> how the message shows that form), and values typed from
-        memory must carry the caution to verify them."""
+        of ``forms`` (opening words -> how the message shows that form; each file kind adds its
+        own to :data:`TYPED_FROM_SOURCE`), and values typed from memory must carry the caution
+        to verify them."""
         tf = self.require("typed")
         text = tf.value.lower()
         if not text.startswith(tuple(forms)):

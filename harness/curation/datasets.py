@@ -17,7 +17,7 @@ import numpy as np
 from saltbench.chemistry.electrolyte import Electrolyte
 from saltbench.chemistry.ions import KNOWN_IONS, Ion, formula_mass
 from saltbench.curation import units
-from saltbench.curation.blocks import Block, parse_block, parse_float
+from saltbench.curation.blocks import TYPED_FROM_SOURCE, Block, parse_block, parse_float
 from saltbench.errors import InputFileError
 from saltbench.water.properties import water_state
 
@@ -25,9 +25,7 @@ MAGIC = "saltbench dataset"
 PROPERTIES = ("gamma_pm", "osmotic", "water_activity")
 BASES = ("linear", "ln", "log10")
 SCALES = ("molality", "molarity", "mole_fraction")
-TYPED_FORMS = {"transcribed from ": "transcribed from <source, table>",
-               "from memory of ": "from memory of <source>; verify against the original ...",
-               "measured ": "measured <by whom, where>"}
+TYPED_FORMS = {**TYPED_FROM_SOURCE, "measured ": "measured <by whom, where>"}
 KNOWN_FIELDS = {"electrolyte", "property", "basis", "scale", "temperature", "pressure", "source",
                 "table", "precision", "uncertainty", "typed", "note", "id", "cation", "anion"}
 

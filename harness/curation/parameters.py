@@ -8,13 +8,11 @@ import re
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from saltbench.curation.blocks import parse_block, parse_float
+from saltbench.curation.blocks import TYPED_FROM_SOURCE, parse_block, parse_float
 from saltbench.errors import InputFileError
 
 MAGIC = "saltbench parameters"
-TYPED_FORMS = {"transcribed from ": "transcribed from <source, table>",
-               "from memory of ": "from memory of <source>; verify against the original ...",
-               "fitted ": "fitted <by whom, to which data>"}
+TYPED_FORMS = {**TYPED_FROM_SOURCE, "fitted ": "fitted <by whom, to which data>"}
 KNOWN_FIELDS = {"set", "model", "source", "table", "temperature", "a_phi", "typed", "note"}
 SET_ID = re.compile(r"^[a-z0-9]+(?:-[a-z0-9]+)*$")
 

@@ -18,8 +18,7 @@ import numpy as np
 
 from saltbench.chemistry.electrolyte import Electrolyte, parse_formula
 from saltbench.chemistry.ions import Ion
-from saltbench.curation.blocks import Block, parse_block, parse_float
-from saltbench.curation.datasets import TYPED_FORMS as DATASET_TYPED_FORMS
+from saltbench.curation.blocks import TYPED_FROM_SOURCE, Block, parse_block, parse_float
 from saltbench.curation.datasets import _declared_ions
 from saltbench.errors import InputFileError, UserError
 from saltbench.measurements.methods import KINDS, default_method, method_for
@@ -56,7 +55,7 @@ PASCALS = {"Pa": 1.0, "kPa": 1e3}
 _QUANTITY = re.compile(r"^\s*([-+]?\d+(?:\.\d*)?(?:[eE][-+]?\d+)?)\s*(\S*)\s*$")
 
 # readings are mostly measured: that form is named first
-TYPED_FORMS = {k: DATASET_TYPED_FORMS[k] for k in ("measured ", "transcribed from ", "from memory of ")}
+TYPED_FORMS = {"measured ": "measured <by whom, where>", **TYPED_FROM_SOURCE}
 
 
 @dataclass

@@ -94,15 +94,17 @@ def _pyplot():
 def legend_below(fig, handles: list, labels: list[str], most: int = 5):
     """A frameless legend under the panels, in as many columns (up to ``most``) as fit the
     figure's width: model ids are the plugins' own and may be long."""
+    def draw(ncol: int):
+        return fig.legend(handles, labels, loc="outside lower center", ncol=ncol, frameon=False,
+                          handlelength=3.2)
+
     renderer = fig.canvas.get_renderer()
-    width = fig.bbox.width
-    for ncol in range(max(1, min(most, len(labels))), 0, -1):
-        leg = fig.legend(handles, labels, loc="outside lower center", ncol=ncol, frameon=False,
-                         handlelength=3.2)
-        if ncol == 1 or leg.get_window_extent(renderer).width <= width:
+    for ncol in range(min(most, len(labels)), 1, -1):
+        leg = draw(ncol)
+        if leg.get_window_extent(renderer).width <= fig.bbox.width:
             return leg
         leg.remove()
-    return None  # not reached: one column is always kept
+    return draw(1)
 
 
 def render_png(fig) -> bytes:
