@@ -162,6 +162,15 @@ def _ion_size_note(ion_size: float | None, n_fit: int) -> str:
     return f"ion size and c fitted to the lowest {n_fit} points"
 
 
+def _measured_where_given(m: np.ndarray, measured: np.ndarray, at: np.ndarray,
+                          estimate: np.ndarray) -> np.ndarray:
+    """``estimate`` at ``at``, with the measured value itself wherever ``at`` is a measured
+    molality (``m`` sorted ascending)."""
+    idx = np.minimum(np.searchsorted(m, at), m.size - 1)
+    hit = np.isclose(m[idx], at, rtol=1e-12, atol=0)
+    return np.where(hit, measured[idx], estimate)
+
+
 def _forward_osmotic(electrolyte: Electrolyte, dh: DebyeHuckel, m: np.ndarray, phi: np.ndarray,
                      n_fit: int, ion_size: float | None, weights: np.ndarray,
                      at: np.ndarray) -> tuple[np.ndarray, np.ndarray, DiluteExtrapolation]:
@@ -175,10 +184,7 @@ def _forward_osmotic(electrolyte: Electrolyte, dh: DebyeHuckel, m: np.ndarray, p
     spline = CubicSpline(u, (phi - 1.0) / u)
     inside = spline(np.sqrt(np.maximum(at, m0))) * np.sqrt(at) + 1.0
     phi_at = np.where(at < m0, ext.osmotic(at), inside)
-    # Exact measured values where the requested molality is a measured one.
-    idx = np.searchsorted(m, at)
-    hit = (idx < m.size) & np.isclose(m[np.minimum(idx, m.size - 1)], at, rtol=1e-12, atol=0)
-    phi_at = np.where(hit, phi[np.minimum(idx, m.size - 1)], phi_at)
+    phi_at = _measured_where_given(m, phi, at, phi_at)
     tail = np.array([2.0 * spline.integrate(u[0], math.sqrt(x)) if x >= m0 else 0.0 for x in at])
     ln_g = np.where(at < m0, ext.ln_gamma_pm(at), (phi_at - 1.0) + head + tail)
     return ln_g, phi_at, ext
@@ -197,9 +203,7 @@ def _forward_activity(electrolyte: Electrolyte, dh: DebyeHuckel, m: np.ndarray, 
     spline = CubicSpline(u, 2.0 * u * ln_g)
     lng_spline = CubicSpline(u, ln_g)
     ln_at = np.where(at < m0, ext.ln_gamma_pm(at), lng_spline(np.sqrt(np.maximum(at, m0))))
-    idx = np.searchsorted(m, at)
-    hit = (idx < m.size) & np.isclose(m[np.minimum(idx, m.size - 1)], at, rtol=1e-12, atol=0)
-    ln_at = np.where(hit, ln_g[np.minimum(idx, m.size - 1)], ln_at)
+    ln_at = _measured_where_given(m, ln_g, at, ln_at)
     tail = np.array([spline.integrate(u[0], math.sqrt(x)) if x >= m0 else 0.0 for x in at])
     phi = np.where(at < m0, ext.osmotic(at), 1.0 + ln_at - (head + tail) / at)
     return ln_at, phi, ext
