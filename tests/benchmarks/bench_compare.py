@@ -6,8 +6,9 @@ Sections (``--only`` picks some): ``models`` (points per second of every built-i
 np.exp on the same array; np.exp calls per point of a Pitzer evaluation), ``fitting`` (one Pitzer
 fit to 30 points, and one fit per model to the bundled NaCl data, against a plain per-point
 scipy.optimize.curve_fit with finite differences, written as a user would, and against the
-fastest purpose-written vectorised fit of that one problem, as a yardstick; plus the
-no-Jacobian model of bench_fit.py against its own baseline), ``compare`` (``saltbench compare
+fastest purpose-written vectorised fit of that one problem, as a yardstick, the Pitzer fits
+timed back to back and in turns; plus the no-Jacobian model of bench_fit.py against its own
+baseline), ``compare`` (``saltbench compare
 --all`` as a subprocess: wall and CPU time, peak memory, ``--jobs 1`` against ``--jobs 2``),
 ``startup`` (``saltbench --help`` against ``python -c "import numpy"``) and ``scaling``
 (comparison time with 1x, 4x and 16x synthetic data, in points per electrolyte and in number of
@@ -51,31 +52,19 @@ import numpy as np
 HERE = Path(__file__).resolve().parent
 sys.path.insert(0, str(HERE))  # the sibling benchmarks (bench_fit) are reused, not copied
 
+from timing import (  # noqa: E402
+    back_to_back_median_times,
+    best_rate,
+    in_turns_median_times,
+    median_time,
+)
+
 TARGETS = {"pitzer_exp_calls_per_point_max": 10, "pitzer_fit_speedup_min": 20,
            "compare_all_wall_s_max": 15, "compare_all_memory_mb_max": 400,
            "help_over_numpy_import_max": 2}
 
 
 # -- helpers -----------------------------------------------------------------------------------
-def median_time(fn: Callable[[], Any], repeat: int) -> tuple[float, Any]:
-    times, out = [], None
-    for _ in range(repeat):
-        t = time.perf_counter()
-        out = fn()
-        times.append(time.perf_counter() - t)
-    return statistics.median(times), out
-
-
-def best_rate(fn: Callable[[], Any], n: int, repeat: int) -> float:
-    """Points per second of the fastest of ``repeat`` runs (the least disturbed by others)."""
-    best = math.inf
-    for _ in range(repeat):
-        t = time.perf_counter()
-        fn()
-        best = min(best, time.perf_counter() - t)
-    return n / best
-
-
 def saltbench_command() -> list[str]:
     exe = shutil.which("saltbench")
     return [exe] if exe else [sys.executable, "-m", "saltbench"]
@@ -154,6 +143,7 @@ def bench_models(quick: bool) -> dict[str, Any]:
 
 
 # -- fitting -----------------------------------------------------------------------------------
+PITZER_FIT_ROUNDS = {False: 100, True: 20}  # timed calls of each (full, --quick)
 A_PHI_PITZER = 0.392  # the constant the published sets were fitted with (Pitzer and Mayorga 1973)
 TRUE_NACL = {"beta0": 0.0765, "beta1": 0.2664, "C_phi": 0.00127}  # see the module docstring
 
@@ -267,12 +257,20 @@ def bench_fitting(quick: bool, store: str) -> dict[str, Any]:
     pitzer = reg.models["pitzer"].model
     dh = with_a_phi(debye_huckel_constants(298.15), A_PHI_PITZER, "pitzer-mayorga-1973")
     data = synthetic_pitzer_data()
-    fit(pitzer, e, data, dh=dh)  # imports and caches outside the timing
-    t_sb, res = median_time(lambda: fit(pitzer, e, data, dh=dh), repeat)
-    # the same fit with every statistic read (some are worked out on first reading)
-    t_read, _ = median_time(lambda: fit(pitzer, e, data, dh=dh).to_dict(), repeat)
-    t_base, popt = median_time(lambda: baseline_pitzer_fit(data), repeat)
-    t_floor, (pfloor, _, _) = median_time(lambda: purpose_written_pitzer_fit(data), repeat * 20)
+    # All four are timed the same number of times, back to back (the figures of the row) and in
+    # turns (each call following a different one). "read" is the same fit with every statistic
+    # of the result read (some are worked out on first reading).
+    fns = {"saltbench": lambda: fit(pitzer, e, data, dh=dh),
+           "read": lambda: fit(pitzer, e, data, dh=dh).to_dict(),
+           "baseline": lambda: baseline_pitzer_fit(data),
+           "yardstick": lambda: purpose_written_pitzer_fit(data)}
+    rounds = PITZER_FIT_ROUNDS[quick]
+    timed = back_to_back_median_times(fns, rounds)
+    turns = {name: t for name, (t, _) in in_turns_median_times(fns, rounds).items()}
+    t_sb, res = timed["saltbench"]
+    t_read = timed["read"][0]
+    t_base, popt = timed["baseline"]
+    t_floor, (pfloor, _, _) = timed["yardstick"]
     ours = np.array([res.value(k) for k in ("beta0", "beta1", "C_phi")])
     pitzer_row = {"points": data.n, "saltbench_s": t_sb, "baseline_curve_fit_s": t_base,
                   "speedup": t_base / t_sb,
@@ -287,6 +285,17 @@ def bench_fitting(quick: bool, store: str) -> dict[str, Any]:
                   "saltbench_over_purpose_written": t_sb / t_floor,
                   "purpose_written_max_abs_parameter_difference":
                       float(np.max(np.abs(pfloor - popt))),
+                  "calls_each": rounds,
+                  "timing": "median of single calls, each of the four timed back to back "
+                            "(timing.py)",
+                  "in_turns": {"saltbench_s": turns["saltbench"],
+                               "saltbench_fit_and_to_dict_s": turns["read"],
+                               "baseline_curve_fit_s": turns["baseline"],
+                               "purpose_written_s": turns["yardstick"],
+                               "speedup": turns["baseline"] / turns["saltbench"],
+                               "purpose_written_speedup": turns["baseline"] / turns["yardstick"],
+                               "timing": "median of single calls, the four called in turns "
+                                         "(timing.py)"},
                   "data": "synthetic (see module docstring)"}
 
     # One fit per built-in model to the bundled NaCl data, and the same per-point baseline.

@@ -14,8 +14,6 @@ from __future__ import annotations
 
 import argparse
 import json
-import statistics
-import time
 
 import numpy as np
 
@@ -23,6 +21,8 @@ from saltbench.chemistry.electrolyte import parse_formula
 from saltbench.fitting import FitData, fit
 from saltbench.models import ActivityModel, Parameter
 from saltbench.models.evaluate import evaluate
+
+from timing import median_time
 
 
 class BenchDH(ActivityModel):
@@ -66,15 +66,6 @@ def baseline(model, e, data):
     return popt, np.sqrt(np.diag(pcov))
 
 
-def timed(fn, repeat):
-    times, out = [], None
-    for _ in range(repeat):
-        t = time.perf_counter()
-        out = fn()
-        times.append(time.perf_counter() - t)
-    return statistics.median(times), out
-
-
 def main() -> None:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("out", help="JSON file to write")
@@ -82,8 +73,8 @@ def main() -> None:
     args = ap.parse_args()
     model, e = BenchDH(), parse_formula("NaCl")
     data = make_data(model, e)
-    t_fit, res = timed(lambda: fit(model, e, data, covariance_scaling="none"), args.repeat)
-    t_base, (popt, perr) = timed(lambda: baseline(model, e, data), args.repeat)
+    t_fit, res = median_time(lambda: fit(model, e, data, covariance_scaling="none"), args.repeat)
+    t_base, (popt, perr) = median_time(lambda: baseline(model, e, data), args.repeat)
     report = {
         "n_points": data.n,
         "saltbench_seconds": t_fit,

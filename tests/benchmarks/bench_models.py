@@ -10,7 +10,6 @@ from __future__ import annotations
 
 import argparse
 import json
-import time
 
 import numpy as np
 
@@ -18,14 +17,7 @@ from saltbench.chemistry.electrolyte import parse_formula
 from saltbench.models.discovery import build_registry
 from saltbench.models.evaluate import make_context, osmotic_by_gibbs_duhem
 
-
-def _rate(fn, n: int, repeat: int) -> float:
-    best = float("inf")
-    for _ in range(repeat):
-        t0 = time.perf_counter()
-        fn()
-        best = min(best, time.perf_counter() - t0)
-    return n / best
+from timing import best_rate
 
 
 def main() -> None:
@@ -38,19 +30,19 @@ def main() -> None:
     ctx = make_context(e)
     reg = build_registry(use_environment=False)
     m = np.linspace(1e-3, 1.0, args.points)
-    exp_rate = _rate(lambda: np.exp(m), m.size, args.repeat)
+    exp_rate = best_rate(lambda: np.exp(m), m.size, args.repeat)
     rows = []
     for mid, info in sorted(reg.models.items()):
         model = info.model
         if not model.supports(e):
             continue
         p = model.defaults()
-        r_ln = _rate(lambda: model.ln_gamma_pm(m, p, ctx), m.size, args.repeat)
+        r_ln = best_rate(lambda: model.ln_gamma_pm(m, p, ctx), m.size, args.repeat)
 
         def phi():
             out = model.osmotic(m, p, ctx)
             return osmotic_by_gibbs_duhem(model, m, p, ctx) if out is None else out
-        r_phi = _rate(phi, m.size, args.repeat)
+        r_phi = best_rate(phi, m.size, args.repeat)
         rows.append({"model": mid, "ln_gamma_pm_points_per_s": r_ln,
                      "osmotic_points_per_s": r_phi, "ln_gamma_pm_ratio_to_exp": r_ln / exp_rate,
                      "osmotic_ratio_to_exp": r_phi / exp_rate})
