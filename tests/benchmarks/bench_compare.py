@@ -8,11 +8,10 @@ fit to 30 points, and one fit per model to the bundled NaCl data, against a plai
 scipy.optimize.curve_fit with finite differences, written as a user would, and against the
 fastest purpose-written vectorised fit of that one problem, as a yardstick, the Pitzer fits
 timed back to back and in turns; plus the no-Jacobian model of bench_fit.py against its own
-baseline), ``compare`` (``saltbench compare
---all`` as a subprocess: wall and CPU time, peak memory, ``--jobs 1`` against ``--jobs 2``),
-``startup`` (``saltbench --help`` against ``python -c "import numpy"``) and ``scaling``
-(comparison time with 1x, 4x and 16x synthetic data, in points per electrolyte and in number of
-electrolytes, with the fitted log-log slope).
+baseline), ``compare`` (``saltbench compare --all`` as a subprocess: wall and CPU time, peak
+memory, ``--jobs 1`` against ``--jobs 2``), ``startup`` (``saltbench --help`` against
+``python -c "import numpy"``) and ``scaling`` (comparison time with 1x, 4x and 16x synthetic
+data, in points per electrolyte and in number of electrolytes, with the fitted log-log slope).
 
 Machines are shared and noisy, so every time is a median of repeats and sits next to a
 baseline run in the same process; CPU time is given beside wall time. This is a benchmark, not
