@@ -35,6 +35,7 @@ _MODEL_FAILURES = (ModelError, ModelDomainError, FloatingPointError, np.linalg.L
 
 
 _EPS = float(np.finfo(float).eps)
+_NO_BASIS = np.zeros((0, 0))  # nothing to project out (no free linear parameter, or no projection)
 
 
 class ScaledSVD(NamedTuple):
@@ -115,7 +116,7 @@ class _Projection:
         # set by the first set_point, which comes before any use
         self.resid: np.ndarray | None = None
         self.pred: np.ndarray | None = None
-        self.basis: np.ndarray | None = None
+        self.basis = _NO_BASIS
         self.design: np.ndarray | None = None
         self.weighted: np.ndarray | None = None
         self.svd: ScaledSVD | None = None
@@ -136,7 +137,7 @@ class _Projection:
             self.design, self.weighted, self.svd = design, lin.weighted, lin.svd
             pred = offset + design @ theta[p.linear]
         else:
-            self.basis = None
+            self.basis = _NO_BASIS
             pred = p.predict(theta)
         resid = (p.obs - pred) / p.sigma
         # A sum is finite only if every term is; the elementwise test runs only when it is not.
@@ -160,7 +161,7 @@ class _Projection:
         except _MODEL_FAILURES as exc:
             self.failures.append(str(exc))
             raise _Abort(str(exc)) from exc
-        if self.basis is not None and self.basis.shape[1]:
+        if self.basis.shape[1]:
             j = j - self.basis @ (self.basis.T @ j)
         return j
 
@@ -216,9 +217,6 @@ def solve_linear(problem: FitProblem, offset: np.ndarray, design: np.ndarray, *,
             u, s, _ = np.linalg.svd(sub, full_matrices=False)
             basis = u[:, s > s[0] * max(sub.shape) * _EPS] if s[0] > 0 else u[:, :0]
     return LinearSolution(x, basis, pinned, a, svd)
-
-
-_NO_BASIS = np.zeros((0, 0))  # no projection: nothing reads the basis
 
 
 def solve(problem: FitProblem, *, max_evaluations: int | None = None,
