@@ -126,12 +126,9 @@ class FitResult:
         if not k:
             return np.zeros((0, 0))
         sd = self.stderr_free
-        outer = sd[:, None] * sd
-        if (sd > 0).all():
-            return self.covariance / outer
-        # zero or unknown standard errors: NaN or inf entries, without warnings
+        # zero or unknown standard errors give NaN or inf entries, without warnings
         with np.errstate(invalid="ignore", divide="ignore"):
-            return self.covariance / outer
+            return self.covariance / (sd[:, None] * sd)
 
     @cached_property
     def residual_stats(self) -> dict[str, dict[str, float | int | None]]:
@@ -229,13 +226,9 @@ def build_result(problem: FitProblem, solution: Solution, *,
     dof = n - k
     if dof <= 0:
         flags.append(f"too few points ({n} points for {k} free parameters)")
-    if solution.prediction is not None:
-        pred = solution.prediction
-        weighted = solution.weighted_residual
-        if weighted is None:
-            weighted = (p.obs - pred) / p.sigma
-    else:
-        pred = np.full(n, np.nan)
+    pred = solution.prediction if solution.prediction is not None else np.full(n, np.nan)
+    weighted = solution.weighted_residual  # the solver's, when it has them (with its prediction)
+    if weighted is None:
         weighted = (p.obs - pred) / p.sigma
     chi2 = float(weighted @ weighted)
     chi2_red = chi2 / dof if dof > 0 else math.nan
