@@ -54,6 +54,9 @@ class Dataset:
     value_printed: np.ndarray
     u_value: np.ndarray  # standard uncertainty of ``value`` (linear basis)
     lines: list[int]
+    #: one unit of each point's last printed digit (printed basis): the header's ``precision``
+    #: unless a ``precision`` column gives it per point (tables that print 3 significant figures)
+    point_precision: np.ndarray = field(default_factory=lambda: np.zeros(0))
     declared_ions: dict[str, Ion] = field(default_factory=dict)
     meta: dict[str, str] = field(default_factory=dict)
 
@@ -77,6 +80,8 @@ class Dataset:
             "points": [[float(m), float(v), float(u)] for m, v, u in
                        zip(self.molality, self.value_printed, self.u_value)],
         }
+        if np.any(self.point_precision != self.precision):
+            doc["point_precision"] = [float(p) for p in self.point_precision]
         return hashlib.sha256(json.dumps(doc, sort_keys=True).encode()).hexdigest()
 
 
@@ -168,7 +173,7 @@ def read_dataset(path: str | Path, text: str | None = None) -> Dataset:
     if x_col not in b.columns or "value" not in b.columns:
         raise InputFileError(p, b.columns_line, None, f"expected columns '{x_col},value' "
                              f"(found {', '.join(b.columns)})")
-    allowed = {x_col, "value", "uncertainty", "density"}
+    allowed = {x_col, "value", "uncertainty", "precision", "density"}
     for c in b.columns:
         if c not in allowed:
             raise InputFileError(p, b.columns_line, c, f"unknown column (allowed: {', '.join(sorted(allowed))})")
@@ -184,7 +189,7 @@ def read_dataset(path: str | Path, text: str | None = None) -> Dataset:
     if not b.rows:
         raise InputFileError(p, b.columns_line, None, "the table has no rows")
 
-    xs, vs, us, lines, dens = [], [], [], [], []
+    xs, vs, us, lines, dens, precs = [], [], [], [], [], []
     seen: dict[float, int] = {}
     for n, row in b.rows:
         x = parse_float(p, n, x_col, row[x_col])
@@ -208,6 +213,11 @@ def read_dataset(path: str | Path, text: str | None = None) -> Dataset:
                 raise InputFileError(p, n, "uncertainty", "must be positive")
         if u is None:
             raise InputFileError(p, n, "uncertainty", "empty, and no dataset uncertainty in the header")
+        prec = precision
+        if "precision" in b.columns and row["precision"]:
+            prec = parse_float(p, n, "precision", row["precision"])
+            if prec <= 0:
+                raise InputFileError(p, n, "precision", "must be positive (one unit of the last printed digit)")
         if "density" in b.columns:
             d = parse_float(p, n, "density", row["density"])
             if not (0.5 < d < 3.0):
@@ -216,6 +226,7 @@ def read_dataset(path: str | Path, text: str | None = None) -> Dataset:
         xs.append(x)
         vs.append(v)
         us.append(u)
+        precs.append(prec)
         lines.append(n)
 
     x = np.array(xs)
@@ -265,5 +276,6 @@ def read_dataset(path: str | Path, text: str | None = None) -> Dataset:
         source_line=source.line, table=table, precision=precision, uncertainty=uncertainty,
         typed=typed.value, note=b.get("note", "") or "", molality=m[order], value=value[order],
         value_printed=printed[order], u_value=u_lin[order], lines=[lines[i] for i in order],
+        point_precision=np.array(precs)[order],
         declared_ions=declared, meta={k: v.value for k, v in b.header.items()},
     )

@@ -193,8 +193,10 @@ def _write_dataset(store: Store, d: Dataset, origin: str, provider: str, known_s
                                report, label)
     store.db["points"].insert_all(
         {"dataset_id": dataset_id, "seq": i, "molality": float(m), "value": float(v),
-         "value_printed": float(vp), "u_value": float(u), "line": int(n)}
-        for i, (m, v, vp, u, n) in enumerate(zip(d.molality, d.value, d.value_printed, d.u_value, d.lines))
+         "value_printed": float(vp), "u_value": float(u), "line": int(n),
+         "precision": float(pp) if pp != d.precision else None}
+        for i, (m, v, vp, u, n, pp) in enumerate(zip(d.molality, d.value, d.value_printed, d.u_value, d.lines,
+                                                      d.point_precision))
     )
 
 

@@ -58,7 +58,7 @@ def points(store: Store, electrolyte: str | None = None, dataset_ids: list[int] 
     sql = """
     SELECT d.electrolyte, d.property, p.molality, p.value, p.u_value AS uncertainty,
            d.temperature_k, d.source, d.key AS dataset, d.id AS dataset_id, d.origin,
-           p.value_printed, d.basis, p.line, d.file
+           p.value_printed, d.basis, p.line, d.file, COALESCE(p.precision, d.precision) AS precision
     FROM points p JOIN datasets d ON d.id = p.dataset_id
     """
     where, params = [], []

@@ -158,6 +158,10 @@ CREATE TABLE reductions (
     result TEXT NOT NULL DEFAULT '{}'
 );
 """),
+    # Tables that print three significant figures give each value its own last digit.
+    ("0003_point_precision", """
+ALTER TABLE points ADD COLUMN precision REAL CHECK (precision IS NULL OR precision > 0);
+"""),
 ]
 
 SCHEMA_VERSION = len(MIGRATIONS)
