@@ -29,22 +29,40 @@ def list_(app, fmt: str) -> None:
     for r in frame.to_dict("records"):
         ds = sources[sources.electrolyte == r["electrolyte"]]
         cites = ds.drop_duplicates("source")[["source", "citation", "doi"]].to_dict("records")
+        sets = [{"key": d["key"], "property": d["property"], "source": d["source"],
+                 "typed_as": typed_as(d["typed"]), "n_points": int(d["n_points"]),
+                 "min_molality": d["min_molality"], "max_molality": d["max_molality"]}
+                for d in ds.to_dict("records")]
+        remembered = sum(d["n_points"] for d in sets if d["typed_as"] == "remembered")
         records.append({
             "electrolyte": r["electrolyte"], "charge_type": r["charge_type"],
             "properties": sorted(set((r["properties"] or "").split(","))),
             "n_datasets": int(r["n_datasets"]), "n_points": int(r["n_points"]),
             "max_molality": r["max_molality"], "sources": [c["source"] for c in cites],
-            "citations": cites, "from_memory": bool(r["any_from_memory"]), "origin": r["origin"],
+            "citations": cites, "from_memory": bool(r["any_from_memory"]),
+            "n_points_from_memory": remembered, "datasets": sets, "origin": r["origin"],
         })
     if fmt == "json":
         emit(records, fmt)
         return
-    flat = [{**r, "properties": ",".join(r["properties"]), "sources": ", ".join(r["sources"]),
-             "from_memory": "yes (verify)" if r["from_memory"] else "no"} for r in records]
+    # 100 columns: the first source and how many more ('data show' and JSON name them all)
+    flat = [{**r, "properties": ",".join(r["properties"]),
+             "sources": r["sources"][0] + (f" +{len(r['sources']) - 1}" if len(r["sources"]) > 1 else ""),
+             "from_memory": f"{r['n_points_from_memory']} (verify)" if r["n_points_from_memory"] else "no"}
+            for r in records]
     emit(flat, fmt, ["electrolyte", "charge_type", "properties", "n_datasets", "n_points",
                      "max_molality", "from_memory", "sources"],
-         {"charge_type": "type", "n_datasets": "datasets", "n_points": "points",
-          "max_molality": "max m/(mol/kg)", "from_memory": "from memory"})
+         {"charge_type": "type", "n_datasets": "sets", "n_points": "points",
+          "max_molality": "max m", "from_memory": "from memory"})
+    click.echo(f"{len(records)} electrolytes; max m in mol/kg; 'saltbench data show NAME' gives each dataset "
+               "with its citation.")
+
+
+def typed_as(typed: str) -> str:
+    """How a dataset's values reached it, in one word: transcribed, remembered or measured."""
+    text = typed.lower()
+    return ("remembered" if text.startswith("from memory of") else
+            "transcribed" if text.startswith("transcribed from") else "measured")
 
 
 @data.command("show")
@@ -71,6 +89,8 @@ def show(app, electrolyte: str, points: bool, fmt: str) -> None:
         click.echo(f"{d['key']}  [{d['origin']}]")
         if d["from_memory"]:
             click.echo("  ** typed from memory: verify against the original before regulated use **")
+        else:
+            click.echo(f"  {typed_as(d['typed'])}")
         click.echo(f"  {d['property']} ({d['basis']} basis, {d['scale']}), {d['temperature_k']:.2f} K, "
                    f"{d['n_points']} points, m = {d['min_molality']:g} to {d['max_molality']:g} mol/kg")
         click.echo(fold(d["citation"], "    ", "  source: "))
