@@ -140,6 +140,9 @@ def compare(app, electrolytes, all_, models, up_to, tol, folds, on, data_sel, te
         for r in rows:
             if r["short_verdict"].endswith("(below)"):
                 click.echo(wrap(f"   {r['model']}: {r['verdict']}", indent="     "))
+            for flag in r["flags"]:
+                if flag.startswith("published:"):
+                    click.echo(wrap(f"   {r['model']}: {flag}", indent="     "))
         if comp.skipped.get(name):
             click.echo(f"   not applicable to {name}: {', '.join(comp.skipped[name])}")
         click.echo(wrap(f"-> {rec.statement}", indent="   "))

@@ -10,6 +10,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from saltbench.chemistry.electrolyte import Electrolyte
+from saltbench.comparison.anchoring import anchoring_flags
 from saltbench.comparison.outcome import ModelOutcome
 from saltbench.comparison.settings import CompareSettings
 from saltbench.errors import SaltbenchError
@@ -85,6 +86,8 @@ def assess(model, plugin: str, e: Electrolyte, data: FitData, published: Publish
                     model, e, data, params=published.values, tolerance_ln_gamma=settings.tol_ln_gamma,
                     tolerance_phi=settings.tol_phi, dh=pdh).to_dict()
                 out.valid_published.pop("trials", None)
+                out.flags += anchoring_flags(model, e, data, published.set_id, published.values, pdh,
+                                             settings.tol_ln_gamma)
         if curves:
             top = float(data.molality.max())
             out.curve = {"refit": _curves(model, e, result.model_values(e.name), top, dh)}
