@@ -161,5 +161,10 @@ def check(app, electrolytes: tuple[str, ...], fmt: str) -> None:
         n = len(report.summary)
         click.echo(f"{n} checks, {len(report.findings)} flagged point(s)" if report.findings
                    else f"{n} checks passed")
+        near = [r for r in report.summary if r["check"] == "neighbours"]
+        judged, total = sum(r["n_judged"] for r in near), sum(r["n_points"] for r in near)
+        if judged < total:
+            click.echo(f"{total - judged} of {total} points sit too far from their neighbours to be judged by "
+                       "them (sparse tables); the other checks still see them.")
     if not report.ok:
         raise SystemExit(1)
