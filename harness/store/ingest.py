@@ -15,6 +15,8 @@ from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
 
+import numpy as np
+
 from saltbench import __version__
 from saltbench.chemistry.electrolyte import Electrolyte
 from saltbench.chemistry.ions import KNOWN_IONS, Ion
@@ -191,10 +193,12 @@ def _write_dataset(store: Store, d: Dataset, origin: str, provider: str, known_s
     }
     dataset_id = upsert_parent(store, "datasets", row[0] if row else None, values, "points", "dataset_id",
                                report, label)
+    # a point's own last digit is stored only where the file gives one that differs (0003)
+    own = bool(np.any(d.point_precision != d.precision))
     store.db["points"].insert_all(
         {"dataset_id": dataset_id, "seq": i, "molality": float(m), "value": float(v),
          "value_printed": float(vp), "u_value": float(u), "line": int(n),
-         "precision": float(pp) if pp != d.precision else None}
+         **({"precision": float(pp) if pp != d.precision else None} if own else {})}
         for i, (m, v, vp, u, n, pp) in enumerate(zip(d.molality, d.value, d.value_printed, d.u_value, d.lines,
                                                       d.point_precision))
     )
