@@ -141,15 +141,14 @@ def _pools(groups: dict[str, pd.DataFrame]) -> list[_Pool]:
             by.setdefault((kind, round(float(g.temperature_k.iloc[0]), 2)), []).append(g)
     pools = []
     for (kind, t), frames in by.items():
-        parts = [(_series(g), _precision_y(g, kind)) for g in frames]
-        cat = lambda f: np.concatenate([f(i, p) for i, p in enumerate(parts)])
-        prec = cat(lambda i, p: p[1])
+        series = [_series(g) for g in frames]
+        prec = np.concatenate([_precision_y(g, kind) for g in frames])
         # a table is smooth to its last printed digit: its scatter is rounding (a remembered value
         # is held to the same, and cut where it fails: DEVELOPERS.md, "Adding a dataset")
-        pools.append(_Pool(kind, t, cat(lambda i, p: p[0][0]), cat(lambda i, p: p[0][1]),
-                           prec / np.sqrt(12.0), 0.5 * prec, cat(lambda i, p: p[0][2]),
-                           cat(lambda i, p: np.full(len(p[1]), i)), frames,
-                           cat(lambda i, p: np.arange(len(p[1])))))
+        pools.append(_Pool(kind, t, np.concatenate([s[0] for s in series]), np.concatenate([s[1] for s in series]),
+                           prec / np.sqrt(12.0), 0.5 * prec, np.concatenate([s[2] for s in series]),
+                           np.concatenate([np.full(len(g), i) for i, g in enumerate(frames)]), frames,
+                           np.concatenate([np.arange(len(g)) for g in frames])))
     return pools
 
 
