@@ -8,7 +8,7 @@ import json
 from pathlib import Path
 
 import pytest
-from conftest import bundle_copy
+from conftest import REFDATA, bundle_copy
 
 # Electrolytes every release bundles with both gamma± and osmotic data (refdata/datasets).
 BUNDLED_CORE = {"NaCl", "KCl", "CaCl2", "MgSO4"}
@@ -42,7 +42,21 @@ def test_list_table_warns_about_values_typed_from_memory(run_cli, seeded_store: 
     code, out, _ = run_cli("data", "list", store=seeded_store)
     assert code == 0
     nacl_line = next(line for line in out.splitlines() if line.startswith("NaCl "))
-    assert "yes (verify)" in nacl_line
+    assert " (verify)" in nacl_line  # how many of its points were typed from memory
+    cacl2 = next(line for line in out.splitlines() if line.startswith("CaCl2 "))
+    assert f"{_remembered_points('CaCl2')} (verify)" in cacl2
+    koh = next(line for line in out.splitlines() if line.startswith("KOH "))
+    assert "verify" not in koh  # transcribed only
+
+
+def _remembered_points(electrolyte: str) -> int:
+    """Points of the bundled files typed from memory, counted off the files themselves."""
+    n = 0
+    for path in (REFDATA / "datasets").glob(f"{electrolyte}.*.csv"):
+        text = path.read_text(encoding="utf-8")
+        if "# typed: from memory of" in text:
+            n += sum(1 for line in text.splitlines()[1:] if line and not line.startswith(("#", "molality")))
+    return n
 
 
 def test_show_json_points_carry_their_context(run_cli, seeded_store: Path) -> None:
@@ -55,15 +69,15 @@ def test_show_json_points_carry_their_context(run_cli, seeded_store: Path) -> No
         assert {"electrolyte", "property", "molality", "value", "temperature_k", "source"} <= set(p)
         assert p["electrolyte"] == "NaCl"
         assert p["molality"] > 0 and p["value"] > 0
-    rs = [p for p in doc["points"] if p["source"] == "robinson-stokes-1959" and p["property"] == "gamma_pm"]
-    # gamma±(NaCl, 1.0 mol/kg, 25 °C) = 0.657: Robinson and Stokes (1959) appendix (from memory
-    # of Robinson and Stokes 1959; Hamer and Wu 1972 give 0.6570).
+    rs = [p for p in doc["points"] if p["source"] == "crc-acids-bases-salts" and p["property"] == "gamma_pm"]
+    # gamma±(NaCl, 1.0 mol/kg, 25 °C) = 0.657: CRC Handbook, "Activity Coefficients of Acids,
+    # Bases, and Salts" (the Robinson-Stokes evaluation), as printed.
     one = [p for p in rs if p["molality"] == 1.0]
-    assert len(one) == 1 and one[0]["value"] == pytest.approx(0.657, abs=0.002)
+    assert len(one) == 1 and one[0]["value"] == 0.657
     # 25 °C = 298.15 K (ITS-90 offset; common practice, no source).
     assert one[0]["temperature_k"] == pytest.approx(298.15)
     keys = {d["key"] for d in doc["datasets"]}
-    assert "NaCl.gamma_pm.robinson-stokes-1959" in keys
+    assert {"NaCl.gamma_pm.robinson-stokes-1959", "NaCl.gamma_pm.crc-acids-bases-salts"} <= keys
 
 
 def test_show_unknown_electrolyte_is_a_user_error(run_main, seeded_store: Path) -> None:
@@ -96,7 +110,8 @@ def test_export_matches_show(run_cli, seeded_store: Path) -> None:
 def test_check_passes_on_the_bundled_data(run_cli, seeded_store: Path) -> None:
     code, out, _ = run_cli("data", "check", store=seeded_store)
     assert code == 0, out
-    assert out.strip().endswith("checks passed")
+    assert out.strip().splitlines()[-2].endswith("checks passed")
+    assert "too far from their neighbours to be judged" in out.strip().splitlines()[-1]
 
 
 def test_check_passes_on_an_unaltered_copy_of_the_bundle(run_cli, store_path: Path, tmp_path: Path,
@@ -110,27 +125,27 @@ def test_check_passes_on_an_unaltered_copy_of_the_bundle(run_cli, store_path: Pa
 def test_check_names_a_copying_slip(run_cli, store_path: Path, tmp_path: Path,
                                     monkeypatch: pytest.MonkeyPatch) -> None:
     root = bundle_copy(tmp_path, monkeypatch)
-    target = root / "datasets" / "NaCl.gamma_pm.robinson-stokes-1959.csv"
+    target = root / "datasets" / "NaCl.gamma_pm.crc-acids-bases-salts.csv"
     lines = target.read_text(encoding="utf-8").splitlines(keepends=True)
-    # gamma±(NaCl, 0.7 mol/kg) = 0.667 (from memory of Robinson and Stokes 1959, appendix);
-    # the slip turns it into 0.677, one unit too many in the second decimal (+0.010).
+    # gamma±(NaCl, 0.7 mol/kg) = 0.667 (CRC Handbook, "Activity Coefficients of Acids, Bases, and
+    # Salts", as printed); the slip turns it into 0.677, one unit too many in the second decimal.
     n = next(i for i, line in enumerate(lines) if line.startswith("0.7,"))
-    assert lines[n].strip() == "0.7,0.667"
-    lines[n] = "0.7,0.677\n"
+    assert lines[n].split(",")[:2] == ["0.7", "0.667"]
+    lines[n] = lines[n].replace("0.7,0.667", "0.7,0.677")
     target.write_text("".join(lines), encoding="utf-8")
     line_no = n + 1
 
     code, out, _ = run_cli("data", "check", "NaCl", store=store_path)
     assert code == 1
     flagged = [line for line in out.splitlines()
-               if line.startswith(f"NaCl.gamma_pm.robinson-stokes-1959.csv:{line_no}: ")]
+               if line.startswith(f"NaCl.gamma_pm.crc-acids-bases-salts.csv:{line_no}: ")]
     assert flagged, out
     assert all("m = 0.7 mol/kg" in line for line in flagged)
-    assert "flagged point(s)" in out.splitlines()[-1]
+    assert any("flagged point(s)" in line for line in out.splitlines()[-2:])
 
     code, out, _ = run_cli("data", "check", "NaCl", "--format", "json", store=store_path)
     assert code == 1
     doc = json.loads(out)
     assert doc["ok"] is False
-    assert any(f["file"] == "NaCl.gamma_pm.robinson-stokes-1959.csv" and f["line"] == line_no
+    assert any(f["file"] == "NaCl.gamma_pm.crc-acids-bases-salts.csv" and f["line"] == line_no
                and f["molality"] == pytest.approx(0.7) for f in doc["findings"])

@@ -62,10 +62,12 @@ def test_wheel_holds_the_bundled_data(wheel: Path) -> None:
     names = set(zipfile.ZipFile(wheel).namelist())
     bundled = sorted(p.relative_to(REPO / "refdata").as_posix()
                      for p in (REPO / "refdata").rglob("*")
-                     if p.suffix in (".csv", ".txt") and "examples" not in p.parts)
+                     if p.suffix in (".csv", ".txt") and not {"examples", "tools"} & set(p.parts))
     assert bundled, "no bundled data found in the source tree"
     missing = [b for b in bundled if f"saltbench/refdata/{b}" not in names]
     assert not missing
+    # the transcription script and its lists are the curators', not the product's
+    assert not any(n.startswith("saltbench/refdata/tools/") for n in names)
     assert "saltbench/py.typed" in names
     assert not any(n.startswith(("tests/", "harness/")) for n in names)
 

@@ -21,26 +21,25 @@ import pytest
 REFDATA = Path(__file__).resolve().parents[1] / "refdata"
 DATASETS = sorted((REFDATA / "datasets").glob("*.csv"))
 MAGIC = "# saltbench dataset 1"
-REQUIRED = ("electrolyte", "property", "scale", "temperature", "source", "table", "precision",
-            "uncertainty", "typed")
+REQUIRED = ("electrolyte", "property", "scale", "temperature", "source", "table", "precision", "typed")
 TYPED_TRANSCRIBED = re.compile(r"^transcribed from \S.*$")
 TYPED_MEMORY = re.compile(
     r"^from memory of \S.*; verify against the original before use in a regulated method$")
 COVERAGE = 2.0  # expanded uncertainty, k = 2 (common practice, no source)
 
-# Pairs of sources that must overlap for the 1-1 salts (guards against the comparison silently
-# finding nothing to compare):
-#   robinson-stokes-1959: R. A. Robinson and R. H. Stokes, Electrolyte Solutions, 2nd ed. (1959),
-#                         appendix tables at 25 °C, 0.1 mol/kg upwards;
-#   crc-handbook:         CRC Handbook of Chemistry and Physics, 92nd ed. (2011), "Mean Activity
-#                         Coefficients of Electrolytes as a Function of Concentration", which
-#                         takes the 1-1 salts from Hamer and Wu, J. Phys. Chem. Ref. Data 1, 1047
-#                         (1972).
-# Both are bundled "from memory of" the source (see each file's typed: line).
+# Pairs of sources that must overlap (guards against the comparison silently finding nothing
+# to compare):
+#   crc-acids-bases-salts: CRC Handbook, "Activity Coefficients of Acids, Bases, and Salts",
+#                          0.1 to 1.0 mol/kg (the Robinson-Stokes evaluation), transcribed;
+#   crc-handbook:          CRC Handbook, 92nd ed. (2011), "Mean Activity Coefficients of
+#                          Electrolytes as a Function of Concentration" (Hamer and Wu 1972 for
+#                          1-1 salts; Staples and Goldberg for the others): transcribed for CaCl2,
+#                          from memory of it for NaCl, KCl and HCl (see each file's typed: line).
 EXPECTED_OVERLAPS = {
-    ("NaCl", "gamma_pm"): {"robinson-stokes-1959", "crc-handbook"},
-    ("KCl", "gamma_pm"): {"robinson-stokes-1959", "crc-handbook"},
-    ("HCl", "gamma_pm"): {"robinson-stokes-1959", "crc-handbook"},
+    ("NaCl", "gamma_pm"): {"crc-acids-bases-salts", "crc-handbook"},
+    ("KCl", "gamma_pm"): {"crc-acids-bases-salts", "crc-handbook"},
+    ("HCl", "gamma_pm"): {"crc-acids-bases-salts", "crc-handbook"},
+    ("CaCl2", "gamma_pm"): {"crc-acids-bases-salts", "crc-handbook"},
 }
 
 
@@ -85,7 +84,7 @@ def _read(path: Path) -> _Table:
     v = np.array([float(r[col["value"]]) for r in rows])
     if "uncertainty" in col:
         u = np.array([float(r[col["uncertainty"]]) if r[col["uncertainty"]] else
-                      float(meta["uncertainty"]) for r in rows])
+                      float(meta.get("uncertainty", "nan")) for r in rows])
     else:
         u = np.full(len(rows), float(meta["uncertainty"]))
     return _Table(path, meta, first, m, v, u)
@@ -128,7 +127,9 @@ def test_header_complete(path: Path) -> None:
     assert (electrolyte, prop, source) == (t.meta["electrolyte"], t.meta["property"],
                                            t.meta["source"]), \
         f"{path.name}: file name must be <electrolyte>.<property>.<source-key>.csv of its header"
-    assert float(t.meta["precision"]) > 0 and float(t.meta["uncertainty"]) > 0
+    assert float(t.meta["precision"]) > 0
+    # a stated uncertainty: one for the dataset in the header, or one per point in a column
+    assert float(t.meta.get("uncertainty", "0")) > 0 or np.all(t.u > 0), f"{path.name}: no uncertainty"
 
 
 @pytest.mark.parametrize("path", DATASETS, ids=lambda p: p.name)
@@ -147,7 +148,8 @@ def test_source_is_in_bibliography(path: Path) -> None:
 @pytest.mark.parametrize("path", DATASETS, ids=lambda p: p.name)
 def test_molality_strictly_increasing(path: Path) -> None:
     m = _read(path).molality
-    assert len(m) >= 2 and np.all(np.diff(m) > 0), f"{path.name}: molality must strictly increase"
+    # a column of the 2-20 mol/kg handbook table may print one value only (Na2CO3 at 2 mol/kg)
+    assert len(m) >= 1 and np.all(np.diff(m) > 0), f"{path.name}: molality must strictly increase"
 
 
 def test_expected_overlaps_present() -> None:

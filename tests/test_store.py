@@ -124,16 +124,20 @@ def test_reloading_unchanged_bundled_data_is_a_no_op(seeded_store: Path) -> None
     store.close()
 
 
+NACL_KEY = "NaCl.gamma_pm.crc-acids-bases-salts"
+
+
 def _nacl_rs_gamma(root: Path) -> Path:
-    return root / "datasets" / "NaCl.gamma_pm.robinson-stokes-1959.csv"
+    return root / "datasets" / f"{NACL_KEY}.csv"
 
 
 def _change_value_at(path: Path, molality: str, new_value: str) -> int:
     """Replace the value on the row of ``molality``; returns that row's 1-based line number."""
     lines = path.read_text(encoding="utf-8").splitlines(keepends=True)
     for i, line in enumerate(lines):
-        if line.split(",")[0] == molality:
-            lines[i] = f"{molality},{new_value}\n"
+        cells = line.rstrip("\n").split(",")
+        if cells[0] == molality:
+            lines[i] = ",".join([molality, new_value, *cells[2:]]) + "\n"
             path.write_text("".join(lines), encoding="utf-8")
             return i + 1
     raise AssertionError(f"no row for m = {molality} in {path}")
@@ -148,17 +152,17 @@ def test_changed_bundled_data_is_updated_not_duplicated(store_path: Path, tmp_pa
     h_before = content_hash(store)
     assert sync_bundled(store) is None
 
-    # 0.681 at 0.5 mol/kg: Robinson and Stokes (1959) appendix, NaCl gamma± (from memory of
-    # Robinson and Stokes 1959); the edit only has to differ from it.
+    # 0.681 at 0.5 mol/kg: NaCl gamma±, CRC Handbook "Activity Coefficients of Acids, Bases, and
+    # Salts" (the Robinson-Stokes evaluation); the edit only has to differ from it.
     _change_value_at(_nacl_rs_gamma(root), "0.5", "0.682")
     report = sync_bundled(store)
     assert report is not None
-    assert report.updated == ["dataset NaCl.gamma_pm.robinson-stokes-1959"]
+    assert report.updated == [f"dataset {NACL_KEY}"]
     assert not report.added and not report.removed
     assert store.conn.execute("SELECT COUNT(*) FROM datasets").fetchone()[0] == n_before
     rows = store.conn.execute(
         "SELECT p.value FROM points p JOIN datasets d ON d.id = p.dataset_id "
-        "WHERE d.key = 'NaCl.gamma_pm.robinson-stokes-1959' AND p.molality = 0.5").fetchall()
+        "WHERE d.key = ? AND p.molality = 0.5", (NACL_KEY,)).fetchall()
     assert rows == [(0.682,)]
     assert content_hash(store) != h_before
     store.close()
@@ -175,9 +179,8 @@ def test_bundled_dataset_dropped_from_the_bundle_is_removed(store_path: Path, tm
     gone = _nacl_rs_gamma(root)
     monkeypatch.setattr(bundled, "bundled_files", lambda: [f for f in files if f != gone])
     report = sync_bundled(store)
-    assert report is not None and report.removed == ["dataset NaCl.gamma_pm.robinson-stokes-1959"]
-    left = store.conn.execute("SELECT COUNT(*) FROM datasets WHERE key = ?",
-                              ("NaCl.gamma_pm.robinson-stokes-1959",)).fetchone()[0]
+    assert report is not None and report.removed == [f"dataset {NACL_KEY}"]
+    left = store.conn.execute("SELECT COUNT(*) FROM datasets WHERE key = ?", (NACL_KEY,)).fetchone()[0]
     assert left == 0
     store.close()
 
@@ -225,7 +228,7 @@ def test_user_data_untouched_by_a_bundled_update(store_path: Path, tmp_path: Pat
 
     _change_value_at(_nacl_rs_gamma(root), "0.5", "0.682")
     report = session.refresh_bundled()
-    assert report is not None and report.updated == ["dataset NaCl.gamma_pm.robinson-stokes-1959"]
+    assert report is not None and report.updated == [f"dataset {NACL_KEY}"]
     assert user_rows() == before
     assert user_source() == src_before
     session.store.close()
