@@ -149,3 +149,14 @@ def test_check_names_a_copying_slip(run_cli, store_path: Path, tmp_path: Path,
     assert doc["ok"] is False
     assert any(f["file"] == "NaCl.gamma_pm.crc-acids-bases-salts.csv" and f["line"] == line_no
                and f["molality"] == pytest.approx(0.7) for f in doc["findings"])
+
+
+def test_list_by_charge_type(run_cli, run_main, seeded_store: Path) -> None:
+    code, out, _ = run_cli("data", "list", "--type", "2-2", "--format", "json", store=seeded_store)
+    assert code == 0
+    names = {r["electrolyte"] for r in json.loads(out)}
+    # every 2-2 sulfate of the handbook's 0.1-1.0 mol/kg table (CRC Handbook, "Activity
+    # Coefficients of Acids, Bases, and Salts")
+    assert names == {"BeSO4", "CdSO4", "CuSO4", "MgSO4", "MnSO4", "NiSO4", "UO2SO4", "ZnSO4"}
+    code, out, err = run_main("data", "list", "--type", "4-4", store=seeded_store)
+    assert code == 2 and err.count("\n") == 1 and "--type" in err and "2-2" in err

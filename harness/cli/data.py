@@ -18,12 +18,22 @@ def data() -> None:
 
 
 @data.command("list")
+@click.option("--type", "charge_type", default=None, metavar="Z+-Z-",
+              help="Only electrolytes of this charge type, e.g. 2-2 or 3-1.")
 @format_option
 @click.pass_obj
-def list_(app, fmt: str) -> None:
+def list_(app, charge_type: str | None, fmt: str) -> None:
     """One line per electrolyte: charge type, datasets, points, sources, range."""
     s = app.session()
     frame = s.electrolytes()
+    if charge_type is not None:
+        known = sorted(set(frame.charge_type))
+        if charge_type.strip() not in known:
+            from saltbench.errors import UserError
+
+            raise UserError(f"--type: no electrolyte of charge type {charge_type!r} in the store "
+                            f"(there are: {', '.join(known)})")
+        frame = frame[frame.charge_type == charge_type.strip()]
     sources = s.datasets()
     records = []
     for r in frame.to_dict("records"):
