@@ -20,3 +20,30 @@ def test_readme_has_exactly_the_two_setup_commands():
         "python3 -m pip install . && saltbench compare --all",
         "python3 -m pip install -e '.[test]' && python3 -m pytest",
     ]
+
+
+def test_readme_slip_figures_come_from_the_benchmark_json():
+    import readme_slips
+
+    text = README.read_text(encoding="utf-8")
+    assert readme_slips.BLOCK.search(text), "the README keeps a table of slips caught"
+    assert readme_slips.render(text) == text, "slip figures are stale: run python tests/readme_slips.py --update"
+
+
+def test_readme_counts_of_the_bundle_are_those_of_the_bundle():
+    """The sentence in "What is bundled" that counts electrolytes and points holds to the files."""
+    import re
+
+    from conftest import REFDATA
+
+    files = list((REFDATA / "datasets").glob("*.csv"))
+    electrolytes = {p.name.split(".")[0] for p in files}
+    remembered = sum(len([ln for ln in p.read_text(encoding="utf-8").splitlines()[1:]
+                          if ln and not ln.startswith(("#", "molality"))])
+                     for p in files if "# typed: from memory of" in p.read_text(encoding="utf-8"))
+    section = README.read_text(encoding="utf-8").split("## What is bundled", 1)[1].split("\n## ", 1)[0]
+    m = re.search(r"(\d+) electrolytes in (\d+) datasets; (\d+) of their (\d+) points", section)
+    assert m, "the bundle section states its counts"
+    points = sum(len([ln for ln in p.read_text(encoding="utf-8").splitlines()[1:]
+                      if ln and not ln.startswith(("#", "molality"))]) for p in files)
+    assert [int(g) for g in m.groups()] == [len(electrolytes), len(files), remembered, points]
