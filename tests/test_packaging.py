@@ -73,15 +73,16 @@ def test_wheel_holds_the_bundled_data(wheel: Path) -> None:
 
 
 def test_installed_wheel_runs_from_elsewhere(wheel: Path, tmp_path: Path) -> None:
-    venv = tmp_path / "venv"
-    subprocess.run([sys.executable, "-m", "venv", "--system-site-packages", str(venv)], check=True)
-    bindir = venv / ("Scripts" if os.name == "nt" else "bin")
-    py = bindir / "python"
-    env = {k: v for k, v in os.environ.items()
-           if k not in ("PYTHONPATH", "SALTBENCH_STORE", "SALTBENCH_PLUGINS", "VIRTUAL_ENV")}
-    env.update(PIP_NO_INDEX="1", PIP_DISABLE_PIP_VERSION_CHECK="1", XDG_DATA_HOME=str(tmp_path / "xdg"))
-    subprocess.run([str(py), "-m", "pip", "install", "--no-deps", "--force-reinstall", "-q", str(wheel)],
+    # The wheel goes into a folder of its own, run by this very interpreter (whose environment
+    # holds the dependencies): a venv with --system-site-packages would see the base Python's
+    # packages, not this environment's, and pass or fail with whatever the machine has there.
+    target = tmp_path / "installed"
+    env = {k: v for k, v in os.environ.items() if k not in ("SALTBENCH_STORE", "SALTBENCH_PLUGINS")}
+    env.update(PIP_NO_INDEX="1", PIP_DISABLE_PIP_VERSION_CHECK="1", XDG_DATA_HOME=str(tmp_path / "xdg"),
+               PYTHONPATH=str(target))
+    subprocess.run([sys.executable, "-m", "pip", "install", "--no-deps", "--target", str(target), "-q", str(wheel)],
                    check=True, env=env, capture_output=True, text=True)
+    py = sys.executable
 
     elsewhere = tmp_path / "elsewhere"
     elsewhere.mkdir()
@@ -91,11 +92,11 @@ def test_installed_wheel_runs_from_elsewhere(wheel: Path, tmp_path: Path) -> Non
                          "print(pathlib.Path(saltbench.__file__).resolve())")],
         check=True, env=env, cwd=elsewhere, capture_output=True, text=True).stdout.split()
     for p in where:
-        assert Path(p).is_relative_to(venv.resolve()), p
+        assert Path(p).is_relative_to(target.resolve()), p
         assert not Path(p).is_relative_to(REPO), p
 
     store = tmp_path / "store.sqlite"
-    run = subprocess.run([str(bindir / "saltbench"), "--store", str(store), "data", "list", "--format", "json"],
+    run = subprocess.run([str(py), "-m", "saltbench", "--store", str(store), "data", "list", "--format", "json"],
                          check=False, env=env, cwd=elsewhere, capture_output=True, text=True)
     assert run.returncode == 0, run.stderr
     rows = json.loads(run.stdout)
