@@ -6,13 +6,26 @@ the observations; they only mean something where the data are better than the to
 * Fixed parameters (e.g. a published set; no refit): every point is a held-out point. Scanning
   the data's molalities upwards, the range ends below the lowest molality at which some point
   is out of tolerance.
-* Refitted parameters: for each trial limit L on the data's molality grid (from the lowest one
-  leaving each fold more points than free parameters), the model is cross-validated on the
-  points with m <= L (see :mod:`saltbench.fitting.crossval`); L passes when every held-out
-  prediction is within tolerance. The range is the highest passing L (searched from the top, so
-  that a few dilute points cannot end it early); the first failing limit above it is reported.
+* Refitted parameters, judged by the fit (``judge="fit"``, the default): for each trial limit L
+  on the data's molality grid (from the lowest one leaving ``MIN_DOF`` more points than free
+  parameters), the model is fitted to the points with m <= L; L passes when every point is
+  within tolerance of that fit. This answers "up to which molality does the model, with
+  parameters fitted to these data, hold to this tolerance"; how well the parameters are
+  determined is a separate question, answered by cross-validation (the comparison reports the
+  held-out error beside the range, and says so where it exceeds the tolerance) and by the
+  parameters' standard errors. Judged this way, a model that fits a sparse table within
+  tolerance is valid over its range, where held-out predictions across a wide gap would have
+  measured the gap instead of the model.
+* Refitted parameters, judged on held-out predictions (``judge="heldout"``): for each trial
+  limit the model is cross-validated on the points with m <= L (see
+  :mod:`saltbench.fitting.crossval`); L passes when every held-out prediction is within
+  tolerance. Stricter on sparse data, for those who want it.
+Either way the range is the highest passing L (searched from the top, so that a few dilute
+points cannot end it early); the first failing limit above it is reported.
 
 When no point or trial fails the range is limited by the data, not the model, and says so.
+Stretches where the data are too sparse to judge a model (``sparse_stretches``) are named in
+the flags, whichever way the range is judged.
 """
 
 from __future__ import annotations
@@ -33,6 +46,27 @@ from saltbench.models.contract import ActivityModel
 from saltbench.water.debye_huckel import DebyeHuckel
 
 DATA_END = "data end before model fails"
+SPARSE = "data too sparse to judge"
+#: A fit judged on its own points needs this many more points than free parameters.
+MIN_DOF = 3
+#: Neighbouring data molalities further apart than this ratio, or (above 1 mol/kg) than
+#: ``SPARSE_GAP_ABOVE_1`` mol/kg, leave the stretch between them unjudged: a 1-2-5 grid is
+#: dense enough, a 2-5-10-15-20 mol/kg grid is not (curves steepen and bend there).
+SPARSE_RATIO = 2.6
+SPARSE_GAP_ABOVE_1 = 1.5
+
+
+def sparse_stretches(molality: np.ndarray) -> list[tuple[float, float]]:
+    """(a, b) for each pair of neighbouring data molalities too far apart to judge between."""
+    grid = np.unique(np.asarray(molality, float))
+    out = []
+    for a, b in zip(grid[:-1], grid[1:]):
+        if b / a > SPARSE_RATIO or (b > 1.0 and b - max(a, 1.0) > SPARSE_GAP_ABOVE_1):
+            if out and out[-1][1] == a:
+                out[-1] = (out[-1][0], float(b))
+            else:
+                out.append((float(a), float(b)))
+    return out
 
 
 @dataclass(frozen=True)
@@ -185,6 +219,51 @@ def _refit_scan(problem: FitProblem, tol_ln: float, tol_phi: float, folds: int, 
     # predicts its held-out points within tolerance. Scanning upwards and stopping at the first
     # failure would let a flexible model's wild extrapolations from a handful of dilute points
     # end the range before the data that pin it down are even used.
+    last_ok, first_fail = _search(grid, passes)
+    return last_ok, first_fail, flags, trials
+
+
+def _fit_scan(problem: FitProblem, tol_ln: float, tol_phi: float
+              ) -> tuple[float | None, float | None, list[str], list[dict[str, Any]]]:
+    from saltbench.fitting.engine import run
+
+    flags: list[str] = []
+    trials: list[dict[str, Any]] = []
+    m = problem.molality
+    k = problem.k
+    grid = [float(L) for L in np.unique(m) if int((m <= L).sum()) >= k + MIN_DOF]
+    if not grid:
+        flags.append(f"too few points to judge a refitted model ({problem.n} points for "
+                     f"{k} free parameters)")
+        return None, None, flags, trials
+    cache: dict[int, bool] = {}
+    start: list[np.ndarray] = []
+
+    def passes(i: int) -> bool:
+        if i in cache:
+            return cache[i]
+        L = grid[i]
+        sub = problem.subset(m <= L)
+        result = run(sub.with_start(start[-1]) if start else sub)
+        solved = result.ok and bool(np.all(np.isfinite(result.prediction)))
+        if solved:
+            start.append(problem.theta_from(result.values))
+        resid = result.residual
+        ok = solved and bool(_within(resid, result.is_osmotic, tol_ln, tol_phi).all())
+        cache[i] = ok
+        trials.append({"limit": L, "passed": ok, "worst_ln_gamma": _worst(resid, ~result.is_osmotic),
+                       "worst_osmotic": _worst(resid, result.is_osmotic), "flags": list(result.flags)})
+        if not solved and result.flags:
+            flags.append(f"at trial limit {L:g} mol/kg: {result.flags[0]}")
+        return ok
+
+    last_ok, first_fail = _search(grid, passes)
+    return last_ok, first_fail, flags, trials
+
+
+def _search(grid: list[float], passes) -> tuple[float | None, float | None]:
+    """Highest passing trial limit (coarse from the top, then bisection) and the first failing
+    one above it."""
     coarse = _coarse(np.array(grid))
     last_pass, first_fail = -1, None
     for j in range(len(coarse) - 1, -1, -1):
@@ -203,9 +282,8 @@ def _refit_scan(problem: FitProblem, tol_ln: float, tol_phi: float, folds: int, 
             else:
                 hi = mid
         last_pass, first_fail = lo, hi
-    trials.sort(key=lambda t: t["limit"])
-    last_ok = grid[last_pass] if last_pass >= 0 else None
-    return last_ok, (grid[first_fail] if first_fail is not None else None), flags, trials
+    return (grid[last_pass] if last_pass >= 0 else None,
+            grid[first_fail] if first_fail is not None else None)
 
 
 def validity_range(model: ActivityModel, electrolyte: Electrolyte | str, data: FitData, *,
@@ -218,13 +296,15 @@ def validity_range(model: ActivityModel, electrolyte: Electrolyte | str, data: F
                    dh: DebyeHuckel | None = None,
                    temperature_k: float = 298.15,
                    full_cv: CrossValidation | None = None,
-                   stop_early: bool = False) -> ValidityRange:
+                   stop_early: bool = False,
+                   judge: Literal["fit", "heldout"] = "fit") -> ValidityRange:
     """Highest molality (and ionic strength) up to which ``model`` stays within tolerance.
 
     With ``params`` (model parameter names -> values; others at their defaults) the model is
     judged as given, without refitting. Without them its free parameters are refitted and it
-    is judged on cross-validated held-out predictions (``folds``, ``scheme``; the other
-    options as for :func:`saltbench.fitting.fit`). ``full_cv`` is the caller's
+    is judged by the fit to the points up to each trial limit (``judge="fit"``) or on
+    cross-validated held-out predictions (``judge="heldout"``: ``folds``, ``scheme``; the other
+    options as for :func:`saltbench.fitting.fit`); see the module docstring. ``full_cv`` is the caller's
     :func:`saltbench.fitting.cross_validate` of the same model on all of ``data`` with the same
     options; the scan starts with that very computation and then reuses it (it is checked to
     cover the same points with the same folds, and ignored otherwise). ``stop_early`` ends a
@@ -244,9 +324,16 @@ def validity_range(model: ActivityModel, electrolyte: Electrolyte | str, data: F
     else:
         problem = build_problem(model, [(e, data)], fixed=fixed, start=start, free=free,
                                 bounds=bounds, dh=dh, temperature_k=temperature_k)
-        result = _refit_scan(problem, tol["ln_gamma"], tol["osmotic"], folds, scheme, full_cv,
-                             stop_early)
+        if judge == "fit":
+            result = _fit_scan(problem, tol["ln_gamma"], tol["osmotic"])
+        else:
+            result = _refit_scan(problem, tol["ln_gamma"], tol["osmotic"], folds, scheme, full_cv,
+                                 stop_early)
         mode = "refit"
     last_ok, first_fail, flags, trials = result
+    if last_ok is not None:
+        flags += [f"{SPARSE} between {a:g} and {min(b, last_ok):g} mol/kg"
+                  for a, b in sparse_stretches(problem.molality) if a < last_ok]
+    trials.sort(key=lambda t: t["limit"])
     return _finish(e, mode, last_ok, first_fail, float(problem.molality.max()), tol, flags,
                    trials)
