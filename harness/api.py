@@ -10,9 +10,12 @@ from __future__ import annotations
 
 import os
 from collections.abc import Sequence
+from dataclasses import dataclass
 from functools import cached_property
 from pathlib import Path
+from typing import Any
 
+import numpy as np
 import pandas as pd
 
 from saltbench.store import queries
@@ -138,15 +141,88 @@ def resolve_parameters(session: Session, model, electrolyte, choice: str = "auto
     return ps.by_id(session.store, model, electrolyte, choice)
 
 
+def parameter_basis(params, temperature_k: float = 298.15, constant: str | float = "published"):
+    """The Debye-Hückel constant and temperature ``params`` are evaluated at: the one decision
+    (:mod:`saltbench.water.basis`) that predict, compare, fit and the report share."""
+    from saltbench.water.basis import evaluation_basis
+
+    set_t = None if params.kind == "defaults" else params.temperature_k
+    return evaluation_basis(temperature_k, set_id=params.set_id, set_a_phi=params.a_phi,
+                            set_temperature_k=set_t, constant=constant)
+
+
 def eval_context(model, electrolyte, params, temperature_k: float = 298.15, own_constant: bool = True):
     """Context for evaluating ``params``: a published set with its authors' A_phi if asked."""
     from saltbench.models.evaluate import make_context
-    from saltbench.water.debye_huckel import debye_huckel_constants, with_a_phi
 
-    dh = debye_huckel_constants(temperature_k)
-    if own_constant and params.a_phi is not None and abs(temperature_k - params.temperature_k) < 0.01:
-        dh = with_a_phi(dh, params.a_phi, f"A_phi = {params.a_phi} of parameter set {params.set_id}")
-    return make_context(electrolyte, dh=dh)
+    basis = parameter_basis(params, temperature_k, "published" if own_constant else "current")
+    return make_context(electrolyte, dh=basis.dh)
+
+
+@dataclass
+class Prediction:
+    """One model's values at given molalities, with why each is, or is not, an extrapolation."""
+
+    electrolyte: Any
+    model: Any
+    params: Any
+    basis: Any
+    evaluation: Any
+    uncertainty: dict | None
+    #: per molality, the reasons it is an extrapolation (empty: inside the ground of set and model)
+    extrapolation: list[list[str]]
+
+
+def extrapolation_reasons(model, electrolyte, params, m: np.ndarray, basis) -> list[list[str]]:
+    """Why each molality lies outside what the parameter set and the model stand on."""
+    claim = model.validity.max_molality_for(electrolyte) if model.validity else None
+    span = model.validity.temperature_k if model.validity else None
+    t = basis.dh.temperature_k
+    out = []
+    for x in m:
+        why = []
+        if params.m_min is not None and x < params.m_min * (1 - 1e-9):
+            why.append(f"below the lowest molality the set was fitted to ({params.m_min:g} mol/kg)")
+        if params.m_max is not None and x > params.m_max * (1 + 1e-9):
+            why.append(f"above the highest molality the set was fitted to ({params.m_max:g} mol/kg)")
+        if claim is not None and x > claim * (1 + 1e-9):
+            why.append(f"beyond the range {model.id}'s authors claim ({claim:g} mol/kg)")
+        if basis.off_temperature:
+            why.append(f"at {t:g} K, the set holds values for {basis.set_temperature_k:g} K")
+        elif span and not span[0] - 0.01 <= t <= span[1] + 0.01:
+            why.append(f"at {t:g} K, outside the {span[0]:g}-{span[1]:g} K its authors claim")
+        out.append(why)
+    return out
+
+
+def predict(session: Session, electrolyte: str, model_id: str, molality, params_choice: str = "auto",
+            temperature_k: float = 298.15, constant: str | float = "published") -> Prediction:
+    """gamma±, phi and a_w of one model with one parameter set, each value marked where it is an
+    extrapolation. With no parameter set for a model that has parameters, it refuses (``auto``)
+    rather than evaluate defaults; ``params_choice="defaults"`` asks for them knowingly."""
+    from saltbench.errors import UserError
+    from saltbench.models.evaluate import check_supported, evaluate, make_context
+
+    e = session.electrolyte(electrolyte)
+    model = session.registry.model(model_id)
+    check_supported(model, e)
+    m = np.atleast_1d(np.asarray(molality, float))
+    params = resolve_parameters(session, model, e, params_choice)
+    if params.kind == "defaults" and params_choice == "auto" and model.free_parameters(e):
+        raise UserError(f"no parameter set of {model.id} for {e.name}: fit one with 'saltbench fit {e.name} "
+                        f"--model {model.id}', or name a stored set with --params SET ('saltbench params "
+                        f"--model {model.id}' lists them); --params defaults uses the model's defaults knowingly")
+    basis = parameter_basis(params, temperature_k, constant)
+    ctx = make_context(e, dh=basis.dh)
+    ev = evaluate(model, e, m, params.values, ctx=ctx)
+    unc = None
+    if params.covariance is not None:
+        from saltbench.fitting import propagate
+
+        names, matrix = params.covariance
+        unc = propagate(model, e, m, params={**model.defaults(e), **params.values},
+                        covariance=np.array(matrix), names=names, dh=ctx.dh)
+    return Prediction(e, model, params, basis, ev, unc, extrapolation_reasons(model, e, params, m, basis))
 
 
 def select_data(session: Session, electrolyte, *, datasets=None, on=None, up_to=None, temperature_k=298.15):
@@ -182,24 +258,39 @@ def compare(session: Session, electrolytes, settings=None, *, jobs: int = 1, cur
     ids = list(settings.models) or list(reg.models)
     for mid in ids:
         reg.model(mid)  # unknown ids are a user error, before any work
-    tasks, skipped = [], {}
+    tasks, skipped, per_ion_models = [], {}, {}
     for name in electrolytes:
         e = session.electrolyte(name)
         sel = select_data(session, e, datasets=settings.datasets or None, on=settings.on,
                           up_to=settings.up_to, temperature_k=settings.temperature_k)
         supported = [mid for mid in ids if reg.model(mid).supports(e)]
         skipped[e.name] = [mid for mid in ids if mid not in supported]
+        # a model with parameters of its own per ion is determined only by several salts that
+        # share an ion; fitted to one salt it is singular by design, not by the data
+        per_ion = [mid for mid in supported if needs_several_salts(reg.model(mid), e)]
+        supported = [mid for mid in supported if mid not in per_ion]
+        if per_ion:
+            per_ion_models[e.name] = per_ion
         if not supported:
-            raise UserError(f"none of the chosen models supports {e.name} ({e.charge_label})")
+            raise UserError(f"none of the chosen models can be judged on {e.name} ({e.charge_label}) alone"
+                            + (f": {', '.join(per_ion)} need several salts sharing an ion (fit them jointly "
+                               f"with 'saltbench fit {e.name} OTHER... --model ID')" if per_ion else ""))
         published = {}
         for mid in supported:
             found = ps.published(session.store, reg.model(mid), e)
             published[mid] = (PublishedInput(found[0].set_id, found[0].values, found[0].a_phi,
-                                             found[0].from_memory) if found else None)
+                                             found[0].from_memory, found[0].temperature_k) if found else None)
         top = float(sel.data.molality.max())
         target = min(settings.up_to, top) if settings.up_to else top
         tasks.append(ElectrolyteTask(e, sel.data, sel.datasets, published, supported, target))
     comp = run_comparison(tasks, settings, registry=reg, plugin_files=session._plugin_files,
                           disabled=session._disabled, jobs=jobs, curves=curves, progress=progress)
     comp.skipped = skipped
+    comp.per_ion = per_ion_models
     return comp
+
+
+def needs_several_salts(model, electrolyte) -> bool:
+    """Whether the model's free parameters belong to single ions (cation and anion alike)."""
+    scopes = {p.scope for p in model.free_parameters(electrolyte)}
+    return {"cation", "anion"} <= scopes

@@ -149,12 +149,23 @@ def test_compare_table_fits_100_columns_and_keeps_full_verdicts_in_json(run_main
 
 
 def test_compare_gives_the_reason_of_a_flagged_row_below_the_table(run_main, seeded_store) -> None:
-    code, out, err = run_main("compare", "NaCl", "--models", "truesdell-jones", "--jobs", "1",
+    # CsNO3 (handbook, 0.1-1.0 mol/kg): Stokes-Robinson's hydration number runs onto its bound
+    code, out, err = run_main("compare", "CsNO3", "--models", "stokes-robinson", "--jobs", "1",
                               store=seeded_store)
     assert code == 0, err
-    flagged = [line for line in out.splitlines() if line.startswith("truesdell-jones")]
+    flagged = [line for line in out.splitlines() if line.startswith("stokes-robinson")]
     assert flagged and flagged[0].endswith("flagged (below)")
-    assert any(line.startswith("   truesdell-jones: not ranked: ") for line in out.splitlines())
+    assert any(line.startswith("   stokes-robinson: not ranked: parameter h at bound") for line in out.splitlines())
+
+
+def test_compare_leaves_out_per_ion_models_for_one_salt_with_a_reason(run_main, seeded_store) -> None:
+    code, out, err = run_main("compare", "NaCl", "--models", "truesdell-jones,pitzer", "--jobs", "1",
+                              store=seeded_store)
+    assert code == 0, err
+    assert not any(line.startswith("truesdell-jones ") for line in out.splitlines())
+    assert "left out, parameters per ion need several salts sharing an ion: truesdell-jones" in out
+    code, _, err = run_main("compare", "NaCl", "--models", "truesdell-jones", "--jobs", "1", store=seeded_store)
+    assert code == 2 and err.count("\n") == 1 and "need several salts sharing an ion" in err
 
 
 def test_report_from_a_manifest_that_disagrees_exits_1(run_main, seeded_store, tmp_path: Path) -> None:

@@ -15,10 +15,11 @@ HEADERS = {"n_params": "k", "rms_ln_gamma": "rms dlng", "max_ln_gamma": "max dln
 CAUTION = ("Validity ranges hold only for these data, this temperature and this tolerance. For dosing, "
            "safety limits or regulated measurements, verify under local codes and licensed practice.")
 TABLE_COLUMNS_SHORT = [c if c != "verdict" else "short_verdict" for c in TABLE_COLUMNS]
-TABLE_LEGEND = ("held-out: RMS of ln gamma± on points left out of the fit; to (pub), to (refit): highest "
+TABLE_LEGEND = ("held-out: RMS of ln gamma± (of phi where marked) on points left out of the fit; to (pub), "
+                "to (refit): highest "
                 "molality within tolerance with published and with refitted parameters; whole range*: "
-                "the data end before the model leaves the tolerance; flagged: not ranked, for the reason "
-                "given below the table.")
+                "the data end before the model leaves the tolerance; †: the data go beyond the range the "
+                "model's authors claim; flagged: not ranked, for the reason given below the table.")
 
 
 def short_verdict(record: dict) -> str:
@@ -30,15 +31,43 @@ def short_verdict(record: dict) -> str:
     if full.startswith("not ranked:"):
         return "flagged (below)"
     v = record.get("valid_up_to_refit")
+    mark = "†" if record.get("beyond_authors_range") is not None else ""
     if v is None:
-        return "fails at lowest m"
+        return "fails at lowest m" + mark
     if full.startswith("within tolerance over the whole range"):
-        return "whole range*" if record.get("limited_by_refit") == "data" else "whole range"
-    return f"only to {v:g}"
+        return ("whole range*" if record.get("limited_by_refit") == "data" else "whole range") + mark
+    return f"only to {v:g}{mark}"
 CSV_COLUMNS = ["electrolyte", "model", "n_params", "n_points", "rms_ln_gamma", "max_ln_gamma",
                "rms_osmotic", "max_osmotic", "chi2_reduced", "heldout_rms_ln_gamma",
                "heldout_rms_osmotic", "aicc", "bic", "valid_up_to_published", "valid_up_to_refit",
                "limited_by_refit", "published_set", "converged", "flags", "recommended", "verdict"]
+
+
+def heldout_cell(record: dict):
+    """Held-out RMS of ln gamma±; of phi, marked so, where only osmotic data were compared."""
+    if record.get("heldout_rms_ln_gamma") is not None or record.get("heldout_rms_osmotic") is None:
+        return record.get("heldout_rms_ln_gamma")
+    return f"{record['heldout_rms_osmotic']:.4g} (phi)"
+
+
+def echo_summary(comp) -> None:
+    """One line per electrolyte: its recommendation; then how many got one."""
+    recs = comp.recommendations
+    width = max(len(n) for n in recs)
+    for name, rec in recs.items():
+        if rec.kind == "recommended":
+            extra = f" (most accurate: {rec.most_accurate})" if rec.most_accurate != rec.model else ""
+            line = f"{rec.model} to {rec.target_molality:g} mol/kg{extra}"
+        elif rec.kind == "too-few-points":
+            line = "too few points to judge"
+        else:
+            line = (f"none holds to {rec.target_molality:g}; furthest {rec.furthest_model} to "
+                    f"{rec.furthest_molality:g}" if rec.furthest_model else "none holds at any molality")
+        click.echo(f"{name.ljust(width)}  {line}")
+    counts = {k: sum(r.kind == k for r in recs.values()) for k in ("recommended", "none-holds", "too-few-points")}
+    click.echo(wrap(f"{counts['recommended']} of {len(recs)} electrolytes get a recommendation; no model holds "
+                    f"over the whole range for {counts['none-holds']}; too few points to judge for "
+                    f"{counts['too-few-points']}."))
 
 
 def settings_options(f):
@@ -91,15 +120,16 @@ def build_settings(models: str, up_to, tol: str, folds, on: str, data_sel: str, 
 @click.option("--all", "all_", is_flag=True, help="Every electrolyte in the store.")
 @settings_options
 @click.option("--jobs", type=click.IntRange(min=1), default=None, help="Worker processes (default: all cores).")
+@click.option("--summary", is_flag=True, help="Only the recommendation for each electrolyte, and how many got one.")
 @format_option
 @click.pass_obj
-def compare(app, electrolytes, all_, models, up_to, tol, folds, on, data_sel, temperature_k, jobs, fmt):
+def compare(app, electrolytes, all_, models, up_to, tol, folds, on, data_sel, temperature_k, jobs, summary, fmt):
     """Fit every model to each electrolyte's data and say which to trust, up to where.
 
     For each model: fitted parameters, residuals, held-out error (k-fold cross-validation over
     molality), AICc, and the molality up to which it stays within tolerance with published and
     with refitted parameters. The recommendation is the simplest model that meets the tolerance
-    over the requested range.
+    over the requested range and is not materially less accurate than the most accurate one.
     """
     from saltbench.api import compare as run
     from saltbench.comparison.runner import default_jobs
@@ -124,6 +154,10 @@ def compare(app, electrolytes, all_, models, up_to, tol, folds, on, data_sel, te
         emit([{**r, "flags": "; ".join(r["flags"])} for r in records], fmt, CSV_COLUMNS)
         echo_caution(fmt, CAUTION)
         return
+    if summary:
+        echo_summary(comp)
+        click.echo(wrap(CAUTION))
+        return
     click.echo(wrap(f"Tolerance: |d ln gamma±| <= {settings.tol_ln_gamma:g}, |d phi| <= {settings.tol_phi:g}; "
                     f"held-out error by {settings.folds_text} over molality; T = "
                     f"{settings.temperature_k:g} K. Molalities in mol/kg."))
@@ -135,16 +169,21 @@ def compare(app, electrolytes, all_, models, up_to, tol, folds, on, data_sel, te
         click.echo("")
         click.echo(f"== {name}: {sum(d['n_points'] for d in ds)} points from {len(ds)} dataset(s), "
                    f"up to {rec.target_molality:g} mol/kg{memo}")
-        rows = [{**r, "short_verdict": short_verdict(r)} for r in (o.record() for o in outs)]
+        rows = [{**r, "short_verdict": short_verdict(r), "heldout_rms_ln_gamma": heldout_cell(r)}
+                for r in (o.record() for o in outs)]
         emit(rows, "table", TABLE_COLUMNS_SHORT, HEADERS)
         for r in rows:
             if r["short_verdict"].endswith("(below)"):
                 click.echo(wrap(f"   {r['model']}: {r['verdict']}", indent="     "))
             for flag in r["flags"]:
-                if flag.startswith("published:"):
+                if flag.startswith("published:") or (flag.startswith("determination:") and (
+                        r["recommended"] or r["model"] == rec.most_accurate)):
                     click.echo(wrap(f"   {r['model']}: {flag}", indent="     "))
         if comp.skipped.get(name):
             click.echo(f"   not applicable to {name}: {', '.join(comp.skipped[name])}")
+        if comp.per_ion.get(name):
+            click.echo(wrap(f"   left out, parameters per ion need several salts sharing an ion: "
+                            f"{', '.join(comp.per_ion[name])}", indent="     "))
         click.echo(wrap(f"-> {rec.statement}", indent="   "))
     click.echo("")
     click.echo(wrap(TABLE_LEGEND))

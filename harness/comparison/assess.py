@@ -23,6 +23,14 @@ class PublishedInput:
     values: dict[str, float]
     a_phi: float | None
     from_memory: bool
+    temperature_k: float = 298.15
+
+    def basis(self, temperature_k: float):
+        """The constant and temperature this set is judged at (saltbench.water.basis)."""
+        from saltbench.water.basis import evaluation_basis
+
+        return evaluation_basis(temperature_k, set_id=self.set_id, set_a_phi=self.a_phi,
+                                set_temperature_k=self.temperature_k)
 
 
 def _curves(model, e: Electrolyte, values: dict[str, float], m_top: float, dh) -> dict:
@@ -39,7 +47,7 @@ def assess(model, plugin: str, e: Electrolyte, data: FitData, published: Publish
     from saltbench.fitting.crossval import cross_validate_problem
     from saltbench.fitting.engine import run
     from saltbench.fitting.problem import build_problem
-    from saltbench.water.debye_huckel import debye_huckel_constants, with_a_phi
+    from saltbench.water.debye_huckel import debye_huckel_constants
 
     n_free = len(model.free_parameters(e))
     out = ModelOutcome(e.name, model.id, model.name, plugin, n_free, None, None, None, None,
@@ -69,6 +77,17 @@ def assess(model, plugin: str, e: Electrolyte, data: FitData, published: Publish
             held = {"ln_gamma": _rms(r, data.kind == "ln_gamma"), "osmotic": _rms(r, data.kind == "osmotic")}
             out.heldout = {"scheme": "none (no free parameters)", "folds": 0,
                            "held_out": {k: {"rms": v} for k, v in held.items()}, "flags": []}
+        out.flags += determination_notes(result, out.heldout, settings)
+        span = model.validity.temperature_k if model.validity else None
+        if span and not span[0] - 0.01 <= settings.temperature_k <= span[1] + 0.01:
+            out.flags.append(f"authors: {model.name} is claimed for {span[0]:g} to {span[1]:g} K; used at "
+                             f"{settings.temperature_k:g} K")
+        claim = model.validity.max_molality_for(e) if model.validity else None
+        top = float(data.molality.max())
+        if claim is not None and top > claim * (1 + 1e-9):
+            out.beyond_claim = claim
+            out.flags.append(f"authors: {model.name} is claimed to {claim:g} mol/kg for {e.name} "
+                             f"({model.validity.note or 'its Validity'}); the data here reach {top:g} mol/kg")
         if settings.validity_scan:
             if n_free > 0:
                 out.valid_refit = validity_range(model, e, data, tolerance_ln_gamma=settings.tol_ln_gamma,
@@ -81,7 +100,12 @@ def assess(model, plugin: str, e: Electrolyte, data: FitData, published: Publish
             # the first one out of tolerance (pass or fail is then known; see validity_range).
             out.valid_refit.pop("trials", None)
             if published is not None:
-                pdh = with_a_phi(dh, published.a_phi, published.set_id) if published.a_phi else dh
+                basis = published.basis(settings.temperature_k)
+                pdh = basis.dh
+                if basis.off_temperature:
+                    out.flags.append(f"published: {published.set_id} holds values for {published.temperature_k:g} K; "
+                                     f"judged at {settings.temperature_k:g} K with them unchanged ({basis.constant}): "
+                                     "an extrapolation in temperature")
                 out.valid_published = validity_range(
                     model, e, data, params=published.values, tolerance_ln_gamma=settings.tol_ln_gamma,
                     tolerance_phi=settings.tol_phi, dh=pdh).to_dict()
@@ -92,13 +116,32 @@ def assess(model, plugin: str, e: Electrolyte, data: FitData, published: Publish
             top = float(data.molality.max())
             out.curve = {"refit": _curves(model, e, result.model_values(e.name), top, dh)}
             if published is not None:
-                pdh = with_a_phi(dh, published.a_phi, published.set_id) if published.a_phi else dh
+                pdh = published.basis(settings.temperature_k).dh
                 out.curve["published"] = _curves(model, e, {**model.defaults(e), **published.values}, top, pdh)
     except SaltbenchError as exc:
         out.error = str(exc)
     except Exception as exc:  # a plugin bug must not stop the comparison of the other models
         out.error = f"{type(exc).__name__}: {exc}"
     return out
+
+
+def determination_notes(result, heldout: dict | None, settings: CompareSettings) -> list[str]:
+    """How well the data determine the parameters, in words, apart from whether the model holds:
+    held-out errors beyond the tolerance, and parameters whose standard error exceeds their value."""
+    notes = []
+    held = (heldout or {}).get("held_out", {})
+    for kind, tol, name in (("ln_gamma", settings.tol_ln_gamma, "ln gamma±"), ("osmotic", settings.tol_phi, "phi")):
+        worst = (held.get(kind) or {}).get("max_abs")
+        if heldout and heldout.get("folds") and worst is not None and worst > tol:
+            notes.append(f"determination: held out, points are predicted to within {worst:.2g} in {name}, "
+                         f"beyond the tolerance {tol:g}: the data determine the parameters poorly (gaps "
+                         "or too few points); expect predictions within that band, not the tolerance")
+    for p in result.parameters:
+        se = p.get("stderr")
+        if se is not None and np.isfinite(se) and se > abs(p["value"]):
+            notes.append(f"determination: {p['name']} = {p['value']:.3g} ± {se:.2g}, standard error "
+                         "above its value")
+    return notes
 
 
 def _rms(r: np.ndarray, sel: np.ndarray) -> float | None:

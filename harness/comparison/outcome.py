@@ -17,6 +17,11 @@ def _num(x: Any) -> float | None:
     return x if math.isfinite(x) else None
 
 
+#: Flags that describe, without unranking: where the data end, a published set's note, how
+#: well the parameters are determined, a use beyond the authors' range, sparse stretches.
+NOTES = ("data end", "published:", "determination:", "authors:", "data too sparse")
+
+
 @dataclass
 class ModelOutcome:
     electrolyte: str
@@ -35,6 +40,7 @@ class ModelOutcome:
     verdict: str = ""
     recommended: bool = False
     curve: dict | None = None  # molality grid and model curves for plots
+    beyond_claim: float | None = None  # mol/kg its authors claim, where the data go beyond it
 
     @property
     def usable(self) -> bool:
@@ -42,7 +48,7 @@ class ModelOutcome:
 
     @property
     def fit_flags(self) -> list[str]:
-        return [f for f in self.flags if not f.startswith(("data end", "published:"))]
+        return [f for f in self.flags if not f.startswith(NOTES)]
 
     def valid_up_to(self, which: str = "refit") -> float | None:
         v = self.valid_refit if which == "refit" else self.valid_published
@@ -81,4 +87,5 @@ class ModelOutcome:
             "flags": list(self.flags) + ([f"error: {self.error}"] if self.error else []),
             "verdict": self.verdict,
             "recommended": self.recommended,
+            "beyond_authors_range": self.beyond_claim,
         }

@@ -34,6 +34,7 @@ class Comparison:
     datasets: dict[str, list[dict]] = field(default_factory=dict)
     data: dict[str, Any] = field(default_factory=dict)  # electrolyte -> FitData
     skipped: dict[str, list[str]] = field(default_factory=dict)  # electrolyte -> unsupported models
+    per_ion: dict[str, list[str]] = field(default_factory=dict)  # electrolyte -> models needing several salts
     plugin_problems: list[str] = field(default_factory=list)
 
     def records(self) -> list[dict]:

@@ -116,10 +116,19 @@ def _scope(comparison, facts: ReportFacts) -> Section:
     return Section("scope", "1 What this report covers", [
         Paragraph("This report records how closely each activity-coefficient model reproduces cited "
                   "measurements of the electrolytes below, so that a laboratory can choose the activity "
-                  "correction for a method and the molality range over which it may be used. A model "
-                  "holds up to the highest molality below which every residual stays within the "
-                  "tolerance: with refitted parameters this is judged on held-out predictions "
-                  "(cross-validation), with a published parameter set on the set as printed."),
+                  "correction for a method and the molality range over which it may be used."),
+        Paragraph("How the range is judged. A model holds up to the highest molality L at which it, "
+                  "fitted to every point up to L, stays within the tolerance at each of those points; a "
+                  "published parameter set is judged as printed, without refitting. That says whether "
+                  "the model can describe the data. Whether the data pin its parameters down is a "
+                  "separate question, answered by cross-validation: each point is predicted by a fit that "
+                  "did not see it, and where those held-out errors exceed the tolerance, or a parameter's "
+                  "standard error exceeds its value, the report says so and gives the held-out error as "
+                  "the band to expect. Stretches where neighbouring data lie too far apart to judge "
+                  "a model are named. The recommendation is the model with the fewest fitted parameters "
+                  "that holds over the range and is not materially less accurate than the most accurate "
+                  "one (held-out RMS above 1.5 times the best and AICc more than 10 above it), preferring "
+                  "models used within the range their authors claim; the most accurate is named too."),
         Fields([
             ("Electrolytes", ", ".join(names)),
             ("Temperature", f"{s.temperature_k:g} K ({s.temperature_k - 273.15:.2f} °C)"),
@@ -189,7 +198,8 @@ def _electrolyte(comparison, facts: ReportFacts, name: str, index: int) -> Secti
     sec.children.append(Section(f"heldout-{index}", f"{index}.6 Held-out error and information criteria",
                                 [_heldout_table(outs, name, index)]))
     sec.children.append(Section(f"flags-{index}", f"{index}.7 Flagged fits",
-                                _flag_blocks(outs, comparison.skipped.get(name, []))))
+                                _flag_blocks(outs, comparison.skipped.get(name, []),
+                                             comparison.per_ion.get(name, []))))
     return sec
 
 
@@ -238,7 +248,7 @@ def _heldout_table(outs, name: str, index: int) -> Table:
                  [False, True, True, True, True, True, True, True, True, True, False])
 
 
-def _flag_blocks(outs, skipped: list[str]) -> list:
+def _flag_blocks(outs, skipped: list[str], per_ion: list[str]) -> list:
     items = []
     for o in outs:
         flags = o.record()["flags"]
@@ -248,13 +258,18 @@ def _flag_blocks(outs, skipped: list[str]) -> list:
     if items:
         blocks.append(Paragraph("A fit flag (did not converge, singular or ill-conditioned, a parameter on "
                                 "a bound, a model error) keeps a model out of the recommendation; notes "
-                                "on the data end or on the published set are given for information."))
+                                "on the data end, the published set, how well the data determine the "
+                                "parameters, sparse stretches of data and use beyond the range a model's "
+                                "authors claim are given for information."))
         blocks.append(Bullets(items))
     else:
         blocks.append(Paragraph("No fit was flagged."))
     if skipped:
         blocks.append(Paragraph("Not applicable to this electrolyte (charge type not supported): "
                                 + ", ".join(skipped) + "."))
+    if per_ion:
+        blocks.append(Paragraph("Left out: parameters of their own per ion, which only several salts "
+                                "sharing an ion determine (fit them jointly): " + ", ".join(per_ion) + "."))
     return blocks
 
 
