@@ -18,9 +18,13 @@ from saltbench.cli.output import echo_caution, emit, fold, format_option
 @click.option("--temperature", "temperature_k", type=float, default=298.15, show_default=True, help="Temperature in K.")
 @click.option("--name", "set_name", default=None, help="Id for the saved parameter set (default: derived).")
 @click.option("--save/--no-save", default=True, show_default=True, help="Save the result as a parameter set.")
+@click.option("--dh-constant", "dh_constant", default="current", show_default=True,
+              help="Debye-Hückel A_phi to fit with: 'current' (water at the temperature), 'published' (the "
+                   "one the model's published set for this salt was fitted with) or a value, e.g. 0.392.")
 @format_option
 @click.pass_obj
-def fit(app, electrolytes, model_id, up_to, fix, free, data_sel, on, temperature_k, set_name, save, fmt):
+def fit(app, electrolytes, model_id, up_to, fix, free, data_sel, on, temperature_k, set_name, save, dh_constant,
+        fmt):
     """Fit MODEL's free parameters to the data of ELECTROLYTES (activity and osmotic jointly).
 
     Several electrolytes give one joint fit in which per-ion parameters are shared by ion.
@@ -31,7 +35,6 @@ def fit(app, electrolytes, model_id, up_to, fix, free, data_sel, on, temperature
     from saltbench.fitting.selection import parse_on
     from saltbench.scaffold.names import slug
     from saltbench.store.fitted import fit_set_id, save_fit
-    from saltbench.water.debye_huckel import debye_huckel_constants
 
     s = app.session()
     model = s.registry.model(model_id)
@@ -42,7 +45,7 @@ def fit(app, electrolytes, model_id, up_to, fix, free, data_sel, on, temperature
     for name in electrolytes:
         e = s.electrolyte(name)
         sels.append((e, select_data(s, e, datasets=datasets, on=props, up_to=up_to, temperature_k=temperature_k)))
-    dh = debye_huckel_constants(temperature_k)
+    dh = fit_constant(s, model, [e for e, _ in sels], temperature_k, dh_constant)
     if len(sels) == 1:
         e, sel = sels[0]
         result = run_fit(model, e, sel.data, fixed=fixed, free=free or None, dh=dh)
@@ -51,12 +54,14 @@ def fit(app, electrolytes, model_id, up_to, fix, free, data_sel, on, temperature
     names = [e.name for e, _ in sels]
     hashes = [d["content_hash"] for _, sel in sels for d in sel.datasets]
     settings = {"up_to": up_to, "fix": fixed, "free": list(free), "data": datasets, "on": props,
-                "temperature_k": temperature_k}
+                "temperature_k": temperature_k, "a_phi": dh.a_phi}
     out = result.to_dict()
     out["electrolyte"] = names[0] if len(names) == 1 else names
     out["datasets"] = [{"key": d["key"], "content_hash": d["content_hash"], "n_points": d["n_points"]}
                        for _, sel in sels for d in sel.datasets]
     out["parameter_set"] = None
+    out["a_phi"] = dh.a_phi
+    out["a_phi_origin"] = dh.origin
     if save:
         set_id = slug(set_name) if set_name else fit_set_id(model.id, names, settings, hashes)
         if not set_id:
@@ -64,7 +69,8 @@ def fit(app, electrolytes, model_id, up_to, fix, free, data_sel, on, temperature
 
             raise UserError("--name must contain letters or digits")
         out["parameter_set"] = save_fit(s.store, result, set_id=set_id, settings=settings, data_hashes=hashes,
-                                        electrolytes=names, temperature_k=temperature_k)
+                                        electrolytes=names, temperature_k=temperature_k,
+                                        a_phi=None if dh_constant == "current" else dh.a_phi)
     if fmt == "json":
         emit([], fmt, json_obj=out)
         echo_caution(fmt)
@@ -78,6 +84,7 @@ def fit(app, electrolytes, model_id, up_to, fix, free, data_sel, on, temperature
     res = out["residuals"]
     click.echo(f"{model.name} [{model.id}] fitted to {', '.join(names)}: {res['n_points']} points, "
                f"{res['n_params']} free parameter(s), {'converged' if out['converged'] else 'DID NOT CONVERGE'}")
+    click.echo(f"Debye-Hückel A_phi = {dh.a_phi:.4f} ({dh.origin})")
     emit(rows, "table")
     click.echo("")
     if out["correlation"]["names"]:
@@ -101,3 +108,26 @@ def fit(app, electrolytes, model_id, up_to, fix, free, data_sel, on, temperature
 
 def _f(x) -> str:
     return "-" if x is None else f"{x:.4g}"
+
+
+def fit_constant(session, model, electrolytes, temperature_k: float, choice: str):
+    """The Debye-Hückel state a refit uses (``--dh-constant``), decided by saltbench.water.basis."""
+    from saltbench.errors import UserError
+    from saltbench.store import parameter_sets as ps
+    from saltbench.water.basis import evaluation_basis, parse_constant
+
+    try:
+        constant = parse_constant(choice)
+    except ValueError as exc:
+        raise UserError(f"--dh-constant: {exc}") from None
+    if constant != "published":
+        return evaluation_basis(temperature_k, constant=constant).dh
+    sets = [found[0] for e in electrolytes if (found := ps.published(session.store, model, e))]
+    constants = {p.a_phi for p in sets if p.a_phi is not None}
+    if len(constants) != 1:
+        raise UserError(f"--dh-constant published: {model.id} has " + (
+            "no published set with a stated A_phi for " if not constants else "published sets with different A_phi "
+            "for ") + f"{', '.join(e.name for e in electrolytes)}; give a value, e.g. --dh-constant 0.392")
+    pub = sets[0]
+    return evaluation_basis(temperature_k, set_id=pub.set_id, set_a_phi=pub.a_phi,
+                            set_temperature_k=pub.temperature_k).dh

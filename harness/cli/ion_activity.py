@@ -51,7 +51,7 @@ def ion_activity(app, salts: tuple[str, ...], convention: str, temperature_k: fl
     import numpy as np
 
     from saltbench.errors import UserError
-    from saltbench.measurements.conventions import SINGLE_ION_CAVEAT, ion_molalities
+    from saltbench.measurements.conventions import CONVENTION_MAX_I, SINGLE_ION_CAVEAT, ion_molalities
     from saltbench.measurements.nernst import CALIBRATION_CAUTION
     from saltbench.measurements.workflow import ion_activity as compute
     from saltbench.measurements.workflow import parse_salts
@@ -86,8 +86,14 @@ def ion_activity(app, salts: tuple[str, ...], convention: str, temperature_k: fl
         # Stored eps and b_i are 25 °C values; only the Debye-Hückel term follows the temperature.
         notes.append(f"the stored parameters are 25 °C values used unchanged at {temperature_k:g} K; "
                      "only the Debye-Hückel term follows the temperature")
+    i_now = scalar(r.ionic_strength)
+    i_max = CONVENTION_MAX_I.get(convention)
+    extrapolation = ([f"I = {i_now:.4g} mol/kg is beyond the {i_max:g} mol/kg to which the {convention} form "
+                      "is commonly held to work"] if i_max is not None and i_now > i_max * (1 + 1e-9) else [])
+    if abs(temperature_k - 298.15) >= 0.01 and any("parameter set" in src for src in out.sources):
+        extrapolation.append(f"stored 25 °C parameters used at {temperature_k:g} K")
     doc = {"convention": r.convention, "temperature_k": r.temperature_k,
-           "ionic_strength": scalar(r.ionic_strength),
+           "ionic_strength": i_now, "extrapolated": bool(extrapolation), "extrapolation": extrapolation,
            "solution": [{"salt": e.name, "molality": m} for e, m in comp],
            "ions": ions, "parameters_from": out.sources, "notes": notes,
            "caveat": SINGLE_ION_CAVEAT, "cautions": cautions}
@@ -98,6 +104,8 @@ def ion_activity(app, salts: tuple[str, ...], convention: str, temperature_k: fl
     click.echo(f"{sol}; I = {doc['ionic_strength']:.6g} mol/kg; T = {r.temperature_k:g} K; "
                f"convention: {r.convention}")
     click.echo(emit_table(ions))
+    for why in extrapolation:
+        click.echo(f"extrapolated: {why}")
     for src in out.sources:
         click.echo(f"parameters: {src}")
     for note in notes:

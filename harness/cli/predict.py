@@ -36,50 +36,41 @@ def predict(app, electrolyte: str, model_id: str, molalities: str, params_choice
             temperature_k: float, current_constant: bool, fmt: str) -> None:
     """Mean activity coefficient, osmotic coefficient and water activity from one model.
 
-    Outside the model's stated range the rows are marked as extrapolated, with a warning.
+    Each row is marked where it is an extrapolation: below or above the molalities the parameter
+    set was fitted to (or the range its authors state), beyond the range the model's authors
+    claim, or at a temperature other than the set's. With no parameter set for the salt it
+    refuses, and says how to get one.
     """
-    from saltbench.api import eval_context, resolve_parameters
-    from saltbench.models.evaluate import evaluate
+    from saltbench.api import predict as run
 
     s = app.session()
-    e = s.electrolyte(electrolyte)
-    model = s.registry.model(model_id)
     m = parse_molalities(molalities)
-    params = resolve_parameters(s, model, e, params_choice)
-    ctx = eval_context(model, e, params, temperature_k, own_constant=not current_constant)
-    ev = evaluate(model, e, m, params.values, ctx=ctx)
-    limit = model.validity.max_molality_for(e)
-    if params.m_max is not None:
-        limit = params.m_max if limit is None else min(limit, params.m_max)
-    extrapolated = m > limit * (1 + 1e-9) if limit is not None else np.zeros(m.size, bool)
-    unc = None
-    if params.covariance is not None:
-        from saltbench.fitting import propagate
-
-        names, matrix = params.covariance
-        unc = propagate(model, e, m, params={**model.defaults(e), **params.values},
-                        covariance=np.array(matrix), names=names, dh=ctx.dh)
+    p = run(s, electrolyte, model_id, m, params_choice, temperature_k,
+            "current" if current_constant else "published")
+    e, model, params, ev, unc = p.electrolyte, p.model, p.params, p.evaluation, p.uncertainty
     records = []
     for i in range(m.size):
         r = {"molality": float(m[i]), "gamma_pm": float(ev.gamma_pm[i]),
              "ln_gamma_pm": float(ev.ln_gamma_pm[i]), "osmotic": float(ev.osmotic[i]),
-             "water_activity": float(ev.water_activity[i]), "extrapolated": bool(extrapolated[i])}
+             "water_activity": float(ev.water_activity[i]), "extrapolated": bool(p.extrapolation[i]),
+             "extrapolation": list(p.extrapolation[i])}
         if unc is not None:
             r["u_gamma_pm"] = float(unc["u_gamma_pm"][i])
             r["u_osmotic"] = float(unc["u_osmotic"][i])
         records.append(r)
-    if np.any(extrapolated):
-        click.echo(f"Warning: molalities above {limit:g} mol/kg are outside the stated range of "
-                   f"{model.id} with parameters {params.set_id}; those values are extrapolations.", err=True)
-    if params.kind == "defaults" and model.parameters:
-        click.echo(f"Note: using the default parameters of {model.id} (no published set for {e.name}).", err=True)
+    reasons = list(dict.fromkeys(why for row in p.extrapolation for why in row))
+    if reasons:
+        click.echo(f"Warning: {sum(bool(r) for r in p.extrapolation)} of {m.size} values are extrapolations "
+                   f"({'; '.join(reasons)}).", err=True)
+    if params.kind == "defaults" and model.free_parameters(e):
+        click.echo(f"Note: using the default parameters of {model.id}, as asked (no fitted or published set).",
+                   err=True)
     if params.from_memory:
         click.echo(f"Note: parameter set {params.set_id} was typed from memory; verify against the "
                    "original before use in a regulated method.", err=True)
-    set_t = getattr(params, "temperature_k", None)
-    if params.kind != "defaults" and set_t is not None and abs(temperature_k - set_t) >= 0.01:
+    if p.basis.off_temperature:
         # Only the Debye-Hückel constant follows the temperature; the set's own parameters do not.
-        click.echo(f"Warning: parameter set {params.set_id} holds values for {set_t:g} K; at "
+        click.echo(f"Warning: parameter set {params.set_id} holds values for {p.basis.set_temperature_k:g} K; at "
                    f"{temperature_k:g} K only the Debye-Hückel constant is recomputed, the "
                    "parameters are used unchanged, so the results are an extrapolation in temperature.",
                    err=True)
@@ -89,11 +80,13 @@ def predict(app, electrolyte: str, model_id: str, molalities: str, params_choice
         return
     if fmt == "table":
         click.echo(f"{e.name} with {model.name} [{model.id}], parameters: {params.set_id}, "
-                   f"T = {temperature_k:g} K, A_phi = {ctx.dh.a_phi:.4f}")
+                   f"T = {temperature_k:g} K, {p.basis.constant}")
     cols = ["molality", "gamma_pm", "ln_gamma_pm", "osmotic", "water_activity"]
     if unc is not None:
         cols += ["u_gamma_pm", "u_osmotic"]
-    emit(records, fmt, cols + ["extrapolated"],
+    rows = [{**r, "extrapolated": "yes" if r["extrapolated"] else "no"} for r in records]
+    emit(rows if fmt == "table" else [{**r, "extrapolation": "; ".join(r["extrapolation"])} for r in records],
+         fmt, cols + ["extrapolated"] + (["extrapolation"] if fmt == "csv" else []),
          {"molality": "m/(mol/kg)", "gamma_pm": "gamma±", "ln_gamma_pm": "ln gamma±",
           "osmotic": "phi", "water_activity": "a_w"},
          digits={"water_activity": 6})

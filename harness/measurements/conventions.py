@@ -48,6 +48,12 @@ PH_CAUTION = (
     "accredited laboratory practice."
 )
 BATES_GUGGENHEIM_MAX_I = 0.1  # mol/kg, the limit stated with the convention
+#: Ionic strength (mol/kg) up to which each convention's form is commonly held to work, the
+#: same figures the corresponding model plugins declare as their authors' range (common
+#: practice, no source for the exact cut-offs): beyond it a value is an extrapolation and is
+#: marked so. MacInnes has none of its own: it holds as far as the KCl values it rests on.
+CONVENTION_MAX_I = {"debye-huckel": 0.001, "extended-debye-huckel": 0.1, "davies": 0.5,
+                    "truesdell-jones": 2.0, "sit": 3.5, "bates-guggenheim": BATES_GUGGENHEIM_MAX_I}
 
 #: A solution: salts with their molalities in mol/kg (numbers or arrays of one shape).
 Composition = Sequence[tuple[Electrolyte, float | np.ndarray]]

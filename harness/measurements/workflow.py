@@ -51,13 +51,34 @@ def reduce_stored(session, key: str, method: str | None = None) -> tuple[Reducti
     """Reduce the stored measurement set ``key`` and store (or replace) its reduced dataset."""
     ms = store_ms.load_set(session.store, key)
     kwargs: dict = {}
+    marks: list[str] = []
     if ms.kind == "isopiestic":
         reference = session.electrolyte(str(ms.settings["reference"]))
-        f, label, _ = model_function(session, str(ms.settings["reference_model"]),
-                                     str(ms.settings["reference_params"]), reference)
+        f, label, params = model_function(session, str(ms.settings["reference_model"]),
+                                          str(ms.settings["reference_params"]), reference)
         kwargs = {"reference": reference, "reference_osmotic": f, "reference_label": label}
+        marks = _reference_marks(session, ms, reference, params)
     red = reduce_set(ms, method, **kwargs)
+    if marks:
+        red.details["extrapolation"] = marks
+        red.cautions = tuple(red.cautions) + tuple(f"extrapolated: {m}" for m in marks)
     return red, store_ms.store_reduction(session.store, ms, red)
+
+
+def _reference_marks(session, ms, reference: Electrolyte, params) -> list[str]:
+    """Where an isopiestic reduction leans on its reference set outside that set's ground."""
+    model = session.registry.model(str(ms.settings["reference_model"]))
+    marks = []
+    if abs(ms.temperature_k - params.temperature_k) >= 0.01:
+        marks.append(f"the reference set {params.set_id} holds values for {params.temperature_k:g} K; the "
+                     f"readings are at {ms.temperature_k:g} K and its values are used unchanged")
+    limits = [x for x in (params.m_max, model.validity.max_molality_for(reference) if model.validity else None)
+              if x is not None]
+    top = float(np.max(ms.reading))
+    if limits and top > min(limits) * (1 + 1e-9):
+        marks.append(f"reference molalities up to {top:g} mol/kg go beyond the {min(limits):g} mol/kg "
+                     f"the reference set {params.set_id} stands on")
+    return marks
 
 
 def all_keys(session) -> list[str]:

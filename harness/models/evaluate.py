@@ -89,6 +89,15 @@ def make_context(electrolyte: Electrolyte, temperature_k: float = 298.15,
     return EvalContext(electrolyte, dh or debye_huckel_constants(temperature_k, pressure_pa))
 
 
+def check_supported(model: ActivityModel, electrolyte: Electrolyte) -> None:
+    """Raise :class:`ModelDomainError` when ``model`` does not take ``electrolyte``'s charge type."""
+    if not model.supports(electrolyte):
+        types = ", ".join(f"{a}-{b}" for a, b in sorted(model.charge_types or ()))
+        raise ModelDomainError(
+            f"model {model.id} does not support {electrolyte.charge_label} electrolytes like "
+            f"{electrolyte.name} (supported: {types})")
+
+
 def evaluate(model: ActivityModel, electrolyte: Electrolyte, molality: np.ndarray | list[float],
              params: Params | None = None, *, ctx: EvalContext | None = None,
              temperature_k: float = 298.15, ions: bool = False) -> Evaluation:
@@ -97,11 +106,7 @@ def evaluate(model: ActivityModel, electrolyte: Electrolyte, molality: np.ndarra
     Raises :class:`ModelDomainError` for an unsupported charge type or a non-positive molality,
     and :class:`ModelError` when the plugin raises or returns NaN or the wrong shape.
     """
-    if not model.supports(electrolyte):
-        types = ", ".join(f"{a}-{b}" for a, b in sorted(model.charge_types or ()))
-        raise ModelDomainError(
-            f"model {model.id} does not support {electrolyte.charge_label} electrolytes like "
-            f"{electrolyte.name} (supported: {types})")
+    check_supported(model, electrolyte)
     m = np.atleast_1d(np.asarray(molality, dtype=float))
     if m.ndim != 1 or np.any(~np.isfinite(m)) or np.any(m <= 0):
         raise ModelDomainError("molalities must be positive finite numbers (mol/kg)")

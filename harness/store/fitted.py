@@ -20,7 +20,7 @@ def fit_set_id(model: str, electrolytes: list[str], settings: dict, data_hashes:
 
 
 def save_fit(store: Store, result, *, set_id: str, settings: dict, data_hashes: list[str],
-             electrolytes: list[str], temperature_k: float, note: str = "") -> str:
+             electrolytes: list[str], temperature_k: float, note: str = "", a_phi: float | None = None) -> str:
     """Store a FitResult (single or joint) as a fitted parameter set; returns its id."""
     existing = store.conn.execute("SELECT id, kind FROM parameter_sets WHERE set_id = ?", (set_id,)).fetchone()
     if existing and existing[1] != "fitted":
@@ -29,10 +29,11 @@ def save_fit(store: Store, result, *, set_id: str, settings: dict, data_hashes: 
     values = {
         "set_id": set_id, "kind": "fitted", "origin": "user", "provider": "saltbench fit",
         "model": result.model, "source": None, "table_ref": "", "temperature_k": temperature_k,
-        "a_phi": None, "typed": f"fitted by saltbench {__version__}", "from_memory": 0,
+        "a_phi": a_phi, "typed": f"fitted by saltbench {__version__}", "from_memory": 0,
         "note": note, "file": "", "content_hash": hashlib.sha256(json.dumps(summary, sort_keys=True,
                                                                              default=str).encode()).hexdigest(),
         "settings": json.dumps({**settings, "residuals": summary["residuals"], "flags": summary["flags"],
+                                "molality_min": float(min(result.molality)) if len(result.molality) else None,
                                 "converged": summary["converged"], "electrolytes": electrolytes},
                                sort_keys=True, default=str),
         "data_hashes": json.dumps(sorted(data_hashes)), "software_version": __version__,

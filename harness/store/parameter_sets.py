@@ -26,6 +26,8 @@ class ResolvedParameters:
     stderr: dict[str, float] = field(default_factory=dict)
     covariance: tuple[list[str], list[list[float]]] | None = None
     temperature_k: float = 298.15
+    #: lowest molality of the data a fitted set was fitted to (a published set reaches m -> 0)
+    m_min: float | None = None
 
 
 def resolve(store: Store, model: ActivityModel, electrolyte: Electrolyte, set_row: tuple) -> ResolvedParameters | None:
@@ -71,8 +73,12 @@ def resolve(store: Store, model: ActivityModel, electrolyte: Electrolyte, set_ro
         citation = row[0] if row else ""
     cov = store.conn.execute("SELECT names, matrix FROM parameter_covariances WHERE set_pk = ?", (pk,)).fetchone()
     covariance = (json.loads(cov[0]), json.loads(cov[1])) if cov else None
+    m_min = None
+    if kind == "fitted":
+        settings = store.conn.execute("SELECT settings FROM parameter_sets WHERE id = ?", (pk,)).fetchone()
+        m_min = json.loads(settings[0] or "{}").get("molality_min") if settings else None
     return ResolvedParameters(set_id, kind, values, a_phi, m_max, source, citation, bool(from_memory),
-                              stderr, covariance, temperature_k)
+                              stderr, covariance, temperature_k, m_min)
 
 
 _SET_COLUMNS = "id, set_id, kind, source, a_phi, from_memory, temperature_k"
