@@ -47,3 +47,28 @@ def test_readme_counts_of_the_bundle_are_those_of_the_bundle():
     points = sum(len([ln for ln in p.read_text(encoding="utf-8").splitlines()[1:]
                       if ln and not ln.startswith(("#", "molality"))]) for p in files)
     assert [int(g) for g in m.groups()] == [len(electrolytes), len(files), remembered, points]
+
+
+def test_readme_counts_of_recommendations_are_those_of_a_fresh_comparison(seeded_store_file):
+    """The sentence under "Choosing a model" counting recommendations holds for the bundle."""
+    import re
+    import shutil
+    import tempfile
+    from collections import Counter
+    from pathlib import Path
+
+    from saltbench.api import Session, compare
+    from saltbench.comparison.settings import CompareSettings
+
+    section = README.read_text(encoding="utf-8").split("### Choosing a model", 1)[1].split("\n### ", 1)[0]
+    m = re.search(r"(\d+) of the (\d+) bundled electrolytes get a recommendation; for (\d+) no model "
+                  r"holds over the\s+whole range of their data, and (\d+) have too few points", section)
+    assert m, "the section counts the bundle's recommendations"
+    with tempfile.TemporaryDirectory() as tmp:
+        path = Path(tmp) / "store.sqlite"
+        shutil.copy(seeded_store_file, path)
+        s = Session(path)
+        names = list(s.electrolytes().electrolyte)
+        kinds = Counter(r.kind for r in compare(s, names, CompareSettings(), jobs=2).recommendations.values())
+    assert [int(g) for g in m.groups()] == [kinds["recommended"], len(names), kinds["none-holds"],
+                                            kinds["too-few-points"]]
