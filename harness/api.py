@@ -287,6 +287,12 @@ def compare(session: Session, electrolytes, settings=None, *, jobs: int = 1, cur
                           disabled=session._disabled, jobs=jobs, curves=curves, progress=progress)
     comp.skipped = skipped
     comp.per_ion = per_ion_models
+    from saltbench.comparison.sources import source_disagreements
+
+    for task in tasks:
+        found = source_disagreements(task.data, settings.tol_ln_gamma, settings.tol_phi)
+        if found:
+            comp.disagreements[task.electrolyte.name] = found
     return comp
 
 

@@ -181,6 +181,8 @@ def compare(app, electrolytes, all_, models, up_to, tol, folds, on, data_sel, te
                     click.echo(wrap(f"   {r['model']}: {flag}", indent="     "))
         if comp.skipped.get(name):
             click.echo(f"   not applicable to {name}: {', '.join(comp.skipped[name])}")
+        for note in comp.disagreements.get(name, []):
+            click.echo(wrap(f"   sources: {note}", indent="     "))
         if comp.per_ion.get(name):
             click.echo(wrap(f"   left out, parameters per ion need several salts sharing an ion: "
                             f"{', '.join(comp.per_ion[name])}", indent="     "))

@@ -10,9 +10,9 @@ than the most accurate, preferring models used within the range their authors cl
 materially worse when its held-out RMS exceeds ``MATERIAL_RATIO`` times the best and its AICc
 exceeds the best's by more than ``MATERIAL_AICC`` (Burnham and Anderson's rule of thumb, from
 memory of Model Selection and Multimodel Inference, 2nd ed. 2002, sec. 2.6: a difference above 10
-leaves essentially no support for the worse model). Ties in parameters go to the smaller held-out RMS compared to six
-significant digits (two models with one equation differ only in floating-point noise), then
-AICc, then the model id, so equivalent models are ranked by a stated rule. The most accurate
+leaves essentially no support for the worse model). Held-out RMS values are compared to four
+significant digits (two models with one equation differ only in floating-point noise); ties then
+go to AICc, then the model id, so equivalent models are ranked by a stated rule. The most accurate
 model is always named when it is not the one recommended.
 """
 
@@ -50,10 +50,10 @@ def _reach(o: ModelOutcome) -> float:
 
 
 def _heldout(o: ModelOutcome) -> float:
-    """Held-out RMS to six significant digits (ln gamma±, else phi; inf when none)."""
+    """Held-out RMS to four significant digits (ln gamma±, else phi; inf when none)."""
     r = o.record()
     v = r["heldout_rms_ln_gamma"] if r["heldout_rms_ln_gamma"] is not None else r["heldout_rms_osmotic"]
-    return float(f"{v:.6g}") if v is not None else float("inf")
+    return float(f"{v:.4g}") if v is not None else float("inf")
 
 
 def _aicc(o: ModelOutcome) -> float:

@@ -35,6 +35,7 @@ class Comparison:
     data: dict[str, Any] = field(default_factory=dict)  # electrolyte -> FitData
     skipped: dict[str, list[str]] = field(default_factory=dict)  # electrolyte -> unsupported models
     per_ion: dict[str, list[str]] = field(default_factory=dict)  # electrolyte -> models needing several salts
+    disagreements: dict[str, list[str]] = field(default_factory=dict)  # electrolyte -> sources apart
     plugin_problems: list[str] = field(default_factory=list)
 
     def records(self) -> list[dict]:

@@ -199,7 +199,8 @@ def _electrolyte(comparison, facts: ReportFacts, name: str, index: int) -> Secti
                                 [_heldout_table(outs, name, index)]))
     sec.children.append(Section(f"flags-{index}", f"{index}.7 Flagged fits",
                                 _flag_blocks(outs, comparison.skipped.get(name, []),
-                                             comparison.per_ion.get(name, []))))
+                                             comparison.per_ion.get(name, []),
+                                             comparison.disagreements.get(name, []))))
     return sec
 
 
@@ -248,7 +249,7 @@ def _heldout_table(outs, name: str, index: int) -> Table:
                  [False, True, True, True, True, True, True, True, True, True, False])
 
 
-def _flag_blocks(outs, skipped: list[str], per_ion: list[str]) -> list:
+def _flag_blocks(outs, skipped: list[str], per_ion: list[str], disagreements: list[str]) -> list:
     items = []
     for o in outs:
         flags = o.record()["flags"]
@@ -267,6 +268,8 @@ def _flag_blocks(outs, skipped: list[str], per_ion: list[str]) -> list:
     if skipped:
         blocks.append(Paragraph("Not applicable to this electrolyte (charge type not supported): "
                                 + ", ".join(skipped) + "."))
+    for note in disagreements:
+        blocks.append(Paragraph("The data's own sources disagree: " + note + "."))
     if per_ion:
         blocks.append(Paragraph("Left out: parameters of their own per ion, which only several salts "
                                 "sharing an ion determine (fit them jointly): " + ", ".join(per_ion) + "."))
