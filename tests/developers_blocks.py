@@ -7,7 +7,6 @@ from __future__ import annotations
 
 import inspect
 import re
-import sys
 from pathlib import Path
 
 from saltbench.models import hookspecs
@@ -32,8 +31,6 @@ def render(text: str) -> str:
 
 
 if __name__ == "__main__":
-    text = DEVELOPERS.read_text(encoding="utf-8")
-    if "--update" in sys.argv:
-        DEVELOPERS.write_text(render(text), encoding="utf-8")
-    else:
-        sys.exit(0 if render(text) == text else 1)
+    from generated_text import update_or_check
+
+    update_or_check(DEVELOPERS, render)

@@ -45,7 +45,6 @@ def render(text: str) -> str:
 
 
 if __name__ == "__main__":
-    if "--update" in sys.argv:
-        README.write_text(render(README.read_text(encoding="utf-8")), encoding="utf-8")
-    else:
-        sys.exit(0 if render(README.read_text(encoding="utf-8")) == README.read_text(encoding="utf-8") else 1)
+    from generated_text import update_or_check
+
+    update_or_check(README, render)

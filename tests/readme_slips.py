@@ -8,7 +8,6 @@ from __future__ import annotations
 
 import json
 import re
-import sys
 from pathlib import Path
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -47,8 +46,6 @@ def render(text: str) -> str:
 
 
 if __name__ == "__main__":
-    text = README.read_text(encoding="utf-8")
-    if "--update" in sys.argv:
-        README.write_text(render(text), encoding="utf-8")
-    else:
-        sys.exit(0 if render(text) == text else 1)
+    from generated_text import update_or_check
+
+    update_or_check(README, render)
