@@ -85,3 +85,51 @@ def test_inside_refuses_a_symlink_that_points_out_of_the_folder(tmp_path: Path) 
     os.symlink(tmp_path / "elsewhere" / "target.md", folder / "innocent.md")
     with pytest.raises(UserError, match="it would be written outside"):
         inside(folder, "innocent.md")
+
+
+HOSTILE_NAMES = [
+    'Evil"; import os; os.system("echo PWNED") #',
+    "Quote's model",
+    'Back\\slash "model"',
+    "Line\nbreak model",
+    "Braces {cls} model",
+    '"""triple""" model',
+]
+
+
+@pytest.mark.parametrize("name", HOSTILE_NAMES)
+def test_new_model_names_never_become_code(name: str, tmp_path) -> None:
+    import ast
+    import subprocess
+    import sys
+
+    from saltbench.scaffold.writer import write_model_template
+
+    files = write_model_template(name, tmp_path)
+    for f in files:
+        ast.parse(f.read_text(encoding="utf-8"))  # every generated file is valid Python
+    model_file = next(f for f in files if not f.name.startswith("test_"))
+    proc = subprocess.run([sys.executable, "-c", f"import runpy; m = runpy.run_path({str(model_file)!r}); "
+                           "print(m['register_models'](context=None)[0].name)"],
+                          capture_output=True, text=True, cwd=tmp_path)
+    assert proc.returncode == 0, proc.stderr
+    assert "PWNED" not in proc.stdout.replace(name, "")
+    assert proc.stdout.rstrip("\n") == name  # the display name survives, exactly, as data
+
+
+def test_generated_class_names_do_not_repeat_model() -> None:
+    from saltbench.scaffold.names import model_names
+
+    assert model_names("Our Lab Model")[2] == "OurLabModel"
+    assert model_names("Kestrel")[2] == "KestrelModel"
+
+
+@pytest.mark.parametrize("name", HOSTILE_NAMES)
+def test_new_model_package_metadata_stays_valid_toml(name: str, tmp_path) -> None:
+    import tomllib
+
+    from saltbench.scaffold.writer import write_model_template
+
+    files = write_model_template(name, tmp_path, package=True)
+    meta = tomllib.loads(next(f for f in files if f.name == "pyproject.toml").read_text(encoding="utf-8"))
+    assert meta["project"]["description"].startswith(name)

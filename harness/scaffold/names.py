@@ -24,7 +24,8 @@ def model_names(name: str) -> tuple[str, str, str]:
         raise UserError(f"model name {name!r} must contain letters and start with a letter "
                         "(it becomes the model id, e.g. 'my-model')")
     module = model_id.replace("-", "_")
-    cls = "".join(w.capitalize() for w in model_id.split("-")) + "Model"
+    stem = "".join(w.capitalize() for w in model_id.split("-"))
+    cls = stem if stem.endswith("Model") else stem + "Model"  # "Our Lab Model" -> OurLabModel
     return model_id, module, cls
 
 

@@ -32,7 +32,7 @@ def _sigma(x):
 
 class {cls}(ActivityModel):
     id = "{model_id}"
-    name = "{display}"
+    name = {display_literal}
     citation = "Your citation here (authors, journal, volume, pages, year)"
     parameters = (
         Parameter("a", "a", "Å", 4.0, lower=1.0, upper=12.0, description="ion-size parameter"),
@@ -97,7 +97,7 @@ build-backend = "setuptools.build_meta"
 [project]
 name = "{dist}"
 version = "0.1.0"
-description = "{display}: an in-house activity model for saltbench"
+description = {display_toml}
 requires-python = ">=3.11"
 dependencies = ["saltbench"]
 
@@ -111,4 +111,24 @@ py-modules = ["{module}"]
 
 
 def render(template: str, **fields: str) -> str:
+    """Fill a template. The user's model name enters code only as an escaped string literal
+    (``display_literal`` for Python, ``display_toml`` for pyproject) and as docstring text with
+    quotes, backslashes and line breaks taken out (``display``): a name can never end a string
+    early or add a line of code."""
+    if "display" in fields:
+        raw = fields["display"]
+        fields = {**fields, "display": docstring_text(raw), "display_literal": repr(raw),
+                  "display_toml": toml_string(f"{raw}: an in-house activity model for saltbench")}
     return template.format(**fields)
+
+
+def docstring_text(text: str) -> str:
+    """Text safe inside a triple-quoted docstring: printable, no quotes, backslashes or breaks."""
+    return "".join(c for c in text if c.isprintable() and c not in '"\\\'').strip() or "model"
+
+
+def toml_string(text: str) -> str:
+    """A TOML basic string (JSON's escaping is valid TOML for these characters)."""
+    import json
+
+    return json.dumps(text, ensure_ascii=True)
