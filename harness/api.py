@@ -212,9 +212,12 @@ def predict(session: Session, electrolyte: str, model_id: str, molality, params_
         raise UserError(f"no parameter set of {model.id} for {e.name}: fit one with 'saltbench fit {e.name} "
                         f"--model {model.id}', or name a stored set with --params SET ('saltbench params "
                         f"--model {model.id}' lists them); --params defaults uses the model's defaults knowingly")
+    from saltbench.models.discovery import plugin_output_to_stderr
+
     basis = parameter_basis(params, temperature_k, constant)
     ctx = make_context(e, dh=basis.dh)
-    ev = evaluate(model, e, m, params.values, ctx=ctx)
+    with plugin_output_to_stderr():
+        ev = evaluate(model, e, m, params.values, ctx=ctx)
     unc = None
     if params.covariance is not None:
         from saltbench.fitting import propagate

@@ -79,3 +79,54 @@ def test_asking_for_the_model_of_a_plugin_that_failed_to_import_is_a_user_error(
     assert (code, out) == (2, "")
     assert err.startswith("Error: unknown model 'bad-model'; known models: "), err
     assert err.count("\n") == 1, err
+
+
+NOISY = '''print("hello from import")
+import numpy as np
+from saltbench.models import ActivityModel, Parameter, Validity, hookimpl
+
+
+class Noisy(ActivityModel):
+    id = "noisy"
+    name = "Noisy"
+    citation = "a test plugin that prints (invented)"
+    parameters = (Parameter("b", "b", "kg/mol", 0.0, lower=-1, upper=1, linear=True),)
+    validity = Validity(max_ionic_strength=1.0)
+
+    def ln_gamma_pm(self, m, params, ctx):
+        print("evaluating")
+        s = np.sqrt(ctx.electrolyte.ionic_strength(m))
+        return -ctx.dh.a_gamma * abs(ctx.electrolyte.zz) * s / (1 + s) + params["b"] * m
+
+
+@hookimpl
+def register_models(context):
+    return [Noisy()]
+'''
+
+
+def test_what_a_plugin_prints_goes_to_stderr_not_into_json_or_csv(tmp_path, run_main, seeded_store) -> None:
+    import csv
+    import io
+    import json
+
+    from conftest import write
+
+    plugin = write(tmp_path / "noisy.py", NOISY)
+    for jobs in ("1", "2"):
+        code, out, err = run_main("--plugin", str(plugin), "compare", "NaCl", "--models", "noisy", "--format",
+                                  "json", "--jobs", jobs, store=seeded_store)
+        assert code == 0, err
+        assert [r["model"] for r in json.loads(out)] == ["noisy"]
+        if jobs == "1":  # worker processes write to the same stderr, outside capsys
+            assert "hello from import" in err and "evaluating" in err
+    code, out, err = run_main("--plugin", str(plugin), "predict", "NaCl", "--model", "noisy", "--params",
+                              "defaults", "--format", "csv", store=seeded_store)
+    assert code == 0, err
+    assert list(csv.DictReader(io.StringIO(out)))[0]["molality"] == "0.001"
+
+
+def test_a_missing_plugin_file_is_an_error(tmp_path, run_main, seeded_store) -> None:
+    code, out, err = run_main("--plugin", str(tmp_path / "nope.py"), "models", store=seeded_store)
+    assert code == 2 and out == ""
+    assert err == f"Error: --plugin {tmp_path / 'nope.py'}: no such file\n"

@@ -71,8 +71,16 @@ def cli(ctx: click.Context, store_path: str | None, plugin_files: tuple[str, ...
     Results are only as good as the data and models behind them. For dosing, safety limits or
     regulated measurements, verify every number under your local codes and licensed practice.
     """
-    from saltbench.cli.context import AppContext
+    from pathlib import Path
 
+    from saltbench.cli.context import AppContext
+    from saltbench.errors import UserError
+
+    for path in plugin_files:
+        # a mistyped path must not leave the user comparing without the model they meant to add
+        if not Path(path).is_file():
+            raise UserError(f"--plugin {path}: no such file" if not Path(path).exists()
+                            else f"--plugin {path}: not a file")
     ctx.obj = AppContext(store_path, list(plugin_files), list(disabled))
 
 

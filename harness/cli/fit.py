@@ -46,11 +46,14 @@ def fit(app, electrolytes, model_id, up_to, fix, free, data_sel, on, temperature
         e = s.electrolyte(name)
         sels.append((e, select_data(s, e, datasets=datasets, on=props, up_to=up_to, temperature_k=temperature_k)))
     dh = fit_constant(s, model, [e for e, _ in sels], temperature_k, dh_constant)
-    if len(sels) == 1:
-        e, sel = sels[0]
-        result = run_fit(model, e, sel.data, fixed=fixed, free=free or None, dh=dh)
-    else:
-        result = fit_joint(model, [(e, sel.data) for e, sel in sels], fixed=fixed, free=free or None, dh=dh)
+    from saltbench.models.discovery import plugin_output_to_stderr
+
+    with plugin_output_to_stderr():
+        if len(sels) == 1:
+            e, sel = sels[0]
+            result = run_fit(model, e, sel.data, fixed=fixed, free=free or None, dh=dh)
+        else:
+            result = fit_joint(model, [(e, sel.data) for e, sel in sels], fixed=fixed, free=free or None, dh=dh)
     names = [e.name for e, _ in sels]
     hashes = [d["content_hash"] for _, sel in sels for d in sel.datasets]
     settings = {"up_to": up_to, "fix": fixed, "free": list(free), "data": datasets, "on": props,

@@ -61,12 +61,15 @@ def _worker_registry(plugin_files: Sequence[str], disabled: Sequence[str]):
 
 def run_task(task: ElectrolyteTask, settings: CompareSettings, plugin_files: Sequence[str],
              disabled: Sequence[str], curves: bool, registry=None) -> tuple[str, list[ModelOutcome]]:
+    from saltbench.models.discovery import plugin_output_to_stderr
+
     reg = registry or _worker_registry(plugin_files, disabled)
     outs = []
-    for mid in task.model_ids:
-        info = reg.models[mid]
-        outs.append(assess(info.model, info.plugin, task.electrolyte, task.data, task.published.get(mid),
-                           settings, curves=curves))
+    with plugin_output_to_stderr():
+        for mid in task.model_ids:
+            info = reg.models[mid]
+            outs.append(assess(info.model, info.plugin, task.electrolyte, task.data, task.published.get(mid),
+                               settings, curves=curves))
     return task.electrolyte.name, outs
 
 

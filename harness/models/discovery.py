@@ -10,6 +10,7 @@ in ``PluginRegistry.problems`` and the rest keep working.
 
 from __future__ import annotations
 
+import contextlib
 import hashlib
 import importlib
 import importlib.util
@@ -146,6 +147,14 @@ def _unknown_hooks(module: ModuleType) -> list[str]:
     ]
 
 
+@contextlib.contextmanager
+def plugin_output_to_stderr():
+    """Whatever plugin code prints goes to standard error, so that standard output holds results
+    only (a plugin printing at import or in a model function must not corrupt JSON or CSV)."""
+    with contextlib.redirect_stdout(sys.stderr):
+        yield
+
+
 def build_registry(
     plugin_files: Sequence[str | os.PathLike[str]] = (),
     disabled: Iterable[str] = (),
@@ -173,6 +182,12 @@ def build_registry(
     for f in files:
         candidates.append((Path(f).stem, "file", str(f), None))
 
+    with plugin_output_to_stderr():
+        _load_candidates(reg, pm, candidates, off)
+        return _collect_models(reg)
+
+
+def _load_candidates(reg: PluginRegistry, pm, candidates, off: set[str]) -> None:
     for name, kind, path, loader in candidates:
         if name in off:
             continue
@@ -202,6 +217,8 @@ def build_registry(
             continue
         reg.plugins.append(PluginRecord(name, kind, path, version, module))
 
+
+def _collect_models(reg: PluginRegistry) -> PluginRegistry:
     for rec, model in reg.call_list_hook("register_models"):
         problems = check_declaration(model)
         if problems:
