@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import math
+
 import click
 
 from saltbench.cli.output import echo_caution, emit, format_option
@@ -12,6 +14,8 @@ TABLE_COLUMNS = ["model", "n_params", "rms_ln_gamma", "max_ln_gamma", "rms_osmot
 HEADERS = {"n_params": "k", "rms_ln_gamma": "rms dlng", "max_ln_gamma": "max dlng",
            "rms_osmotic": "rms dphi", "heldout_rms_ln_gamma": "held-out", "aicc": "AICc",
            "valid_up_to_published": "to (pub)", "valid_up_to_refit": "to (refit)", "short_verdict": "verdict"}
+#: More folds than this is leave-one-out by another name on any bundled table; say 'loo'.
+MAX_FOLDS = 50
 CAUTION = ("Validity ranges hold only for these data, this temperature and this tolerance. For dosing, "
            "safety limits or regulated measurements, verify under local codes and licensed practice.")
 TABLE_COLUMNS_SHORT = [c if c != "verdict" else "short_verdict" for c in TABLE_COLUMNS]
@@ -97,8 +101,8 @@ def build_settings(models: str, up_to, tol: str, folds, on: str, data_sel: str, 
         parts = [float(x) for x in tol.split(",")]
     except ValueError:
         raise UserError(f"--tol: expected a number or two (LNG,PHI), found {tol!r}") from None
-    if len(parts) not in (1, 2) or any(p <= 0 for p in parts):
-        raise UserError("--tol: give one or two positive numbers")
+    if len(parts) not in (1, 2) or any(not math.isfinite(p) or p <= 0 for p in parts):
+        raise UserError("--tol: give one or two positive, finite numbers")
     if str(folds).strip().lower() == "loo":
         folds = "loo"
     else:
@@ -106,8 +110,8 @@ def build_settings(models: str, up_to, tol: str, folds, on: str, data_sel: str, 
             folds = int(folds)
         except ValueError:
             raise UserError(f"--folds: expected a whole number or 'loo', found {folds!r}") from None
-        if folds < 2:
-            raise UserError("--folds must be at least 2")
+        if not 2 <= folds <= MAX_FOLDS:
+            raise UserError(f"--folds must be from 2 to {MAX_FOLDS} (or 'loo' for leave-one-out)")
     tl, tp = (parts[0], parts[0]) if len(parts) == 1 else parts
     return CompareSettings(
         models=tuple(m.strip() for m in models.split(",") if m.strip()), up_to=up_to,

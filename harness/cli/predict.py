@@ -9,13 +9,22 @@ from saltbench.cli.output import echo_caution, emit, format_option
 from saltbench.errors import UserError
 
 
+#: No aqueous solution reaches this molality (the most soluble salts stop near 30 mol/kg).
+MAX_MOLALITY = 100.0
+
+
 def parse_molalities(text: str) -> np.ndarray:
+    items = [x.strip() for x in text.split(",")]
+    if any(not x for x in items):
+        raise UserError(f"--m: an empty item in {text!r}; give comma-separated molalities in mol/kg")
     try:
-        values = np.array([float(x) for x in text.split(",") if x.strip()])
+        values = np.array([float(x) for x in items])
     except ValueError:
         raise UserError(f"--m: expected comma-separated molalities in mol/kg, found {text!r}") from None
     if values.size == 0 or np.any(~np.isfinite(values)) or np.any(values <= 0):
         raise UserError("--m: molalities must be positive numbers (mol/kg)")
+    if np.any(values > MAX_MOLALITY):
+        raise UserError(f"--m: {values.max():g} mol/kg is beyond any aqueous solution (at most {MAX_MOLALITY:g})")
     return values
 
 

@@ -138,7 +138,11 @@ def _plot(ext, key: str, path: str) -> None:
     except ImportError:
         raise UserError("--plot needs matplotlib, which is not installed") from None
     import numpy as np
+    from pathlib import Path
 
+    folder = Path(path).resolve().parent
+    if not folder.is_dir():
+        raise UserError(f"--plot {path}: no folder {folder} to write it in")
     fig, ax = plt.subplots(figsize=(6, 4))
     ax.plot(ext.molality, ext.e_prime * 1000, "o", label="E' from readings")
     m = np.linspace(0.0, float(ext.molality.max()), 50)

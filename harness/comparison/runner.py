@@ -112,7 +112,8 @@ def run_comparison(tasks: list[ElectrolyteTask], settings: CompareSettings, *, r
         _warm_before_fork(settings, registry)
         # Largest first, so that no long task starts last while the other workers sit idle.
         by_cost = sorted(tasks, key=expected_cost, reverse=True)
-        with ProcessPoolExecutor(max_workers=min(jobs, len(tasks))) as pool:
+        # never more workers than tasks or than the CPUs this process may use
+        with ProcessPoolExecutor(max_workers=min(jobs, len(tasks), default_jobs())) as pool:
             futures = [pool.submit(run_task, t, settings, list(plugin_files), list(disabled), curves)
                        for t in by_cost]
             for fut in as_completed(futures):
