@@ -8,7 +8,6 @@ import numpy as np
 from saltbench.cli.output import echo_caution, emit, format_option
 from saltbench.errors import UserError
 
-
 #: No aqueous solution reaches this molality (the most soluble salts stop near 30 mol/kg).
 MAX_MOLALITY = 100.0
 

@@ -137,8 +137,9 @@ def _plot(ext, key: str, path: str) -> None:
         import matplotlib.pyplot as plt
     except ImportError:
         raise UserError("--plot needs matplotlib, which is not installed") from None
-    import numpy as np
     from pathlib import Path
+
+    import numpy as np
 
     folder = Path(path).resolve().parent
     if not folder.is_dir():
