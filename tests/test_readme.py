@@ -15,10 +15,10 @@ def test_readme_blocks_are_current():
 def test_readme_has_exactly_the_two_setup_commands():
     text = README.read_text(encoding="utf-8")
     setup = text.split("## Set up", 1)[1].split("\n## ", 1)[0]
-    commands = [line for line in setup.splitlines() if line.startswith("python3 -m pip")]
+    commands = [line for line in setup.splitlines() if line.startswith(("python3 ", "bash "))]
     assert commands == [
-        "python3 -m pip install . && saltbench compare --all",
-        "python3 -m pip install -e '.[test]' && python3 -m pytest",
+        "python3 -m venv .venv && .venv/bin/python -m pip install . && .venv/bin/saltbench compare --all",
+        "bash .ci/run",
     ]
 
 
