@@ -141,6 +141,59 @@ def resolve_parameters(session: Session, model, electrolyte, choice: str = "auto
     return ps.by_id(session.store, model, electrolyte, choice)
 
 
+def export_parameter_set(session: Session, set_id: str, folder: str | os.PathLike[str]) -> list[Path]:
+    """Write a stored parameter set as files ``saltbench data add`` reads back to the same values:
+    ``<set>.params.csv`` and ``<set>.sources.txt`` (its citation; for a fitted set, an entry that
+    says what it was fitted to)."""
+    from datetime import date
+
+    from saltbench import __version__
+    from saltbench.curation.bibliography import format_entry
+    from saltbench.curation.parameters import format_parameter_file
+    from saltbench.errors import UserError
+    from saltbench.store.parameter_sets import load_set
+
+    doc = load_set(session.store, set_id)
+    if doc is None:
+        raise UserError(f"no parameter set {set_id!r} in the store (see 'saltbench params')")
+    out = Path(folder)
+    if not out.is_dir():
+        raise UserError(f"--export {out}: no such folder")
+    kinds = {v["target_kind"] for v in doc["values"]}
+    if len(kinds) != 1:
+        raise UserError(f"parameter set {set_id} mixes electrolyte and ion rows; it cannot be written as one file")
+    rows: dict[str, tuple[dict[str, float], float | None]] = {}
+    for v in doc["values"]:
+        values, m_max = rows.get(v["target"], ({}, None))
+        values[v["name"]] = v["value"]
+        rows[v["target"]] = (values, v["m_max"] if v["m_max"] is not None else m_max)
+    if doc["kind"] == "fitted":
+        source = set_id
+        electrolytes = ", ".join(rows)
+        entry = format_entry(source, {
+            "authors": f"saltbench {doc['software_version'] or __version__}",
+            "title": f"Parameter set {set_id}: model {doc['model']} fitted to the stored data of {electrolytes}",
+            "publisher": "saltbench fit", "year": date.today().year,
+            "note": "data content hashes " + ", ".join(h[:12] for h in doc["data_hashes"])})
+        typed = (doc["typed"] if doc["typed"].lower().startswith("fitted")
+                 else f"fitted by saltbench to {electrolytes}")
+    else:
+        source = doc["source"]
+        src = doc["source_entry"] or {}
+        entry = format_entry(source, src) if src else ""
+        typed = doc["typed"]
+    text = format_parameter_file(set_id=set_id, model=doc["model"], source=source, table=doc["table_ref"],
+                                 temperature_k=doc["temperature_k"], a_phi=doc["a_phi"], typed=typed,
+                                 note=doc["note"], target_kind=kinds.pop(),
+                                 rows=[(t, v, m) for t, (v, m) in rows.items()])
+    written = [out / f"{set_id}.params.csv"]
+    written[0].write_text(text, encoding="utf-8")
+    if entry:
+        written.append(out / f"{set_id}.sources.txt")
+        written[1].write_text(entry, encoding="utf-8")
+    return written
+
+
 def parameter_basis(params, temperature_k: float = 298.15, constant: str | float = "published"):
     """The Debye-Hückel constant and temperature ``params`` are evaluated at: the one decision
     (:mod:`saltbench.water.basis`) that predict, compare, fit and the report share."""

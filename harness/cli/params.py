@@ -2,8 +2,6 @@
 
 from __future__ import annotations
 
-import json
-
 import click
 
 from saltbench.cli.output import emit, fold, format_option
@@ -12,9 +10,11 @@ from saltbench.cli.output import emit, fold, format_option
 @click.command()
 @click.argument("set_id", required=False)
 @click.option("--model", "model_id", default=None, help="Only sets of this model.")
+@click.option("--export", "export_dir", default=None, metavar="FOLDER",
+              help="Write SET_ID as files 'saltbench data add' reads back (parameters and citation).")
 @format_option
 @click.pass_obj
-def params(app, set_id: str | None, model_id: str | None, fmt: str) -> None:
+def params(app, set_id: str | None, model_id: str | None, export_dir: str | None, fmt: str) -> None:
     """List parameter sets, or show one (SET_ID) with its values, source and settings."""
     from saltbench.errors import UserError
     from saltbench.store.parameter_sets import list_sets
@@ -34,23 +34,19 @@ def params(app, set_id: str | None, model_id: str | None, fmt: str) -> None:
         emit(records, fmt, ["set_id", "kind", "model", "source", "a_phi", "from_memory", "n_targets"],
              {"n_targets": "rows", "from_memory": "from memory"})
         return
-    row = s.store.conn.execute(
-        "SELECT id, set_id, kind, model, source, table_ref, temperature_k, a_phi, typed, note, settings, "
-        "data_hashes, software_version FROM parameter_sets WHERE set_id = ?", (set_id,)).fetchone()
-    if row is None:
+    if export_dir is not None:
+        from saltbench.api import export_parameter_set
+
+        for path in export_parameter_set(s, set_id, export_dir):
+            click.echo(f"wrote {path}")
+        return
+    from saltbench.store.parameter_sets import load_set
+
+    doc = load_set(s.store, set_id)
+    if doc is None:
         raise UserError(f"no parameter set {set_id!r} in the store (see 'saltbench params')")
-    keys = ["pk", "set_id", "kind", "model", "source", "table_ref", "temperature_k", "a_phi", "typed", "note",
-            "settings", "data_hashes", "software_version"]
-    doc = dict(zip(keys, row))
-    doc["settings"] = json.loads(doc["settings"] or "{}")
-    doc["data_hashes"] = json.loads(doc["data_hashes"] or "[]")
-    values = [dict(zip(["target", "target_kind", "name", "value", "stderr", "m_max"], v)) for v in s.store.conn.execute(
-        "SELECT target, target_kind, name, value, stderr, m_max FROM parameter_values WHERE set_pk = ? "
-        "ORDER BY target, name", (doc.pop("pk"),))]
-    doc["values"] = values
-    if doc["source"]:
-        cite = s.store.conn.execute("SELECT citation FROM sources WHERE key = ?", (doc["source"],)).fetchone()
-        doc["citation"] = cite[0] if cite else ""
+    doc.pop("source_entry")
+    values = doc["values"]
     if fmt == "json":
         emit([], fmt, json_obj=doc)
         return
@@ -61,6 +57,7 @@ def params(app, set_id: str | None, model_id: str | None, fmt: str) -> None:
     if doc.get("citation"):
         click.echo(fold(f"{doc['citation']}; {doc['table_ref']}", "    ", "  source: "))
     click.echo(fold(doc["typed"], "    ", "  typed: "))
+    click.echo(f"  temperature: {doc['temperature_k']:g} K ({doc['temperature_k'] - 273.15:.2f} °C)")
     if doc["a_phi"]:
         click.echo(f"  A_phi used by the authors: {doc['a_phi']}")
     if doc["note"]:

@@ -104,3 +104,15 @@ def _entry(p: str, key: str, n: int, fields: dict[str, tuple[str, int]]) -> Sour
         raise InputFileError(p, doi_line, "doi", f"not a DOI (expected 10.NNNN/...): {doi!r}")
     values = {k: v for k, (v, _) in fields.items() if k != "year"}
     return Source(key=key, year=int(year_text), file=p, line=n, **values)
+
+
+def format_entry(key: str, fields: dict[str, object]) -> str:
+    """One bibliography entry in the file format above (fields with no value are left out)."""
+    if not KEY_PATTERN.match(key):
+        raise ValueError(f"citation key {key!r} must be lower-case words joined by hyphens")
+    lines = [f"[{key}]"]
+    for name in FIELDS:
+        value = fields.get(name)
+        if value not in (None, ""):
+            lines.append(f"{name}: {' '.join(str(value).split())}")
+    return "\n".join(lines) + "\n"

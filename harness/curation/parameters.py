@@ -107,3 +107,27 @@ def read_parameter_file(path: str | Path) -> ParameterFile:
     if not pf.rows:
         raise InputFileError(p, b.columns_line, None, "the table has no rows")
     return pf
+
+
+def format_parameter_file(*, set_id: str, model: str, source: str, table: str, temperature_k: float,
+                          a_phi: float | None, typed: str, note: str, target_kind: str,
+                          rows: list[tuple[str, dict[str, float], float | None]]) -> str:
+    """A parameter set in the file format :func:`read_parameter_file` reads, values written in full
+    (``repr``), so that reading it back gives the very same numbers."""
+    one_line = lambda text: " ".join(str(text).split())
+    names = list(dict.fromkeys(name for _, values, _ in rows for name in values))
+    head = ["# saltbench parameters 1", f"# set: {set_id}", f"# model: {model}", f"# source: {source}",
+            f"# table: {one_line(table) or '-'}", f"# temperature: {temperature_k!r} K"]
+    if a_phi is not None:
+        head.append(f"# a_phi: {a_phi!r}")
+    head.append(f"# typed: {one_line(typed)}")
+    if note:
+        head.append(f"# note: {one_line(note)}")
+    with_m_max = any(m is not None for _, _, m in rows)
+    head.append(",".join([target_kind, *names] + (["m_max"] if with_m_max else [])))
+    for target, values, m_max in rows:
+        cells = [target] + [repr(values[n]) if n in values else "" for n in names]
+        if with_m_max:
+            cells.append("" if m_max is None else repr(m_max))
+        head.append(",".join(cells))
+    return "\n".join(head) + "\n"

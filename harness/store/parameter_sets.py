@@ -113,3 +113,29 @@ def list_sets(store: Store):
         "COUNT(DISTINCT v.target) AS n_targets, GROUP_CONCAT(DISTINCT v.target) AS targets "
         "FROM parameter_sets s LEFT JOIN parameter_values v ON v.set_pk = s.id "
         "GROUP BY s.id ORDER BY s.model, s.set_id")))
+
+
+def load_set(store: Store, set_id: str) -> dict | None:
+    """Everything stored about one parameter set: its header, values (per target) and source."""
+    row = store.conn.execute(
+        "SELECT id, set_id, kind, model, source, table_ref, temperature_k, a_phi, typed, note, settings, "
+        "data_hashes, software_version FROM parameter_sets WHERE set_id = ?", (set_id,)).fetchone()
+    if row is None:
+        return None
+    keys = ["pk", "set_id", "kind", "model", "source", "table_ref", "temperature_k", "a_phi", "typed", "note",
+            "settings", "data_hashes", "software_version"]
+    doc = dict(zip(keys, row))
+    doc["settings"] = json.loads(doc["settings"] or "{}")
+    doc["data_hashes"] = json.loads(doc["data_hashes"] or "[]")
+    doc["values"] = [dict(zip(["target", "target_kind", "name", "value", "stderr", "m_max"], v))
+                     for v in store.conn.execute(
+                         "SELECT target, target_kind, name, value, stderr, m_max FROM parameter_values "
+                         "WHERE set_pk = ? ORDER BY target, name", (doc.pop("pk"),))]
+    doc["source_entry"] = None
+    if doc["source"]:
+        src = store.conn.execute("SELECT * FROM sources WHERE key = ?", (doc["source"],)).fetchone()
+        if src is not None:
+            cols = [d[0] for d in store.conn.execute("SELECT * FROM sources LIMIT 0").description]
+            doc["source_entry"] = dict(zip(cols, src))
+            doc["citation"] = doc["source_entry"]["citation"]
+    return doc
