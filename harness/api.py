@@ -63,6 +63,12 @@ class Session:
         ``sources.txt``) and datasets or parameter files (``*.csv``)."""
         return ingest(self.store, expand_paths(paths), origin="user", provider="user")
 
+    def remove(self, key: str, force: bool = False) -> list[str]:
+        """Remove one of your own datasets (see :func:`saltbench.store.ingest.remove_dataset`)."""
+        from saltbench.store.ingest import remove_dataset
+
+        return remove_dataset(self.store, key, force=force)
+
     def electrolytes(self) -> pd.DataFrame:
         return queries.electrolytes(self.store)
 

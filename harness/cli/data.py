@@ -150,6 +150,19 @@ def add(app, paths: tuple[str, ...], fmt: str) -> None:
     emit_ingest(report, fmt)
 
 
+@data.command("remove")
+@click.argument("key")
+@click.option("--force", is_flag=True, help="Also remove the fitted sets and reductions that use it.")
+@click.pass_obj
+def remove(app, key: str, force: bool) -> None:
+    """Remove one of your own datasets (KEY as 'data show' lists it), in one transaction.
+
+    Refused while a fitted parameter set or a reduction depends on it, unless --force.
+    """
+    for what in app.session().remove(key, force=force):
+        click.echo(f"removed {what}")
+
+
 @data.command("check")
 @click.argument("electrolytes", nargs=-1)
 @format_option

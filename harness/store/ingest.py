@@ -24,7 +24,7 @@ from saltbench.curation.bibliography import Source, read_bibliography
 from saltbench.curation.blocks import read_text
 from saltbench.curation.datasets import Dataset, read_dataset
 from saltbench.curation.parameters import ParameterFile, read_parameter_file
-from saltbench.errors import InputFileError, StoreError
+from saltbench.errors import InputFileError, StoreError, UserError
 from saltbench.store.connection import Store
 
 
@@ -169,6 +169,24 @@ def upsert_parent(store: Store, table: str, existing_pk: int | None, values: dic
     return existing_pk
 
 
+def _same_points(store: Store, d: Dataset) -> tuple[str, str] | None:
+    """(origin, key) of a stored dataset of the same electrolyte, property and temperature whose
+    points are these, value for value; None when there is none."""
+    candidates = store.conn.execute(
+        "SELECT id, origin, key FROM datasets WHERE electrolyte = ? AND property = ? AND n_points = ? "
+        "AND abs(temperature_k - ?) < 0.01", (d.electrolyte.name, d.property, len(d.molality), d.temperature_k)
+    ).fetchall()
+    mine = sorted(zip(d.molality.tolist(), d.value.tolist()))
+    for pk, origin, key in candidates:
+        theirs = store.conn.execute("SELECT molality, value FROM points WHERE dataset_id = ? ORDER BY molality",
+                                    (pk,)).fetchall()
+        if len(theirs) == len(mine) and all(abs(a - c) <= 1e-12 * max(1.0, abs(a)) and
+                                            abs(b - e) <= 1e-12 * max(1.0, abs(b))
+                                            for (a, b), (c, e) in zip(mine, theirs)):
+            return origin, key
+    return None
+
+
 def _write_dataset(store: Store, d: Dataset, origin: str, provider: str, known_sources: set[str],
                    report: IngestReport) -> None:
     if d.source not in known_sources:
@@ -182,6 +200,12 @@ def _write_dataset(store: Store, d: Dataset, origin: str, provider: str, known_s
     if row is not None and row[1] == h:
         report.unchanged.append(label)
         return
+    twin = _same_points(store, d)
+    if twin is not None and twin != (origin, d.key):
+        # a second copy of the same points would be counted twice, in fits and in cross-validation
+        raise InputFileError(d.path, d.lines[0] if d.lines else None, None,
+                             f"the same points as dataset {twin[1]} already in the store ({twin[0]}); "
+                             "not added twice")
     values = {
         "key": d.key, "origin": origin, "provider": provider, "electrolyte": d.electrolyte.name,
         "property": d.property, "basis": d.basis, "scale": d.scale, "temperature_k": d.temperature_k,
@@ -275,3 +299,33 @@ def _write_batch(store: Store, batch: Batch, origin: str, provider: str, sync: b
                     store.conn.execute("DELETE FROM parameter_sets WHERE id = ?", (pk,))
                     report.removed.append(f"parameter set {sid}")
     return report
+
+
+def remove_dataset(store: Store, key: str, *, force: bool = False) -> list[str]:
+    """Delete the user dataset ``key`` (its points with it) in one transaction; returns what was
+    removed. Refuses, changing nothing, when a fitted parameter set was fitted to it or a
+    reduction produced it, unless ``force`` (then those go too: they would no longer be
+    reproducible)."""
+    row = store.conn.execute("SELECT id, origin, content_hash FROM datasets WHERE key = ? "
+                             "ORDER BY origin = 'user' DESC", (key,)).fetchone()
+    if row is None:
+        raise UserError(f"no dataset {key!r} in the store (see 'saltbench data show ELECTROLYTE')")
+    pk, origin, h = row
+    if origin != "user":
+        raise UserError(f"dataset {key} is bundled with saltbench; only your own datasets can be removed")
+    fitted = [sid for sid, hashes in store.conn.execute(
+        "SELECT set_id, data_hashes FROM parameter_sets WHERE kind = 'fitted'") if h in json.loads(hashes or "[]")]
+    reduced = [k for (k,) in store.conn.execute(
+        "SELECT m.key FROM reductions r JOIN measurement_sets m ON m.id = r.set_id WHERE r.dataset_id = ?", (pk,))]
+    if (fitted or reduced) and not force:
+        deps = [f"parameter set {s}" for s in fitted] + [f"the reduction of measurement set {k}" for k in reduced]
+        raise UserError(f"dataset {key} is used by {', '.join(deps)}; remove those first, or use --force to "
+                        "remove them with it")
+    removed = [f"dataset {key}"]
+    with store.transaction():
+        for sid in fitted:
+            store.conn.execute("DELETE FROM parameter_sets WHERE set_id = ?", (sid,))
+            removed.append(f"parameter set {sid}")
+        store.conn.execute("DELETE FROM datasets WHERE id = ?", (pk,))
+        removed += [f"reduction of {k}" for k in reduced]
+    return removed
