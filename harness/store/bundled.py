@@ -37,8 +37,8 @@ def sync_bundled(store: Store, extra: list[tuple[str, Path]] | None = None, forc
     """Bring the store's bundled data in line with the bundle (and plugin data). None if current."""
     files = [("saltbench", p) for p in bundled_files()] + list(extra or [])
     fp = fingerprint(files)
-    if not force and store.meta(META_KEY) == fp:
-        return None
+    if store.read_only or (not force and store.meta(META_KEY) == fp):
+        return None  # a read-only store is used as it is: it may be a locked, validated one
     # Bibliographies of every provider go first so datasets can cite across providers.
     ordered = sorted(files, key=lambda fp_: 0 if fp_[1].suffix == ".txt" else 1)
     with store.transaction():

@@ -42,9 +42,12 @@ def _now() -> str:
 class Store:
     """A saltbench store: an SQLite file reached through sqlite-utils."""
 
-    def __init__(self, db: sqlite_utils.Database, path: Path | None):
+    def __init__(self, db: sqlite_utils.Database, path: Path | None, read_only: bool = False):
         self.db = db
         self.path = path
+        #: opened read-only (a locked, validated store, or one on a read-only file system): reading
+        #: commands work; a writing one gets a one-line error
+        self.read_only = read_only
 
     @property
     def conn(self) -> sqlite3.Connection:
@@ -54,6 +57,9 @@ class Store:
     def transaction(self) -> Iterator[Store]:
         """One write transaction, taken with the write lock up front (BEGIN IMMEDIATE), so two
         processes adding data queue behind each other instead of failing half-way."""
+        if self.read_only:
+            raise StoreError(f"store {self.path} is read-only (its file or folder cannot be written); "
+                             "nothing was written. Use another store (--store) to add or fit.")
         if self.conn.in_transaction:
             with self.db.atomic():
                 yield self
@@ -90,8 +96,8 @@ class Store:
         self.conn.close()
 
 
-def _connect(target: str) -> sqlite3.Connection:
-    conn = sqlite3.connect(target, timeout=BUSY_TIMEOUT_S, isolation_level=None)
+def _connect(target: str, uri: bool = False) -> sqlite3.Connection:
+    conn = sqlite3.connect(target, timeout=BUSY_TIMEOUT_S, isolation_level=None, uri=uri)
     conn.execute("PRAGMA foreign_keys = ON")
     return conn
 
@@ -148,17 +154,27 @@ def open_store(path: str | os.PathLike[str] | None = None, *, memory: bool = Fal
                 head = fh.read(16)
             if head and head != b"SQLite format 3\x00":
                 raise StoreError(f"{p} is not a saltbench store (not an SQLite file)")
+        read_only = p.exists() and not (os.access(p, os.W_OK) and os.access(p.parent, os.W_OK))
         try:
-            conn = _connect(str(p))
-            # Switching to WAL rewrites the file header, so a store we will refuse (newer
-            # schema) must be refused before it, or it would no longer be byte-for-byte unchanged.
-            if int(conn.execute("PRAGMA user_version").fetchone()[0]) <= SCHEMA_VERSION:
-                conn.execute("PRAGMA journal_mode = WAL")
+            if read_only:
+                # immutable: no lock and no -wal/-shm files, which a read-only folder cannot hold
+                conn = _connect(f"{p.resolve().as_uri()}?immutable=1", uri=True)
+            else:
+                conn = _connect(str(p))
+                # Switching to WAL rewrites the file header, so a store we will refuse (newer
+                # schema) must be refused before it, or it would no longer be byte-for-byte unchanged.
+                if int(conn.execute("PRAGMA user_version").fetchone()[0]) <= SCHEMA_VERSION:
+                    conn.execute("PRAGMA journal_mode = WAL")
         except sqlite3.DatabaseError as exc:
             raise StoreError(f"cannot open store {p}: {exc}") from None
-        store = Store(sqlite_utils.Database(conn), p)
+        store = Store(sqlite_utils.Database(conn), p, read_only)
     try:
-        migrate(store)
+        if store.read_only:
+            if store.schema_version() != SCHEMA_VERSION:
+                raise StoreError(f"store {p} is read-only and at schema version {store.schema_version()}, not "
+                                 f"{SCHEMA_VERSION}: open it once where it can be written to upgrade it")
+        else:
+            migrate(store)
     except StoreError:
         store.close()
         raise
