@@ -18,6 +18,8 @@ import hashlib
 import json
 import os
 import platform
+import shutil
+import tempfile
 from dataclasses import dataclass, field
 from datetime import UTC, datetime
 from pathlib import Path
@@ -118,12 +120,8 @@ def make_report(session, electrolytes, settings, *, title: str | None = None, fo
     from saltbench import __version__
     from saltbench.api import compare
     from saltbench.report.content import ReportFacts, build_document
-    from saltbench.report.html import render_html
     from saltbench.report.manifest import build_manifest
-    from saltbench.report.markdown import render_markdown
-    from saltbench.report.pdf import write_pdf
     from saltbench.report.residuals import refit_residuals
-    from saltbench.report.tables import csv_tables
 
     names = list(electrolytes)
     if not names:
@@ -150,11 +148,44 @@ def make_report(session, electrolytes, settings, *, title: str | None = None, fo
                         figures=figures, extra_sections=extra)
     doc = build_document(comparison, facts)
 
+    final = folder
+    if final.exists() and (not final.is_dir() or (any(final.iterdir()) and not (final / MANIFEST_NAME).exists())):
+        raise UserError(f"{final} holds files that are not a saltbench report; choose a new or empty folder")
     try:
+        final.parent.mkdir(parents=True, exist_ok=True)
+        # Everything is written into a fresh folder beside the final one and moved into place
+        # only when complete: an interrupted run leaves no report-looking folder, and a new run
+        # never mixes its files with an earlier report's.
+        folder = Path(tempfile.mkdtemp(prefix=f".{final.name}.partial-", dir=final.parent))
         (folder / FIGURE_DIR).mkdir(parents=True, exist_ok=True)
         (folder / TABLE_DIR).mkdir(parents=True, exist_ok=True)
     except OSError as exc:
-        raise UserError(f"cannot create the report folder {folder}: {exc.strerror}") from None
+        raise UserError(f"cannot create the report folder {final}: {exc.strerror}") from None
+    try:
+        written = _write_files(folder, doc, figures, comparison)
+        files = {p.relative_to(folder).as_posix(): _sha256(p) for p in written}
+        manifest = build_manifest(comparison, title=title, electrolytes=list(comparison.outcomes),
+                                  command=command, argv=list(argv or []), created=created,
+                                  store_path=store_path, store_hash=store_hash, plugins=plugins, models=models,
+                                  parameter_sets=_parameter_sets(session, comparison), files=files)
+        man_path = inside(folder, MANIFEST_NAME)
+        man_path.write_text(json.dumps(manifest, indent=2, ensure_ascii=False) + "\n", encoding="utf-8")
+        written.append(man_path)
+        _move_into_place(folder, final)
+    except BaseException:
+        shutil.rmtree(folder, ignore_errors=True)
+        raise
+    written = [final / p.relative_to(folder) for p in written]
+    return ReportResult(final, written, comparison, manifest, problems=list(comparison.plugin_problems))
+
+
+def _write_files(folder: Path, doc, figures, comparison) -> list[Path]:
+    from saltbench import __version__
+    from saltbench.report.html import render_html
+    from saltbench.report.markdown import render_markdown
+    from saltbench.report.pdf import write_pdf
+    from saltbench.report.tables import csv_tables
+
     written: list[Path] = []
     for figs in figures.values():
         for f in figs:
@@ -171,16 +202,18 @@ def make_report(session, electrolytes, settings, *, title: str | None = None, fo
     md_path.write_text(render_markdown(doc, FIGURE_DIR), encoding="utf-8")
     pdf_path = inside(folder, PDF_NAME)
     write_pdf(doc, pdf_path, __version__)
-    written += [html_path, md_path, pdf_path]
-    files = {p.relative_to(folder).as_posix(): _sha256(p) for p in written}
-    manifest = build_manifest(comparison, title=title, electrolytes=list(comparison.outcomes),
-                              command=command, argv=list(argv or []), created=created,
-                              store_path=store_path, store_hash=store_hash, plugins=plugins, models=models,
-                              parameter_sets=_parameter_sets(session, comparison), files=files)
-    man_path = inside(folder, MANIFEST_NAME)
-    man_path.write_text(json.dumps(manifest, indent=2, ensure_ascii=False) + "\n", encoding="utf-8")
-    written.append(man_path)
-    return ReportResult(folder, written, comparison, manifest, problems=list(comparison.plugin_problems))
+    return written + [html_path, md_path, pdf_path]
+
+
+def _move_into_place(done: Path, final: Path) -> None:
+    """Replace ``final`` (an earlier report, or nothing) by the complete folder ``done``."""
+    old = None
+    if final.exists():
+        old = Path(tempfile.mkdtemp(prefix=f".{final.name}.old-", dir=final.parent))
+        os.replace(final, old / final.name)
+    os.replace(done, final)
+    if old is not None:
+        shutil.rmtree(old, ignore_errors=True)
 
 
 def rerun(session, manifest_path: Path, *, folder: Path | None = None, jobs: int = 1,
