@@ -34,6 +34,15 @@ class InputFileError(UserError):
         super().__init__(f"{where}: {what}{problem}")
 
 
+class InputFileErrors(UserError):
+    """Several input files failed; each keeps its own one-line message (file, line, field)."""
+
+    def __init__(self, problems: list[InputFileError]):
+        self.problems = problems
+        super().__init__(f"{len(problems)} files have problems; nothing was added:\n"
+                         + "\n".join(str(p) for p in problems))
+
+
 class StoreError(UserError):
     """The store cannot be opened or used as asked (newer schema, unwritable path...)."""
 

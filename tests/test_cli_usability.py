@@ -254,8 +254,30 @@ def test_params_show_prints_published_values_as_typed(run_main, seeded_store) ->
 def test_electrolytes_given_with_commas_get_a_hint(run_main, seeded_store) -> None:
     code, _, err = run_main("compare", "NaCl,KCl", "--models", "davies", store=seeded_store)
     assert code == 2
-    assert err.startswith("Error: no data for electrolyte 'NaCl,KCl' in the store (name several electrolytes "
-                          "with spaces between them, not commas); known: ")
+    assert err.startswith("Error: no data for electrolyte 'NaCl,KCl' in the store (a comma is no part of a "
+                          "formula; where a command takes several electrolytes, separate them with spaces); known: ")
+
+
+def test_messages_point_where_the_user_is(run_main, seeded_store, tmp_path) -> None:
+    from conftest import write
+
+    # predict takes one electrolyte: the comma hint does not tell it to name several
+    code, _, err = run_main("predict", "NaCl,KCl", "--model", "davies", store=seeded_store)
+    assert code == 2 and "several electrolytes with spaces" not in err and "no part of a formula" in err
+    # ion-activity has no data file to declare ions in
+    code, _, err = run_main("ion-activity", "--salt", "NaQq=0.1", "--convention", "davies", store=seeded_store)
+    assert code == 2 and "data file" not in err and "known ions" in err
+    # SIT without epsilon says which option takes them as zero, not an API word alone
+    code, _, err = run_main("ion-activity", "--salt", "CsNO3=0.1", "--convention", "sit", store=seeded_store)
+    assert code == 2 and "--missing zero" in err
+    # MacInnes lists the solution's ions only (its K+ and Cl- reference need not be present)
+    code, out, err = run_main("ion-activity", "--salt", "NaCl=0.1", "--convention", "macinnes", store=seeded_store)
+    assert code == 0 and not any(line.startswith("K+ ") for line in out.splitlines())
+    # data add names every bad file, not only the first, and adds none
+    bad1 = write(tmp_path / "bad1.csv", "# saltbench dataset 1\n# electrolyte: NaQq\n")
+    bad2 = write(tmp_path / "bad2.csv", "# saltbench dataset 1\n# electrolyte: NaCl\n# property: nonsense\n")
+    code, _, err = run_main("data", "add", str(bad1), str(bad2), store=seeded_store)
+    assert code == 2 and "bad1.csv" in err and "bad2.csv" in err and "nothing was added" in err
 
 
 @pytest.mark.parametrize("command", ["compare", "report"])

@@ -108,7 +108,7 @@ def parse_formula(formula: str, extra_ions: dict[str, Ion] | None = None) -> Ele
     if not match:
         raise ValueError(
             f"cannot read electrolyte formula {formula!r}: expected a known cation followed by a "
-            "known anion (e.g. NaCl, CaCl2, Na2SO4, Mg(NO3)2); declare unknown ions in the data file"
+            "known anion (e.g. NaCl, CaCl2, Na2SO4, Mg(NO3)2)"
         )
     groups = match.groups()
     cation_f = match.group("cg") or match.group("c")

@@ -73,7 +73,9 @@ def ion_activity(app, salts: tuple[str, ...], convention: str, temperature_k: fl
         return float(np.asarray(x, dtype=float).reshape(-1)[0])
 
     ions = []
-    for name in r.log10_gamma:
+    # MacInnes works through K+ and Cl- of a reference KCl, which need not be in the solution: show
+    # the solution's own ions. (Bates-Guggenheim's Cl- is the very value it assigns: it stays.)
+    for name in (n for n in r.log10_gamma if n in present or convention != "macinnes"):
         m = r.molalities.get(name)
         g = scalar(r.gamma(name))
         ions.append({"ion": name, "charge": r.ions[name].charge if name in r.ions else None,

@@ -200,8 +200,8 @@ def sit(composition: Composition, epsilon: Mapping[tuple[str, str], float],
             total = total + eps[key] * mol[k]
         logs[n] = total
     if absent and missing == "error":
-        raise UserError(f"SIT needs epsilon for the ion pairs {', '.join(absent)} (kg/mol); "
-                        "pass them, or missing='zero' to take them as zero")
+        raise UserError(f"SIT needs epsilon for the ion pairs {', '.join(absent)} (kg/mol) and has none for "
+                        "them; to take them as zero knowingly, use --missing zero (missing='zero' in Python)")
     return SingleIonResult("SIT", i, dh.temperature_k, ions, mol, logs,
                            {"epsilon": {tuple(sorted(k)): v for k, v in eps.items()},
                             "taken_as_zero": tuple(absent)})

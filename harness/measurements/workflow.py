@@ -150,7 +150,8 @@ def parse_salts(session, specs: Sequence[str]) -> list[tuple[Electrolyte, float]
             try:
                 e = parse_formula(name.strip())
             except ValueError as exc:
-                raise UserError(f"--salt {spec}: {exc}") from None
+                raise UserError(f"--salt {spec}: {exc}; the salts here are those of known ions "
+                                "('saltbench data list' shows the stored ones)") from None
         out.append((e, m))
     if not out:
         raise UserError("give at least one --salt SALT=MOLALITY")

@@ -24,7 +24,7 @@ from saltbench.curation.bibliography import Source, read_bibliography
 from saltbench.curation.blocks import read_text
 from saltbench.curation.datasets import Dataset, read_dataset
 from saltbench.curation.parameters import ParameterFile, read_parameter_file
-from saltbench.errors import InputFileError, StoreError, UserError
+from saltbench.errors import InputFileError, InputFileErrors, StoreError, UserError
 from saltbench.store.connection import Store
 
 
@@ -69,31 +69,42 @@ def file_kind(path: str | Path, text: str) -> str:
 
 
 def parse_files(paths: Iterable[str | Path]) -> Batch:
-    """Parse and validate every file (no store access). Raises the first InputFileError."""
+    """Parse and validate every file (no store access). Every bad file is reported (one line
+    each), not only the first: raises :class:`InputFileErrors` when any failed."""
     batch = Batch()
     seen_keys: dict[str, str] = {}
+    problems: list[InputFileError] = []
     for path in paths:
-        text = read_text(path)
-        kind = file_kind(path, text)
-        if kind == "bibliography":
-            for s in read_bibliography(path):
-                if s.key in seen_keys:
-                    raise InputFileError(path, s.line, "key", f"citation key {s.key!r} is also "
-                                         f"defined in {seen_keys[s.key]}")
-                seen_keys[s.key] = str(path)
-                batch.sources.append(s)
-        elif kind == "dataset":
-            batch.datasets.append(read_dataset(path, text=text))
-        elif kind == "parameters":
-            batch.parameter_files.append(read_parameter_file(path))
-        else:
-            raise InputFileError(path, 1, None, "raw readings are loaded with 'saltbench readings add'")
+        try:
+            _parse_one(path, batch, seen_keys)
+        except InputFileError as exc:
+            problems.append(exc)
+    if problems:
+        raise problems[0] if len(problems) == 1 else InputFileErrors(problems)
     keys: dict[str, str] = {}
     for d in batch.datasets:
         if d.key in keys:
             raise InputFileError(d.path, None, "id", f"dataset id {d.key!r} is also used by {keys[d.key]}")
         keys[d.key] = d.path
     return batch
+
+
+def _parse_one(path: str | Path, batch: Batch, seen_keys: dict[str, str]) -> None:
+    text = read_text(path)
+    kind = file_kind(path, text)
+    if kind == "bibliography":
+        for s in read_bibliography(path):
+            if s.key in seen_keys:
+                raise InputFileError(path, s.line, "key", f"citation key {s.key!r} is also "
+                                     f"defined in {seen_keys[s.key]}")
+            seen_keys[s.key] = str(path)
+            batch.sources.append(s)
+    elif kind == "dataset":
+        batch.datasets.append(read_dataset(path, text=text))
+    elif kind == "parameters":
+        batch.parameter_files.append(read_parameter_file(path))
+    else:
+        raise InputFileError(path, 1, None, "raw readings are loaded with 'saltbench readings add'")
 
 
 def _source_hash(s: Source) -> str:

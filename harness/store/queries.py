@@ -86,7 +86,8 @@ def electrolyte(store: Store, name: str) -> Electrolyte:
     if row is None:
         known = ", ".join(r[0] for r in store.conn.execute(
             "SELECT DISTINCT electrolyte FROM datasets ORDER BY electrolyte"))
-        hint = " (name several electrolytes with spaces between them, not commas)" if "," in name else ""
+        hint = (" (a comma is no part of a formula; where a command takes several electrolytes, "
+                "separate them with spaces)") if "," in name else ""
         raise UserError(f"no data for electrolyte {name!r} in the store{hint}; known: {known or 'none'}")
     ions = {}
     for formula in (row[1], row[2]):
