@@ -300,3 +300,12 @@ def test_report_command_output_carries_the_caution(run_main, seeded_store, tmp_p
     assert code == 0, err
     assert ("Caution: for dosing, safety limits or regulated measurements, verify the report's results "
             "under local codes and licensed practice.") in out.splitlines()
+
+
+def test_help_examples_name_where_their_values_come_from(run_main) -> None:
+    code, out, _ = run_main("ion-activity", "--help")
+    assert code == 0
+    text = " ".join(out.split())
+    # b(Na+) = 0.075 and b(Cl-) = 0.015 kg/mol: from memory of Truesdell and Jones, J. Res. U.S.
+    # Geol. Surv. 2, 233 (1974)
+    assert "Na+=0.075" in text and "Cl-=0.015" in text and "Truesdell and Jones (1974)" in text

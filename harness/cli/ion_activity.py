@@ -35,7 +35,8 @@ def _b_ion(specs: tuple[str, ...]) -> dict[str, float]:
 @click.option("--temperature", "temperature_k", type=float, default=298.15, show_default=True,
               help="Temperature in K.")
 @click.option("--b-ion", "b_ion", multiple=True, metavar="ION=VALUE",
-              help="Truesdell-Jones b_i in kg/mol (repeatable), e.g. --b-ion Na+=0.075.")
+              help="Truesdell-Jones b_i in kg/mol (repeatable), e.g. --b-ion Na+=0.075 --b-ion Cl-=0.015, the "
+                   "values Truesdell and Jones (1974) give for Na+ and Cl- (from memory of the paper; verify).")
 @click.option("--missing", type=click.Choice(["error", "zero"]), default="error", show_default=True,
               help="A missing SIT eps or Truesdell-Jones b_i: refuse, or take it as zero.")
 @click.option("--format", "fmt", type=click.Choice(FORMATS), default="table", show_default=True,
