@@ -106,9 +106,20 @@ class Block:
             raise InputFileError(self.path, ef.line, "electrolyte", f"{exc}{hint}") from None
 
 
+#: Limits that fit the domain: a published table or a lab's run sheet holds tens to hundreds of
+#: points in a few kilobytes; far larger files are mistakes (or attacks) and are refused before
+#: they are read, so that a file cannot make ingest, data check or compare run out of memory.
+MAX_FILE_BYTES = 1_000_000
+MAX_ROWS = 1_000
+
+
 def read_text(path: str | Path) -> str:
     p = Path(path)
     try:
+        size = p.stat().st_size if p.is_file() else 0
+        if size > MAX_FILE_BYTES:
+            raise InputFileError(p, None, None, f"is {size / 1e6:.1f} MB; saltbench reads data files up to "
+                                 f"{MAX_FILE_BYTES / 1e6:g} MB (a table of thousands of points is a few hundred kB)")
         raw = p.read_bytes()
     except FileNotFoundError:
         raise InputFileError(p, None, None, "no such file") from None
@@ -183,6 +194,9 @@ def parse_block(path: str | Path, magic_prefix: str, multi: frozenset[str] = fro
         if len(cells) != len(columns):
             raise InputFileError(p, n, None, f"expected {len(columns)} cells ({', '.join(columns)}), "
                                  f"found {len(cells)}")
+        if len(rows) >= MAX_ROWS:
+            raise InputFileError(p, n, None, f"more than {MAX_ROWS} rows; split the table into datasets of "
+                                 "at most that many points")
         rows.append((n, {c: v.strip() for c, v in zip(columns, cells)}))
     return Block(p, magic, header, repeated, columns, columns_line, rows, text)
 
