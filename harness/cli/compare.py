@@ -87,12 +87,16 @@ def settings_options(f):
         click.option("--data", "data_sel", default="", help="Comma-separated dataset or source keys."),
         click.option("--temperature", "temperature_k", type=float, default=298.15, show_default=True,
                      help="Temperature in K."),
+        click.option("--time-limit", "time_limit", type=click.FloatRange(min=0, min_open=True), default=120.0,
+                     show_default=True, help="Seconds one model may spend on one electrolyte before it is "
+                     "stopped and flagged (a plugin that hangs does not hold up the rest)."),
     ]):
         f = opt(f)
     return f
 
 
-def build_settings(models: str, up_to, tol: str, folds, on: str, data_sel: str, temperature_k: float):
+def build_settings(models: str, up_to, tol: str, folds, on: str, data_sel: str, temperature_k: float,
+                   time_limit: float = 120.0):
     from saltbench.comparison.settings import CompareSettings
     from saltbench.errors import UserError
     from saltbench.fitting.selection import parse_on
@@ -116,7 +120,8 @@ def build_settings(models: str, up_to, tol: str, folds, on: str, data_sel: str, 
     return CompareSettings(
         models=tuple(m.strip() for m in models.split(",") if m.strip()), up_to=up_to,
         tol_ln_gamma=tl, tol_phi=tp, folds=folds, temperature_k=temperature_k,
-        on=tuple(parse_on(on or None)), datasets=tuple(d.strip() for d in data_sel.split(",") if d.strip()))
+        on=tuple(parse_on(on or None)), datasets=tuple(d.strip() for d in data_sel.split(",") if d.strip()),
+        time_limit_s=float(time_limit))
 
 
 @click.command()
@@ -127,7 +132,8 @@ def build_settings(models: str, up_to, tol: str, folds, on: str, data_sel: str, 
 @click.option("--summary", is_flag=True, help="Only the recommendation for each electrolyte, and how many got one.")
 @format_option
 @click.pass_obj
-def compare(app, electrolytes, all_, models, up_to, tol, folds, on, data_sel, temperature_k, jobs, summary, fmt):
+def compare(app, electrolytes, all_, models, up_to, tol, folds, on, data_sel, temperature_k, time_limit, jobs,
+            summary, fmt):
     """Fit every model to each electrolyte's data and say which to trust, up to where.
 
     For each model: fitted parameters, residuals, held-out error (k-fold cross-validation over
@@ -145,7 +151,7 @@ def compare(app, electrolytes, all_, models, up_to, tol, folds, on, data_sel, te
         names = list(s.electrolytes().electrolyte)
     if not names:
         raise UserError("name at least one electrolyte, or use --all")
-    settings = build_settings(models, up_to, tol, folds, on, data_sel, temperature_k)
+    settings = build_settings(models, up_to, tol, folds, on, data_sel, temperature_k, time_limit)
     comp = run(s, names, settings, jobs=jobs or default_jobs(), progress=True)
     for p in comp.plugin_problems:
         click.echo(f"Warning: {p}", err=True)

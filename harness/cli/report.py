@@ -53,7 +53,7 @@ def _command_line(app, electrolytes, settings, title, out_dir, from_manifest) ->
               "results still agree (default folder: the manifest's folder name + '-rerun').")
 @click.option("--jobs", type=click.IntRange(min=1), default=None, help="Worker processes (default: all cores).")
 @click.pass_context
-def report(ctx, electrolytes, models, up_to, tol, folds, on, data_sel, temperature_k, out_dir, title,
+def report(ctx, electrolytes, models, up_to, tol, folds, on, data_sel, temperature_k, time_limit, out_dir, title,
            from_manifest, jobs):
     """Compare models and write it up for a method-validation file, ready to sign.
 
@@ -84,7 +84,7 @@ def report(ctx, electrolytes, models, up_to, tol, folds, on, data_sel, temperatu
     else:
         if not electrolytes:
             raise UserError("name at least one electrolyte (or re-run one with --from MANIFEST)")
-        settings = build_settings(models, up_to, tol, folds, on, data_sel, temperature_k)
+        settings = build_settings(models, up_to, tol, folds, on, data_sel, temperature_k, time_limit)
         command = _command_line(app, electrolytes, settings, title, out_dir, None)
         result = make_report(s, electrolytes, settings, title=title, folder=out_dir, command=command,
                              argv=sys.argv, jobs=jobs)

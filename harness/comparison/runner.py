@@ -62,14 +62,22 @@ def _worker_registry(plugin_files: Sequence[str], disabled: Sequence[str]):
 def run_task(task: ElectrolyteTask, settings: CompareSettings, plugin_files: Sequence[str],
              disabled: Sequence[str], curves: bool, registry=None) -> tuple[str, list[ModelOutcome]]:
     from saltbench.models.discovery import plugin_output_to_stderr
+    from saltbench.models.timelimit import PluginTimeout, time_limit
 
     reg = registry or _worker_registry(plugin_files, disabled)
     outs = []
     with plugin_output_to_stderr():
         for mid in task.model_ids:
             info = reg.models[mid]
-            outs.append(assess(info.model, info.plugin, task.electrolyte, task.data, task.published.get(mid),
-                               settings, curves=curves))
+            try:
+                with time_limit(settings.time_limit_s, f"model {mid} on {task.electrolyte.name}"):
+                    out = assess(info.model, info.plugin, task.electrolyte, task.data, task.published.get(mid),
+                                 settings, curves=curves)
+            except PluginTimeout as exc:
+                out = ModelOutcome(task.electrolyte.name, mid, info.model.name, info.plugin,
+                                   len(info.model.free_parameters(task.electrolyte)), None, None, None, None,
+                                   None, False, error=str(exc))
+            outs.append(out)
     return task.electrolyte.name, outs
 
 
@@ -113,13 +121,21 @@ def run_comparison(tasks: list[ElectrolyteTask], settings: CompareSettings, *, r
         # Largest first, so that no long task starts last while the other workers sit idle.
         by_cost = sorted(tasks, key=expected_cost, reverse=True)
         # never more workers than tasks or than the CPUs this process may use
-        with ProcessPoolExecutor(max_workers=min(jobs, len(tasks), default_jobs())) as pool:
+        pool = ProcessPoolExecutor(max_workers=min(jobs, len(tasks), default_jobs()))
+        try:
             futures = [pool.submit(run_task, t, settings, list(plugin_files), list(disabled), curves)
                        for t in by_cost]
             for fut in as_completed(futures):
                 name, outs = fut.result()
                 results[name] = outs
                 bar(name)
+        except BaseException:
+            # Ctrl-C (or a failure): stop the workers now instead of waiting for their tasks
+            for proc in list(getattr(pool, "_processes", {}).values()):
+                proc.terminate()
+            pool.shutdown(wait=False, cancel_futures=True)
+            raise
+        pool.shutdown()
     else:
         for t in tasks:
             name, outs = run_task(t, settings, plugin_files, disabled, curves, registry=registry)

@@ -16,6 +16,8 @@ class CompareSettings:
     on: tuple[str, ...] = ("gamma_pm", "osmotic", "water_activity")
     datasets: tuple[str, ...] = ()
     validity_scan: bool = True
+    #: seconds one model may spend on one electrolyte before it is stopped and flagged
+    time_limit_s: float | None = 120.0
     extra: dict = field(default_factory=dict)
 
     @property

@@ -28,6 +28,7 @@ from saltbench import __version__
 from saltbench.errors import UserError
 from saltbench.models import hookspecs
 from saltbench.models.contract import ActivityModel, ModelInfo, check_declaration
+from saltbench.models.timelimit import PluginTimeout, time_limit
 
 ENTRY_POINT_GROUP = "saltbench.plugins"
 ENV_PLUGINS = "SALTBENCH_PLUGINS"
@@ -147,6 +148,10 @@ def _unknown_hooks(module: ModuleType) -> list[str]:
     ]
 
 
+#: A plugin whose import takes longer (a loop at import time) is skipped and reported.
+IMPORT_TIME_LIMIT_S = 30.0
+
+
 @contextlib.contextmanager
 def plugin_output_to_stderr():
     """Whatever plugin code prints goes to standard error, so that standard output holds results
@@ -194,13 +199,18 @@ def _load_candidates(reg: PluginRegistry, pm, candidates, off: set[str]) -> None
         try:
             if kind == "entry-point":
                 ep, version = loader  # type: ignore[misc]
-                module = ep.load()
+                with time_limit(IMPORT_TIME_LIMIT_S, f"plugin {name}'s import"):
+                    module = ep.load()
             else:
                 p = Path(path)
                 if not p.is_file():
                     raise FileNotFoundError(f"no such plugin file: {path}")
-                module = _file_module(p)
+                with time_limit(IMPORT_TIME_LIMIT_S, f"plugin {name}'s import"):
+                    module = _file_module(p)
                 version = str(getattr(module, "__version__", ""))
+        except PluginTimeout as exc:
+            reg.problems.append(PluginProblem(name, path, f"skipped: {exc}"))
+            continue
         except Exception as exc:
             reg.problems.append(PluginProblem(name, path, f"failed to import: {exc!r}"))
             continue
