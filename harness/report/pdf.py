@@ -39,6 +39,10 @@ def _plain(text: str) -> str:
     return str(text).replace("$", r"\$")
 
 
+#: Inches of the following text a heading needs below it on its page, or it moves to the next.
+HEADING_KEEP_WITH_NEXT = 1.1
+
+
 class _Pages:
     def __init__(self, pdf, plt, footer: str):
         self.pdf, self.plt, self.footer = pdf, plt, footer
@@ -70,11 +74,13 @@ class _Pages:
 
     def lines(self, text: str, size: float = 8.5, indent: float = 0.0, weight: str = "normal",
               color: str = "#1a1a1a", family: str = "DejaVu Sans", em: float = SANS_EM,
-              after: float = 0.06, keep: int = 2) -> None:
+              after: float = 0.06, keep: int = 2, keep_after: float = 0.0) -> None:
+        """Wrapped text; ``keep`` lines stay together, and ``keep_after`` inches of what follows
+        must fit on the same page too (a heading is never left alone at the foot of a page)."""
         width = max(10, int((TEXT_W - indent) * 72 / (em * size)))
         wrapped = textwrap.wrap(text, width, break_long_words=True) or [""]
         step = size * 1.32 / 72
-        self.need(step * min(keep, len(wrapped)))
+        self.need(step * min(keep, len(wrapped)) + keep_after)
         for line in wrapped:
             self.need(step)
             self._put(MARGIN + indent, line, size, weight=weight, color=color, family=family)
@@ -187,7 +193,7 @@ def _section(p: _Pages, s: Section, level: int, numbers: dict[str, int]) -> None
     if level == 2 and s.key.startswith("electrolyte-") and p.fig is not None:
         p.new_page()
     p.y -= 0.12 if level == 2 else 0.06
-    p.lines(s.heading, size=size, weight="bold", after=0.05, keep=6)
+    p.lines(s.heading, size=size, weight="bold", after=0.05, keep=6, keep_after=HEADING_KEEP_WITH_NEXT)
     if level == 2:
         p.rule(1.0)
         p.y -= 0.08
