@@ -105,3 +105,12 @@ def test_installed_wheel_runs_from_elsewhere(wheel: Path, tmp_path: Path) -> Non
     assert {"NaCl", "KCl", "CaCl2", "MgSO4"} <= names
     assert all(r["citations"] for r in rows)
     assert store.exists()
+
+
+def test_the_declared_licence_has_its_text() -> None:
+    import tomllib
+
+    meta = tomllib.loads((REPO / "pyproject.toml").read_text(encoding="utf-8"))
+    assert meta["project"]["license"] == {"text": "MIT"}
+    text = (REPO / "LICENSE").read_text(encoding="utf-8")
+    assert text.startswith("MIT License") and "WITHOUT WARRANTY OF ANY KIND" in text
