@@ -156,4 +156,4 @@ def test_an_undeclared_unknown_ion_asks_for_its_declaration(tmp_path: Path, seed
     code, _, err = run_main("data", "add", str(bib), str(bad), store=seeded_store)
     assert code == 2
     assert err.startswith(f"Error: {bad}:2: field 'electrolyte': cannot read electrolyte formula 'QxCl'")
-    assert "declare unknown ions" in err
+    assert "declare an ion saltbench does not know in this file's header" in err

@@ -101,8 +101,8 @@ class Block:
         try:
             return parse_formula(ef.value, declared)
         except ValueError as exc:
-            hint = "" if declared else ("; declare an ion saltbench does not know in this file's header "
-                                        "('# cation: FORMULA, charge +Z, molar mass M g/mol')")
+            hint = ("; declare an ion saltbench does not know in this file's header "
+                    "('# cation: FORMULA, charge +Z, molar mass M g/mol')")
             raise InputFileError(self.path, ef.line, "electrolyte", f"{exc}{hint}") from None
 
 
