@@ -120,10 +120,9 @@ def check_data(session: Session, electrolytes: Sequence[str] = ()):
 
     report = CheckReport()
     names = [session.electrolyte(n).name for n in electrolytes] or list(session.electrolytes().electrolyte)
-    meta = session.datasets()
     for name in names:
         e = session.electrolyte(name)
-        part = check_electrolyte(e, session.points(name), meta[meta.electrolyte == name])
+        part = check_electrolyte(e, session.points(name))
         report.findings += part.findings
         report.summary += part.summary
     return report
@@ -248,7 +247,7 @@ def extrapolation_reasons(model, electrolyte, params, m: np.ndarray, basis) -> l
             why.append(f"beyond the range {model.id}'s authors claim ({claim:g} mol/kg)")
         if basis.off_temperature:
             why.append(f"at {t:g} K, the set holds values for {basis.set_temperature_k:g} K")
-        elif span and not span[0] - 0.01 <= t <= span[1] + 0.01:
+        elif model.validity and not model.validity.covers_temperature(t):
             why.append(f"at {t:g} K, outside the {span[0]:g}-{span[1]:g} K its authors claim")
         out.append(why)
     return out
@@ -260,6 +259,7 @@ def predict(session: Session, electrolyte: str, model_id: str, molality, params_
     extrapolation. With no parameter set for a model that has parameters, it refuses (``auto``)
     rather than evaluate defaults; ``params_choice="defaults"`` asks for them knowingly."""
     from saltbench.errors import UserError
+    from saltbench.models.discovery import plugin_output_to_stderr
     from saltbench.models.evaluate import check_supported, evaluate, make_context
 
     e = session.electrolyte(electrolyte)
@@ -271,8 +271,6 @@ def predict(session: Session, electrolyte: str, model_id: str, molality, params_
         raise UserError(f"no parameter set of {model.id} for {e.name}: fit one with 'saltbench fit {e.name} "
                         f"--model {model.id}', or name a stored set with --params SET ('saltbench params "
                         f"--model {model.id}' lists them); --params defaults uses the model's defaults knowingly")
-    from saltbench.models.discovery import plugin_output_to_stderr
-
     basis = parameter_basis(params, temperature_k, constant)
     ctx = make_context(e, dh=basis.dh)
     with plugin_output_to_stderr():

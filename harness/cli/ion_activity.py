@@ -85,15 +85,17 @@ def ion_activity(app, salts: tuple[str, ...], convention: str, temperature_k: fl
                      "activity": None if m is None else scalar(m) * g})
     cautions = list(r.cautions) + [CALIBRATION_CAUTION]
     notes = list(out.notes)
-    if abs(temperature_k - 298.15) >= 0.01 and any("parameter set" in src for src in out.sources):
-        # Stored eps and b_i are 25 °C values; only the Debye-Hückel term follows the temperature.
+    # Stored eps and b_i are 25 °C values; only the Debye-Hückel term follows the temperature.
+    stored_off_temperature = (abs(temperature_k - 298.15) >= 0.01
+                              and any("parameter set" in src for src in out.sources))
+    if stored_off_temperature:
         notes.append(f"the stored parameters are 25 °C values used unchanged at {temperature_k:g} K; "
                      "only the Debye-Hückel term follows the temperature")
     i_now = scalar(r.ionic_strength)
     i_max = CONVENTION_MAX_I.get(convention)
     extrapolation = ([f"I = {i_now:.4g} mol/kg is beyond the {i_max:g} mol/kg to which the {convention} form "
                       "is commonly held to work"] if i_max is not None and i_now > i_max * (1 + 1e-9) else [])
-    if abs(temperature_k - 298.15) >= 0.01 and any("parameter set" in src for src in out.sources):
+    if stored_off_temperature:
         extrapolation.append(f"stored 25 °C parameters used at {temperature_k:g} K")
     doc = {"convention": r.convention, "temperature_k": r.temperature_k,
            "ionic_strength": i_now, "extrapolated": bool(extrapolation), "extrapolation": extrapolation,

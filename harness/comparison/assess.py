@@ -78,8 +78,8 @@ def assess(model, plugin: str, e: Electrolyte, data: FitData, published: Publish
             out.heldout = {"scheme": "none (no free parameters)", "folds": 0,
                            "held_out": {k: {"rms": v} for k, v in held.items()}, "flags": []}
         out.flags += determination_notes(result, out.heldout, settings)
-        span = model.validity.temperature_k if model.validity else None
-        if span and not span[0] - 0.01 <= settings.temperature_k <= span[1] + 0.01:
+        if model.validity and not model.validity.covers_temperature(settings.temperature_k):
+            span = model.validity.temperature_k
             out.flags.append(f"authors: {model.name} is claimed for {span[0]:g} to {span[1]:g} K; used at "
                              f"{settings.temperature_k:g} K")
         claim = model.validity.max_molality_for(e) if model.validity else None

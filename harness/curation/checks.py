@@ -247,7 +247,7 @@ def _neighbours(e: Electrolyte, groups: dict[str, pd.DataFrame], rep: CheckRepor
                                 "n_judged": int(np.sum(np.isfinite(limit[sel])))})
 
 
-def check_electrolyte(e: Electrolyte, pts: pd.DataFrame, meta: pd.DataFrame) -> CheckReport:
+def check_electrolyte(e: Electrolyte, pts: pd.DataFrame) -> CheckReport:
     rep = CheckReport()
     groups = {key: g.sort_values("molality") for key, g in pts.groupby("dataset", sort=True)}
     fits = {}

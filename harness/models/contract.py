@@ -64,6 +64,11 @@ class Validity:
     temperature_k: tuple[float, float] | None = None
     note: str = ""
 
+    def covers_temperature(self, temperature_k: float) -> bool:
+        """Whether the claimed temperature range (if any) includes ``temperature_k`` (to 0.01 K)."""
+        span = self.temperature_k
+        return span is None or span[0] - 0.01 <= temperature_k <= span[1] + 0.01
+
     def max_molality_for(self, electrolyte: Electrolyte) -> float | None:
         limits = []
         if self.max_molality is not None:

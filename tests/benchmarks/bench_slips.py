@@ -42,7 +42,7 @@ def _one(job: tuple[str, str, list[str]]) -> tuple[dict, list]:
     e = s.electrolyte(name)
     pts = s.points(name).reset_index(drop=True)
     sub = meta[meta.electrolyte == name]
-    clean = [f.as_dict() for f in check_electrolyte(e, pts, sub).findings]
+    clean = [f.as_dict() for f in check_electrolyte(e, pts).findings]
     for i, row in pts.iterrows():
         if row.property == "water_activity" or row.basis != "linear":
             continue
@@ -50,7 +50,7 @@ def _one(job: tuple[str, str, list[str]]) -> tuple[dict, list]:
         for kind, new in slips(text):
             bad = pts.copy()
             bad.loc[i, ["value", "value_printed"]] = new
-            found = check_electrolyte(e, bad, sub).findings
+            found = check_electrolyte(e, bad).findings
             hit = any(f.file == row.file and f.line == row.line for f in found)
             source = str(sub.loc[sub.key == row.dataset, "source"].iloc[0])
             for key in (("kind", kind), ("source", source, kind), ("dataset", row.dataset, kind)):
