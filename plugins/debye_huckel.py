@@ -22,6 +22,7 @@ import numpy as np
 
 from saltbench.models import ActivityModel, Parameter, Validity, hookimpl
 from saltbench.plugins import _dh_terms as dh
+from saltbench.plugins._ionic import IonicStrengthModel, size_g
 
 _A_SIZE = dict(unit="Å", lower=0.0, upper=20.0)
 
@@ -31,7 +32,7 @@ def _i_s(m, ctx):
     return i, np.sqrt(i)
 
 
-class DebyeHuckelLimiting(ActivityModel):
+class DebyeHuckelLimiting(IonicStrengthModel):
     id = "debye-huckel-limiting"
     name = "Debye-Hückel limiting law"
     citation = "P. Debye and E. Hückel, Phys. Z. 24, 185-206 (1923)"
@@ -39,19 +40,10 @@ class DebyeHuckelLimiting(ActivityModel):
     validity = Validity(max_ionic_strength=0.001,
                         note="limiting law: I up to about 0.001 mol/kg (common practice, no source)")
 
-    def ln_gamma_pm(self, m, params, ctx):
-        _, s = _i_s(m, ctx)
-        return -ctx.dh.a_gamma * ctx.electrolyte.zz * s
-
-    def osmotic(self, m, params, ctx):
-        _, s = _i_s(m, ctx)
-        return 1.0 - ctx.dh.a_gamma * ctx.electrolyte.zz * s / 3.0
-
-    def ln_gamma_ions(self, m, params, ctx):
-        _, s = _i_s(m, ctx)
-        e = ctx.electrolyte
-        return {"cation": -ctx.dh.a_gamma * e.z_cation**2 * s,
-                "anion": -ctx.dh.a_gamma * e.z_anion**2 * s}
+    def g_terms(self, request, i, s):
+        # g = -A sqrt(I), gbar = (2/3) g
+        g = -request.conditions.a_gamma * s
+        return g, g / 3.0, {}
 
 
 class ExtendedDebyeHuckel(ActivityModel):
@@ -133,7 +125,7 @@ class ExtendedDebyeHuckelIons(ActivityModel):
         return {"a_cation": fc * lc, "a_anion": fa * la}, {"a_cation": fc * pc, "a_anion": fa * pa}
 
 
-class Guntelberg(ActivityModel):
+class Guntelberg(IonicStrengthModel):
     id = "guntelberg"
     name = "Güntelberg"
     citation = "E. Güntelberg, Z. Phys. Chem. 123, 199-247 (1926)"
@@ -141,19 +133,9 @@ class Guntelberg(ActivityModel):
     validity = Validity(max_ionic_strength=0.1,
                         note="Güntelberg: I up to about 0.1 mol/kg (common practice, no source)")
 
-    def ln_gamma_pm(self, m, params, ctx):
-        _, s = _i_s(m, ctx)
-        return dh.size_term(ctx.dh.a_gamma, ctx.electrolyte.zz, s, s)
-
-    def osmotic(self, m, params, ctx):
-        _, s = _i_s(m, ctx)
-        return 1.0 + dh.size_term_osmotic(ctx.dh.a_gamma, ctx.electrolyte.zz, s, s)
-
-    def ln_gamma_ions(self, m, params, ctx):
-        _, s = _i_s(m, ctx)
-        e = ctx.electrolyte
-        return {"cation": dh.size_term(ctx.dh.a_gamma, e.z_cation**2, s, s),
-                "anion": dh.size_term(ctx.dh.a_gamma, e.z_anion**2, s, s)}
+    def g_terms(self, request, i, s):
+        g, excess = size_g(request.conditions.a_gamma, s, s)
+        return g, excess, {}
 
 
 class Huckel(ExtendedDebyeHuckel):

@@ -1,4 +1,4 @@
-"""Specific ion interaction theory (SIT) for a single salt.
+"""Specific ion interaction theory (SIT), for solutions of one or more salts.
 
 Brønsted, J. Am. Chem. Soc. 44, 877 (1922); Scatchard, Chem. Rev. 19, 309 (1936); Guggenheim,
 Phil. Mag. 19, 588 (1935); in the form of Ciavatta, Ann. Chim. (Rome) 70, 551 (1980) and of the
@@ -16,23 +16,24 @@ x = 1.5 sqrt(I), hence Robinson and Stokes' sigma function):
 
     phi - 1 = ln 10 [ -|z+ z-| (A / 3) sqrt(I) sigma(1.5 sqrt(I)) + eps (nu+ nu- / nu) m ].
 
-Evaluated on the natural-log basis; eps is declared in kg/mol on the decadic basis as published.
+Evaluated on the natural-log basis; eps is declared in kg/mol on the decadic basis as published,
+one value per cation-anion pair (pairs of like charge have none in SIT). For solutions of several
+salts see :mod:`saltbench.plugins._ionic`, of which these are the one-salt forms.
 """
 
 from __future__ import annotations
 
 import math
 
-import numpy as np
-
-from saltbench.models import ActivityModel, Parameter, Validity, hookimpl
-from saltbench.plugins import _dh_terms as dh
+from saltbench.models import Parameter, Validity, hookimpl
+from saltbench.models.contract import ParameterKey
+from saltbench.plugins._ionic import IonicStrengthModel, size_g
 
 LN10 = math.log(10.0)
 SIT_BA = 1.5  # (kg/mol)^1/2, B a of the SIT Debye-Hückel term at all temperatures
 
 
-class SIT(ActivityModel):
+class SIT(IonicStrengthModel):
     id = "sit"
     name = "Specific ion interaction theory (SIT)"
     citation = ("I. Grenthe, J. Fuger, R. J. M. Konings et al., Chemical Thermodynamics of "
@@ -40,35 +41,26 @@ class SIT(ActivityModel):
                 "(Rome) 70, 551-567 (1980)")
     parameters = (
         Parameter("eps", "ε", "kg/mol", 0.0, lower=-1.0, upper=1.0, linear=True,
+                  belongs_to="pair",
                   description="ion interaction coefficient eps(cation, anion), decadic basis"),
     )
     validity = Validity(max_ionic_strength=3.5,
                         note="from memory of Grenthe et al. (1992): I up to about 3.5 mol/kg")
+    pair_scale = LN10
 
-    def _parts(self, m, params, ctx):
-        e = ctx.electrolyte
-        s = np.sqrt(e.ionic_strength(m))
-        k = e.nu_cation * e.nu_anion / e.nu
-        return e, s, SIT_BA * s, k * np.asarray(m, dtype=float)
+    def g_terms(self, request, i, s):
+        return size_g(request.conditions.a_gamma, s, SIT_BA * s) + ({},)
 
-    def ln_gamma_pm(self, m, params, ctx):
-        e, s, x, km = self._parts(m, params, ctx)
-        return dh.size_term(ctx.dh.a_gamma, e.zz, s, x) + LN10 * params["eps"] * 2.0 * km
-
-    def osmotic(self, m, params, ctx):
-        e, s, x, km = self._parts(m, params, ctx)
-        return 1.0 + dh.size_term_osmotic(ctx.dh.a_gamma, e.zz, s, x) + LN10 * params["eps"] * km
-
-    def ln_gamma_ions(self, m, params, ctx):
-        e, s, x, _ = self._parts(m, params, ctx)
-        m = np.asarray(m, dtype=float)
-        eps = LN10 * params["eps"]
-        return {"cation": dh.size_term(ctx.dh.a_gamma, e.z_cation**2, s, x) + eps * e.nu_anion * m,
-                "anion": dh.size_term(ctx.dh.a_gamma, e.z_anion**2, s, x) + eps * e.nu_cation * m}
-
-    def jacobian(self, m, params, ctx):
-        _, _, _, km = self._parts(m, params, ctx)
-        return {"eps": 2.0 * LN10 * km}, {"eps": LN10 * km}
+    def pair_terms(self, request):
+        comp = request.composition
+        cations = [ion.name for ion in comp.ions if ion.charge > 0]
+        anions = [ion.name for ion in comp.ions if ion.charge < 0]
+        out = {}
+        for c in cations:
+            for a in anions:
+                key = ParameterKey("eps", (c, a))
+                out[(c, a)] = (LN10 * request.value(key), key)
+        return out
 
 
 @hookimpl

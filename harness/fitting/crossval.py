@@ -21,7 +21,7 @@ from saltbench.errors import ModelDomainError, ModelError, UserError
 from saltbench.fitting.data import FitData
 from saltbench.fitting.least_squares import solve
 from saltbench.fitting.problem import FitProblem, build_problem
-from saltbench.models.contract import ActivityModel
+from saltbench.models.contract import SolutionModel
 from saltbench.water.debye_huckel import DebyeHuckel
 
 SCHEMES = ("interleaved", "contiguous")
@@ -166,7 +166,7 @@ def cross_validate_problem(problem: FitProblem, folds: int | str = 5,
                            pred, labels, flags, theta, folds_run)
 
 
-def cross_validate(model: ActivityModel, electrolyte: Electrolyte | str, data: FitData, *,
+def cross_validate(model: SolutionModel, electrolyte: Electrolyte | str, data: FitData, *,
                    folds: int | str = 5, scheme: str = "interleaved",
                    fixed: Mapping[str, float] | None = None,
                    start: Mapping[str, float] | None = None, free: Iterable[str] | None = None,

@@ -16,7 +16,7 @@ from saltbench.fitting.data import FitData
 from saltbench.fitting.least_squares import solve
 from saltbench.fitting.problem import FitProblem, build_problem
 from saltbench.fitting.result import FitResult, build_result
-from saltbench.models.contract import ActivityModel
+from saltbench.models.contract import SolutionModel
 from saltbench.water.debye_huckel import DebyeHuckel
 
 
@@ -36,7 +36,7 @@ def run(problem: FitProblem, *, covariance_scaling: str = "birge",
     return build_result(problem, solution, covariance_scaling=covariance_scaling)
 
 
-def fit(model: ActivityModel, electrolyte: Electrolyte | str, data: FitData, *,
+def fit(model: SolutionModel, electrolyte: Electrolyte | str, data: FitData, *,
         fixed: Mapping[str, float] | None = None, start: Mapping[str, float] | None = None,
         free: Iterable[str] | None = None,
         bounds: Mapping[str, tuple[float, float]] | None = None,
@@ -55,7 +55,7 @@ def fit(model: ActivityModel, electrolyte: Electrolyte | str, data: FitData, *,
     return run(problem, covariance_scaling=covariance_scaling, max_evaluations=max_evaluations)
 
 
-def fit_joint(model: ActivityModel, items: Sequence[tuple[Electrolyte | str, FitData]], *,
+def fit_joint(model: SolutionModel, items: Sequence[tuple[Electrolyte | str, FitData]], *,
               fixed: Mapping[str, float] | None = None, start: Mapping[str, float] | None = None,
               free: Iterable[str] | None = None,
               bounds: Mapping[str, tuple[float, float]] | None = None,

@@ -37,14 +37,14 @@ import numpy as np
 from saltbench.chemistry.electrolyte import Electrolyte
 from saltbench.errors import FitError, ModelDomainError, ModelError, UserError
 from saltbench.fitting.data import FitData
-from saltbench.models.contract import ActivityModel, EvalContext
-from saltbench.models.evaluate import GAUSS_NODES, call_model, make_context
+from saltbench.models.contract import ActivityModel, EvalContext, SolutionModel, call_model
+from saltbench.models.evaluate import GAUSS_NODES, gauss_legendre_unit, make_context
+from saltbench.models.salt_view import salt_view
 from saltbench.water.debye_huckel import DebyeHuckel
 
 _FD_STEP = float(np.finfo(float).eps) ** (1.0 / 3.0)
-_NODES, _WEIGHTS = np.polynomial.legendre.leggauss(GAUSS_NODES)
-_NODES = 0.5 * (_NODES + 1.0)  # on [0, 1], as in saltbench.models.evaluate
-_GD_WEIGHTS = 2.0 * _NODES * (0.5 * _WEIGHTS)  # the weights of int_0^1 ln gamma(m u^2) 2u du
+_NODES, _WEIGHTS = gauss_legendre_unit(GAUSS_NODES)  # on [0, 1], as in saltbench.models.evaluate
+_GD_WEIGHTS = 2.0 * _NODES * _WEIGHTS  # the weights of int_0^1 ln gamma(m u^2) 2u du
 
 
 class GlobalParameter(NamedTuple):
@@ -131,9 +131,9 @@ class Block:
 class FitProblem:
     """Weighted least squares of one model against one or more blocks of observations."""
 
-    def __init__(self, model: ActivityModel, blocks: list[Block],
+    def __init__(self, model: SolutionModel, blocks: list[Block],
                  params: list[GlobalParameter]) -> None:
-        self.model = model
+        model = self.model = salt_view(model)
         self.blocks = blocks
         self.params = params
         # Plain lists first: these are a handful of entries, where numpy costs more per call.
@@ -164,7 +164,7 @@ class FitProblem:
         self.n_evaluations = 0
         self._no_jacobian = False  # the model said it has none; stop asking
         model_type = type(model)
-        self._analytic_osmotic = model_type.osmotic is not ActivityModel.osmotic
+        self._analytic_osmotic = "osmotic" in model.computes
         self._combined = (self._analytic_osmotic and model_type.values_and_jacobian
                           is not ActivityModel.values_and_jacobian)
         self._contexts: dict[tuple[int, frozenset[str]], EvalContext] = {}

@@ -19,7 +19,7 @@ from saltbench.errors import UserError
 from saltbench.fitting.data import FitData
 from saltbench.fitting.problem import FitProblem, build_problem
 from saltbench.fitting.result import FitResult
-from saltbench.models.contract import ActivityModel, EvalContext
+from saltbench.models.contract import EvalContext, SolutionModel
 from saltbench.water.debye_huckel import DebyeHuckel
 
 _ALIASES = {"ln_gamma_pm": "ln_gamma", "u_ln_gamma_pm": "u_ln_gamma", "gamma_pm": "gamma",
@@ -52,7 +52,7 @@ class Propagation:
                  "u_osmotic")}
 
 
-def propagate(model: ActivityModel, electrolyte: Electrolyte | str,
+def propagate(model: SolutionModel, electrolyte: Electrolyte | str,
               molality: Sequence[float] | np.ndarray,
               result: FitResult | Mapping[str, float] | None = None,
               covariance: np.ndarray | tuple[Sequence[str], Any] | None = None, *,

@@ -42,7 +42,7 @@ from saltbench.errors import ModelDomainError, ModelError
 from saltbench.fitting.crossval import CrossValidation, cross_validate_problem
 from saltbench.fitting.data import FitData
 from saltbench.fitting.problem import FitProblem, build_problem
-from saltbench.models.contract import ActivityModel
+from saltbench.models.contract import SolutionModel
 from saltbench.water.debye_huckel import DebyeHuckel
 
 DATA_END = "data end before model fails"
@@ -286,7 +286,7 @@ def _search(grid: list[float], passes) -> tuple[float | None, float | None]:
             grid[first_fail] if first_fail is not None else None)
 
 
-def validity_range(model: ActivityModel, electrolyte: Electrolyte | str, data: FitData, *,
+def validity_range(model: SolutionModel, electrolyte: Electrolyte | str, data: FitData, *,
                    params: Mapping[str, float] | None = None,
                    tolerance_ln_gamma: float = 0.01, tolerance_phi: float = 0.01,
                    folds: int = 5, scheme: str = "interleaved",

@@ -1,8 +1,18 @@
 """The model contract: what every activity-model plugin declares and computes.
 
-A model is an instance of a subclass of :class:`ActivityModel`. The harness never looks inside
-a model; it only uses what is declared here. Units: molality in mol/kg, temperature in K,
-pressure in Pa; a parameter's own unit is declared with it (ion sizes are in Å, as published).
+A model is an instance of a subclass of :class:`SolutionModel`. Its one entry point is
+:meth:`SolutionModel.compute`: for a :class:`~saltbench.chemistry.solution.Composition` (N
+solutions of K ions, each at its own temperature and pressure) and one or more sets of parameter
+values, it returns the quantities asked for, keyed by
+:class:`~saltbench.models.quantities.Quantity`, with their derivatives with respect to the
+parameters named in ``wrt``. Parameters are keyed by what they belong to
+(:class:`ParameterKey`). :class:`ActivityModel` is the one-salt form of the contract (the
+contract before solutions): a model written to it implements ``ln_gamma_pm`` and friends for
+one salt, and its ``compute`` adapts them, so such plugins keep working unchanged.
+
+The harness never looks inside a model; it only uses what is declared here. Units: molality in
+mol/kg, temperature in K, pressure in Pa; a parameter's own unit is declared with it (ion sizes
+are in Å, as published).
 """
 
 from __future__ import annotations
@@ -11,14 +21,22 @@ import math
 import re
 from collections.abc import Mapping
 from dataclasses import dataclass, field
-from typing import Literal
+from typing import Literal, NamedTuple
 
 import numpy as np
 
 from saltbench.chemistry.electrolyte import Electrolyte
+from saltbench.chemistry.solution import Composition
+from saltbench.errors import ModelDomainError, ModelError
+from saltbench.models.quantities import OSMOTIC, Quantity, kinds, ln_gamma, ln_gamma_pm
 from saltbench.water.debye_huckel import DebyeHuckel
 
 Scope = Literal["electrolyte", "cation", "anion"]
+#: What a parameter belongs to: the model as a whole, one electrolyte (salt), one ion, a
+#: cation-anion pair, two like-charged ions, or a triplet (two like-charged ions and one of
+#: opposite charge).
+Belongs = Literal["model", "electrolyte", "ion", "pair", "like-pair", "triplet"]
+_OWNER_SIZE = {"model": 0, "electrolyte": 1, "ion": 1, "pair": 2, "like-pair": 2, "triplet": 3}
 ID_PATTERN = re.compile(r"^[a-z][a-z0-9]*(?:-[a-z0-9]+)*$")
 
 
@@ -26,10 +44,12 @@ ID_PATTERN = re.compile(r"^[a-z][a-z0-9]*(?:-[a-z0-9]+)*$")
 class Parameter:
     """One adjustable quantity of a model.
 
-    ``scope`` says what the value belongs to: the electrolyte as a whole, or its cation or anion
-    (per-ion parameters such as ion sizes; fits across salts that share an ion tie them).
-    ``ion_key`` is the column name used for per-ion values in parameter files (e.g. ``a`` for
-    both ``a_cation`` and ``a_anion``). ``linear`` marks a parameter that enters ln(gamma±) and
+    ``belongs_to`` says what the value belongs to (see :data:`Belongs`); in a solution the
+    parameter has one value per owner, keyed ``ParameterKey(key_name, owner)``. ``scope`` is its
+    one-salt reading: the electrolyte as a whole, or its cation or anion (per-ion parameters
+    such as ion sizes; fits across salts that share an ion tie them). ``ion_key`` is the column
+    name used for per-ion values in parameter files (e.g. ``a`` for both ``a_cation`` and
+    ``a_anion``) and the key name of a per-ion parameter. ``linear`` marks a parameter that enters ln(gamma±) and
     the osmotic coefficient linearly when the nonlinear ones are held fixed. ``fixed`` marks a
     parameter held at its default unless the user frees it (e.g. Pitzer's alpha).
     """
@@ -45,6 +65,35 @@ class Parameter:
     linear: bool = False
     fixed: bool = False
     description: str = ""
+    belongs_to: Belongs | None = None  # None: from scope ("ion" for cation/anion, else electrolyte)
+
+    @property
+    def owner_kind(self) -> Belongs:
+        if self.belongs_to is not None:
+            return self.belongs_to
+        return "electrolyte" if self.scope == "electrolyte" else "ion"
+
+    @property
+    def key_name(self) -> str:
+        """The name of this parameter's key: ``ion_key`` for per-ion parameters, else ``name``."""
+        return self.ion_key if self.scope != "electrolyte" and self.ion_key else self.name
+
+    def key_for(self, electrolyte: Electrolyte) -> ParameterKey:
+        """This parameter's key in a solution of ``electrolyte`` alone."""
+        owner: tuple[str, ...]
+        kind = self.owner_kind
+        if kind == "model":
+            owner = ()
+        elif kind == "electrolyte":
+            owner = (electrolyte.name,)
+        elif kind == "ion":
+            owner = ((electrolyte.anion if self.scope == "anion" else electrolyte.cation).name,)
+        elif kind == "pair":
+            owner = (electrolyte.cation.name, electrolyte.anion.name)
+        else:
+            raise ValueError(f"parameter {self.name}: a {kind} parameter has no value in a "
+                             "solution of one salt")
+        return ParameterKey(self.key_name, owner)
 
     def __post_init__(self) -> None:
         if not re.fullmatch(r"[A-Za-z_][A-Za-z0-9_]*", self.name):
@@ -53,6 +102,21 @@ class Parameter:
             raise ValueError(f"parameter {self.name}: default outside its bounds")
         if self.scope != "electrolyte" and not self.ion_key:
             raise ValueError(f"parameter {self.name}: per-ion parameters need an ion_key")
+        if self.belongs_to is not None and self.belongs_to not in _OWNER_SIZE:
+            raise ValueError(f"parameter {self.name}: belongs_to must be one of "
+                             f"{', '.join(_OWNER_SIZE)}")
+
+
+class ParameterKey(NamedTuple):
+    """A parameter in a solution: its name and what it belongs to (ion or salt names, in the
+    order cation(s) before anion(s); e.g. ``("beta0", ("Na+", "Cl-"))``, ``("a", ("Na+",))``,
+    ``("theta", ("K+", "Na+"))``, ``("b", ())`` for a model-wide value)."""
+
+    name: str
+    owner: tuple[str, ...] = ()
+
+    def __str__(self) -> str:
+        return f"{self.name}[{'/'.join(self.owner)}]" if self.owner else self.name
 
 
 @dataclass(frozen=True)
@@ -101,17 +165,92 @@ class EvalContext:
 
 
 Params = Mapping[str, float]
+#: Parameter values in a request: each key's values for S parameter sets, shaped (S, 1) when
+#: the same for every solution or (S, N) when they vary (a temperature form evaluated per row).
+KeyedParams = Mapping["ParameterKey", np.ndarray]
 
 
-class ActivityModel:
-    """Base class of activity models. Subclasses set the class attributes and ``ln_gamma_pm``.
+@dataclass(frozen=True)
+class Conditions:
+    """The Debye-Hückel constants of each solution of a composition.
 
-    Required: ``id`` (lower-case words joined by hyphens, stable forever), ``name``, ``citation``,
-    ``parameters`` and :meth:`ln_gamma_pm`. Optional: :meth:`osmotic` (analytic; otherwise the
-    harness integrates Gibbs-Duhem), :meth:`ln_gamma_ions` (single-ion values, where the model
-    defines them), :meth:`jacobian` (analytic derivatives with respect to the parameters) and
-    :meth:`values_and_jacobian` (the three at once, sharing their intermediate terms).
-    ``charge_types`` is a set of ``(|z+|, |z-|)`` the model supports, or ``None`` for any.
+    ``dh`` holds one :class:`DebyeHuckel` per distinct condition (temperature, pressure, or a
+    published constant its authors used) and ``group`` (N,) says which applies to each row.
+    """
+
+    dh: tuple[DebyeHuckel, ...]
+    group: np.ndarray
+
+    @classmethod
+    def single(cls, dh: DebyeHuckel, n: int) -> Conditions:
+        return cls((dh,), np.zeros(n, dtype=np.intp))
+
+    def _per_row(self, values: list[float]) -> np.ndarray:
+        if len(values) == 1:
+            return np.full(self.group.shape, values[0])
+        return np.asarray(values)[self.group]
+
+    @property
+    def a_gamma(self) -> np.ndarray:
+        """A_gamma = 3 A_phi (natural log basis, (kg/mol)^1/2) of each row."""
+        return self._per_row([d.a_gamma for d in self.dh])
+
+    @property
+    def a_phi(self) -> np.ndarray:
+        return self._per_row([d.a_phi for d in self.dh])
+
+    @property
+    def b_gamma_per_angstrom(self) -> np.ndarray:
+        return self._per_row([d.b_gamma_per_angstrom for d in self.dh])
+
+
+@dataclass(frozen=True)
+class Request:
+    """What a caller asks of :meth:`SolutionModel.compute`.
+
+    ``params`` gives a value for every parameter key the model uses here (see
+    :meth:`SolutionModel.keys_for`), for S sets at once (a fit's folds and trials); ``wrt``
+    names the keys whose derivatives are wanted (empty: none). ``quantities`` are the
+    quantities wanted; a model returns those it computes and leaves out the rest (the harness
+    derives phi from ln gamma± by Gibbs-Duhem for one salt, and a_w from phi).
+    """
+
+    composition: Composition
+    quantities: tuple[Quantity, ...]
+    params: KeyedParams
+    conditions: Conditions
+    wrt: tuple[ParameterKey, ...] = ()
+
+    @property
+    def n_sets(self) -> int:
+        return int(next(iter(self.params.values())).shape[0]) if self.params else 1
+
+    def value(self, key: ParameterKey) -> np.ndarray:
+        """The values of ``key``, (S, 1) or (S, N); a KeyError names the missing key."""
+        try:
+            return self.params[key]
+        except KeyError:
+            raise ModelDomainError(f"no value for parameter {key}") from None
+
+
+@dataclass
+class Computed:
+    """What :meth:`SolutionModel.compute` returns: values (S, N) per quantity and, per
+    quantity, derivatives (S, N) per parameter key in the request's ``wrt``."""
+
+    values: dict[Quantity, np.ndarray]
+    derivatives: dict[Quantity, dict[ParameterKey, np.ndarray]] = field(default_factory=dict)
+
+
+class SolutionModel:
+    """Base class of activity models on the solution contract.
+
+    Required: ``id`` (lower-case words joined by hyphens, stable forever), ``name``,
+    ``citation``, ``parameters`` (each with what it ``belongs_to``) and :meth:`compute`.
+    ``computes`` names the quantity kinds ``compute`` returns itself. ``single_ion_convention``
+    says on what convention its ``ln_gamma`` of single ions rests ('' when it gives none).
+    ``charge_types`` is a set of ``(|z+|, |z-|)`` the model supports for one salt, or ``None``
+    for any.
     """
 
     id: str = ""
@@ -121,6 +260,101 @@ class ActivityModel:
     parameters: tuple[Parameter, ...] = ()
     validity: Validity = Validity()
     description: str = ""
+    computes: frozenset[str] = frozenset({"ln_gamma_pm"})
+    single_ion_convention: str = ""
+    #: Whether ``compute`` takes solutions of several salts (not only one salt's ions).
+    mixtures: bool = False
+
+    # -- what a plugin implements -------------------------------------------------------------
+    def compute(self, request: Request) -> Computed:
+        """The quantities of ``request`` for its composition, with derivatives if asked."""
+        raise NotImplementedError
+
+    def keys_for(self, composition: Composition) -> dict[ParameterKey, Parameter]:
+        """The parameter keys this model uses for ``composition``, each with its declaration.
+
+        The default gives each declared parameter one key per owner of its kind present: the
+        model, each salt named in the composition, each ion (cation- or anion-scoped parameters
+        for ions of that sign), each cation-anion pair, each pair of like-charged ions and each
+        triplet.
+        """
+        cations = [i.name for i in composition.ions if i.charge > 0]
+        anions = [i.name for i in composition.ions if i.charge < 0]
+        owners: dict[str, list[tuple[str, ...]]] = {
+            "model": [()],
+            "electrolyte": [(s.name,) for s in composition.salts],
+            "pair": [(c, a) for c in cations for a in anions],
+            "like-pair": ([(x, y) for i, x in enumerate(cations) for y in cations[i + 1:]]
+                          + [(x, y) for i, x in enumerate(anions) for y in anions[i + 1:]]),
+            "triplet": ([(x, y, a) for i, x in enumerate(cations) for y in cations[i + 1:]
+                         for a in anions]
+                        + [(c, x, y) for i, x in enumerate(anions) for y in anions[i + 1:]
+                           for c in cations]),
+        }
+        out: dict[ParameterKey, Parameter] = {}
+        for p in self.parameters:
+            kind = p.owner_kind
+            if kind == "ion":
+                ions = (cations if p.scope == "cation" else anions if p.scope == "anion"
+                        else cations + anions)
+                found = [(ion,) for ion in ions]
+            else:
+                found = owners[kind]
+            for owner in found:
+                out[ParameterKey(p.key_name, owner)] = p
+        return out
+
+    def supports_composition(self, composition: Composition) -> bool:
+        """Whether ``compute`` takes ``composition`` (one salt of a supported charge type, or
+        any solution for a model with ``mixtures``)."""
+        salt = composition.single_salt
+        if salt is not None:
+            return self.supports(salt)
+        return self.mixtures
+
+    # -- helpers the harness and plugin authors share -----------------------------------------
+    def supports(self, electrolyte: Electrolyte) -> bool:
+        return self.charge_types is None or electrolyte.charge_type in self.charge_types
+
+    def parameter(self, name: str) -> Parameter:
+        for p in self.parameters:
+            if p.name == name:
+                return p
+        raise KeyError(name)
+
+    def parameters_for(self, electrolyte: Electrolyte | None = None) -> tuple[Parameter, ...]:
+        """The parameters as they apply to ``electrolyte``.
+
+        Override when defaults or fixed flags depend on the charge type (Pitzer's beta2 and
+        alpha values for 2-2 salts); names and order must stay those of ``parameters``.
+        """
+        return self.parameters
+
+    def defaults(self, electrolyte: Electrolyte | None = None) -> dict[str, float]:
+        return {p.name: p.default for p in self.parameters_for(electrolyte)}
+
+    def free_parameters(self, electrolyte: Electrolyte | None = None) -> tuple[Parameter, ...]:
+        return tuple(p for p in self.parameters_for(electrolyte) if not p.fixed)
+
+    def salt_keys(self, electrolyte: Electrolyte) -> dict[str, ParameterKey]:
+        """Each parameter's name -> its key in a solution of ``electrolyte`` alone."""
+        return {p.name: p.key_for(electrolyte) for p in self.parameters_for(electrolyte)}
+
+    def __repr__(self) -> str:
+        return f"<{type(self).__name__} {self.id}>"
+
+
+class ActivityModel(SolutionModel):
+    """The one-salt form of the contract: formulas for one salt, adapted to :meth:`compute`.
+
+    Subclasses set the class attributes and ``ln_gamma_pm``. Optional: :meth:`osmotic`
+    (analytic; otherwise the harness integrates Gibbs-Duhem), :meth:`ln_gamma_ions` (single-ion
+    values, where the model defines them), :meth:`jacobian` (analytic derivatives with respect
+    to the parameters) and :meth:`values_and_jacobian` (the three at once, sharing their
+    intermediate terms). Parameters are named flat; ``compute`` keys them by
+    :meth:`Parameter.key_for`. Plugins written before the solution contract subclass this and
+    keep working unchanged.
+    """
 
     # -- what a plugin implements -------------------------------------------------------------
     def ln_gamma_pm(self, m: np.ndarray, params: Params, ctx: EvalContext) -> np.ndarray:
@@ -162,39 +396,94 @@ class ActivityModel:
         """
         return None
 
-    # -- helpers the harness and plugin authors share -----------------------------------------
-    def supports(self, electrolyte: Electrolyte) -> bool:
-        return self.charge_types is None or electrolyte.charge_type in self.charge_types
+    # -- the adapter ------------------------------------------------------------------------
+    @property
+    def computes(self) -> frozenset[str]:  # type: ignore[override]
+        kinds = {"ln_gamma_pm"}
+        if type(self).osmotic is not ActivityModel.osmotic:
+            kinds.add("osmotic")
+        if type(self).ln_gamma_ions is not ActivityModel.ln_gamma_ions:
+            kinds.add("ln_gamma")
+        return frozenset(kinds)
 
-    def parameter(self, name: str) -> Parameter:
-        for p in self.parameters:
-            if p.name == name:
-                return p
-        raise KeyError(name)
+    def compute(self, request: Request) -> Computed:
+        """The one-salt formulas asked row group by row group and parameter set by set."""
+        comp = request.composition
+        salt = comp.single_salt
+        if salt is None:
+            raise ModelDomainError(f"model {self.id} is written for one salt; this solution has "
+                                   f"{', '.join(comp.names)}")
+        m_all = comp.salt_molality(salt)
+        keys = self.salt_keys(salt)
+        by_key = {k: name for name, k in keys.items()}
+        wrt_names = frozenset(by_key[k] for k in request.wrt if k in by_key)
+        wanted = set(request.quantities)
+        mean_q, ions_q = ln_gamma_pm(salt.name), (ln_gamma(salt.cation.name),
+                                                 ln_gamma(salt.anion.name))
+        s_count = request.n_sets
+        values: dict[Quantity, np.ndarray] = {}
+        derivs: dict[Quantity, dict[ParameterKey, np.ndarray]] = {}
 
-    def parameters_for(self, electrolyte: Electrolyte | None = None) -> tuple[Parameter, ...]:
-        """The parameters as they apply to ``electrolyte``.
+        def put(target: dict, q: Quantity, s: int, rows: np.ndarray, v: object) -> None:
+            arr = target.setdefault(q, np.empty((s_count, comp.n)))
+            arr[s, rows] = np.asarray(v, dtype=float)
 
-        Override when defaults or fixed flags depend on the charge type (Pitzer's beta2 and
-        alpha values for 2-2 salts); names and order must stay those of ``parameters``.
-        """
-        return self.parameters
+        groups = [np.flatnonzero(request.conditions.group == g)
+                  for g in range(len(request.conditions.dh))]
+        for g, rows in enumerate(groups):
+            if not rows.size:
+                continue
+            m = m_all[rows]
+            ctx = EvalContext(salt, request.conditions.dh[g], wrt_names if request.wrt else None)
+            for s in range(s_count):
+                p = {name: float(np.broadcast_to(request.value(k)[s], (comp.n,))[rows[0]])
+                     for name, k in keys.items()}
+                phi = d_ln = d_phi = None
+                combined = None
+                if request.wrt and OSMOTIC in wanted and "osmotic" in self.computes:
+                    combined = self.values_and_jacobian(m, p, ctx)
+                if combined is not None:
+                    ln_g, phi, d_ln, d_phi = combined
+                else:
+                    ln_g = self.ln_gamma_pm(m, p, ctx)
+                    if OSMOTIC in wanted:
+                        phi = self.osmotic(m, p, ctx)
+                    if request.wrt:
+                        jac = self.jacobian(m, p, ctx)
+                        if jac is not None:
+                            d_ln, d_phi = jac
+                put(values, mean_q, s, rows, ln_g)
+                if phi is not None:
+                    put(values, OSMOTIC, s, rows, phi)
+                if any(q in wanted for q in ions_q):
+                    ions = self.ln_gamma_ions(m, p, ctx)
+                    if ions is not None:
+                        put(values, ions_q[0], s, rows, ions["cation"])
+                        put(values, ions_q[1], s, rows, ions["anion"])
+                for q, d in ((mean_q, d_ln), (OSMOTIC, d_phi)):
+                    if d is None or (q is OSMOTIC and phi is None):
+                        continue
+                    for name, col in dict(d).items():
+                        if name in keys and (not wrt_names or name in wrt_names):
+                            put(derivs.setdefault(q, {}), keys[name], s, rows, col)
+        return Computed(values, derivs)
 
-    def defaults(self, electrolyte: Electrolyte | None = None) -> dict[str, float]:
-        return {p.name: p.default for p in self.parameters_for(electrolyte)}
 
-    def free_parameters(self, electrolyte: Electrolyte | None = None) -> tuple[Parameter, ...]:
-        return tuple(p for p in self.parameters_for(electrolyte) if not p.fixed)
+def call_model(model: SolutionModel, method: str, *args: object) -> object:
+    """Call one model function, turning any exception of the plugin's into a ModelError."""
+    try:
+        return getattr(model, method)(*args)
+    except (ModelError, ModelDomainError):
+        raise
+    except Exception as exc:
+        raise ModelError(f"model {model.id}: {method} raised {type(exc).__name__}: {exc}") from exc
 
-    def __repr__(self) -> str:
-        return f"<{type(self).__name__} {self.id}>"
 
-
-def check_declaration(model: ActivityModel) -> list[str]:
+def check_declaration(model: SolutionModel) -> list[str]:
     """Problems with a model's declaration (empty list when it is well formed)."""
     problems = []
-    if not isinstance(model, ActivityModel):
-        return [f"{model!r} is not an ActivityModel instance"]
+    if not isinstance(model, SolutionModel):
+        return [f"{model!r} is not a SolutionModel (or ActivityModel) instance"]
     if not ID_PATTERN.match(model.id or ""):
         problems.append(f"id {model.id!r} must be lower-case words joined by hyphens")
     if not model.name:
@@ -204,8 +493,14 @@ def check_declaration(model: ActivityModel) -> list[str]:
     names = [p.name for p in model.parameters]
     if len(set(names)) != len(names):
         problems.append("duplicate parameter names")
-    if type(model).ln_gamma_pm is ActivityModel.ln_gamma_pm:
-        problems.append("ln_gamma_pm is not implemented")
+    if isinstance(model, ActivityModel):
+        if type(model).ln_gamma_pm is ActivityModel.ln_gamma_pm:
+            problems.append("ln_gamma_pm is not implemented")
+    elif type(model).compute is SolutionModel.compute:
+        problems.append("compute is not implemented")
+    unknown = sorted(set(model.computes) - {k.name for k in kinds()})
+    if unknown:
+        problems.append(f"computes unknown quantity kinds: {', '.join(unknown)}")
     return problems
 
 
@@ -213,7 +508,7 @@ def check_declaration(model: ActivityModel) -> list[str]:
 class ModelInfo:
     """A discovered model with the plugin it came from (for listings and error messages)."""
 
-    model: ActivityModel
+    model: SolutionModel
     plugin: str
     plugin_version: str = ""
     source_path: str = ""

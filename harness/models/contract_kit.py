@@ -22,9 +22,15 @@ Checks, each reported as one line naming the electrolyte and what failed:
    agrees with central finite differences (relative 1e-5, absolute 1e-8); asked for one
    parameter at a time (``ctx.wrt``) it gives that derivative as the full call does (1e-12);
 8. ``values_and_jacobian``, where given, equals ``ln_gamma_pm``, ``osmotic`` and ``jacobian``
-   (relative 1e-12), with and without ``ctx.wrt``.
+   (relative 1e-12), with and without ``ctx.wrt``;
+9. ``compute`` itself, for one salt of each test electrolyte and, for a model that takes
+   mixtures, for test mixtures: keys, shapes, batches of parameter sets, derivatives against
+   finite differences, the limiting law for every ion, the cross-differential identity and
+   Gibbs-Duhem along dilution (see :mod:`saltbench.models.solution_kit`).
 
-The kit calls the model functions directly, with the parameter defaults updated by ``params``.
+Checks 2-8 call the one-salt functions: a model's own where it is written to the one-salt form
+(:class:`~saltbench.models.contract.ActivityModel`), otherwise those of its
+:func:`~saltbench.models.salt_view.salt_view`. Parameter defaults are updated by ``params``.
 """
 
 from __future__ import annotations
@@ -36,8 +42,11 @@ from dataclasses import replace
 import numpy as np
 
 from saltbench.chemistry.electrolyte import Electrolyte, parse_formula
-from saltbench.models.contract import ActivityModel, EvalContext, check_declaration
+from saltbench.chemistry.solution import Composition
+from saltbench.models import solution_kit
+from saltbench.models.contract import ActivityModel, EvalContext, SolutionModel, check_declaration
 from saltbench.models.evaluate import make_context, osmotic_by_gibbs_duhem
+from saltbench.models.salt_view import salt_view
 
 DEFAULT_ELECTROLYTES = ("NaCl", "CaCl2", "Na2SO4", "MgSO4", "LaCl3")
 DILUTE_MOLALITY = 1e-6  # mol/kg, where the limiting law is checked
@@ -63,6 +72,9 @@ def _grid(model: ActivityModel, e: Electrolyte) -> np.ndarray:
 class _Problems(list):
     def add(self, e: Electrolyte | None, text: str) -> None:
         self.append(f"{e.name}: {text}" if e is not None else text)
+
+    def add_named(self, label: str | None, text: str) -> None:
+        self.append(f"{label}: {text}" if label else text)
 
 
 def _call(problems: _Problems, e: Electrolyte, model: ActivityModel, method: str,
@@ -246,7 +258,7 @@ def _check_values_and_jacobian(model, e, m, values, ctx, ln_g, phi, problems) ->
         _check_same_jacobian(problems, e, label, (got_dln, got_dphi), d_ln, d_phi, names)
 
 
-def check_model(model: ActivityModel, electrolytes: Iterable[Electrolyte | str] | None = None,
+def check_model(model: SolutionModel, electrolytes: Iterable[Electrolyte | str] | None = None,
                 params: Mapping[str, float] | None = None, *, temperature_k: float = 298.15,
                 dh_tolerance: float = 0.01) -> list[str]:
     """Every contract problem of ``model`` as a list of one-line messages (empty when it passes).
@@ -257,6 +269,7 @@ def check_model(model: ActivityModel, electrolytes: Iterable[Electrolyte | str] 
     problems = _Problems(check_declaration(model))
     if problems:
         return list(problems)
+    solution_model, model = model, salt_view(model)
     params = dict(params or {})
     _check_parameters(model, params, problems)
     values = {**model.defaults(), **params}
@@ -307,10 +320,24 @@ def check_model(model: ActivityModel, electrolytes: Iterable[Electrolyte | str] 
                                         f"(largest difference {np.max(np.abs(mean - ln_g)):.3g})")
         _check_jacobian(model, e, m, values, ctx, problems)
         _check_values_and_jacobian(model, e, m, values, ctx, ln_g, phi, problems)
+        solution_kit.check_compute(solution_model, Composition.of_salt(e, m, temperature_k),
+                                   values, ctx.dh, e.name, problems.add_named)
+    if getattr(solution_model, "mixtures", False):
+        dh = make_context(supported[0], temperature_k).dh if supported else None
+        m_max = min((_grid(model, e)[-1] for e in supported), default=FALLBACK_M_MAX)
+        mixtures = solution_kit.kit_mixtures(solution_model, m_max)
+        if dh is not None and not mixtures:
+            problems.add(None, "takes mixtures but none of the test mixtures")
+        for comp, amounts in mixtures if dh is not None else ():
+            label = " + ".join(s.name for s in comp.salts)
+            if solution_kit.check_compute(solution_model, comp, values, dh, label,
+                                          problems.add_named) is not None:
+                solution_kit.check_mixture(solution_model, comp, amounts, values, dh,
+                                           dh_tolerance, problems.add_named)
     return list(problems)
 
 
-def assert_model_contract(model: ActivityModel,
+def assert_model_contract(model: SolutionModel,
                           electrolytes: Iterable[Electrolyte | str] | None = None,
                           params: Mapping[str, float] | None = None, **options: float) -> None:
     """Raise AssertionError listing every contract problem of ``model`` (see :func:`check_model`)."""

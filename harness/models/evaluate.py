@@ -20,17 +20,30 @@ import numpy as np
 
 from saltbench.chemistry.electrolyte import Electrolyte
 from saltbench.errors import ModelDomainError, ModelError
-from saltbench.models.contract import ActivityModel, EvalContext, Params
+from saltbench.models.contract import (
+    ActivityModel,
+    EvalContext,
+    Params,
+    SolutionModel,
+    call_model,
+)
+from saltbench.models.salt_view import salt_view
 from saltbench.water.debye_huckel import DebyeHuckel, debye_huckel_constants
 from saltbench.water.properties import MOLAR_MASS_WATER
+
+__all__ = ["GAUSS_NODES", "Evaluation", "call_model", "check_supported", "evaluate",
+           "gauss_legendre_unit", "make_context", "osmotic_by_gibbs_duhem", "water_activity"]
 
 GAUSS_NODES = 64
 
 
 @lru_cache(maxsize=4)
-def _gauss(n: int) -> tuple[np.ndarray, np.ndarray]:
+def gauss_legendre_unit(n: int = GAUSS_NODES) -> tuple[np.ndarray, np.ndarray]:
+    """Gauss-Legendre nodes and weights on [0, 1] (read-only; shared by every quadrature)."""
     x, w = np.polynomial.legendre.leggauss(n)
-    return 0.5 * (x + 1.0), 0.5 * w  # nodes and weights on [0, 1]
+    nodes, weights = 0.5 * (x + 1.0), 0.5 * w
+    nodes.flags.writeable = weights.flags.writeable = False
+    return nodes, weights
 
 
 @dataclass(frozen=True)
@@ -56,22 +69,12 @@ def _checked(model: ActivityModel, what: str, value: object, shape: tuple[int, .
     return arr
 
 
-def call_model(model: ActivityModel, method: str, m: np.ndarray, params: Params,
-               ctx: EvalContext) -> object:
-    """Call one model function, turning any exception of the plugin's into a ModelError."""
-    try:
-        return getattr(model, method)(m, params, ctx)
-    except (ModelError, ModelDomainError):
-        raise
-    except Exception as exc:
-        raise ModelError(f"model {model.id}: {method} raised {type(exc).__name__}: {exc}") from exc
-
-
-def osmotic_by_gibbs_duhem(model: ActivityModel, m: np.ndarray, params: Params,
+def osmotic_by_gibbs_duhem(model: SolutionModel, m: np.ndarray, params: Params,
                            ctx: EvalContext, nodes: int = GAUSS_NODES) -> np.ndarray:
     """phi(m) from the model's ln(gamma±) through the Gibbs-Duhem integral (vectorised)."""
+    model = salt_view(model)
     m = np.asarray(m, dtype=float)
-    u, w = _gauss(nodes)
+    u, w = gauss_legendre_unit(nodes)
     grid = (m[:, None] * u[None, :] ** 2).ravel()
     ln_g_grid = _checked(model, "ln_gamma_pm", call_model(model, "ln_gamma_pm", grid, params, ctx),
                          grid.shape).reshape(m.size, nodes)
@@ -89,7 +92,7 @@ def make_context(electrolyte: Electrolyte, temperature_k: float = 298.15,
     return EvalContext(electrolyte, dh or debye_huckel_constants(temperature_k, pressure_pa))
 
 
-def check_supported(model: ActivityModel, electrolyte: Electrolyte) -> None:
+def check_supported(model: SolutionModel, electrolyte: Electrolyte) -> None:
     """Raise :class:`ModelDomainError` when ``model`` does not take ``electrolyte``'s charge type."""
     if not model.supports(electrolyte):
         types = ", ".join(f"{a}-{b}" for a, b in sorted(model.charge_types or ()))
@@ -98,7 +101,7 @@ def check_supported(model: ActivityModel, electrolyte: Electrolyte) -> None:
             f"{electrolyte.name} (supported: {types})")
 
 
-def evaluate(model: ActivityModel, electrolyte: Electrolyte, molality: np.ndarray | list[float],
+def evaluate(model: SolutionModel, electrolyte: Electrolyte, molality: np.ndarray | list[float],
              params: Params | None = None, *, ctx: EvalContext | None = None,
              temperature_k: float = 298.15, ions: bool = False) -> Evaluation:
     """Evaluate ``model`` for ``electrolyte`` at ``molality`` with ``params`` (defaults if None).
@@ -107,6 +110,7 @@ def evaluate(model: ActivityModel, electrolyte: Electrolyte, molality: np.ndarra
     and :class:`ModelError` when the plugin raises or returns NaN or the wrong shape.
     """
     check_supported(model, electrolyte)
+    model = salt_view(model)
     m = np.atleast_1d(np.asarray(molality, dtype=float))
     if m.ndim != 1 or np.any(~np.isfinite(m)) or np.any(m <= 0):
         raise ModelDomainError("molalities must be positive finite numbers (mol/kg)")

@@ -7,7 +7,7 @@ from dataclasses import dataclass, field
 
 from saltbench.chemistry.electrolyte import Electrolyte
 from saltbench.errors import UserError
-from saltbench.models.contract import ActivityModel
+from saltbench.models.contract import SolutionModel
 from saltbench.store.connection import Store
 
 
@@ -30,7 +30,7 @@ class ResolvedParameters:
     m_min: float | None = None
 
 
-def resolve(store: Store, model: ActivityModel, electrolyte: Electrolyte, set_row: tuple) -> ResolvedParameters | None:
+def resolve(store: Store, model: SolutionModel, electrolyte: Electrolyte, set_row: tuple) -> ResolvedParameters | None:
     pk, set_id, kind, source, a_phi, from_memory, temperature_k = set_row
     rows = store.conn.execute("SELECT target, target_kind, name, value, stderr, m_max FROM parameter_values "
                               "WHERE set_pk = ?", (pk,)).fetchall()
@@ -84,14 +84,14 @@ def resolve(store: Store, model: ActivityModel, electrolyte: Electrolyte, set_ro
 _SET_COLUMNS = "id, set_id, kind, source, a_phi, from_memory, temperature_k"
 
 
-def published(store: Store, model: ActivityModel, electrolyte: Electrolyte) -> list[ResolvedParameters]:
+def published(store: Store, model: SolutionModel, electrolyte: Electrolyte) -> list[ResolvedParameters]:
     rows = store.conn.execute(f"SELECT {_SET_COLUMNS} FROM parameter_sets WHERE model = ? AND kind = 'published' "
                               "ORDER BY set_id", (model.id,)).fetchall()
     out = [resolve(store, model, electrolyte, r) for r in rows]
     return [r for r in out if r is not None]
 
 
-def by_id(store: Store, model: ActivityModel, electrolyte: Electrolyte, set_id: str) -> ResolvedParameters:
+def by_id(store: Store, model: SolutionModel, electrolyte: Electrolyte, set_id: str) -> ResolvedParameters:
     row = store.conn.execute(f"SELECT {_SET_COLUMNS}, model FROM parameter_sets WHERE set_id = ?", (set_id,)).fetchone()
     if row is None:
         known = ", ".join(r[0] for r in store.conn.execute(

@@ -1,0 +1,76 @@
+"""Temperature forms: a parameter as a function of temperature with named coefficients.
+
+A form is a short list of basis functions f_j(T); the parameter is p(T) = sum_j c_j f_j(T) with
+named coefficients c_j, so coefficients enter linearly and a parameter that enters a model
+linearly keeps its coefficients exactly solvable. Models never see forms: the harness evaluates
+p at each solution's temperature before calling ``compute`` and turns derivatives with respect to
+p into derivatives with respect to each coefficient by the chain rule,
+d q / d c_j = (d q / d p) f_j(T).
+
+Forms here:
+- ``constant``: p = c0.
+- ``reference-expansion``: p = c0 + c1 (T - T_r) + c2 (1/T - 1/T_r) + c3 ln(T/T_r), with
+  T_r = 298.15 K, an expansion about a reference temperature of the kind used to fit the
+  temperature dependence of interaction parameters (see e.g. Pitzer, Activity Coefficients in
+  Electrolyte Solutions, 2nd ed., CRC Press, 1991, ch. 3; the exact basis from memory of that
+  chapter; common practice, no source for this choice of four terms). At T = T_r it is c0.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Mapping, Sequence
+from dataclasses import dataclass
+
+import numpy as np
+
+REFERENCE_K = 298.15
+
+
+@dataclass(frozen=True)
+class TemperatureForm:
+    """p(T) = sum_j c_j f_j(T) for the named coefficients ``coefficients``."""
+
+    id: str
+    coefficients: tuple[str, ...]
+    basis_functions: tuple[Callable[[np.ndarray, float], np.ndarray], ...]
+    reference_k: float = REFERENCE_K
+    description: str = ""
+
+    def basis(self, temperature_k: np.ndarray | float) -> np.ndarray:
+        """f_j(T) for each temperature: (N, J)."""
+        t = np.atleast_1d(np.asarray(temperature_k, dtype=float))
+        return np.column_stack([np.broadcast_to(f(t, self.reference_k), t.shape)
+                                for f in self.basis_functions])
+
+    def value(self, coefficients: Mapping[str, float] | Sequence[float] | np.ndarray,
+              temperature_k: np.ndarray | float) -> np.ndarray:
+        """p at each temperature (N,); ``coefficients`` by name, or (J,) or (S, J) for S sets
+        (then the result is (S, N))."""
+        if isinstance(coefficients, Mapping):
+            missing = [c for c in self.coefficients if c not in coefficients]
+            if missing:
+                raise KeyError(f"temperature form {self.id}: no value for {', '.join(missing)}")
+            c = np.array([float(coefficients[k]) for k in self.coefficients])
+        else:
+            c = np.asarray(coefficients, dtype=float)
+        return c @ self.basis(temperature_k).T
+
+
+def _one(t: np.ndarray, tr: float) -> np.ndarray:
+    return np.ones_like(t)
+
+
+CONSTANT = TemperatureForm("constant", ("c0",), (_one,), description="p = c0")
+REFERENCE_EXPANSION = TemperatureForm(
+    "reference-expansion", ("c0", "c1", "c2", "c3"),
+    (_one, lambda t, tr: t - tr, lambda t, tr: 1.0 / t - 1.0 / tr, lambda t, tr: np.log(t / tr)),
+    description="p = c0 + c1 (T - Tr) + c2 (1/T - 1/Tr) + c3 ln(T/Tr), Tr = 298.15 K")
+
+FORMS = {f.id: f for f in (CONSTANT, REFERENCE_EXPANSION)}
+
+
+def form(name: str) -> TemperatureForm:
+    try:
+        return FORMS[name]
+    except KeyError:
+        raise KeyError(f"unknown temperature form {name!r} (known: {', '.join(FORMS)})") from None
