@@ -25,9 +25,9 @@ from __future__ import annotations
 
 import numpy as np
 
+from saltbench.models import dh_terms as dh
 from saltbench.models.contract import Computed, ParameterKey, Request, SolutionModel
 from saltbench.models.quantities import OSMOTIC, WATER_ACTIVITY, Quantity
-from saltbench.plugins import _dh_terms as dh
 from saltbench.water.properties import MOLAR_MASS_WATER
 
 #: The convention the single-ion values of these models rest on: each ion's value is the

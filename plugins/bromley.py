@@ -26,7 +26,7 @@ import math
 import numpy as np
 
 from saltbench.models import ActivityModel, Parameter, Validity, hookimpl
-from saltbench.plugins import _dh_terms as dh
+from saltbench.models import dh_terms as dh
 
 LN10 = math.log(10.0)
 _VALIDITY = Validity(max_ionic_strength=6.0,

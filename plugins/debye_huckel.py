@@ -13,7 +13,7 @@ All on the natural-log basis with A = 3 A_phi and B = B_gamma in Å^-1 (kg/mol)^
       ln gamma± = -A |z+ z-| sqrt(I) / (1 + B a sqrt(I)) + b I      (b on the ln basis here).
 
 Osmotic coefficients follow analytically through Gibbs-Duhem with Robinson and Stokes' sigma
-function (see :mod:`saltbench.plugins._dh_terms`); a term b I in ln gamma± gives b I / 2 in phi.
+function (see :mod:`saltbench.models.dh_terms`); a term b I in ln gamma± gives b I / 2 in phi.
 """
 
 from __future__ import annotations
@@ -21,7 +21,7 @@ from __future__ import annotations
 import numpy as np
 
 from saltbench.models import ActivityModel, Parameter, Validity, hookimpl
-from saltbench.plugins import _dh_terms as dh
+from saltbench.models import dh_terms as dh
 from saltbench.plugins._ionic import IonicStrengthModel, size_g
 
 _A_SIZE = dict(unit="Å", lower=0.0, upper=20.0)

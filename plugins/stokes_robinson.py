@@ -25,14 +25,13 @@ from __future__ import annotations
 
 import numpy as np
 
+from saltbench.chemistry.gibbs_duhem import unit_nodes
 from saltbench.errors import ModelDomainError
 from saltbench.models import ActivityModel, Parameter, Validity, hookimpl
-from saltbench.plugins import _dh_terms as dh
+from saltbench.models import dh_terms as dh
 from saltbench.water import MOLAR_MASS_WATER
 
-_NODES = 64
-_U, _W = np.polynomial.legendre.leggauss(_NODES)
-_U, _W = 0.5 * (_U + 1.0), 0.5 * _W
+_U, _W = unit_nodes()  # Gauss-Legendre on [0, 1]
 
 
 class StokesRobinson(ActivityModel):

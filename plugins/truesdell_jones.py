@@ -10,7 +10,7 @@
 Evaluated on the natural-log basis (A = 3 A_phi); the b_i and b_dot are declared on the decadic
 basis in which they are published and multiplied by ln 10 inside. The mean is
 ln gamma± = (nu+ ln gamma+ + nu- ln gamma-) / nu; the osmotic coefficient is analytic (Robinson
-and Stokes' sigma function for the size term, b I / 2 for the linear one; see ``_dh_terms``).
+and Stokes' sigma function for the size term, b I / 2 for the linear one; see ``saltbench.models.dh_terms``).
 """
 
 from __future__ import annotations
@@ -20,7 +20,7 @@ import math
 import numpy as np
 
 from saltbench.models import ActivityModel, Parameter, Validity, hookimpl
-from saltbench.plugins import _dh_terms as dh
+from saltbench.models import dh_terms as dh
 
 LN10 = math.log(10.0)
 _A_SIZE = dict(unit="Å", lower=0.0, upper=20.0)

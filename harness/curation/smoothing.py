@@ -3,7 +3,7 @@
 ln gamma± is expanded as the Debye-Hückel-Pitzer long-range term (fixed by A_phi; Pitzer,
 J. Phys. Chem. 77, 268 (1973), eq. 19) plus linear combinations of basis functions of molality:
 powers m^p and the Pitzer-type exponential terms. Each basis function's osmotic partner follows
-from the Gibbs-Duhem integral (saltbench.models.evaluate), so a fit to osmotic data predicts
+from the Gibbs-Duhem integral (saltbench.chemistry.gibbs_duhem), so a fit to osmotic data predicts
 activity coefficients and vice versa with no further assumption. This is a data-checking tool,
 not an activity model: it has no physical parameters and is never ranked against models.
 """
@@ -15,11 +15,10 @@ from dataclasses import dataclass
 import numpy as np
 
 from saltbench.chemistry.electrolyte import Electrolyte
+from saltbench.chemistry.gibbs_duhem import dilution_grid, dilution_integral
 from saltbench.water.debye_huckel import DebyeHuckel
 
 B_PITZER = 1.2
-_X, _WX = np.polynomial.legendre.leggauss(64)
-_U, _W = 0.5 * (_X + 1.0), 0.5 * _WX  # Gauss-Legendre on [0, 1]
 
 
 def _dh_ln_gamma(m: np.ndarray, e: Electrolyte, dh: DebyeHuckel) -> np.ndarray:
@@ -43,9 +42,7 @@ def _basis(m: np.ndarray, e: Electrolyte, n_terms: int) -> np.ndarray:
 
 def _osmotic_partner(fn, m: np.ndarray) -> np.ndarray:
     # phi - 1 = f(m) - int_0^1 f(m u^2) 2u du, column by column
-    grid = (m[:, None] * _U[None, :] ** 2).ravel()
-    fg = fn(grid).reshape(m.size, _U.size, -1)
-    return fn(m) - np.einsum("nkj,k->nj", fg, 2 * _U * _W)
+    return fn(m) - dilution_integral(fn(dilution_grid(m)), m.size)
 
 
 @dataclass

@@ -35,16 +35,15 @@ from typing import NamedTuple
 import numpy as np
 
 from saltbench.chemistry.electrolyte import Electrolyte
+from saltbench.chemistry.gibbs_duhem import dilution_grid, osmotic_from_ln_gamma
 from saltbench.errors import FitError, ModelDomainError, ModelError, UserError
 from saltbench.fitting.data import FitData
 from saltbench.models.contract import ActivityModel, EvalContext, SolutionModel, call_model
-from saltbench.models.evaluate import GAUSS_NODES, gauss_legendre_unit, make_context
+from saltbench.models.evaluate import make_context
 from saltbench.models.salt_view import salt_view
 from saltbench.water.debye_huckel import DebyeHuckel
 
 _FD_STEP = float(np.finfo(float).eps) ** (1.0 / 3.0)
-_NODES, _WEIGHTS = gauss_legendre_unit(GAUSS_NODES)  # on [0, 1], as in saltbench.models.evaluate
-_GD_WEIGHTS = 2.0 * _NODES * _WEIGHTS  # the weights of int_0^1 ln gamma(m u^2) 2u du
 
 
 class GlobalParameter(NamedTuple):
@@ -122,7 +121,7 @@ class Block:
     def with_nodes(self) -> np.ndarray:
         """``union`` followed by the Gibbs-Duhem nodes m u^2 of each osmotic molality."""
         u_osm = self.union[:self.n_osm_unique]
-        return np.concatenate([self.union, (u_osm[:, None] * _NODES**2).ravel()])
+        return np.concatenate([self.union, dilution_grid(u_osm)])
 
     def uses(self, index: int) -> list[str]:
         return list(self.users.get(int(index), ()))
@@ -247,8 +246,7 @@ class FitProblem:
                             call_model(model, "ln_gamma_pm", block.with_nodes, values, ctx),
                             block.with_nodes.shape)
             ln_g = every[:block.union.size]
-            at_nodes = every[block.union.size:].reshape(n_osm, GAUSS_NODES)
-            phi = 1.0 + ln_g[:n_osm] - (at_nodes * _GD_WEIGHTS[None, :]).sum(axis=1)
+            phi = osmotic_from_ln_gamma(ln_g[:n_osm], every[block.union.size:])
         elif not n_osm:
             ln_g = _finite(model, "ln_gamma_pm",
                            call_model(model, "ln_gamma_pm", block.union, values, ctx),

@@ -35,25 +35,10 @@ import numpy as np
 
 from saltbench.chemistry.electrolyte import Electrolyte
 from saltbench.errors import FitError, UserError
+from saltbench.models.dh_terms import sigma
 from saltbench.water.debye_huckel import DebyeHuckel, debye_huckel_constants
 
 Direction = Literal["osmotic->activity", "activity->osmotic"]
-
-
-def sigma(x: np.ndarray | float) -> np.ndarray:
-    """The Debye-Hückel osmotic function sigma(x), eq. (4); sigma(0) = 1."""
-    x = np.asarray(x, dtype=float)
-    out = np.empty_like(x)
-    small = x < 0.05
-    xs = x[small]
-    # Series 3 sum_{n>=3} (-1)^n (2/n - 1) x^(n-3): the closed form loses digits as x -> 0.
-    series = np.zeros_like(xs)
-    for n in range(3, 18):
-        series += 3.0 * (-1) ** n * (2.0 / n - 1.0) * xs ** (n - 3)
-    out[small] = series
-    xl = x[~small]
-    out[~small] = 3.0 / xl**3 * (1.0 + xl - 1.0 / (1.0 + xl) - 2.0 * np.log1p(xl))
-    return out
 
 
 @dataclass(frozen=True)

@@ -91,17 +91,22 @@ class SaltView(ActivityModel):
         given = out.derivatives.get(q, {})
         return {name: given[k][0] for name, k in keys.items() if k in given}
 
-    def jacobian(self, m, params, ctx):
+    def _with_derivatives(self, m, params, ctx):
+        """The model's answer with derivatives, or None when it gives none of those asked for
+        (then the harness differences; a model need not give derivatives)."""
         if "osmotic" not in self.model.computes:
             return None
         q = ln_gamma_pm(ctx.electrolyte.name)
         out, keys = self._ask(m, params, ctx, (q, OSMOTIC), True)
-        return self._derivatives(out, keys, q), self._derivatives(out, keys, OSMOTIC)
-
-    def values_and_jacobian(self, m, params, ctx):
-        if "osmotic" not in self.model.computes:
+        asked = [name for name in keys if ctx.wrt is None or name in ctx.wrt]
+        if asked and not any(out.derivatives.get(q, {})):
             return None
-        q = ln_gamma_pm(ctx.electrolyte.name)
-        out, keys = self._ask(m, params, ctx, (q, OSMOTIC), True)
         return (out.values[q][0], out.values[OSMOTIC][0], self._derivatives(out, keys, q),
                 self._derivatives(out, keys, OSMOTIC))
+
+    def jacobian(self, m, params, ctx):
+        got = self._with_derivatives(m, params, ctx)
+        return None if got is None else got[2:]
+
+    def values_and_jacobian(self, m, params, ctx):
+        return self._with_derivatives(m, params, ctx)

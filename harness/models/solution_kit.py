@@ -30,9 +30,9 @@ from collections.abc import Callable, Mapping
 import numpy as np
 
 from saltbench.chemistry.electrolyte import Electrolyte, parse_formula
+from saltbench.chemistry.gibbs_duhem import dilution_weights, unit_nodes
 from saltbench.chemistry.solution import Composition
 from saltbench.models.contract import Conditions, ParameterKey, Request, SolutionModel
-from saltbench.models.evaluate import gauss_legendre_unit
 from saltbench.models.quantities import OSMOTIC, Quantity, kinds, ln_gamma, ln_gamma_pm
 from saltbench.water.debye_huckel import DebyeHuckel
 
@@ -257,7 +257,7 @@ def _cross_differentials(comp: Composition, mean_values, label, report) -> None:
 
 
 def _gibbs_duhem(model, comp, amounts, values, dh, mean_values, label, report) -> None:
-    u, w = gauss_legendre_unit()
+    u, _ = unit_nodes()
     phi = np.asarray(model.compute(_request(model, comp, values, dh, (OSMOTIC,)))
                      .values[OSMOTIC])[0]
     total = comp.molality.sum(axis=1)
@@ -268,7 +268,7 @@ def _gibbs_duhem(model, comp, amounts, values, dh, mean_values, label, report) -
     gd = np.ones(comp.n)
     for s in comp.salts:
         m_s = amounts[s.name]
-        integral = (along[s.name].reshape(comp.n, u.size) * (2.0 * u * w)[None, :]).sum(axis=1)
+        integral = (along[s.name].reshape(comp.n, u.size) * dilution_weights()[None, :]).sum(axis=1)
         gd += s.nu * m_s * (at[s.name] - integral) / total
     dev = np.abs(phi - gd)
     if dev.max() > GIBBS_DUHEM_TOLERANCE:
