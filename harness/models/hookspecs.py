@@ -18,7 +18,7 @@ from typing import TYPE_CHECKING, Any
 import pluggy
 
 if TYPE_CHECKING:  # pragma: no cover
-    from saltbench.models.contract import ActivityModel
+    from saltbench.models.contract import SolutionModel
 
 PROJECT = "saltbench"
 hookspec = pluggy.HookspecMarker(PROJECT)
@@ -57,8 +57,9 @@ def register_parameter_sets(context: PluginContext) -> list[Path]:
 
 # -- model phase -----------------------------------------------------------------------------
 @hookspec
-def register_models(context: PluginContext) -> list[ActivityModel]:
-    """Contribute activity models: instances of :class:`saltbench.models.ActivityModel`.
+def register_models(context: PluginContext) -> list[SolutionModel]:
+    """Contribute activity models: instances of :class:`saltbench.models.SolutionModel` (or of
+    :class:`saltbench.models.ActivityModel`, its one-salt form).
 
     Called once when the plugin manager is built. Model ids must be unique across all plugins;
     a duplicate is reported with both plugins' names and the later one is ignored.

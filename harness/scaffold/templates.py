@@ -5,53 +5,80 @@ from __future__ import annotations
 MODEL = '''"""{display} — an in-house activity model for saltbench.
 
 Replace the formula below with your own and cite its publication here (equation numbers too).
-The template is the Hückel form with one ion size and a linear term,
-    ln gamma± = -A |z+ z-| sqrt(I) / (1 + B a sqrt(I)) + b I,
-with its Gibbs-Duhem-consistent osmotic coefficient, so the generated test passes as written.
+The template is a Debye-Hückel form with one ion size a and a coefficient lambda for each
+cation-anion pair, for solutions of any number of salts (natural-log basis, A = 3 A_phi):
+
+    ln gamma_i = -A z_i^2 sqrt(I) / (1 + B a sqrt(I)) + sum_k lambda_ik m_k,
+
+with the osmotic coefficient that follows from the same excess Gibbs energy,
+
+    phi - 1 = [-(2/3) A I^(3/2) sigma(B a sqrt(I)) + sum_c sum_a lambda_ca m_c m_a] / sum_i m_i,
+
+so the generated test passes as written. Derivatives with respect to the parameters are left to
+the harness (finite differences); return them in ``Computed.derivatives`` to make fits faster.
 """
 
 from __future__ import annotations
 
 import numpy as np
 
-from saltbench.models import ActivityModel, Parameter, Validity, hookimpl
+from saltbench.models import (
+    Computed,
+    Parameter,
+    ParameterKey,
+    SolutionModel,
+    Validity,
+    hookimpl,
+)
+from saltbench.models.dh_terms import sigma
 
 __version__ = "0.1.0"
 
 
-def _sigma(x):
-    # sigma(x) = 3/x^3 [1 + x - 1/(1 + x) - 2 ln(1 + x)] = 3 sum (-1)^n (n+1)/(n+3) x^n;
-    # the series is used below x = 1e-3, where the closed form loses digits
-    x = np.asarray(x, dtype=float)
-    small = x < 1e-3
-    xs = np.where(small, 1.0, x)
-    exact = 3.0 / xs**3 * (1.0 + xs - 1.0 / (1.0 + xs) - 2.0 * np.log1p(xs))
-    series = 1.0 - 1.5 * x + 1.8 * x**2 - 2.0 * x**3
-    return np.where(small, series, exact)
-
-
-class {cls}(ActivityModel):
+class {cls}(SolutionModel):
     id = "{model_id}"
     name = {display_literal}
     citation = "Your citation here (authors, journal, volume, pages, year)"
     parameters = (
-        Parameter("a", "a", "Å", 4.0, lower=1.0, upper=12.0, description="ion-size parameter"),
-        Parameter("b", "b", "kg/mol", 0.05, lower=-1.0, upper=1.0, linear=True,
-                  description="linear coefficient"),
+        Parameter("a", "a", "Å", 4.0, lower=1.0, upper=12.0, belongs_to="model",
+                  description="ion-size parameter"),
+        Parameter("lam", "λ", "kg/mol", 0.05, lower=-1.0, upper=1.0, linear=True,
+                  belongs_to="pair", description="cation-anion interaction coefficient"),
     )
     validity = Validity(max_ionic_strength=1.0, note="template: state your own range")
+    computes = frozenset({{"ln_gamma", "ln_gamma_pm", "osmotic"}})
+    mixtures = True
+    single_ion_convention = "the model's own single-ion form (template: state yours)"
 
-    def ln_gamma_pm(self, m, params, ctx):
-        e = ctx.electrolyte
-        s = np.sqrt(e.ionic_strength(m))
-        x = ctx.dh.b_gamma_per_angstrom * params["a"] * s
-        return -e.zz * ctx.dh.a_gamma * s / (1.0 + x) + params["b"] * e.ionic_strength(m)
-
-    def osmotic(self, m, params, ctx):
-        e = ctx.electrolyte
-        s = np.sqrt(e.ionic_strength(m))
-        x = ctx.dh.b_gamma_per_angstrom * params["a"] * s
-        return 1.0 - e.zz * ctx.dh.a_gamma * s * _sigma(x) / 3.0 + params["b"] * e.ionic_strength(m) / 2.0
+    def compute(self, request):
+        comp, cond = request.composition, request.conditions
+        m, z2 = comp.molality, comp.charges**2  # (N, K) and (K,)
+        i = comp.ionic_strength  # (N,)
+        s = np.sqrt(i)
+        total = m.sum(axis=1)
+        a = request.value(ParameterKey("a"))  # (S, 1): one value per parameter set
+        x = cond.b_gamma_per_angstrom * a * s  # (S, N)
+        dh = -cond.a_gamma * s / (1.0 + x)
+        ln_ions = dh[:, :, None] * z2  # (S, N, K)
+        phi = 1.0 - 2.0 * i * cond.a_gamma * s * sigma(x) / (3.0 * total)
+        for c in (ion for ion in comp.ions if ion.charge > 0):
+            for an in (ion for ion in comp.ions if ion.charge < 0):
+                lam = request.value(ParameterKey("lam", (c.name, an.name)))
+                jc, ja = comp.index(c.name), comp.index(an.name)
+                ln_ions[:, :, jc] += lam * m[:, ja]
+                ln_ions[:, :, ja] += lam * m[:, jc]
+                phi = phi + lam * m[:, jc] * m[:, ja] / total
+        values = {{}}
+        for q in request.quantities:
+            if q.kind == "ln_gamma":
+                values[q] = ln_ions[:, :, comp.index(q.of)]
+            elif q.kind == "ln_gamma_pm":
+                salt = comp.salt(q.of)
+                values[q] = (salt.nu_cation * ln_ions[:, :, comp.index(salt.cation.name)]
+                             + salt.nu_anion * ln_ions[:, :, comp.index(salt.anion.name)]) / salt.nu
+            elif q.kind == "osmotic":
+                values[q] = np.broadcast_to(phi, (request.n_sets, comp.n))
+        return Computed(values)
 
 
 @hookimpl
