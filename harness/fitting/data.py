@@ -1,9 +1,8 @@
 """In-memory fit data: the observations one fit sees, on the basis it fits them.
 
-Mean activity coefficients are fitted as ln(gamma±), with the first-order standard uncertainty
-u(ln gamma±) = u(gamma±) / gamma± (GUM, JCGM 100:2008, eq. 10, for y = ln x); osmotic
-coefficients are fitted as phi. Water activities are turned into phi = -ln(a_w) / (nu m M_w)
-with u(phi) = u(a_w) / (a_w nu m M_w) by the same rule. Molality is in mol/kg throughout.
+Each point's ``kind`` names the fitted property it belongs to (:mod:`saltbench.fitting.properties`:
+``ln_gamma``, ln(gamma±) of the salt; ``osmotic``, phi); curated values are converted to that
+basis by the property's registered conversion. Molality is in mol/kg throughout.
 """
 
 from __future__ import annotations
@@ -15,14 +14,10 @@ from functools import cached_property
 import numpy as np
 
 from saltbench.errors import UserError
-from saltbench.water.properties import MOLAR_MASS_WATER
+from saltbench.fitting.properties import LN_GAMMA_PROPERTY, OSMOTIC_PROPERTY, for_curated, names
 
-LN_GAMMA = "ln_gamma"
-OSMOTIC = "osmotic"
-KINDS = (LN_GAMMA, OSMOTIC)
-
-# Property names of the curated files (see DEVELOPERS.md) -> how they are fitted.
-_PROPERTIES = {"gamma_pm", "ln_gamma_pm", "log10_gamma_pm", "osmotic", "water_activity"}
+LN_GAMMA = LN_GAMMA_PROPERTY.name
+OSMOTIC = OSMOTIC_PROPERTY.name
 
 
 def _as_1d(name: str, values: object, n: int | None = None) -> np.ndarray:
@@ -64,9 +59,10 @@ class FitData:
             ds = np.full(n, ds.item(), dtype=object)
         if kind.shape != (n,) or ds.shape != (n,):
             raise UserError("fit data: kind and dataset must have one entry per point")
-        bad_kind = sorted({str(k) for k in kind} - set(KINDS))
+        bad_kind = sorted({str(k) for k in kind} - set(names()))
         if bad_kind:
-            raise UserError(f"fit data: unknown kind {bad_kind[0]!r} (expected ln_gamma or osmotic)")
+            raise UserError(f"fit data: unknown kind {bad_kind[0]!r} "
+                            f"(expected {' or '.join(names())})")
         if np.any(~np.isfinite(m)) or np.any(m <= 0):
             raise UserError("fit data: molalities must be positive finite numbers (mol/kg)")
         if np.any(~np.isfinite(v)):
@@ -89,32 +85,14 @@ class FitData:
         ``prop`` is ``gamma_pm`` (linear values), ``ln_gamma_pm``, ``log10_gamma_pm``,
         ``osmotic`` or ``water_activity`` (then ``nu``, the ions per formula unit, is needed).
         """
-        if prop not in _PROPERTIES:
-            raise UserError(f"fit data: cannot fit property {prop!r} "
-                            f"(expected one of {', '.join(sorted(_PROPERTIES))})")
+        fitted, convert = for_curated(prop)
         m = _as_1d("molality", molality)
         v = _as_1d("value", value, m.size)
         u = _as_1d("uncertainty", uncertainty, m.size)
-        if prop == "gamma_pm":
-            if np.any(v <= 0):
-                raise UserError(f"fit data {dataset!r}: gamma± must be positive")
-            kind, val, unc = LN_GAMMA, np.log(v), u / v
-        elif prop == "ln_gamma_pm":
-            kind, val, unc = LN_GAMMA, v, u
-        elif prop == "log10_gamma_pm":
-            kind, val, unc = LN_GAMMA, v * np.log(10.0), u * np.log(10.0)
-        elif prop == "osmotic":
-            kind, val, unc = OSMOTIC, v, u
-        else:
-            if nu is None:
-                raise UserError("fit data: water activities need nu (ions per formula unit)")
-            if np.any(v <= 0) or np.any(v > 1):
-                raise UserError(f"fit data {dataset!r}: water activity must lie in (0, 1]")
-            scale = nu * m * MOLAR_MASS_WATER
-            kind, val, unc = OSMOTIC, -np.log(v) / scale, u / (v * scale)
+        val, unc = convert(m, v, u, nu, dataset)
         n = m.size
-        return cls(m, val, unc, np.full(n, kind, dtype=object), np.full(n, dataset, dtype=object),
-                   electrolyte)
+        return cls(m, val, unc, np.full(n, fitted.name, dtype=object),
+                   np.full(n, dataset, dtype=object), electrolyte)
 
     @classmethod
     def concat(cls, parts: Iterable[FitData]) -> FitData:
@@ -195,7 +173,7 @@ class FitData:
     def select(self, kinds: str | Iterable[str]) -> FitData:
         """Only the points of the given kind(s): ``"ln_gamma"``, ``"osmotic"``."""
         wanted = {kinds} if isinstance(kinds, str) else set(kinds)
-        unknown = wanted - set(KINDS)
+        unknown = wanted - set(names())
         if unknown:
             raise UserError(f"fit data: unknown kind {min(unknown)!r}")
         return self.subset(np.isin(self.kind.astype(str), sorted(wanted)))
