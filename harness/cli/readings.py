@@ -6,9 +6,6 @@ import click
 
 from saltbench.cli.output import emit, emit_ingest, format_option, table
 
-KIND_LABEL = {"emf": "E", "electrode_calibration": "E", "isopiestic": "m_ref",
-              "water_activity": "a_w", "vapour_pressure": "p"}
-
 
 @click.group()
 def readings() -> None:

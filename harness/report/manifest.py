@@ -12,7 +12,6 @@ from __future__ import annotations
 import json
 import math
 import platform
-import sys
 from dataclasses import dataclass, field
 from importlib import metadata
 from pathlib import Path
@@ -175,7 +174,3 @@ def check_agreement(manifest: dict, new: dict) -> Agreement:
         if old_pl.get(p["name"]) != p.get("version"):
             notes.append(f"plugin {p['name']} {old_pl.get(p['name'])} then, {p.get('version')} now")
     return Agreement(not diffs, diffs, notes)
-
-
-def python_argv() -> list[str]:
-    return list(sys.argv)
