@@ -32,6 +32,7 @@ from __future__ import annotations
 import math
 from collections.abc import Iterable, Mapping
 from dataclasses import replace
+from typing import Any
 
 import numpy as np
 
@@ -66,7 +67,7 @@ class _Problems(list):
 
 
 def _call(problems: _Problems, e: Electrolyte, model: ActivityModel, method: str,
-          m: np.ndarray, params: Mapping[str, float], ctx: EvalContext) -> object:
+          m: np.ndarray, params: Mapping[str, float], ctx: EvalContext) -> Any:  # unchecked plugin output
     try:
         return getattr(model, method)(m, params, ctx)
     except Exception as exc:  # the kit reports, it does not crash on the plugin's bug

@@ -21,6 +21,7 @@ from dataclasses import dataclass, field
 from importlib import metadata
 from pathlib import Path
 from types import ModuleType
+from typing import Any
 
 import pluggy
 
@@ -76,7 +77,7 @@ class PluginRegistry:
             hint = f" (did you mean {close[0]!r}?)" if close else ""
             raise UserError(f"unknown model {model_id!r}{hint}; known models: {known}") from None
 
-    def call_list_hook(self, name: str, **kwargs: object) -> list[tuple[PluginRecord, object]]:
+    def call_list_hook(self, name: str, **kwargs: object) -> list[tuple[PluginRecord, Any]]:  # items unchecked
         """Call a list-returning hook plugin by plugin, in load order, isolating failures.
 
         Returns (plugin, item) pairs. pluggy passes each implementation only the keyword

@@ -15,6 +15,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 from functools import lru_cache
+from typing import Any
 
 import numpy as np
 
@@ -57,7 +58,7 @@ def _checked(model: ActivityModel, what: str, value: object, shape: tuple[int, .
 
 
 def call_model(model: ActivityModel, method: str, m: np.ndarray, params: Params,
-               ctx: EvalContext) -> object:
+               ctx: EvalContext) -> Any:  # the plugin's return, unchecked: callers check its shape
     """Call one model function, turning any exception of the plugin's into a ModelError."""
     try:
         return getattr(model, method)(m, params, ctx)

@@ -43,7 +43,7 @@ def clean(value):
 def software() -> dict:
     from saltbench import __version__
 
-    out = {"saltbench": __version__, "python": platform.python_version()}
+    out: dict[str, str | None] = {"saltbench": __version__, "python": platform.python_version()}
     for lib in LIBRARIES:
         try:
             out[lib] = metadata.version(lib)
