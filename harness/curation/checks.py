@@ -249,8 +249,8 @@ def _neighbours(e: Electrolyte, groups: dict[str, pd.DataFrame], rep: CheckRepor
 
 def check_electrolyte(e: Electrolyte, pts: pd.DataFrame) -> CheckReport:
     rep = CheckReport()
-    groups = {key: g.sort_values("molality") for key, g in pts.groupby("dataset", sort=True)}
-    fits = {}
+    groups = {str(key): g.sort_values("molality") for key, g in pts.groupby("dataset", sort=True)}
+    fits: dict[str, tuple] = {}
     for key, g in groups.items():
         m, y, u, kind = _series(g)
         if kind == "water_activity":
