@@ -13,7 +13,7 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 from functools import cached_property
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 import pandas as pd
@@ -22,6 +22,9 @@ from saltbench.store import queries
 from saltbench.store.bundled import sync_bundled
 from saltbench.store.connection import Store, open_store
 from saltbench.store.ingest import IngestReport, ingest
+
+if TYPE_CHECKING:
+    from saltbench.fitting.uncertainty import Propagation
 
 
 class Session:
@@ -226,7 +229,7 @@ class Prediction:
     params: Any
     basis: Any
     evaluation: Any
-    uncertainty: dict | None
+    uncertainty: Propagation | None
     #: per molality, the reasons it is an extrapolation (empty: inside the ground of set and model)
     extrapolation: list[list[str]]
 
@@ -247,7 +250,7 @@ def extrapolation_reasons(model, electrolyte, params, m: np.ndarray, basis) -> l
             why.append(f"beyond the range {model.id}'s authors claim ({claim:g} mol/kg)")
         if basis.off_temperature:
             why.append(f"at {t:g} K, the set holds values for {basis.set_temperature_k:g} K")
-        elif model.validity and not model.validity.covers_temperature(t):
+        elif span is not None and not model.validity.covers_temperature(t):
             why.append(f"at {t:g} K, outside the {span[0]:g}-{span[1]:g} K its authors claim")
         out.append(why)
     return out
@@ -350,9 +353,9 @@ def compare(session: Session, electrolytes, settings=None, *, jobs: int = 1, cur
     from saltbench.comparison.sources import source_disagreements
 
     for task in tasks:
-        found = source_disagreements(task.data, settings.tol_ln_gamma, settings.tol_phi)
-        if found:
-            comp.disagreements[task.electrolyte.name] = found
+        disagreeing = source_disagreements(task.data, settings.tol_ln_gamma, settings.tol_phi)
+        if disagreeing:
+            comp.disagreements[task.electrolyte.name] = disagreeing
     return comp
 
 

@@ -57,7 +57,3 @@ class ModelDomainError(UserError):
 
 class FitError(SaltbenchError):
     """A fit could not be set up or did not produce a usable result."""
-
-
-class PluginError(UserError):
-    """A plugin could not be loaded or registered."""

@@ -38,7 +38,7 @@ class Bromley(ActivityModel):
     id = "bromley"
     name = "Bromley"
     citation = _CITATION
-    parameters = (
+    parameters: tuple[Parameter, ...] = (
         Parameter("B", "B", "kg/mol", 0.05, lower=-0.5, upper=0.5, linear=True,
                   description="Bromley's interaction parameter of the salt (decadic basis)"),
     )

@@ -24,7 +24,7 @@ from saltbench.models import ActivityModel, Parameter, Validity, hookimpl
 from saltbench.models import dh_terms as dh
 from saltbench.plugins._ionic import IonicStrengthModel, size_g
 
-_A_SIZE = dict(unit="Å", lower=0.0, upper=20.0)
+_A_SIZE: dict = dict(unit="Å", lower=0.0, upper=20.0)
 
 
 def _i_s(m, ctx):
@@ -50,7 +50,7 @@ class ExtendedDebyeHuckel(ActivityModel):
     id = "extended-debye-huckel"
     name = "Extended Debye-Hückel (one ion size)"
     citation = "P. Debye and E. Hückel, Phys. Z. 24, 185-206 (1923)"
-    parameters = (
+    parameters: tuple[Parameter, ...] = (
         Parameter("a", "a", default=4.0, description="distance of closest approach of the ions",
                   **_A_SIZE),
     )

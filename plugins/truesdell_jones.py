@@ -23,8 +23,8 @@ from saltbench.models import ActivityModel, Parameter, Validity, hookimpl
 from saltbench.models import dh_terms as dh
 
 LN10 = math.log(10.0)
-_A_SIZE = dict(unit="Å", lower=0.0, upper=20.0)
-_B_LIN = dict(unit="kg/mol", lower=-1.0, upper=1.0, linear=True)
+_A_SIZE: dict = dict(unit="Å", lower=0.0, upper=20.0)
+_B_LIN: dict = dict(unit="kg/mol", lower=-1.0, upper=1.0, linear=True)
 
 
 class TruesdellJones(ActivityModel):

@@ -86,11 +86,3 @@ def _mass_of(formula: str) -> float:
 KNOWN_IONS: dict[str, Ion] = {
     f: Ion(f, z, _mass_of(f) / 1000.0) for f, z in _KNOWN_CHARGES.items()
 }
-
-
-def known_cations() -> list[Ion]:
-    return [ion for ion in KNOWN_IONS.values() if ion.charge > 0]
-
-
-def known_anions() -> list[Ion]:
-    return [ion for ion in KNOWN_IONS.values() if ion.charge < 0]

@@ -107,7 +107,9 @@ class Composition:
         names = list(ions)
         m = np.column_stack([columns[k] for k in names])
         salts = tuple(dict.fromkeys(salt for salt, _ in parts))
-        return cls(tuple(ions[k] for k in names), m, temperature_k, pressure_pa, salts)
+        t = np.atleast_1d(np.asarray(temperature_k, dtype=float))
+        p = None if pressure_pa is None else np.atleast_1d(np.asarray(pressure_pa, dtype=float))
+        return cls(tuple(ions[k] for k in names), m, t, p, salts)
 
     # -- reading ----------------------------------------------------------------------------
     @property

@@ -63,7 +63,7 @@ def plugins(app, fmt: str) -> None:
     from saltbench.models.discovery import build_registry
 
     reg = build_registry(app.plugin_files, app.disabled)
-    records = []
+    records: list[dict] = []
     for i, rec in enumerate(reg.plugins, start=1):
         records.append({"order": i, "name": rec.name, "kind": rec.kind, "path": rec.path,
                         "version": rec.version, "status": "loaded",

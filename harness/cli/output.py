@@ -88,7 +88,7 @@ def to_csv(records: Sequence[dict[str, Any]], columns: Sequence[str] | None = No
     return buf.getvalue()
 
 
-def emit(records: Sequence[dict[str, Any]], fmt: str, columns: Sequence[str] | None = None,
+def emit(records: Sequence[dict[Any, Any]], fmt: str, columns: Sequence[str] | None = None,
          headers: dict[str, str] | None = None, json_obj: Any = None,
          digits: dict[str, int] | None = None) -> None:
     if fmt == "json":

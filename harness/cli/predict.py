@@ -56,7 +56,7 @@ def predict(app, electrolyte: str, model_id: str, molalities: str, params_choice
     p = run(s, electrolyte, model_id, m, params_choice, temperature_k,
             "current" if current_constant else "published")
     e, model, params, ev, unc = p.electrolyte, p.model, p.params, p.evaluation, p.uncertainty
-    records = []
+    records: list[dict] = []
     for i in range(m.size):
         r = {"molality": float(m[i]), "gamma_pm": float(ev.gamma_pm[i]),
              "ln_gamma_pm": float(ev.ln_gamma_pm[i]), "osmotic": float(ev.osmotic[i]),

@@ -6,9 +6,6 @@ import click
 
 from saltbench.cli.output import emit, emit_ingest, format_option, table
 
-KIND_LABEL = {"emf": "E", "electrode_calibration": "E", "isopiestic": "m_ref",
-              "water_activity": "a_w", "vapour_pressure": "p"}
-
 
 @click.group()
 def readings() -> None:
@@ -77,7 +74,7 @@ def reduce(app, keys: tuple[str, ...], all_: bool, method: str | None, fmt: str)
     out = []
     for key in todo:
         red, dataset = reduce_stored(s, key, method)
-        rec = {"set": key, "method": red.method.name, "method_version": red.method.version,
+        rec: dict = {"set": key, "method": red.method.name, "method_version": red.method.version,
                "property": red.property, "dataset": dataset, "n_points": int(red.value.size),
                "note": red.note, "details": red.details, "cautions": list(red.cautions)}
         if red.property is not None:
@@ -195,7 +192,7 @@ def show(app, key: str, plot_path: str | None, fmt: str) -> None:
             "temperature_k": ms.temperature_k, "source": ms.source, "typed": ms.typed,
             "method": ms.method, "method_version": ms.method_version, "settings": ms.settings,
             "note": ms.note, "file": ms.path}
-    ext_doc = None
+    ext_doc: dict | None = None
     if ext is not None:
         ext_doc = {"e_standard_v": ext.e_standard, "u_e_standard_v": ext.u_e_standard,
                    "ion_size_angstrom": ext.ion_size, "ion_size_fitted": ext.ion_size_fitted,
@@ -215,7 +212,7 @@ def show(app, key: str, plot_path: str | None, fmt: str) -> None:
     for k, v in ms.settings.items():
         click.echo(f"  {k}: {v}")
     click.echo("  " + table(_display(rows)).replace("\n", "\n  "))
-    if ext_doc is not None:
+    if ext is not None and ext_doc is not None:
         click.echo(f"\nE° extrapolation ({ext.method}; u from {ext.uncertainty_basis}):")
         click.echo(f"  E° = {ext.e_standard:.6f} V ± {ext.u_e_standard:.2g} V, ion size "
                    f"{ext.ion_size:.2f} Å ({'fitted' if ext.ion_size_fitted else 'fixed'})")

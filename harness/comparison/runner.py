@@ -50,7 +50,7 @@ class Comparison:
 _REGISTRY = None
 
 
-def _worker_registry(plugin_files: Sequence[str], disabled: Sequence[str]):
+def _worker_registry(plugin_files: Sequence[str | os.PathLike[str]], disabled: Sequence[str]):
     global _REGISTRY
     if _REGISTRY is None:
         from saltbench.models.discovery import build_registry
@@ -59,7 +59,7 @@ def _worker_registry(plugin_files: Sequence[str], disabled: Sequence[str]):
     return _REGISTRY
 
 
-def run_task(task: ElectrolyteTask, settings: CompareSettings, plugin_files: Sequence[str],
+def run_task(task: ElectrolyteTask, settings: CompareSettings, plugin_files: Sequence[str | os.PathLike[str]],
              disabled: Sequence[str], curves: bool, registry=None) -> tuple[str, list[ModelOutcome]]:
     from saltbench.models.discovery import plugin_output_to_stderr
     from saltbench.models.timelimit import PluginTimeout, time_limit
@@ -110,7 +110,7 @@ def default_jobs() -> int:
 
 
 def run_comparison(tasks: list[ElectrolyteTask], settings: CompareSettings, *, registry,
-                   plugin_files: Sequence[str] = (), disabled: Sequence[str] = (), jobs: int = 1,
+                   plugin_files: Sequence[str | os.PathLike[str]] = (), disabled: Sequence[str] = (), jobs: int = 1,
                    curves: bool = False, progress: bool = False) -> Comparison:
     comp = Comparison(settings)
     comp.plugin_problems = [str(p) for p in registry.problems]

@@ -102,7 +102,7 @@ def _entry(p: str, key: str, n: int, fields: dict[str, tuple[str, int]]) -> Sour
     doi, doi_line = fields.get("doi", ("", 0))
     if doi and not DOI_PATTERN.match(doi):
         raise InputFileError(p, doi_line, "doi", f"not a DOI (expected 10.NNNN/...): {doi!r}")
-    values = {k: v for k, (v, _) in fields.items() if k != "year"}
+    values: dict = {k: v for k, (v, _) in fields.items() if k != "year"}
     return Source(key=key, year=int(year_text), file=p, line=n, **values)
 
 

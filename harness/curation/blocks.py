@@ -184,7 +184,7 @@ def parse_block(path: str | Path, magic_prefix: str, multi: frozenset[str] = fro
         raise InputFileError(p, columns_line, None, "column names repeat")
     if any(not c for c in columns):
         raise InputFileError(p, columns_line, None, "empty column name")
-    rows = []
+    rows: list[tuple[int, dict[str, str]]] = []
     for offset, cells in enumerate(reader):
         n = columns_line + 1 + offset
         if not cells or all(not c.strip() for c in cells):

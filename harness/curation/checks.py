@@ -152,7 +152,7 @@ def _pools(groups: dict[str, pd.DataFrame]) -> list[_Pool]:
     return pools
 
 
-def _nearest(pool: _Pool, i: int, active: np.ndarray, below: bool, k: int = 3) -> np.ndarray:
+def _nearest(pool: _Pool, i: int | np.integer, active: np.ndarray, below: bool, k: int = 3) -> np.ndarray:
     """Up to ``k`` nearest active points on one side of point i, its own dataset's first."""
     side = (pool.m < pool.m[i]) if below else (pool.m > pool.m[i])
     idx = np.flatnonzero(side & active)
@@ -161,7 +161,7 @@ def _nearest(pool: _Pool, i: int, active: np.ndarray, below: bool, k: int = 3) -
     return np.concatenate([own, idx[pool.dataset[idx] != pool.dataset[i]]])[:k] if len(own) < k else own[:k]
 
 
-def _judged(m: np.ndarray, i: int, lo: np.ndarray, hi: np.ndarray) -> bool:
+def _judged(m: np.ndarray, i: int | np.integer, lo: np.ndarray, hi: np.ndarray) -> bool:
     """Whether point i's neighbours are close enough to judge it by (see the ratios above)."""
     ratio = lambda a, b: max(a, b) / min(a, b)
     if len(lo) and len(hi):
@@ -249,8 +249,8 @@ def _neighbours(e: Electrolyte, groups: dict[str, pd.DataFrame], rep: CheckRepor
 
 def check_electrolyte(e: Electrolyte, pts: pd.DataFrame) -> CheckReport:
     rep = CheckReport()
-    groups = {key: g.sort_values("molality") for key, g in pts.groupby("dataset", sort=True)}
-    fits = {}
+    groups = {str(key): g.sort_values("molality") for key, g in pts.groupby("dataset", sort=True)}
+    fits: dict[str, tuple] = {}
     for key, g in groups.items():
         m, y, u, kind = _series(g)
         if kind == "water_activity":

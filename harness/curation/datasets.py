@@ -6,6 +6,7 @@ bibliography are checked at ingest, where the known sources are at hand.
 
 from __future__ import annotations
 
+import builtins
 import hashlib
 import json
 import re
@@ -60,11 +61,11 @@ class Dataset:
     declared_ions: dict[str, Ion] = field(default_factory=dict)
     meta: dict[str, str] = field(default_factory=dict)
 
-    @property
+    @builtins.property  # the field ``property`` above shadows the builtin in this class body
     def from_memory(self) -> bool:
         return self.typed.lower().startswith("from memory of")
 
-    @property
+    @builtins.property
     def ln_gamma(self) -> np.ndarray:
         return np.log(self.value)
 
@@ -229,7 +230,7 @@ def read_dataset(path: str | Path, text: str | None = None) -> Dataset:
         precs.append(prec)
         lines.append(n)
 
-    x = np.array(xs)
+    x_arr = np.array(xs)
     printed = np.array(vs)
     u_printed = np.array(us)
     # to the linear basis
@@ -251,21 +252,21 @@ def read_dataset(path: str | Path, text: str | None = None) -> Dataset:
                              "positive finite value in the linear basis")
     # to molality
     if scale == "molarity":
-        m = units.molality_from_molarity(x, np.array(dens), electrolyte.molar_mass)
+        m = units.molality_from_molarity(x_arr, np.array(dens), electrolyte.molar_mass)
         if np.any(m <= 0):
             bad = lines[int(np.argmax(m <= 0))]
             raise InputFileError(p, bad, "density", "density too low for this molarity")
         if prop.value == "gamma_pm":
             rho_w = water_state(temperature_k).density / 1000.0
-            factor = units.gamma_from_molar(1.0, x, m, rho_w)
+            factor = units.gamma_from_molar(1.0, x_arr, m, rho_w)
             value, u_lin = value * factor, u_lin * factor
     elif scale == "mole_fraction":
-        m = units.molality_from_mole_fraction(x)
+        m = units.molality_from_mole_fraction(x_arr)
         if prop.value == "gamma_pm":
             factor = units.gamma_from_rational(1.0, m, electrolyte.nu)
             value, u_lin = value * factor, u_lin * factor
     else:
-        m = x
+        m = x_arr
     order = np.argsort(m)
     if np.any(np.diff(m[order]) <= 0):
         raise InputFileError(p, None, x_col, "two rows convert to the same molality")

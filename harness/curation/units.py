@@ -50,9 +50,9 @@ def molality_from_mole_fraction(x: np.ndarray) -> np.ndarray:
     return x / ((1.0 - x) * MOLAR_MASS_WATER)
 
 
-def gamma_from_rational(f: np.ndarray, m: np.ndarray, nu: int) -> np.ndarray:
+def gamma_from_rational(f: np.ndarray | float, m: np.ndarray, nu: int) -> np.ndarray:
     return np.asarray(f) / (1.0 + nu * np.asarray(m) * MOLAR_MASS_WATER)
 
 
-def gamma_from_molar(y: np.ndarray, c: np.ndarray, m: np.ndarray, water_density_kg_per_l: float) -> np.ndarray:
+def gamma_from_molar(y: np.ndarray | float, c: np.ndarray, m: np.ndarray, water_density_kg_per_l: float) -> np.ndarray:
     return np.asarray(y) * np.asarray(c) / (np.asarray(m) * water_density_kg_per_l)

@@ -10,6 +10,7 @@ from __future__ import annotations
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass
 from functools import cached_property
+from typing import Any
 
 import numpy as np
 
@@ -111,7 +112,7 @@ class FitData:
                    names.pop() if names else None)
 
     @classmethod
-    def from_frame(cls, frame: object, *, electrolyte: str | None = None,
+    def from_frame(cls, frame: Any, *, electrolyte: str | None = None,
                    nu: int | None = None) -> FitData:
         """From a table with columns ``molality, value, uncertainty, property, dataset``.
 

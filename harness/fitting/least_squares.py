@@ -152,6 +152,7 @@ class _Projection:
             self.failures.append(str(exc))
             self.key = None
             return np.full(self.p.n, np.nan)
+        assert self.resid is not None  # set_point has just set it
         return self.resid
 
     def jac(self, x: np.ndarray, *_: object) -> np.ndarray:

@@ -38,7 +38,7 @@ from saltbench.chemistry.electrolyte import Electrolyte
 from saltbench.chemistry.gibbs_duhem import dilution_grid, osmotic_from_ln_gamma
 from saltbench.errors import FitError, ModelDomainError, ModelError, UserError
 from saltbench.fitting.data import FitData
-from saltbench.models.contract import ActivityModel, EvalContext, SolutionModel, call_model
+from saltbench.models.contract import ActivityModel, EvalContext, Parameter, SolutionModel, call_model
 from saltbench.models.evaluate import make_context
 from saltbench.models.salt_view import salt_view
 from saltbench.water.debye_huckel import DebyeHuckel
@@ -337,7 +337,7 @@ class FitProblem:
 
         ``base`` is ``predict(theta)`` when the caller has it (saves one evaluation).
         """
-        cols = np.asarray(cols, dtype=np.intp).tolist()
+        cols = list(np.asarray(cols, dtype=np.intp).tolist())
         if len(self.blocks) == 1:
             return self._block_derivatives(self.blocks[0], theta, cols, base)
         out = np.zeros((self.n, len(cols)))
@@ -373,6 +373,7 @@ class FitProblem:
             if b.has_osm:
                 rows = np.concatenate((rows, np.array([phi for _, _, (_, phi) in given])),
                                       axis=1)
+            assert analytic is not None  # a column is given only from analytic derivatives
             if not math.isfinite(np.add.reduce(rows, axis=None)):
                 self._raise_non_finite(b, analytic, [names for _, names, _ in given])
             spread = rows.T[b.gather]
@@ -389,6 +390,7 @@ class FitProblem:
                 y_base = self.predict_block(b, theta)
             for j, c in missing:
                 out[:, j] = self._difference_column(b, theta, c, y_base)
+        assert out is not None  # every used column was given or missing, and both fill ``out``
         return out
 
     def _analytic_column(self, block: Block, analytic: _Jacobian | None, names: list[str]
@@ -535,7 +537,7 @@ def _global_name(param_name: str, scope: str, electrolyte: Electrolyte, joint: b
     return f"{param_name}[{electrolyte.name}]"
 
 
-def build_problem(model: ActivityModel, items: Sequence[tuple[Electrolyte, FitData]], *,
+def build_problem(model: SolutionModel, items: Sequence[tuple[Electrolyte, FitData]], *,
                   joint: bool = False, fixed: Mapping[str, float] | None = None,
                   start: Mapping[str, float] | None = None, free: Iterable[str] | None = None,
                   bounds: Mapping[str, tuple[float, float]] | None = None,
@@ -566,6 +568,7 @@ def build_problem(model: ActivityModel, items: Sequence[tuple[Electrolyte, FitDa
                 f"model {model.id} does not support {electrolyte.charge_label} electrolytes like "
                 f"{electrolyte.name} (supported: {types})")
         mapping = {}
+        p: Parameter | GlobalParameter  # a model's parameter here, a fit's global one below
         for p in model.parameters_for(electrolyte):
             gname = _global_name(p.name, p.scope, electrolyte, joint)
             if gname not in index:

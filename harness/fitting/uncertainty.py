@@ -99,7 +99,8 @@ def propagate(model: SolutionModel, electrolyte: Electrolyte | str,
     m = np.atleast_1d(np.asarray(molality, dtype=float))
     n = m.size
     data = FitData(np.concatenate([m, m]), np.zeros(2 * n), np.ones(2 * n),
-                   np.array(["ln_gamma"] * n + ["osmotic"] * n, dtype=object), "propagation")
+                   np.array(["ln_gamma"] * n + ["osmotic"] * n, dtype=object),
+                   np.asarray("propagation", dtype=object))
     base = build_problem(model, [(e, data)], dh=dh,
                          temperature_k=temperature_k if temperature_k is not None else 298.15)
     unknown = [x for x in free_model if x not in base.names]

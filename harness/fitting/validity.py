@@ -59,7 +59,7 @@ SPARSE_GAP_ABOVE_1 = 1.5
 def sparse_stretches(molality: np.ndarray) -> list[tuple[float, float]]:
     """(a, b) for each pair of neighbouring data molalities too far apart to judge between."""
     grid = np.unique(np.asarray(molality, float))
-    out = []
+    out: list[tuple[float, float]] = []
     for a, b in zip(grid[:-1], grid[1:]):
         if b / a > SPARSE_RATIO or (b > 1.0 and b - max(a, 1.0) > SPARSE_GAP_ABOVE_1):
             if out and out[-1][1] == a:
@@ -196,7 +196,7 @@ def _refit_scan(problem: FitProblem, tol_ln: float, tol_phi: float, folds: int, 
         sub = problem.subset(sel)
         # The top trial is the cross-validation of all the data, which a caller such as the
         # comparison has often run already (same problem, same start): reuse it.
-        if start is None and _same_points(full_cv, sub, min(folds, n), scheme):
+        if start is None and full_cv is not None and _same_points(full_cv, sub, min(folds, n), scheme):
             cv = full_cv
         else:
             cv = cross_validate_problem(sub, min(folds, n), scheme, start=start,

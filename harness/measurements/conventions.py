@@ -111,7 +111,8 @@ def ion_molalities(composition: Composition) -> tuple[dict[str, Ion], dict[str, 
 def ionic_strength(composition: Composition) -> np.ndarray:
     """I = 1/2 sum_i m_i z_i^2 in mol/kg."""
     ions, mol = ion_molalities(composition)
-    return 0.5 * sum(mol[n] * ions[n].charge ** 2 for n in ions)
+    # a sum of arrays (numpy scalars for scalar molalities); mypy types it by the int start 0
+    return 0.5 * sum(mol[n] * ions[n].charge ** 2 for n in ions)  # type: ignore[return-value]
 
 
 def _setup(composition: Composition, temperature_k: float, dh: DebyeHuckel | None):

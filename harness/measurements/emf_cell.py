@@ -201,11 +201,11 @@ def extrapolate_standard_emf(cell: CellSpec, molality: np.ndarray, emf: np.ndarr
         raise UserError("u(E) must be positive")
 
     def model(p: np.ndarray) -> np.ndarray:
-        a = p[2] if fit_a else float(ion_size)
+        a = p[2] if ion_size is None else float(ion_size)
         # E = E° + slope m - k ln(Qm) + k DH(a): eq. (2) solved for E, so residuals are in E.
         return p[0] + p[1] * m - k * np.log(cell.q * m) + k * _dh_term(cell, m, a, dh)
 
-    a0 = float(ion_size_start if fit_a else ion_size)
+    a0 = float(ion_size_start if ion_size is None else ion_size)
     ep0 = e_prime(cell, m, e, a0, temperature_k, dh)
     slope0, e0 = np.polyfit(m, ep0, 1)
     p0 = np.array([e0, slope0, a0] if fit_a else [e0, slope0])
@@ -228,7 +228,7 @@ def extrapolate_standard_emf(cell: CellSpec, molality: np.ndarray, emf: np.ndarr
         basis = "residual scatter"
     else:
         basis = "u(E) as given"
-    a_fit = float(sol.x[2]) if fit_a else float(ion_size)
+    a_fit = float(sol.x[2]) if ion_size is None else float(ion_size)
     ep = e_prime(cell, m, e, a_fit, temperature_k, dh)
     line = sol.x[0] + sol.x[1] * m
     return StandardEmf(

@@ -13,6 +13,7 @@ import json
 import re
 from dataclasses import dataclass, field
 from pathlib import Path
+from typing import Any
 
 import numpy as np
 
@@ -72,7 +73,7 @@ class MeasurementSet:
     method: str
     method_version: str
     note: str
-    settings: dict[str, object]
+    settings: dict[str, Any]  # header values by name (numbers, text, None), converted where used
     molality: np.ndarray  # mol/kg; NaN where a calibration row has none
     u_molality: np.ndarray
     activity: np.ndarray  # calibration standards' activities; NaN otherwise

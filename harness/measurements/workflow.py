@@ -9,6 +9,7 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 from dataclasses import dataclass
+from typing import TYPE_CHECKING, cast
 
 import numpy as np
 
@@ -17,6 +18,9 @@ from saltbench.errors import UserError
 from saltbench.measurements import conventions as conv
 from saltbench.measurements.reduce import Reduction, reduce_set
 from saltbench.store import measurements as store_ms
+
+if TYPE_CHECKING:
+    from saltbench.measurements.gibbs_duhem import GibbsDuhemResult
 
 MACINNES_MODEL = "pitzer"
 MACINNES_PARAMS = "pitzer-mayorga-1973"
@@ -92,7 +96,7 @@ class Conversion:
     electrolyte: Electrolyte
     dataset: str
     direction: str
-    result: object  # GibbsDuhemResult
+    result: GibbsDuhemResult
 
 
 def convert_stored(session, electrolyte: str, from_: str, dataset: str | None = None,
@@ -231,7 +235,7 @@ def ion_activity(session, salts: Sequence[tuple[Electrolyte, float]], convention
         sources.append(f"eps(i, k) from {_set_note(session, SIT_SET)}")
         res = conv.sit(comp, eps, temperature_k, missing=missing)
         if res.parameters.get("taken_as_zero"):
-            notes.append("eps taken as 0 for " + ", ".join(res.parameters["taken_as_zero"]))
+            notes.append("eps taken as 0 for " + ", ".join(cast("tuple[str, ...]", res.parameters["taken_as_zero"])))
     else:  # macinnes
         from saltbench.chemistry.electrolyte import parse_formula
 

@@ -21,7 +21,7 @@ import math
 import re
 from collections.abc import Mapping
 from dataclasses import dataclass, field
-from typing import Literal, NamedTuple
+from typing import Any, Literal, NamedTuple
 
 import numpy as np
 
@@ -280,16 +280,17 @@ class SolutionModel:
         """
         cations = [i.name for i in composition.ions if i.charge > 0]
         anions = [i.name for i in composition.ions if i.charge < 0]
+        like: list[tuple[str, ...]] = [
+            (x, y) for same in (cations, anions) for i, x in enumerate(same) for y in same[i + 1:]]
+        triplets: list[tuple[str, ...]] = [
+            (x, y, a) for i, x in enumerate(cations) for y in cations[i + 1:] for a in anions]
+        triplets += [(c, x, y) for i, x in enumerate(anions) for y in anions[i + 1:] for c in cations]
         owners: dict[str, list[tuple[str, ...]]] = {
             "model": [()],
             "electrolyte": [(s.name,) for s in composition.salts],
             "pair": [(c, a) for c in cations for a in anions],
-            "like-pair": ([(x, y) for i, x in enumerate(cations) for y in cations[i + 1:]]
-                          + [(x, y) for i, x in enumerate(anions) for y in anions[i + 1:]]),
-            "triplet": ([(x, y, a) for i, x in enumerate(cations) for y in cations[i + 1:]
-                         for a in anions]
-                        + [(c, x, y) for i, x in enumerate(anions) for y in anions[i + 1:]
-                           for c in cations]),
+            "like-pair": like,
+            "triplet": triplets,
         }
         out: dict[ParameterKey, Parameter] = {}
         for p in self.parameters:
@@ -297,7 +298,7 @@ class SolutionModel:
             if kind == "ion":
                 ions = (cations if p.scope == "cation" else anions if p.scope == "anion"
                         else cations + anions)
-                found = [(ion,) for ion in ions]
+                found: list[tuple[str, ...]] = [(ion,) for ion in ions]
             else:
                 found = owners[kind]
             for owner in found:
@@ -424,7 +425,7 @@ class ActivityModel(SolutionModel):
         values: dict[Quantity, np.ndarray] = {}
         derivs: dict[Quantity, dict[ParameterKey, np.ndarray]] = {}
 
-        def put(target: dict, q: Quantity, s: int, rows: np.ndarray, v: object) -> None:
+        def put(target: dict, q: object, s: int, rows: np.ndarray, v: object) -> None:
             arr = target.setdefault(q, np.empty((s_count, comp.n)))
             arr[s, rows] = np.asarray(v, dtype=float)
 
@@ -469,7 +470,8 @@ class ActivityModel(SolutionModel):
         return Computed(values, derivs)
 
 
-def call_model(model: SolutionModel, method: str, *args: object) -> object:
+def call_model(model: SolutionModel, method: str, *args: object) -> Any:
+    # Any: the plugin's return, unchecked; callers check its shape
     """Call one model function, turning any exception of the plugin's into a ModelError."""
     try:
         return getattr(model, method)(*args)

@@ -38,6 +38,7 @@ from __future__ import annotations
 import math
 from collections.abc import Iterable, Mapping
 from dataclasses import replace
+from typing import Any
 
 import numpy as np
 
@@ -78,7 +79,7 @@ class _Problems(list):
 
 
 def _call(problems: _Problems, e: Electrolyte, model: ActivityModel, method: str,
-          m: np.ndarray, params: Mapping[str, float], ctx: EvalContext) -> object:
+          m: np.ndarray, params: Mapping[str, float], ctx: EvalContext) -> Any:  # unchecked plugin output
     try:
         return getattr(model, method)(m, params, ctx)
     except Exception as exc:  # the kit reports, it does not crash on the plugin's bug
@@ -322,13 +323,13 @@ def check_model(model: SolutionModel, electrolytes: Iterable[Electrolyte | str] 
         _check_values_and_jacobian(model, e, m, values, ctx, ln_g, phi, problems)
         solution_kit.check_compute(solution_model, Composition.of_salt(e, m, temperature_k),
                                    values, ctx.dh, e.name, problems.add_named)
-    if getattr(solution_model, "mixtures", False):
-        dh = make_context(supported[0], temperature_k).dh if supported else None
-        m_max = min((_grid(model, e)[-1] for e in supported), default=FALLBACK_M_MAX)
+    if getattr(solution_model, "mixtures", False) and supported:
+        dh = make_context(supported[0], temperature_k).dh
+        m_max = min(_grid(model, e)[-1] for e in supported)
         mixtures = solution_kit.kit_mixtures(solution_model, m_max)
-        if dh is not None and not mixtures:
+        if not mixtures:
             problems.add(None, "takes mixtures but none of the test mixtures")
-        for comp, amounts in mixtures if dh is not None else ():
+        for comp, amounts in mixtures:
             label = " + ".join(s.name for s in comp.salts)
             if solution_kit.check_compute(solution_model, comp, values, dh, label,
                                           problems.add_named) is not None:

@@ -89,17 +89,17 @@ def tau(x: np.ndarray) -> np.ndarray:
     return _piecewise(np.asarray(x, dtype=float), _tau_closed, _TAU_COEF)
 
 
-def size_term(a_gamma: float, z2: float, sqrt_i: np.ndarray, x: np.ndarray) -> np.ndarray:
+def size_term(a_gamma: float | np.ndarray, z2: float, sqrt_i: np.ndarray, x: np.ndarray) -> np.ndarray:
     """ln gamma_i of the ion-size term: -A z^2 sqrt(I) / (1 + x)."""
     return -a_gamma * z2 * sqrt_i / (1.0 + x)
 
 
-def size_term_osmotic(a_gamma: float, z2: float, sqrt_i: np.ndarray, x: np.ndarray) -> np.ndarray:
+def size_term_osmotic(a_gamma: float | np.ndarray, z2: float, sqrt_i: np.ndarray, x: np.ndarray) -> np.ndarray:
     """phi - 1 of the ion-size term: -(A z^2 / 3) sqrt(I) sigma(x)."""
     return -a_gamma * z2 * sqrt_i * sigma(x) / 3.0
 
 
-def size_term_d_a(a_gamma: float, z2: float, b: float, i: np.ndarray,
+def size_term_d_a(a_gamma: float | np.ndarray, z2: float, b: float | np.ndarray, i: np.ndarray,
                   x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """(d ln gamma_i / d a, d phi / d a) of the ion-size term, a in the unit of 1/B."""
     return a_gamma * z2 * b * i / (1.0 + x) ** 2, a_gamma * z2 * b * i * tau(x)

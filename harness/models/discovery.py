@@ -21,13 +21,14 @@ from dataclasses import dataclass, field
 from importlib import metadata
 from pathlib import Path
 from types import ModuleType
+from typing import Any
 
 import pluggy
 
 from saltbench import __version__
 from saltbench.errors import UserError
 from saltbench.models import hookspecs
-from saltbench.models.contract import ActivityModel, ModelInfo, check_declaration
+from saltbench.models.contract import ModelInfo, SolutionModel, check_declaration
 from saltbench.models.timelimit import PluginTimeout, time_limit
 
 ENTRY_POINT_GROUP = "saltbench.plugins"
@@ -65,7 +66,7 @@ class PluginRegistry:
     problems: list[PluginProblem] = field(default_factory=list)
     context: hookspecs.PluginContext | None = None
 
-    def model(self, model_id: str) -> ActivityModel:
+    def model(self, model_id: str) -> SolutionModel:
         try:
             return self.models[model_id].model
         except KeyError:
@@ -76,7 +77,7 @@ class PluginRegistry:
             hint = f" (did you mean {close[0]!r}?)" if close else ""
             raise UserError(f"unknown model {model_id!r}{hint}; known models: {known}") from None
 
-    def call_list_hook(self, name: str, **kwargs: object) -> list[tuple[PluginRecord, object]]:
+    def call_list_hook(self, name: str, **kwargs: object) -> list[tuple[PluginRecord, Any]]:  # items unchecked
         """Call a list-returning hook plugin by plugin, in load order, isolating failures.
 
         Returns (plugin, item) pairs. pluggy passes each implementation only the keyword

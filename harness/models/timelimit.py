@@ -24,7 +24,7 @@ class PluginTimeout(BaseException):
 def time_limit(seconds: float | None, what: str) -> Iterator[None]:
     usable = (seconds and seconds > 0 and hasattr(signal, "setitimer")
               and threading.current_thread() is threading.main_thread())
-    if not usable:
+    if not usable or seconds is None:
         yield
         return
 

@@ -87,17 +87,6 @@ class Document:
             walk(s)
         return out
 
-    def tables(self) -> list[Table]:
-        out: list[Table] = []
-
-        def walk(sec: Section) -> None:
-            out.extend(b for b in sec.blocks if isinstance(b, Table))
-            for c in sec.children:
-                walk(c)
-        for s in self.sections:
-            walk(s)
-        return out
-
 
 DASH = "–"  # shown where a number does not exist (no fit, no published set)
 

@@ -30,7 +30,7 @@ BAND = "#dcdcdc"  # the tolerance band: a light grey that survives photocopying
 WIDTH_IN = 6.5  # fits the text width of A4 and Letter with 15 mm margins
 DPI = 160
 
-RC = {
+RC: dict = {
     "font.family": "DejaVu Sans",  # ships with matplotlib, so every machine draws the same glyphs
     "font.size": 9,
     "axes.titlesize": 9.5,

@@ -12,7 +12,6 @@ from __future__ import annotations
 import json
 import math
 import platform
-import sys
 from dataclasses import dataclass, field
 from importlib import metadata
 from pathlib import Path
@@ -44,7 +43,7 @@ def clean(value):
 def software() -> dict:
     from saltbench import __version__
 
-    out = {"saltbench": __version__, "python": platform.python_version()}
+    out: dict[str, str | None] = {"saltbench": __version__, "python": platform.python_version()}
     for lib in LIBRARIES:
         try:
             out[lib] = metadata.version(lib)
@@ -175,7 +174,3 @@ def check_agreement(manifest: dict, new: dict) -> Agreement:
         if old_pl.get(p["name"]) != p.get("version"):
             notes.append(f"plugin {p['name']} {old_pl.get(p['name'])} then, {p.get('version')} now")
     return Agreement(not diffs, diffs, notes)
-
-
-def python_argv() -> list[str]:
-    return list(sys.argv)

@@ -14,6 +14,7 @@ from __future__ import annotations
 import io
 import textwrap
 from pathlib import Path
+from typing import Any
 
 from saltbench.report.document import (
     Bullets,
@@ -46,7 +47,7 @@ HEADING_KEEP_WITH_NEXT = 1.1
 class _Pages:
     def __init__(self, pdf, plt, footer: str):
         self.pdf, self.plt, self.footer = pdf, plt, footer
-        self.fig = None
+        self.fig: Any = None  # the open page (a matplotlib Figure, as untyped as plt itself), or None
         self.page = 0
         self.y = 0.0  # inches from the bottom
 

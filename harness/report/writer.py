@@ -29,7 +29,6 @@ from saltbench.scaffold.names import inside, slug
 
 HTML_NAME, PDF_NAME, MD_NAME, MANIFEST_NAME = "report.html", "report.pdf", "report.md", "manifest.json"
 FIGURE_DIR, TABLE_DIR = "figures", "tables"
-FIGURE_KINDS = ("coefficients", "residuals", "validity")
 
 
 @dataclass

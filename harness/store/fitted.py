@@ -44,9 +44,9 @@ def save_fit(store: Store, result, *, set_id: str, settings: dict, data_hashes: 
             pk = existing[0]
             store.conn.execute("DELETE FROM parameter_values WHERE set_pk = ?", (pk,))
             store.conn.execute("DELETE FROM parameter_covariances WHERE set_pk = ?", (pk,))
-            store.db["parameter_sets"].update(pk, values)
+            store.db.table("parameter_sets").update(pk, values)
         else:
-            pk = store.db["parameter_sets"].insert(values).last_pk
+            pk = store.db.table("parameter_sets").insert(values).last_pk
         rows = []
         for e in electrolytes:
             for name, gname in result.param_map[e].items():
@@ -54,11 +54,11 @@ def save_fit(store: Store, result, *, set_id: str, settings: dict, data_hashes: 
                              "value": float(result.values[gname]),
                              "stderr": None if stderr.get(gname) is None else float(stderr[gname]),
                              "m_max": float(max(result.molality)) if len(result.molality) else None})
-        store.db["parameter_values"].insert_all(rows)
+        store.db.table("parameter_values").insert_all(rows)
         if len(electrolytes) == 1 and len(result.free_names):
             gmap = {g: n for n, g in result.param_map[electrolytes[0]].items()}
             names = [gmap.get(g, g) for g in result.free_names]
-            store.db["parameter_covariances"].insert({
+            store.db.table("parameter_covariances").insert({
                 "set_pk": pk, "names": json.dumps(names),
                 "matrix": json.dumps([[float(x) for x in row] for row in result.covariance])})
     return set_id

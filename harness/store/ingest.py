@@ -123,12 +123,12 @@ def _upsert_source(store: Store, s: Source, origin: str, report: IngestReport) -
         "origin": origin, "file": Path(s.file).name if origin == "bundled" else s.file, "content_hash": h,
     }
     if row is None:
-        store.db["sources"].insert(values)
+        store.db.table("sources").insert(values)
         report.added.append(f"source {s.key}")
     elif row[0] == h:
         report.unchanged.append(f"source {s.key}")
     elif row[1] == origin:
-        store.db["sources"].update(s.key, values)
+        store.db.table("sources").update(s.key, values)
         report.updated.append(f"source {s.key}")
     else:
         raise InputFileError(s.file, s.line, "key", f"citation key {s.key!r} already exists in the "
@@ -140,7 +140,7 @@ def _ensure_ion(store: Store, ion: Ion, origin: str, path: str) -> None:
     row = store.conn.execute("SELECT charge, molar_mass FROM ions WHERE formula = ?", (ion.formula,)).fetchone()
     if row is None:
         kind = "builtin" if KNOWN_IONS.get(ion.formula) == ion else origin
-        store.db["ions"].insert({"formula": ion.formula, "name": ion.name, "charge": ion.charge,
+        store.db.table("ions").insert({"formula": ion.formula, "name": ion.name, "charge": ion.charge,
                                  "molar_mass": ion.molar_mass, "origin": kind})
     elif row[0] != ion.charge or abs(row[1] - ion.molar_mass) > 1e-9:
         raise InputFileError(path, None, "cation" if ion.charge > 0 else "anion",
@@ -155,7 +155,7 @@ def _ensure_electrolyte(store: Store, e: Electrolyte, origin: str, declared: boo
     row = store.conn.execute("SELECT cation, anion, nu_cation, nu_anion FROM electrolytes WHERE name = ?",
                              (e.name,)).fetchone()
     if row is None:
-        store.db["electrolytes"].insert({
+        store.db.table("electrolytes").insert({
             "name": e.name, "cation": e.cation.formula, "anion": e.anion.formula,
             "nu_cation": e.nu_cation, "nu_anion": e.nu_anion, "charge_type": e.charge_label,
             "molar_mass": e.molar_mass, "origin": origin if declared else "builtin"})
@@ -173,9 +173,11 @@ def upsert_parent(store: Store, table: str, existing_pk: int | None, values: dic
     """
     if existing_pk is None:
         report.added.append(label)
-        return store.db[table].insert(values).last_pk
+        pk = store.db.table(table).insert(values).last_pk
+        assert pk is not None  # an insert into a table with an integer key always sets last_pk
+        return pk
     store.conn.execute(f"DELETE FROM {child_table} WHERE {child_key} = ?", (existing_pk,))
-    store.db[table].update(existing_pk, values)
+    store.db.table(table).update(existing_pk, values)
     report.updated.append(label)
     return existing_pk
 
@@ -230,7 +232,7 @@ def _write_dataset(store: Store, d: Dataset, origin: str, provider: str, known_s
                                report, label)
     # a point's own last digit is stored only where the file gives one that differs (0003)
     own = bool(np.any(d.point_precision != d.precision))
-    store.db["points"].insert_all(
+    store.db.table("points").insert_all(
         {"dataset_id": dataset_id, "seq": i, "molality": float(m), "value": float(v),
          "value_printed": float(vp), "u_value": float(u), "line": int(n),
          **({"precision": float(pp) if pp != d.precision else None} if own else {})}
@@ -262,7 +264,7 @@ def _write_parameter_file(store: Store, pf: ParameterFile, origin: str, provider
     }
     pk = upsert_parent(store, "parameter_sets", row[0] if row else None, values, "parameter_values", "set_pk",
                        report, label)
-    store.db["parameter_values"].insert_all(
+    store.db.table("parameter_values").insert_all(
         {"set_pk": pk, "target": r.target, "target_kind": pf.target_kind, "name": name,
          "value": value, "stderr": None, "m_max": r.m_max}
         for r in pf.rows for name, value in r.values.items()

@@ -106,7 +106,7 @@ def _write_set(store: Store, ms: MeasurementSet, report: IngestReport) -> None:
     def num(x: float) -> float | None:
         return None if not np.isfinite(x) else float(x)
 
-    store.db["readings"].insert_all(
+    store.db.table("readings").insert_all(
         {"set_id": pk, "seq": i, "molality": num(ms.molality[i]), "u_molality": num(ms.u_molality[i]),
          "activity": num(ms.activity[i]), col: float(ms.reading[i]),
          "u_reading": float(ms.u_reading[i]), "printed_unit": ms.printed_unit, "line": ms.lines[i]}
@@ -217,9 +217,9 @@ def store_reduction(store: Store, ms: MeasurementSet, red: Reduction) -> str | N
                   "method_version": red.method.version, "input_hash": h_in,
                   "software_version": __version__, "result": result}
         if prev is None:
-            store.db["reductions"].insert(values)
+            store.db.table("reductions").insert(values)
         else:
-            store.db["reductions"].update(prev[0], values)
+            store.db.table("reductions").update(prev[0], values)
     return key
 
 
@@ -255,12 +255,14 @@ def _write_dataset(store: Store, ms: MeasurementSet, red: Reduction, key: str,
         "n_points": int(m.size),
     }
     if row is None:
-        dataset_id = int(store.db["datasets"].insert(values).last_pk)
+        pk = store.db.table("datasets").insert(values).last_pk
+        assert pk is not None  # an insert into a table with an integer key always sets last_pk
+        dataset_id = int(pk)
     else:
         dataset_id = int(row[0])
         store.conn.execute("DELETE FROM points WHERE dataset_id = ?", (dataset_id,))
-        store.db["datasets"].update(dataset_id, values)
-    store.db["points"].insert_all(
+        store.db.table("datasets").update(dataset_id, values)
+    store.db.table("points").insert_all(
         {"dataset_id": dataset_id, "seq": i, "molality": float(m[i]), "value": float(v[i]),
          "value_printed": float(v[i]), "u_value": float(u[i]), "line": lines[i]}
         for i in range(m.size))

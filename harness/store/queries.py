@@ -61,7 +61,8 @@ def points(store: Store, electrolyte: str | None = None, dataset_ids: list[int] 
            p.value_printed, d.basis, p.line, d.file, COALESCE(p.precision, d.precision) AS precision
     FROM points p JOIN datasets d ON d.id = p.dataset_id
     """
-    where, params = [], []
+    where: list[str] = []
+    params: list[object] = []
     if electrolyte:
         where.append("d.electrolyte = ?")
         params.append(electrolyte)
