@@ -148,9 +148,6 @@ class FitData:
     def is_osmotic(self) -> np.ndarray:
         return _frozen(self.kind == OSMOTIC)
 
-    @cached_property
-    def is_ln_gamma(self) -> np.ndarray:
-        return _frozen(self.kind == LN_GAMMA)
 
     def subset(self, selector: np.ndarray) -> FitData:
         """The points picked by a boolean mask or an index array, in that order."""
@@ -178,9 +175,6 @@ class FitData:
         if unknown:
             raise UserError(f"fit data: unknown kind {min(unknown)!r}")
         return self.subset(np.isin(self.kind.astype(str), sorted(wanted)))
-
-    def sorted_by_molality(self) -> FitData:
-        return self.subset(np.argsort(self.molality, kind="stable"))
 
 
 def _frozen(arr: np.ndarray) -> np.ndarray:

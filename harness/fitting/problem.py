@@ -123,9 +123,6 @@ class Block:
         u_osm = self.union[:self.n_osm_unique]
         return np.concatenate([self.union, dilution_grid(u_osm)])
 
-    def uses(self, index: int) -> list[str]:
-        return list(self.users.get(int(index), ()))
-
 
 class FitProblem:
     """Weighted least squares of one model against one or more blocks of observations."""
