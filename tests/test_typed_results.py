@@ -165,3 +165,12 @@ def test_no_writer_parses_its_own_output_back() -> None:
                                 and c.value.startswith(PARSED_BEFORE):
                             found.append(f"{path.relative_to(ROOT)}:{node.lineno}: {c.value!r}")
     assert not found, found
+
+
+def test_a_source_disagreement_is_a_value_worded_once() -> None:
+    from saltbench.comparison.sources import SourceDisagreement
+
+    d = SourceDisagreement("BaCl2.gamma_pm.a", "BaCl2.gamma_pm.b", "ln_gamma", 0.0184, 0.1, 1.0, 0.01)
+    assert str(d) == d.text == ("BaCl2.gamma_pm.a and BaCl2.gamma_pm.b differ by up to 0.018 in ln gamma± at the "
+                                "molalities both print (0.1 to 1 mol/kg), beyond the tolerance 0.01: no model can "
+                                "stay within it of both; compare one of them with --data")
