@@ -12,6 +12,8 @@ from pathlib import Path
 import pytest
 
 from saltbench.api import Session, compare
+from saltbench.comparison.outcome import VerdictKind
+from saltbench.comparison.ranking import RecommendationKind
 from saltbench.comparison.settings import CompareSettings
 
 
@@ -35,7 +37,8 @@ def test_pitzer_holds_over_a_sparse_handbook_grid(session: Session) -> None:
     # parameters describe 1-1 salts to about 6 mol/kg)
     outs, _, _ = _outcomes(session, "CsCl", up_to=5)
     assert outs["pitzer"].valid_up_to("refit") == pytest.approx(5.0)
-    assert outs["pitzer"].verdict.startswith("within tolerance over the whole range")
+    assert outs["pitzer"].verdict.kind is VerdictKind.WHOLE_RANGE
+    assert outs["pitzer"].verdict.text.startswith("within tolerance over the whole range")
 
 
 def test_pitzer_is_named_most_accurate_for_sodium_chloride_to_six_molal(session: Session) -> None:
@@ -70,13 +73,13 @@ def test_equivalent_models_are_ranked_by_a_stated_rule(session: Session) -> None
 
     outs, _, _ = _outcomes(session, "NaCl", up_to=1.0, models=("huckel", "b-dot"))
     pair = [outs["huckel"], outs["b-dot"]]
-    assert recommend(pair, 1.0, "tol").model == recommend(pair[::-1], 1.0, "tol").model
+    assert recommend(pair, 1.0).model == recommend(pair[::-1], 1.0).model
 
 
 def test_a_one_point_salt_is_said_to_be_too_sparse(session: Session) -> None:
     # Na2CO3: one value, at 2 mol/kg, in the handbook's 2-20 mol/kg table
     _, rec, _ = _outcomes(session, "Na2CO3", models=("pitzer", "bromley"))
-    assert rec.kind == "too-few-points" and rec.model is None
+    assert rec.kind is RecommendationKind.TOO_FEW_POINTS and rec.model is None
 
 
 def test_sparse_stretches_are_named_in_the_verdict(session: Session) -> None:
@@ -88,7 +91,8 @@ def test_sparse_stretches_are_named_in_the_verdict(session: Session) -> None:
     # CsCl: the 92nd-edition column prints 2, 5 and 10 mol/kg above 1 mol/kg
     outs, _, _ = _outcomes(session, "CsCl", models=("pitzer",))
     assert outs["pitzer"].valid_up_to("refit") == pytest.approx(10.0)
-    assert outs["pitzer"].verdict.endswith("data too sparse to judge between 2 and 10 mol/kg")
+    assert [(f["low"], f["high"]) for f in outs["pitzer"].verdict.sparse] == [(2.0, 10.0)]
+    assert outs["pitzer"].verdict.text.endswith("data too sparse to judge between 2 and 10 mol/kg")
 
 
 def test_held_out_error_is_shown_for_osmotic_only_data(run_main, seeded_store) -> None:
@@ -105,9 +109,10 @@ def test_sources_that_disagree_beyond_the_tolerance_are_named(session: Session) 
     # (Robinson-Stokes) differ by 0.016-0.018 in ln gamma± at 0.1 and 0.2 mol/kg, as printed
     outs, rec, comp = _outcomes(session, "BaCl2", up_to=1, models=("pitzer",))
     [note] = comp.disagreements["BaCl2"]
-    assert "BaCl2.gamma_pm.crc-handbook" in note and "beyond the tolerance 0.01" in note
+    assert "BaCl2.gamma_pm.crc-handbook" in (note.first, note.second) and note.tolerance == 0.01
+    assert "beyond the tolerance 0.01" in note.text and note.worst > 0.01
     # judged against one evaluation, Pitzer holds over the whole range (Pitzer's three
     # parameters describe 2-1 chlorides to 1 mol/kg: common practice, no source)
     outs, rec, comp = _outcomes(session, "BaCl2", up_to=1, models=("pitzer",), datasets=("crc-handbook",))
-    assert outs["pitzer"].verdict.startswith("within tolerance over the whole range, to 1 mol/kg")
+    assert outs["pitzer"].verdict.text.startswith("within tolerance over the whole range, to 1 mol/kg")
     assert "BaCl2" not in comp.disagreements

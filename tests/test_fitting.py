@@ -29,6 +29,7 @@ from scipy import stats
 from saltbench.chemistry.electrolyte import parse_formula
 from saltbench.errors import FitError, UserError
 from saltbench.fitting import FitData, criteria, fit, fit_joint, parse_assignments, propagate
+from saltbench.fitting.flags import FlagKind, flag
 from saltbench.models.evaluate import make_context, osmotic_by_gibbs_duhem
 from saltbench.plugins.davies import Davies
 from saltbench.water import debye_huckel_constants
@@ -212,9 +213,10 @@ def test_model_failures_become_flags():
     for model in (NaNModel(), RaisingModel()):
         result = fit(model, NACL, data)
         assert not result.converged
-        assert result.flags and result.flags[0].startswith("model error: ")
+        assert result.flags and result.flags[0].kind is FlagKind.MODEL_ERROR
+        assert result.to_dict()["flags"][0].startswith("model error: ")
         json.dumps(result.to_dict(), allow_nan=False)
-    assert "deliberate failure" in fit(RaisingModel(), NACL, data).flags[0]
+    assert "deliberate failure" in fit(RaisingModel(), NACL, data).flags[0]["detail"]
 
 
 def test_failure_at_trial_parameters_is_survived_and_reported():
@@ -228,31 +230,32 @@ def test_failure_at_trial_parameters_is_survived_and_reported():
 def test_parameter_stuck_on_bound_is_flagged():
     data = synthetic((TRUTH["a"], TRUTH["b"]), NACL, GRID, seed=9)
     result = fit(ExtendedDH(), NACL, data, bounds={"a": (5.0, 10.0)})
-    assert "parameter a at bound (lower = 5)" in result.flags
+    assert "parameter a at bound (lower = 5)" in result.to_dict()["flags"]
     assert result.value("a") == pytest.approx(5.0, abs=1e-6)
     linear = fit(ExtendedDH(), NACL, data, bounds={"b": (0.1, 1.0)})
-    assert "parameter b at bound (lower = 0.1)" in linear.flags
+    assert flag(FlagKind.AT_BOUND, name="b", side="lower", bound=0.1) in linear.flags
     assert linear.value("b") == 0.1
 
 
 def test_too_few_points_singular_and_ill_conditioned_are_flagged():
     data = synthetic((TRUTH["a"], TRUTH["b"]), NACL, GRID, seed=1)
     two = fit(ExtendedDH(), NACL, data.subset(np.array([0, 1])))
-    assert "too few points (2 points for 2 free parameters)" in two.flags
+    assert "too few points (2 points for 2 free parameters)" in [f.text for f in two.flags]
     assert two.aicc is None  # AICc needs n > k + 1 (Hurvich and Tsai 1989)
     twin = fit(Twin(), NACL, data)
-    assert any(f.startswith("singular") for f in twin.flags)
+    assert any(f.kind in (FlagKind.SINGULAR, FlagKind.SINGULAR_COMBINATION) for f in twin.flags)
     assert all(p["stderr"] is None for p in twin.to_dict()["parameters"])
     near = fit(NearTwin(), NACL, data)
-    assert any(f.startswith("ill-conditioned (condition number") for f in near.flags)
-    assert not any(f.startswith("singular") for f in near.flags)
+    assert any(f.kind is FlagKind.ILL_CONDITIONED and f["condition_number"] > 1e6 for f in near.flags)
+    assert not any(f.kind in (FlagKind.SINGULAR, FlagKind.SINGULAR_COMBINATION) for f in near.flags)
 
 
 def test_non_convergence_is_flagged():
     data = synthetic((TRUTH["a"], TRUTH["b"]), NACL, GRID, seed=2)
     result = fit(ExtendedDH(), NACL, data, start={"a": 12.0}, max_evaluations=2)
     assert not result.converged
-    assert result.flags[0].startswith("did not converge: ")
+    assert result.flags[0].kind is FlagKind.DID_NOT_CONVERGE
+    assert str(result.flags[0]).startswith("did not converge: ")
 
 
 def test_information_criteria_on_a_hand_computed_case():

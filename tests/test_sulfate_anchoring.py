@@ -15,6 +15,7 @@ import numpy as np
 import pytest
 
 from saltbench.api import Session, resolve_parameters
+from saltbench.fitting.flags import FlagKind
 from saltbench.models.evaluate import make_context
 from saltbench.water.debye_huckel import debye_huckel_constants, with_a_phi
 
@@ -71,7 +72,7 @@ def test_compare_names_the_anchoring_difference(session: Session) -> None:
     from saltbench.comparison.settings import CompareSettings
 
     comp = compare(session, ["MgSO4", "CuSO4", "NaCl"], CompareSettings(models=("pitzer",)), jobs=1)
-    flags = {name: [f for o in outs for f in o.flags if "anchor the dilute end" in f]
+    flags = {name: [f.text for o in outs for f in o.flags if f.kind is FlagKind.PUBLISHED_ANCHORING]
              for name, outs in comp.outcomes.items()}
     assert len(flags["MgSO4"]) == 1
     assert "pitzer-mayorga-1974" in flags["MgSO4"][0] and "-0.11" in flags["MgSO4"][0]

@@ -13,7 +13,7 @@ from fitting_models import ExtendedDH, RaisingModel, synthetic
 
 from saltbench.chemistry.electrolyte import parse_formula
 from saltbench.fitting import FitData, validity_range
-from saltbench.fitting.validity import DATA_END
+from saltbench.fitting.flags import FlagKind
 
 NACL = parse_formula("NaCl")
 CACL2 = parse_formula("CaCl2")
@@ -39,7 +39,7 @@ def test_model_exact_up_to_a_molality_is_valid_up_to_there(params):
     # I = m for a 1-1 salt (I = 1/2 sum m_i z_i^2; IUPAC Green Book, 3rd ed., 2007; from memory)
     assert v.max_ionic_strength == pytest.approx(1.0)
     assert v.tolerance == {"ln_gamma": 0.01, "osmotic": 0.01}
-    assert not any(f.startswith(DATA_END) for f in v.flags)
+    assert not any(f.kind is FlagKind.DATA_END for f in v.flags)
 
 
 def test_ionic_strength_of_the_range_follows_the_charge_type():
@@ -56,7 +56,9 @@ def test_data_end_before_the_model_fails(params):
     assert v.limited_by == "data"
     assert v.max_molality == pytest.approx(3.0) == v.highest_data_molality
     assert v.first_failing_molality is None
-    assert f"{DATA_END} (highest data molality 3 mol/kg)" in v.flags
+    [end] = [f for f in v.flags if f.kind is FlagKind.DATA_END]
+    assert end["top"] == pytest.approx(3.0)
+    assert "data end before model fails (highest data molality 3 mol/kg)" in v.to_dict()["flags"]
 
 
 def test_a_set_wrong_from_the_start_is_nowhere_valid():
@@ -87,5 +89,5 @@ def test_osmotic_tolerance_applies_to_osmotic_points():
 def test_model_error_gives_no_range_and_a_flag():
     v = validity_range(RaisingModel(), NACL, deviating(NACL), params=PARAMS)
     assert v.limited_by == "none-valid"
-    assert v.flags and v.flags[0].startswith("model error")
+    assert v.flags and v.flags[0].kind is FlagKind.MODEL_ERROR
     assert v.to_dict()["max_molality"] is None

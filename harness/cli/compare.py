@@ -26,21 +26,25 @@ TABLE_LEGEND = ("held-out: RMS of ln gamma± (of phi where marked) on points lef
                 "model's authors claim; flagged: not ranked, for the reason given below the table.")
 
 
-def short_verdict(record: dict) -> str:
-    """The table's verdict, short enough for a 100-column terminal; the full wording stays in
-    JSON, CSV and reports. The molality it rests on is in the 'to (refit)' column."""
-    full = record.get("verdict") or ""
-    if full.startswith("failed:"):
+def short_verdict(o) -> str:
+    """The table's verdict for a ModelOutcome, short enough for a 100-column terminal; the full
+    wording stays in JSON, CSV and reports. The molality it rests on is in the 'to (refit)' column."""
+    from saltbench.comparison.outcome import VerdictKind
+
+    kind = o.verdict.kind if o.verdict else None
+    if kind is VerdictKind.FAILED:
         return "failed (below)"
-    if full.startswith("not ranked:"):
+    if kind is VerdictKind.NOT_RANKED:
         return "flagged (below)"
-    v = record.get("valid_up_to_refit")
-    mark = "†" if record.get("beyond_authors_range") is not None else ""
+    v = o.valid_up_to("refit")
+    mark = "†" if o.beyond_claim is not None else ""
     if v is None:
         return "fails at lowest m" + mark
-    if full.startswith("within tolerance over the whole range"):
-        return ("whole range*" if record.get("limited_by_refit") == "data" else "whole range") + mark
+    if kind is VerdictKind.WHOLE_RANGE:
+        return ("whole range*" if o.verdict.data_end else "whole range") + mark
     return f"only to {v:g}{mark}"
+
+
 CSV_COLUMNS = ["electrolyte", "model", "n_params", "n_points", "rms_ln_gamma", "max_ln_gamma",
                "rms_osmotic", "max_osmotic", "chi2_reduced", "heldout_rms_ln_gamma",
                "heldout_rms_osmotic", "aicc", "bic", "valid_up_to_published", "valid_up_to_refit",
@@ -56,22 +60,24 @@ def heldout_cell(record: dict):
 
 def echo_summary(comp) -> None:
     """One line per electrolyte: its recommendation; then how many got one."""
+    from saltbench.comparison.ranking import RecommendationKind as K
+
     recs = comp.recommendations
     width = max(len(n) for n in recs)
     for name, rec in recs.items():
-        if rec.kind == "recommended":
+        if rec.kind is K.RECOMMENDED:
             extra = f" (most accurate: {rec.most_accurate})" if rec.most_accurate != rec.model else ""
             line = f"{rec.model} to {rec.target_molality:g} mol/kg{extra}"
-        elif rec.kind == "too-few-points":
+        elif rec.kind is K.TOO_FEW_POINTS:
             line = "too few points to judge"
         else:
             line = (f"none holds to {rec.target_molality:g}; furthest {rec.furthest_model} to "
                     f"{rec.furthest_molality:g}" if rec.furthest_model else "none holds at any molality")
         click.echo(f"{name.ljust(width)}  {line}")
-    counts = {k: sum(r.kind == k for r in recs.values()) for k in ("recommended", "none-holds", "too-few-points")}
-    click.echo(wrap(f"{counts['recommended']} of {len(recs)} electrolytes get a recommendation; no model holds "
-                    f"over the whole range for {counts['none-holds']}; too few points to judge for "
-                    f"{counts['too-few-points']}."))
+    counts = {k: sum(r.kind is k for r in recs.values()) for k in K}
+    click.echo(wrap(f"{counts[K.RECOMMENDED]} of {len(recs)} electrolytes get a recommendation; no model holds "
+                    f"over the whole range for {counts[K.NONE_HOLDS]}; too few points to judge for "
+                    f"{counts[K.TOO_FEW_POINTS]}."))
 
 
 def settings_options(f):
@@ -142,8 +148,10 @@ def compare(app, electrolytes, all_, models, up_to, tol, folds, on, data_sel, te
     over the requested range and is not materially less accurate than the most accurate one.
     """
     from saltbench.api import compare as run
+    from saltbench.comparison.outcome import VerdictKind
     from saltbench.comparison.runner import default_jobs
     from saltbench.errors import UserError
+    from saltbench.fitting.flags import DETERMINATION_KINDS, PUBLISHED_KINDS
 
     s = app.session()
     names = list(electrolytes)
@@ -179,20 +187,20 @@ def compare(app, electrolytes, all_, models, up_to, tol, folds, on, data_sel, te
         click.echo("")
         click.echo(f"== {name}: {sum(d['n_points'] for d in ds)} points from {len(ds)} dataset(s), "
                    f"up to {rec.target_molality:g} mol/kg{memo}")
-        rows = [{**r, "short_verdict": short_verdict(r), "heldout_rms_ln_gamma": heldout_cell(r)}
-                for r in (o.record() for o in outs)]
+        rows = [{**r, "short_verdict": short_verdict(o), "heldout_rms_ln_gamma": heldout_cell(r)}
+                for o, r in ((o, o.record()) for o in outs)]
         emit(rows, "table", TABLE_COLUMNS_SHORT, HEADERS)
-        for r in rows:
-            if r["short_verdict"].endswith("(below)"):
-                click.echo(wrap(f"   {r['model']}: {r['verdict']}", indent="     "))
-            for flag in r["flags"]:
-                if flag.startswith("published:") or (flag.startswith("determination:") and (
-                        r["recommended"] or r["model"] == rec.most_accurate)):
-                    click.echo(wrap(f"   {r['model']}: {flag}", indent="     "))
+        for o in outs:
+            if o.verdict and o.verdict.kind in (VerdictKind.FAILED, VerdictKind.NOT_RANKED):
+                click.echo(wrap(f"   {o.model}: {o.verdict.text}", indent="     "))
+            for flag in o.flags:
+                if flag.kind in PUBLISHED_KINDS or (flag.kind in DETERMINATION_KINDS and (
+                        o.recommended or o.model == rec.most_accurate)):
+                    click.echo(wrap(f"   {o.model}: {flag.text}", indent="     "))
         if comp.skipped.get(name):
             click.echo(f"   not applicable to {name}: {', '.join(comp.skipped[name])}")
         for note in comp.disagreements.get(name, []):
-            click.echo(wrap(f"   sources: {note}", indent="     "))
+            click.echo(wrap(f"   sources: {note.text}", indent="     "))
         if comp.per_ion.get(name):
             click.echo(wrap(f"   left out, parameters per ion need several salts sharing an ion: "
                             f"{', '.join(comp.per_ion[name])}", indent="     "))

@@ -15,6 +15,7 @@ import numpy as np
 
 from saltbench.chemistry.electrolyte import Electrolyte
 from saltbench.fitting.data import LN_GAMMA, OSMOTIC, FitData
+from saltbench.fitting.flags import Flag, FlagKind, flag
 
 #: A dataset is judged with at least this many activity points ...
 ANCHOR_MIN_POINTS = 4
@@ -24,16 +25,15 @@ ANCHOR_SPREAD_SHARE = 0.25
 
 
 def anchoring_flags(model, e: Electrolyte, data: FitData, set_id: str, values: dict[str, float], dh,
-                    tolerance_ln_gamma: float) -> list[str]:
-    """One ``published:`` flag per activity dataset that the set misses by a near-constant offset."""
+                    tolerance_ln_gamma: float) -> list[Flag]:
+    """One ``PUBLISHED_ANCHORING`` flag per activity dataset that the set misses by a near-constant offset."""
     from saltbench.models.evaluate import evaluate, make_context
 
     ev = evaluate(model, e, data.molality, {**model.defaults(e), **values}, ctx=make_context(e, dh=dh))
-    phi_note = ""
+    phi_gap = None
     osm = data.kind == OSMOTIC
     if np.any(osm):
-        gap = float(np.max(np.abs(data.value[osm] - ev.osmotic[osm])))
-        phi_note = f"; in phi the set and the osmotic data agree within {gap:.3f}"
+        phi_gap = float(np.max(np.abs(data.value[osm] - ev.osmotic[osm])))
     flags = []
     for ds in dict.fromkeys(data.dataset[data.kind == LN_GAMMA]):
         sel = (data.dataset == ds) & (data.kind == LN_GAMMA)
@@ -43,9 +43,7 @@ def anchoring_flags(model, e: Electrolyte, data: FitData, set_id: str, values: d
         offset, spread = float(np.mean(r)), float(np.std(r))
         if abs(offset) > tolerance_ln_gamma and spread < min(ANCHOR_SPREAD_SHARE * abs(offset), tolerance_ln_gamma):
             m = data.molality[sel]
-            flags.append(
-                f"published: {set_id} and {ds} differ by a near-constant {offset:+.3f} in ln gamma± "
-                f"(spread {spread:.3f}) over {m.min():g} to {m.max():g} mol/kg: they anchor the dilute "
-                f"end differently (gamma± scaled by {np.exp(offset):.3f}), not the shape{phi_note}; "
-                "a refit absorbs this into its dilute parameters")
+            flags.append(flag(FlagKind.PUBLISHED_ANCHORING, set_id=set_id, dataset=str(ds), offset=offset,
+                              spread=spread, low=float(m.min()), high=float(m.max()),
+                              scale=float(np.exp(offset)), phi_gap=phi_gap))
     return flags

@@ -5,7 +5,7 @@ Runs in worker processes too, so it takes only picklable inputs and finds the mo
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
@@ -15,6 +15,7 @@ from saltbench.comparison.outcome import ModelOutcome
 from saltbench.comparison.settings import CompareSettings
 from saltbench.errors import SaltbenchError
 from saltbench.fitting.data import FitData
+from saltbench.fitting.flags import Flag, FlagKind, flag
 
 
 @dataclass
@@ -61,8 +62,8 @@ def assess(model, plugin: str, e: Electrolyte, data: FitData, published: Publish
         result = run(problem)
         out.fit = result.to_dict()
         out.flags += list(result.flags)
-        if not result.converged and not any(f.startswith("did not converge") for f in result.flags):
-            out.flags.append(f"did not converge: {result.message}")
+        if not result.converged and not any(f.kind is FlagKind.DID_NOT_CONVERGE for f in result.flags):
+            out.flags.append(flag(FlagKind.DID_NOT_CONVERGE, detail=result.message))
         cv = None
         if n_free > 0:
             solved = bool(np.all(np.isfinite(result.prediction)))
@@ -80,36 +81,35 @@ def assess(model, plugin: str, e: Electrolyte, data: FitData, published: Publish
         out.flags += determination_notes(result, out.heldout, settings)
         if model.validity and not model.validity.covers_temperature(settings.temperature_k):
             span = model.validity.temperature_k
-            out.flags.append(f"authors: {model.name} is claimed for {span[0]:g} to {span[1]:g} K; used at "
-                             f"{settings.temperature_k:g} K")
+            out.flags.append(flag(FlagKind.AUTHORS_TEMPERATURE, model_name=model.name, low=span[0], high=span[1],
+                                  temperature=settings.temperature_k))
         claim = model.validity.max_molality_for(e) if model.validity else None
         top = float(data.molality.max())
         if claim is not None and top > claim * (1 + 1e-9):
             out.beyond_claim = claim
-            out.flags.append(f"authors: {model.name} is claimed to {claim:g} mol/kg for {e.name} "
-                             f"({model.validity.note or 'its Validity'}); the data here reach {top:g} mol/kg")
+            out.flags.append(flag(FlagKind.AUTHORS_MOLALITY, model_name=model.name, claim=claim, electrolyte=e.name,
+                                  note=model.validity.note or "its Validity", top=top))
         if settings.validity_scan:
             if n_free > 0:
-                out.valid_refit = validity_range(model, e, data, tolerance_ln_gamma=settings.tol_ln_gamma,
-                                                 tolerance_phi=settings.tol_phi, folds=settings.scan_folds,
-                                                 dh=dh, full_cv=cv, stop_early=True).to_dict()
+                refit = validity_range(model, e, data, tolerance_ln_gamma=settings.tol_ln_gamma,
+                                       tolerance_phi=settings.tol_phi, folds=settings.scan_folds,
+                                       dh=dh, full_cv=cv, stop_early=True)
             else:
-                out.valid_refit = validity_range(model, e, data, params={}, tolerance_ln_gamma=settings.tol_ln_gamma,
-                                                 tolerance_phi=settings.tol_phi, dh=dh).to_dict()
+                refit = validity_range(model, e, data, params={}, tolerance_ln_gamma=settings.tol_ln_gamma,
+                                       tolerance_phi=settings.tol_phi, dh=dh)
             # The comparison keeps only the range and its limits, so each trial's folds stop at
             # the first one out of tolerance (pass or fail is then known; see validity_range).
-            out.valid_refit.pop("trials", None)
+            out.valid_refit = replace(refit, trials=[])
             if published is not None:
                 basis = published.basis(settings.temperature_k)
                 pdh = basis.dh
                 if basis.off_temperature:
-                    out.flags.append(f"published: {published.set_id} holds values for {published.temperature_k:g} K; "
-                                     f"judged at {settings.temperature_k:g} K with them unchanged ({basis.constant}): "
-                                     "an extrapolation in temperature")
-                out.valid_published = validity_range(
+                    out.flags.append(flag(FlagKind.PUBLISHED_TEMPERATURE, set_id=published.set_id,
+                                          set_temperature=published.temperature_k,
+                                          temperature=settings.temperature_k, constant=basis.constant))
+                out.valid_published = replace(validity_range(
                     model, e, data, params=published.values, tolerance_ln_gamma=settings.tol_ln_gamma,
-                    tolerance_phi=settings.tol_phi, dh=pdh).to_dict()
-                out.valid_published.pop("trials", None)
+                    tolerance_phi=settings.tol_phi, dh=pdh), trials=[])
                 out.flags += anchoring_flags(model, e, data, published.set_id, published.values, pdh,
                                              settings.tol_ln_gamma)
         if curves:
@@ -125,22 +125,19 @@ def assess(model, plugin: str, e: Electrolyte, data: FitData, published: Publish
     return out
 
 
-def determination_notes(result, heldout: dict | None, settings: CompareSettings) -> list[str]:
+def determination_notes(result, heldout: dict | None, settings: CompareSettings) -> list[Flag]:
     """How well the data determine the parameters, in words, apart from whether the model holds:
     held-out errors beyond the tolerance, and parameters whose standard error exceeds their value."""
     notes = []
     held = (heldout or {}).get("held_out", {})
-    for kind, tol, name in (("ln_gamma", settings.tol_ln_gamma, "ln gamma±"), ("osmotic", settings.tol_phi, "phi")):
+    for kind, tol in (("ln_gamma", settings.tol_ln_gamma), ("osmotic", settings.tol_phi)):
         worst = (held.get(kind) or {}).get("max_abs")
         if heldout and heldout.get("folds") and worst is not None and worst > tol:
-            notes.append(f"determination: held out, points are predicted to within {worst:.2g} in {name}, "
-                         f"beyond the tolerance {tol:g}: the data determine the parameters poorly (gaps "
-                         "or too few points); expect predictions within that band, not the tolerance")
+            notes.append(flag(FlagKind.DETERMINATION_HELDOUT, worst=worst, quantity=kind, tolerance=tol))
     for p in result.parameters:
         se = p.get("stderr")
         if se is not None and np.isfinite(se) and se > abs(p["value"]):
-            notes.append(f"determination: {p['name']} = {p['value']:.3g} ± {se:.2g}, standard error "
-                         "above its value")
+            notes.append(flag(FlagKind.DETERMINATION_STDERR, name=p["name"], value=p["value"], stderr=se))
     return notes
 
 

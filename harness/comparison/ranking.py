@@ -20,28 +20,67 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 from dataclasses import dataclass
+from enum import StrEnum
 
-from saltbench.comparison.outcome import ModelOutcome
-from saltbench.fitting.validity import SPARSE
+from saltbench.comparison.outcome import ModelOutcome, Verdict, VerdictKind
+from saltbench.fitting.flags import FlagKind
 
 MATERIAL_RATIO = 1.5
 MATERIAL_AICC = 10.0
 
 
+class RecommendationKind(StrEnum):
+    RECOMMENDED = "recommended"
+    NONE_HOLDS = "none-holds"  # no model over the range
+    TOO_FEW_POINTS = "too-few-points"
+
+
 @dataclass
 class Recommendation:
+    """The recommendation for one electrolyte; :attr:`statement` is its wording in every output."""
+
     electrolyte: str
     model: str | None
     target_molality: float
-    statement: str
     furthest_model: str | None = None
     furthest_molality: float | None = None
     most_accurate: str | None = None
-    #: "recommended", "none-holds" (no model over the range) or "too-few-points"
-    kind: str = "recommended"
+    kind: RecommendationKind = RecommendationKind.RECOMMENDED
+    tol_ln_gamma: float = 0.01
+    tol_phi: float = 0.01
+    model_name: str | None = None  # of the recommended model
+    n_params: int | None = None  # of the recommended model
+    most_accurate_name: str | None = None
+    heldout_model: float | None = None  # held-out RMS of the recommended model (4 significant digits)
+    heldout_most_accurate: float | None = None
+    furthest_name: str | None = None
+    n_points: int | None = None  # with TOO_FEW_POINTS
+
+    @property
+    def statement(self) -> str:
+        tol = f"|d ln gamma±| <= {self.tol_ln_gamma:g} and |d phi| <= {self.tol_phi:g}"
+        if self.kind is RecommendationKind.RECOMMENDED:
+            text = (f"{self.model_name} [{self.model}] is the simplest model within {tol} up to "
+                    f"{self.target_molality:g} mol/kg ({self.n_params} fitted parameter(s)) not materially "
+                    "less accurate than the best")
+            if self.most_accurate != self.model:
+                text += (f"; the most accurate is {self.most_accurate_name} [{self.most_accurate}] (held-out "
+                         f"RMS {self.heldout_most_accurate:.2g} against {self.heldout_model:.2g})")
+            return text + "."
+        if self.kind is RecommendationKind.TOO_FEW_POINTS:
+            return (f"{self.electrolyte} has {self.n_points} data point(s) here: too few to judge any model "
+                    "against.")
+        if self.furthest_model is not None:
+            return (f"No model stays within {tol} up to {self.target_molality:g} mol/kg; the furthest is "
+                    f"{self.furthest_name} [{self.furthest_model}], to {self.furthest_molality:g} mol/kg.")
+        return f"No model stays within {tol} for {self.electrolyte} on these data."
 
     def to_dict(self) -> dict:
-        return self.__dict__.copy()
+        """The manifest's record (its keys and wording as before typed results)."""
+        return {"electrolyte": self.electrolyte, "model": self.model, "target_molality": self.target_molality,
+                "statement": self.statement, "furthest_model": self.furthest_model,
+                "furthest_molality": self.furthest_molality, "most_accurate": self.most_accurate,
+                "kind": str(self.kind)}
 
 
 def _reach(o: ModelOutcome) -> float:
@@ -65,26 +104,27 @@ def _materially_worse(o: ModelOutcome, best: ModelOutcome) -> bool:
     return _heldout(o) > MATERIAL_RATIO * _heldout(best) and _aicc(o) - _aicc(best) > MATERIAL_AICC
 
 
-def verdict(o: ModelOutcome, target: float) -> str:
+def verdict(o: ModelOutcome, target: float) -> Verdict:
     if o.error:
-        return f"failed: {o.error}"
+        return Verdict(VerdictKind.FAILED, error=o.error)
     if o.fit_flags:
-        return "not ranked: " + "; ".join(o.fit_flags)
+        return Verdict(VerdictKind.NOT_RANKED, reasons=tuple(o.fit_flags))
     v = o.valid_up_to("refit")
+    flags = o.valid_refit.flags if o.valid_refit else []
     if v is None:
-        too_few = [f for f in (o.valid_refit or {}).get("flags", []) if f.startswith("too few points")]
-        return too_few[0] if too_few else "outside tolerance even at the lowest molality"
-    limited = (o.valid_refit or {}).get("limited_by")
-    sparse = [f for f in (o.valid_refit or {}).get("flags", []) if f.startswith(SPARSE)]
-    gaps = f"; {'; '.join(sparse)}" if sparse else ""
+        too_few = tuple(f for f in flags if f.kind is FlagKind.TOO_FEW_TO_JUDGE)
+        return Verdict(VerdictKind.TOO_FEW_POINTS, reasons=too_few[:1]) if too_few else Verdict(VerdictKind.NONE_VALID)
+    sparse = tuple(f for f in flags if f.kind is FlagKind.SPARSE)
     if v >= target * (1 - 1e-9):
-        tail = " (the data end before the model fails)" if limited == "data" else ""
-        return f"within tolerance over the whole range, to {v:g} mol/kg{tail}{gaps}"
-    return f"within tolerance only up to {v:g} mol/kg{gaps}"
+        data_end = o.valid_refit is not None and o.valid_refit.limited_by == "data"
+        return Verdict(VerdictKind.WHOLE_RANGE, reach=v, data_end=data_end, sparse=sparse)
+    return Verdict(VerdictKind.PART_RANGE, reach=v, sparse=sparse)
 
 
-def recommend(outcomes: Sequence[ModelOutcome], target: float, tol_text: str) -> Recommendation:
+def recommend(outcomes: Sequence[ModelOutcome], target: float, tol_ln_gamma: float = 0.01,
+              tol_phi: float = 0.01) -> Recommendation:
     electrolyte = outcomes[0].electrolyte if outcomes else ""
+    tol = {"tol_ln_gamma": tol_ln_gamma, "tol_phi": tol_phi}
     for o in outcomes:
         o.verdict = verdict(o, target)
     good = [o for o in outcomes if o.usable and _reach(o) >= target * (1 - 1e-9)]
@@ -96,23 +136,17 @@ def recommend(outcomes: Sequence[ModelOutcome], target: float, tol_text: str) ->
         fair = [o for o in fair if o.beyond_claim is None] or fair
         best = min(fair, key=lambda o: (o.n_params, _heldout(o), _aicc(o), o.model))
         best.recommended = True
-        text = (f"{best.model_name} [{best.model}] is the simplest model within {tol_text} up to "
-                f"{target:g} mol/kg ({best.n_params} fitted parameter(s)) not materially less accurate "
-                f"than the best")
-        if accurate is not best:
-            text += (f"; the most accurate is {accurate.model_name} [{accurate.model}] (held-out RMS "
-                     f"{_heldout(accurate):.2g} against {_heldout(best):.2g})")
-        return Recommendation(electrolyte, best.model, target, text + ".", most_accurate=accurate.model)
+        return Recommendation(electrolyte, best.model, target, most_accurate=accurate.model,
+                              model_name=best.model_name, n_params=best.n_params,
+                              most_accurate_name=accurate.model_name, heldout_model=_heldout(best),
+                              heldout_most_accurate=_heldout(accurate), **tol)
     n_points = max((o.record()["n_points"] or 0 for o in outcomes), default=0)
     if n_points < 3:
-        return Recommendation(electrolyte, None, target, f"{electrolyte} has {n_points} data point(s) here: too "
-                              "few to judge any model against.", kind="too-few-points")
+        return Recommendation(electrolyte, None, target, kind=RecommendationKind.TOO_FEW_POINTS, n_points=n_points,
+                              **tol)
     usable = [o for o in outcomes if o.usable and o.valid_up_to("refit")]
     if usable:
         far = max(usable, key=_reach)
-        return Recommendation(electrolyte, None, target,
-                              f"No model stays within {tol_text} up to {target:g} mol/kg; the furthest "
-                              f"is {far.model_name} [{far.model}], to {_reach(far):g} mol/kg.",
-                              far.model, _reach(far), kind="none-holds")
-    return Recommendation(electrolyte, None, target, f"No model stays within {tol_text} for {electrolyte} "
-                          "on these data.", kind="none-holds")
+        return Recommendation(electrolyte, None, target, far.model, _reach(far), kind=RecommendationKind.NONE_HOLDS,
+                              furthest_name=far.model_name, **tol)
+    return Recommendation(electrolyte, None, target, kind=RecommendationKind.NONE_HOLDS, **tol)

@@ -14,6 +14,7 @@ from saltbench.comparison.assess import PublishedInput, assess
 from saltbench.comparison.outcome import ModelOutcome
 from saltbench.comparison.ranking import Recommendation, recommend
 from saltbench.comparison.settings import CompareSettings
+from saltbench.comparison.sources import SourceDisagreement
 
 
 @dataclass
@@ -35,7 +36,7 @@ class Comparison:
     data: dict[str, Any] = field(default_factory=dict)  # electrolyte -> FitData
     skipped: dict[str, list[str]] = field(default_factory=dict)  # electrolyte -> unsupported models
     per_ion: dict[str, list[str]] = field(default_factory=dict)  # electrolyte -> models needing several salts
-    disagreements: dict[str, list[str]] = field(default_factory=dict)  # electrolyte -> sources apart
+    disagreements: dict[str, list[SourceDisagreement]] = field(default_factory=dict)  # electrolyte -> sources apart
     plugin_problems: list[str] = field(default_factory=list)
 
     def records(self) -> list[dict]:
@@ -142,11 +143,10 @@ def run_comparison(tasks: list[ElectrolyteTask], settings: CompareSettings, *, r
             results[name] = outs
             bar(name)
     bar(None)
-    tol_text = f"|d ln gamma±| <= {settings.tol_ln_gamma:g} and |d phi| <= {settings.tol_phi:g}"
     for t in tasks:  # keep the order of the request
         name = t.electrolyte.name
         comp.outcomes[name] = results[name]
-        comp.recommendations[name] = recommend(results[name], t.target, tol_text)
+        comp.recommendations[name] = recommend(results[name], t.target, settings.tol_ln_gamma, settings.tol_phi)
         comp.datasets[name] = t.datasets
         comp.data[name] = t.data
     return comp

@@ -4,13 +4,38 @@ where two datasets print the same property at the same molality."""
 
 from __future__ import annotations
 
+from dataclasses import dataclass
+
 import numpy as np
 
 from saltbench.fitting.data import LN_GAMMA, FitData
 
 
-def source_disagreements(data: FitData, tol_ln_gamma: float, tol_phi: float) -> list[str]:
-    """One sentence per pair of datasets that differ beyond the tolerance at common molalities."""
+@dataclass(frozen=True)
+class SourceDisagreement:
+    """Two datasets of one quantity that differ beyond the tolerance where both print a value."""
+
+    first: str
+    second: str
+    quantity: str  # "ln_gamma" or "osmotic"
+    worst: float  # largest difference
+    low: float  # mol/kg, the common molalities' range
+    high: float
+    tolerance: float
+
+    @property
+    def text(self) -> str:
+        what = "ln gamma±" if self.quantity == LN_GAMMA else "phi"
+        return (f"{self.first} and {self.second} differ by up to {self.worst:.3f} in {what} at the molalities both "
+                f"print ({self.low:g} to {self.high:g} mol/kg), beyond the tolerance {self.tolerance:g}: no model "
+                "can stay within it of both; compare one of them with --data")
+
+    def __str__(self) -> str:
+        return self.text
+
+
+def source_disagreements(data: FitData, tol_ln_gamma: float, tol_phi: float) -> list[SourceDisagreement]:
+    """One per pair of datasets that differ beyond the tolerance at common molalities."""
     out = []
     keys = list(dict.fromkeys(data.dataset))
     for i, a in enumerate(keys):
@@ -25,8 +50,6 @@ def source_disagreements(data: FitData, tol_ln_gamma: float, tol_phi: float) -> 
                 diff = np.abs(data.value[sa][ia] - data.value[sb][ib])
                 tol = tol_ln_gamma if kind == LN_GAMMA else tol_phi
                 if diff.max() > tol:
-                    what = "ln gamma±" if kind == LN_GAMMA else "phi"
-                    out.append(f"{a} and {b} differ by up to {diff.max():.3f} in {what} at the molalities both "
-                               f"print ({common.min():g} to {common.max():g} mol/kg), beyond the tolerance "
-                               f"{tol:g}: no model can stay within it of both; compare one of them with --data")
+                    out.append(SourceDisagreement(str(a), str(b), str(kind), float(diff.max()), float(common.min()),
+                                                  float(common.max()), tol))
     return out

@@ -29,6 +29,7 @@ from typing import NamedTuple
 import numpy as np
 
 from saltbench.errors import ModelDomainError, ModelError
+from saltbench.fitting.flags import Flag, FlagKind, flag
 from saltbench.fitting.problem import FitProblem
 
 _MODEL_FAILURES = (ModelError, ModelDomainError, FloatingPointError, np.linalg.LinAlgError)
@@ -93,7 +94,7 @@ class Solution:
     jacobian: np.ndarray | None  # d prediction / d theta[free] / u, shape (n, k)
     converged: bool
     message: str
-    flags: list[str] = field(default_factory=list)
+    flags: list[Flag] = field(default_factory=list)
     at_bound: dict[int, str] = field(default_factory=dict)  # global index -> "lower" | "upper"
     iterations: int = 0
     # The decomposition of ``jacobian`` when the solver already has it (every free parameter
@@ -226,7 +227,7 @@ def solve(problem: FitProblem, *, max_evaluations: int | None = None,
     p = problem
     proj = _Projection(p)
     theta = p.theta0.copy()
-    flags: list[str] = []
+    flags: list[Flag] = []
     converged, message, iterations = True, "", 0
     at_bound: dict[int, str] = {}
     try:
@@ -249,17 +250,16 @@ def solve(problem: FitProblem, *, max_evaluations: int | None = None,
             converged = bool(res.status > 0)
             message = str(res.message)
             if not converged:
-                flags.append(f"did not converge: {message}")
+                flags.append(flag(FlagKind.DID_NOT_CONVERGE, detail=message))
             for j, g in enumerate(p.nonlinear):
                 if res.active_mask[j]:
                     at_bound[int(g)] = "lower" if res.active_mask[j] < 0 else "upper"
         at_bound.update(proj.linear_at_bound)
     except (_Abort, ValueError, *_MODEL_FAILURES) as exc:
         reason = proj.failures[-1] if proj.failures else str(exc)
-        return Solution(theta, None, None, False, reason, [f"model error: {reason}"])
+        return Solution(theta, None, None, False, reason, [flag(FlagKind.MODEL_ERROR, detail=reason)])
     if proj.failures:
-        flags.append(f"model failed at some trial parameters (steps rejected): "
-                     f"{proj.failures[-1]}")
+        flags.append(flag(FlagKind.STEPS_REJECTED, detail=proj.failures[-1]))
     try:
         prediction = proj.pred
         jac_svd = None
@@ -269,6 +269,6 @@ def solve(problem: FitProblem, *, max_evaluations: int | None = None,
         else:
             jac = p.derivatives(theta, p.free, base=prediction) / p.sigma[:, None]
     except _MODEL_FAILURES as exc:
-        return Solution(theta, None, None, False, str(exc), flags + [f"model error: {exc}"])
+        return Solution(theta, None, None, False, str(exc), flags + [flag(FlagKind.MODEL_ERROR, detail=str(exc))])
     return Solution(theta, prediction, jac, converged, message, flags, at_bound, iterations,
                     jac_svd, proj.resid)

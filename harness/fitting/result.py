@@ -29,6 +29,7 @@ from typing import Any
 import numpy as np
 
 from saltbench.fitting import criteria
+from saltbench.fitting.flags import FAILED_FIT_KINDS, Flag, FlagKind, flag, texts
 from saltbench.fitting.least_squares import ScaledSVD, Solution, scaled_svd
 from saltbench.fitting.problem import FitProblem
 
@@ -66,7 +67,7 @@ class FitResult:
     dof: int
     converged: bool
     message: str
-    flags: list[str]
+    flags: list[Flag]
     aic: float
     aicc: float | None
     bic: float | None
@@ -85,8 +86,7 @@ class FitResult:
     @property
     def ok(self) -> bool:
         """Converged without a model error, singularity or too few points."""
-        bad = ("model error", "singular", "too few points", "did not converge")
-        return self.converged and not any(f.startswith(bad) for f in self.flags)
+        return self.converged and not any(f.kind in FAILED_FIT_KINDS for f in self.flags)
 
     @property
     def values(self) -> dict[str, float]:
@@ -166,7 +166,7 @@ class FitResult:
             },
             "converged": self.converged,
             "message": self.message,
-            "flags": list(self.flags),
+            "flags": texts(self.flags),
             "aic": _json_float(self.aic),
             "aicc": _json_float(self.aicc),
             "bic": _json_float(self.bic),
@@ -184,7 +184,7 @@ def _kind_stats(residual: np.ndarray, sel: np.ndarray) -> dict[str, float | int 
 
 
 def _covariance(jac: np.ndarray, names: list[str], svd: ScaledSVD | None = None
-                ) -> tuple[np.ndarray, float, list[str]]:
+                ) -> tuple[np.ndarray, float, list[Flag]]:
     """Unscaled covariance from the weighted Jacobian; NaN when singular. Also cond and flags.
 
     ``svd`` is the decomposition of ``jac`` when the solver already made it.
@@ -198,18 +198,16 @@ def _covariance(jac: np.ndarray, names: list[str], svd: ScaledSVD | None = None
     norm_list, s_list = norms.tolist(), s.tolist()  # a few numbers: plain Python tests them
     if not all(x > 0 for x in norm_list):
         dead = [names[j] for j in range(k) if not norm_list[j] > 0]
-        return (np.full((k, k), np.nan), math.inf,
-                [f"singular (the data carry no information on {', '.join(dead)})"])
+        return np.full((k, k), np.nan), math.inf, [flag(FlagKind.SINGULAR, names=tuple(dead))]
     if len(s_list) < k or s_list[-1] <= SINGULAR * s_list[0]:
         if len(s_list) < k:  # fewer points than parameters: every parameter is involved
             involved = list(names)
         else:
             involved = [names[j] for j in np.argsort(-np.abs(vt[-1])) if abs(vt[-1][j]) > 0.2]
-        why = f"singular (no information on a combination of {', '.join(involved)})"
-        return np.full((k, k), np.nan), math.inf, [why]
+        return np.full((k, k), np.nan), math.inf, [flag(FlagKind.SINGULAR_COMBINATION, names=tuple(involved))]
     cond = s_list[0] / s_list[-1]
     cov = (vt.T / s**2) @ vt / (norms[:, None] * norms)
-    flags = [f"ill-conditioned (condition number {cond:.3g})"] if cond > ILL_CONDITIONED else []
+    flags = [flag(FlagKind.ILL_CONDITIONED, condition_number=cond)] if cond > ILL_CONDITIONED else []
     return cov, cond, flags
 
 
@@ -225,7 +223,7 @@ def build_result(problem: FitProblem, solution: Solution, *,
     flags = list(solution.flags)
     dof = n - k
     if dof <= 0:
-        flags.append(f"too few points ({n} points for {k} free parameters)")
+        flags.append(flag(FlagKind.TOO_FEW_POINTS, n_points=n, n_params=k))
     pred = solution.prediction if solution.prediction is not None else np.full(n, np.nan)
     weighted = solution.weighted_residual  # the solver's, when it has them (with its prediction)
     if weighted is None:
@@ -249,7 +247,7 @@ def build_result(problem: FitProblem, solution: Solution, *,
     sd_list = [math.sqrt(v) if not v < 0.0 else 0.0 for v in cov.diagonal().tolist()]
     for g, side in sorted(solution.at_bound.items()):
         bound = p.params[g].lower if side == "lower" else p.params[g].upper
-        flags.append(f"parameter {p.names[g]} at bound ({side} = {bound:g})")
+        flags.append(flag(FlagKind.AT_BOUND, name=p.names[g], side=side, bound=bound))
 
     stderr_of = dict(zip(free, sd_list))
     units = {q.name: q.unit for q in p.model.parameters}

@@ -41,12 +41,11 @@ from saltbench.chemistry.electrolyte import Electrolyte
 from saltbench.errors import ModelDomainError, ModelError
 from saltbench.fitting.crossval import CrossValidation, cross_validate_problem
 from saltbench.fitting.data import FitData
+from saltbench.fitting.flags import Flag, FlagKind, flag, texts
 from saltbench.fitting.problem import FitProblem, build_problem
 from saltbench.models.contract import SolutionModel
 from saltbench.water.debye_huckel import DebyeHuckel
 
-DATA_END = "data end before model fails"
-SPARSE = "data too sparse to judge"
 #: A fit judged on its own points needs this many more points than free parameters.
 MIN_DOF = 3
 #: Neighbouring data molalities further apart than this ratio, or (above 1 mol/kg) than
@@ -78,7 +77,7 @@ class ValidityRange:
     tolerance: dict[str, float]  # {"ln_gamma": ..., "osmotic": ...}
     mode: Literal["fixed", "refit"]
     highest_data_molality: float
-    flags: list[str] = field(default_factory=list)
+    flags: list[Flag] = field(default_factory=list)
     trials: list[dict[str, Any]] = field(default_factory=list, repr=False)
 
     def to_dict(self) -> dict[str, Any]:
@@ -91,7 +90,7 @@ class ValidityRange:
                 "first_failing_molality": num(self.first_failing_molality),
                 "tolerance": dict(self.tolerance), "mode": self.mode,
                 "highest_data_molality": num(self.highest_data_molality),
-                "flags": list(self.flags),
+                "flags": texts(self.flags),
                 "trials": [{k: (num(v) if isinstance(v, float) else v) for k, v in t.items()}
                            for t in self.trials]}
 
@@ -110,11 +109,11 @@ def _worst(residual: np.ndarray, sel: np.ndarray) -> float | None:
 
 
 def _finish(electrolyte: Electrolyte, mode: str, last_ok: float | None,
-            first_fail: float | None, top: float, tol: dict[str, float], flags: list[str],
+            first_fail: float | None, top: float, tol: dict[str, float], flags: list[Flag],
             trials: list[dict[str, Any]]) -> ValidityRange:
     if first_fail is None and last_ok is not None:
         limited_by = "data"
-        flags.append(f"{DATA_END} (highest data molality {top:g} mol/kg)")
+        flags.append(flag(FlagKind.DATA_END, top=top))
     elif last_ok is None:
         limited_by = "none-valid"
     else:
@@ -125,12 +124,12 @@ def _finish(electrolyte: Electrolyte, mode: str, last_ok: float | None,
 
 
 def _fixed_scan(problem: FitProblem, theta: np.ndarray, tol_ln: float, tol_phi: float
-                ) -> tuple[float | None, float | None, list[str], list[dict[str, Any]]]:
-    flags: list[str] = []
+                ) -> tuple[float | None, float | None, list[Flag], list[dict[str, Any]]]:
+    flags: list[Flag] = []
     try:
         resid = problem.obs - problem.predict(theta)
     except (ModelError, ModelDomainError) as exc:
-        flags.append(f"model error: {exc}")
+        flags.append(flag(FlagKind.MODEL_ERROR, detail=str(exc)))
         return None, None, flags, []
     ok = _within(resid, problem.is_osm, tol_ln, tol_phi)
     m = problem.molality
@@ -172,16 +171,15 @@ def _same_points(cv: CrossValidation | None, problem: FitProblem, folds: int,
 
 def _refit_scan(problem: FitProblem, tol_ln: float, tol_phi: float, folds: int, scheme: str,
                 full_cv: CrossValidation | None = None, stop_early: bool = False
-                ) -> tuple[float | None, float | None, list[str], list[dict[str, Any]]]:
-    flags: list[str] = []
+                ) -> tuple[float | None, float | None, list[Flag], list[dict[str, Any]]]:
+    flags: list[Flag] = []
     trials: list[dict[str, Any]] = []
     m = problem.molality
     k = problem.k
     grid = [float(L) for L in np.unique(m)
             if (lambda n: min(folds, n) >= 2 and n - math.ceil(n / min(folds, n)) >= k + 1)(int((m <= L).sum()))]
     if not grid:
-        flags.append(f"too few points to judge a refitted model ({problem.n} points for "
-                     f"{k} free parameters)")
+        flags.append(flag(FlagKind.TOO_FEW_TO_JUDGE, n_points=problem.n, n_params=k))
         return None, None, flags, trials
     cache: dict[int, bool] = {}
     start = None
@@ -212,7 +210,7 @@ def _refit_scan(problem: FitProblem, tol_ln: float, tol_phi: float, folds: int, 
                        "worst_osmotic": _worst(cv.residual, (cv.kind == "osmotic") & ran),
                        "flags": list(cv.flags)})
         if not cache[i] and cv.flags:
-            flags.append(f"at trial limit {L:g} mol/kg: {cv.flags[0]}")
+            flags.append(flag(FlagKind.TRIAL_FAILED, limit=L, detail=cv.flags[0]))
         return cache[i]
 
     # Search from the top: the range is the highest trial limit at which the refitted model
@@ -224,17 +222,16 @@ def _refit_scan(problem: FitProblem, tol_ln: float, tol_phi: float, folds: int, 
 
 
 def _fit_scan(problem: FitProblem, tol_ln: float, tol_phi: float
-              ) -> tuple[float | None, float | None, list[str], list[dict[str, Any]]]:
+              ) -> tuple[float | None, float | None, list[Flag], list[dict[str, Any]]]:
     from saltbench.fitting.engine import run
 
-    flags: list[str] = []
+    flags: list[Flag] = []
     trials: list[dict[str, Any]] = []
     m = problem.molality
     k = problem.k
     grid = [float(L) for L in np.unique(m) if int((m <= L).sum()) >= k + MIN_DOF]
     if not grid:
-        flags.append(f"too few points to judge a refitted model ({problem.n} points for "
-                     f"{k} free parameters)")
+        flags.append(flag(FlagKind.TOO_FEW_TO_JUDGE, n_points=problem.n, n_params=k))
         return None, None, flags, trials
     cache: dict[int, bool] = {}
     start: list[np.ndarray] = []
@@ -252,9 +249,9 @@ def _fit_scan(problem: FitProblem, tol_ln: float, tol_phi: float
         ok = solved and bool(_within(resid, result.is_osmotic, tol_ln, tol_phi).all())
         cache[i] = ok
         trials.append({"limit": L, "passed": ok, "worst_ln_gamma": _worst(resid, ~result.is_osmotic),
-                       "worst_osmotic": _worst(resid, result.is_osmotic), "flags": list(result.flags)})
+                       "worst_osmotic": _worst(resid, result.is_osmotic), "flags": texts(result.flags)})
         if not solved and result.flags:
-            flags.append(f"at trial limit {L:g} mol/kg: {result.flags[0]}")
+            flags.append(flag(FlagKind.TRIAL_FAILED, limit=L, detail=str(result.flags[0])))
         return ok
 
     last_ok, first_fail = _search(grid, passes)
@@ -332,7 +329,7 @@ def validity_range(model: SolutionModel, electrolyte: Electrolyte | str, data: F
         mode = "refit"
     last_ok, first_fail, flags, trials = result
     if last_ok is not None:
-        flags += [f"{SPARSE} between {a:g} and {min(b, last_ok):g} mol/kg"
+        flags += [flag(FlagKind.SPARSE, low=a, high=min(b, last_ok))
                   for a, b in sparse_stretches(problem.molality) if a < last_ok]
     trials.sort(key=lambda t: t["limit"])
     return _finish(e, mode, last_ok, first_fail, float(problem.molality.max()), tol, flags,

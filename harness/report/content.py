@@ -10,6 +10,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 
+from saltbench.fitting.flags import describe
 from saltbench.report.document import (
     DASH,
     Bullets,
@@ -66,7 +67,7 @@ def verdict_rows(comparison) -> tuple[list[list[str]], list[list[str]], list[str
             r = o.record()
             verdicts.append([r["electrolyte"], r["model"], str(r["n_params"]),
                              molality(r["valid_up_to_published"]), molality(r["valid_up_to_refit"]),
-                             r["verdict"]])
+                             o.verdict.text if o.verdict else ""])
             errors.append([r["electrolyte"], r["model"], num(r["rms_ln_gamma"]), num(r["max_ln_gamma"]),
                            num(r["rms_osmotic"]), num(r["max_osmotic"]), num(r["heldout_rms_ln_gamma"]),
                            num(r["heldout_rms_osmotic"]), num(r["aicc"])])
@@ -249,10 +250,10 @@ def _heldout_table(outs, name: str, index: int) -> Table:
                  [False, True, True, True, True, True, True, True, True, True, False])
 
 
-def _flag_blocks(outs, skipped: list[str], per_ion: list[str], disagreements: list[str]) -> list:
+def _flag_blocks(outs, skipped: list[str], per_ion: list[str], disagreements: list) -> list:
     items = []
     for o in outs:
-        flags = o.record()["flags"]
+        flags = [describe(f) for f in o.flags] + ([f"error: {o.error}"] if o.error else [])
         if flags:
             items.append(f"{o.model}: " + "; ".join(flags))
     blocks: list = []
@@ -269,7 +270,7 @@ def _flag_blocks(outs, skipped: list[str], per_ion: list[str], disagreements: li
         blocks.append(Paragraph("Not applicable to this electrolyte (charge type not supported): "
                                 + ", ".join(skipped) + "."))
     for note in disagreements:
-        blocks.append(Paragraph("The data's own sources disagree: " + note + "."))
+        blocks.append(Paragraph("The data's own sources disagree: " + note.text + "."))
     if per_ion:
         blocks.append(Paragraph("Left out: parameters of their own per ion, which only several salts "
                                 "sharing an ion determine (fit them jointly): " + ", ".join(per_ion) + "."))
