@@ -124,7 +124,6 @@ def verdict(o: ModelOutcome, target: float) -> Verdict:
 def recommend(outcomes: Sequence[ModelOutcome], target: float, tol_ln_gamma: float = 0.01,
               tol_phi: float = 0.01) -> Recommendation:
     electrolyte = outcomes[0].electrolyte if outcomes else ""
-    tol = {"tol_ln_gamma": tol_ln_gamma, "tol_phi": tol_phi}
     for o in outcomes:
         o.verdict = verdict(o, target)
     good = [o for o in outcomes if o.usable and _reach(o) >= target * (1 - 1e-9)]
@@ -139,14 +138,15 @@ def recommend(outcomes: Sequence[ModelOutcome], target: float, tol_ln_gamma: flo
         return Recommendation(electrolyte, best.model, target, most_accurate=accurate.model,
                               model_name=best.model_name, n_params=best.n_params,
                               most_accurate_name=accurate.model_name, heldout_model=_heldout(best),
-                              heldout_most_accurate=_heldout(accurate), **tol)
+                              heldout_most_accurate=_heldout(accurate), tol_ln_gamma=tol_ln_gamma, tol_phi=tol_phi)
     n_points = max((o.record()["n_points"] or 0 for o in outcomes), default=0)
     if n_points < 3:
         return Recommendation(electrolyte, None, target, kind=RecommendationKind.TOO_FEW_POINTS, n_points=n_points,
-                              **tol)
+                              tol_ln_gamma=tol_ln_gamma, tol_phi=tol_phi)
     usable = [o for o in outcomes if o.usable and o.valid_up_to("refit")]
     if usable:
         far = max(usable, key=_reach)
         return Recommendation(electrolyte, None, target, far.model, _reach(far), kind=RecommendationKind.NONE_HOLDS,
-                              furthest_name=far.model_name, **tol)
-    return Recommendation(electrolyte, None, target, kind=RecommendationKind.NONE_HOLDS, **tol)
+                              furthest_name=far.model_name, tol_ln_gamma=tol_ln_gamma, tol_phi=tol_phi)
+    return Recommendation(electrolyte, None, target, kind=RecommendationKind.NONE_HOLDS,
+                          tol_ln_gamma=tol_ln_gamma, tol_phi=tol_phi)
