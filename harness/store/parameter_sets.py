@@ -24,7 +24,7 @@ class ParameterKey(Protocol):
     @property
     def scope(self) -> str: ...  # "electrolyte", "cation" or "anion"
     @property
-    def ion_key(self) -> str: ...
+    def ion_key(self) -> str | None: ...
 
 
 class ModelKeys(Protocol):
