@@ -13,7 +13,7 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 from functools import cached_property
 from pathlib import Path
-from typing import TYPE_CHECKING, Any
+from typing import TYPE_CHECKING, Any, cast
 
 import numpy as np
 import pandas as pd
@@ -21,10 +21,11 @@ import pandas as pd
 from saltbench.store import queries
 from saltbench.store.bundled import sync_bundled
 from saltbench.store.connection import Store, open_store
-from saltbench.store.ingest import IngestReport, ingest
+from saltbench.store.ingest import IngestReport, expand_paths, ingest
 
 if TYPE_CHECKING:
     from saltbench.fitting.uncertainty import Propagation
+    from saltbench.measurements.gibbs_duhem import GibbsDuhemResult
 
 
 class Session:
@@ -88,22 +89,12 @@ class Session:
         return queries.content_hash(self.store)
 
 
-def expand_paths(paths: Sequence[str | os.PathLike[str]]) -> list[Path]:
-    out: list[Path] = []
-    for p in map(Path, paths):
-        if p.is_dir():
-            bibs = sorted(q for q in p.glob("*.txt") if q.name == "sources.txt" or q.name.endswith(".sources.txt"))
-            found = bibs + sorted(p.glob("*.csv"))
-            if not found:
-                from saltbench.errors import UserError
+def plugin_registry(plugin_files: Sequence[str | os.PathLike[str]] = (), disabled: Sequence[str] = ()):
+    """The discovered plugins and models, without opening a store (what :attr:`Session.registry`
+    holds): a :class:`saltbench.models.discovery.PluginRegistry`."""
+    from saltbench.models.discovery import build_registry
 
-                # Adding nothing and saying nothing reads as success; the user meant some files.
-                raise UserError(f"{p}: folder holds no bibliography (*.sources.txt, sources.txt) "
-                                "or CSV file to add")
-            out += found
-        else:
-            out.append(p)
-    return out
+    return build_registry(list(plugin_files), list(disabled))
 
 
 def _has_third_party_entry_points() -> bool:
@@ -202,6 +193,20 @@ def export_parameter_set(session: Session, set_id: str, folder: str | os.PathLik
     return written
 
 
+def parameter_sets(session: Session) -> pd.DataFrame:
+    """One row per stored parameter set (published and fitted), with how many rows it holds."""
+    from saltbench.store.parameter_sets import list_sets
+
+    return list_sets(session.store)
+
+
+def parameter_set(session: Session, set_id: str) -> dict | None:
+    """Everything stored about one parameter set (None when the store does not hold it)."""
+    from saltbench.store.parameter_sets import load_set
+
+    return load_set(session.store, set_id)
+
+
 def parameter_basis(params, temperature_k: float = 298.15, constant: str | float = "published"):
     """The Debye-Hückel constant and temperature ``params`` are evaluated at: the one decision
     (:mod:`saltbench.water.basis`) that predict, compare, fit and the report share."""
@@ -288,6 +293,100 @@ def predict(session: Session, electrolyte: str, model_id: str, molality, params_
     return Prediction(e, model, params, basis, ev, unc, extrapolation_reasons(model, e, params, m, basis))
 
 
+@dataclass
+class FitRun:
+    """One model fitted to the data of one or more electrolytes (jointly), and where it was saved."""
+
+    model: Any
+    electrolytes: list[str]
+    #: :class:`saltbench.fitting.FitResult`
+    result: Any
+    #: per electrolyte, (electrolyte, :class:`saltbench.fitting.selection.Selection`)
+    selections: list[tuple[Any, Any]]
+    #: the Debye-Hückel state the fit used (``a_phi``, ``origin``)
+    dh: Any
+    settings: dict
+    data_hashes: list[str]
+    parameter_set: str | None = None
+
+
+def fit(session: Session, electrolytes: Sequence[str], model_id: str, *, up_to: float | None = None,
+        fix: Sequence[str] | dict[str, float] = (), free: Sequence[str] = (),
+        datasets: Sequence[str] | None = None, on: str | Sequence[str] | None = None,
+        temperature_k: float = 298.15, set_name: str | None = None, save: bool = True,
+        dh_constant: str = "current") -> FitRun:
+    """Fit ``model_id``'s free parameters to the stored data of ``electrolytes`` (activity and
+    osmotic jointly; several electrolytes give one joint fit with per-ion parameters shared by
+    ion) and, with ``save``, store the result as a fitted parameter set.
+
+    ``fix`` holds parameters at values (``{"b": 0.2}`` or ``["b=0.2"]``); ``free`` frees ones the
+    model holds fixed by default; ``on`` names the properties (``"gamma,osmotic"`` or a list);
+    ``dh_constant`` is ``current``, ``published`` or a value (see :func:`fit_constant`)."""
+    from saltbench.errors import UserError
+    from saltbench.fitting import fit as run_fit
+    from saltbench.fitting import fit_joint, parse_assignments
+    from saltbench.fitting.selection import parse_on
+    from saltbench.models.discovery import plugin_output_to_stderr
+    from saltbench.scaffold.names import slug
+    from saltbench.store.fitted import fit_set_id, save_fit
+
+    model = session.registry.model(model_id)
+    fixed = dict(fix) if isinstance(fix, dict) else parse_assignments(fix)
+    props = parse_on(on or None) if on is None or isinstance(on, str) else list(on)
+    datasets = list(datasets) if datasets else None
+    sels = []
+    for name in electrolytes:
+        e = session.electrolyte(name)
+        sels.append((e, select_data(session, e, datasets=datasets, on=props, up_to=up_to,
+                                    temperature_k=temperature_k)))
+    dh = fit_constant(session, model, [e for e, _ in sels], temperature_k, dh_constant)
+    with plugin_output_to_stderr():
+        if len(sels) == 1:
+            e, sel = sels[0]
+            result = run_fit(model, e, sel.data, fixed=fixed, free=list(free) or None, dh=dh)
+        else:
+            result = fit_joint(model, [(e, sel.data) for e, sel in sels], fixed=fixed, free=list(free) or None,
+                               dh=dh)
+    names = [e.name for e, _ in sels]
+    hashes = [d["content_hash"] for _, sel in sels for d in sel.datasets]
+    settings = {"up_to": up_to, "fix": fixed, "free": list(free), "data": datasets, "on": props,
+                "temperature_k": temperature_k, "a_phi": dh.a_phi}
+    run = FitRun(model, names, result, sels, dh, settings, hashes)
+    if save:
+        set_id = slug(set_name) if set_name else fit_set_id(model.id, names, settings, hashes)
+        if not set_id:
+            raise UserError("--name must contain letters or digits")
+        run.parameter_set = save_fit(session.store, result, set_id=set_id, settings=settings, data_hashes=hashes,
+                                     electrolytes=names, temperature_k=temperature_k,
+                                     a_phi=None if dh_constant == "current" else dh.a_phi)
+    return run
+
+
+def fit_constant(session: Session, model, electrolytes, temperature_k: float, choice: str):
+    """The Debye-Hückel state a refit uses (``--dh-constant``): ``current`` (water at the
+    temperature), ``published`` (the A_phi the model's published sets for these electrolytes
+    state, which must agree) or a value; decided by :mod:`saltbench.water.basis`."""
+    from saltbench.errors import UserError
+    from saltbench.store import parameter_sets as ps
+    from saltbench.water.basis import evaluation_basis, parse_constant
+
+    try:
+        constant = parse_constant(choice)
+    except ValueError as exc:
+        raise UserError(f"--dh-constant: {exc}") from None
+    if constant != "published":
+        return evaluation_basis(temperature_k, constant=constant).dh
+    sets = [found[0] for e in electrolytes if (found := ps.published(session.store, model, e))]
+    constants = {p.a_phi for p in sets if p.a_phi is not None}
+    if len(constants) != 1:
+        raise UserError(f"--dh-constant published: {model.id} has " + (
+            "no published set with a stated A_phi for " if not constants else "published sets with different A_phi "
+            "for ") + f"{', '.join(e.name for e in electrolytes)}; give a value, e.g. --dh-constant 0.392")
+    pub = sets[0]
+    return evaluation_basis(temperature_k, set_id=pub.set_id, set_a_phi=pub.a_phi,
+                            set_temperature_k=pub.temperature_k).dh
+
+
 def select_data(session: Session, electrolyte, *, datasets=None, on=None, up_to=None, temperature_k=298.15):
     from saltbench.fitting.selection import select
 
@@ -359,7 +458,341 @@ def compare(session: Session, electrolytes, settings=None, *, jobs: int = 1, cur
     return comp
 
 
+def make_report(session: Session, electrolytes, settings=None, *, title: str | None = None,
+                folder: str | os.PathLike[str] | None = None, command: str = "", argv: list[str] | None = None,
+                jobs: int = 1, created: str | None = None):
+    """Compare, then write every report file into ``folder`` (default ``reports/<slug>``); returns
+    a :class:`saltbench.report.writer.ReportResult`."""
+    from saltbench.errors import UserError
+    from saltbench.report.writer import write_report
+
+    names = list(electrolytes)
+    if not names:
+        raise UserError("name at least one electrolyte")
+    comparison = compare(session, names, settings, jobs=jobs, curves=True)
+    return write_report(session, comparison, title=title, folder=Path(folder) if folder else None,
+                        command=command, argv=argv, created=created)
+
+
+def rerun_report(session: Session, manifest_path: str | os.PathLike[str], *,
+                 folder: str | os.PathLike[str] | None = None, jobs: int = 1, command: str = "",
+                 argv: list[str] | None = None):
+    """Re-run the report a manifest describes and say whether its results still agree."""
+    from saltbench.report.manifest import check_agreement, load_manifest, settings_from
+
+    manifest_path = Path(manifest_path)
+    old = load_manifest(manifest_path)
+    settings = settings_from(old)
+    if folder is None:
+        here = manifest_path.resolve().parent
+        folder = here.parent / f"{here.name}-rerun"
+    result = make_report(session, old["command"]["electrolytes"], settings, title=old["title"],
+                         folder=folder, command=command, argv=argv, jobs=jobs)
+    result.agreement = check_agreement(old, result.manifest)
+    return result
+
+
 def needs_several_salts(model, electrolyte) -> bool:
     """Whether the model's free parameters belong to single ions (cation and anion alike)."""
     scopes = {p.scope for p in model.free_parameters(electrolyte)}
     return {"cation", "anion"} <= scopes
+
+
+# -- raw readings, Gibbs-Duhem conversion of stored data, single-ion activities -----------------
+# What the ``readings``, ``convert`` and ``ion-activity`` commands do. These glue the pure
+# reductions of :mod:`saltbench.measurements` to the store and the model registry: a stored model
+# and parameter set gives an isopiestic reference's osmotic coefficient and the MacInnes
+# gamma±(KCl); the stored Kielland and SIT sets give ion sizes and interaction coefficients.
+
+MACINNES_MODEL = "pitzer"
+MACINNES_PARAMS = "pitzer-mayorga-1973"
+ION_SIZE_SET = "kielland-1937"
+SIT_SET = "sit-grenthe-1992"
+CONVENTIONS = ("macinnes", "bates-guggenheim", "debye-huckel", "extended-debye-huckel", "davies",
+               "truesdell-jones", "sit")
+
+
+def add_readings(session: Session, paths: Sequence[str | os.PathLike[str]]) -> IngestReport:
+    """Load raw-readings files (and the bibliographies they cite, or folders of both) in one
+    transaction; the store is unchanged on error."""
+    from saltbench.store.measurements import add_readings as add
+
+    return add(session.store, paths)
+
+
+def measurement_sets(session: Session) -> pd.DataFrame:
+    """One row per stored measurement set, with its reduction (if any) and whether it is current."""
+    from saltbench.store.measurements import list_sets
+
+    return list_sets(session.store)
+
+
+def measurement_set(session: Session, key: str):
+    """A stored measurement set (:class:`saltbench.curation.readings.MeasurementSet`, SI units)."""
+    from saltbench.store.measurements import load_set
+
+    return load_set(session.store, key)
+
+
+def reduction_of(session: Session, key: str) -> dict | None:
+    """The stored reduction of measurement set ``key`` (None if it was not reduced)."""
+    from saltbench.store.measurements import reduction_of as stored
+
+    return stored(session.store, key)
+
+
+def emf_extrapolation(ms):
+    """The standard-EMF extrapolation of an EMF measurement set (its plot data included)."""
+    from saltbench.measurements.reduce import standard_emf_extrapolation
+
+    return standard_emf_extrapolation(ms)
+
+
+def model_function(session: Session, model_id: str, set_id: str, electrolyte,
+                   what: str = "osmotic"):
+    """phi(m) or gamma±(m) of ``electrolyte`` from a stored model and parameter set."""
+    from saltbench.models.evaluate import evaluate
+    from saltbench.store import parameter_sets as ps
+
+    model = session.registry.model(model_id)
+    params = ps.by_id(session.store, model, electrolyte, set_id)
+    ctx = eval_context(model, electrolyte, params)
+
+    def f(m: np.ndarray) -> np.ndarray:
+        ev = evaluate(model, electrolyte, np.atleast_1d(np.asarray(m, float)), params.values, ctx=ctx)
+        return ev.osmotic if what == "osmotic" else ev.gamma_pm
+
+    label = f"model {model_id} with parameter set {set_id}"
+    if params.from_memory:
+        label += " (typed from memory; verify)"
+    return f, label, params
+
+
+def reduce_stored(session: Session, key: str, method: str | None = None):
+    """Reduce the stored measurement set ``key`` and store (or replace) its reduced dataset;
+    returns the :class:`saltbench.measurements.reduce.Reduction` and the dataset's key (if any)."""
+    from saltbench.measurements.reduce import reduce_set
+    from saltbench.store import measurements as store_ms
+
+    ms = store_ms.load_set(session.store, key)
+    kwargs: dict = {}
+    marks: list[str] = []
+    if ms.kind == "isopiestic":
+        reference = session.electrolyte(str(ms.settings["reference"]))
+        f, label, params = model_function(session, str(ms.settings["reference_model"]),
+                                          str(ms.settings["reference_params"]), reference)
+        kwargs = {"reference": reference, "reference_osmotic": f, "reference_label": label}
+        marks = _reference_marks(session, ms, reference, params)
+    red = reduce_set(ms, method, **kwargs)
+    if marks:
+        red.details["extrapolation"] = marks
+        red.cautions = tuple(red.cautions) + tuple(f"extrapolated: {m}" for m in marks)
+    kept = store_ms.ReducedValues(red.method, red.property, red.molality, red.value, red.u_value,
+                                  red.note, red.details)
+    return red, store_ms.store_reduction(session.store, ms, kept)
+
+
+def _reference_marks(session: Session, ms, reference, params) -> list[str]:
+    """Where an isopiestic reduction leans on its reference set outside that set's ground."""
+    model = session.registry.model(str(ms.settings["reference_model"]))
+    marks = []
+    if abs(ms.temperature_k - params.temperature_k) >= 0.01:
+        marks.append(f"the reference set {params.set_id} holds values for {params.temperature_k:g} K; the "
+                     f"readings are at {ms.temperature_k:g} K and its values are used unchanged")
+    limits = [x for x in (params.m_max, model.validity.max_molality_for(reference) if model.validity else None)
+              if x is not None]
+    top = float(np.max(ms.reading))
+    if limits and top > min(limits) * (1 + 1e-9):
+        marks.append(f"reference molalities up to {top:g} mol/kg go beyond the {min(limits):g} mol/kg "
+                     f"the reference set {params.set_id} stands on")
+    return marks
+
+
+def measurement_keys(session: Session) -> list[str]:
+    """The keys of every stored measurement set."""
+    from saltbench.store.measurements import all_keys
+
+    return all_keys(session.store)
+
+
+# -- Gibbs-Duhem conversion of stored data ----------------------------------------------------
+
+@dataclass
+class Conversion:
+    electrolyte: Any
+    dataset: str
+    direction: str
+    result: GibbsDuhemResult
+
+
+def convert_stored(session: Session, electrolyte: str, from_: str, dataset: str | None = None,
+                   fit_points: int = 5) -> Conversion:
+    """Convert a stored osmotic (or gamma±) dataset to the other property by Gibbs-Duhem."""
+    from saltbench.errors import UserError
+    from saltbench.measurements.gibbs_duhem import activity_from_osmotic, osmotic_from_activity
+
+    e = session.electrolyte(electrolyte)
+    prop = {"osmotic": "osmotic", "gamma": "gamma_pm"}[from_]
+    ds = session.datasets(e.name)
+    ds = ds[ds.property == prop] if not ds.empty else ds
+    if ds.empty:
+        raise UserError(f"no {prop} dataset for {e.name} in the store")
+    if dataset is None:
+        if len(ds) > 1:
+            raise UserError(f"{e.name} has {len(ds)} {prop} datasets ({', '.join(ds.key)}); "
+                            "choose one with --dataset")
+        row = ds.iloc[0]
+    else:
+        match = ds[ds.key == dataset]
+        if match.empty:
+            raise UserError(f"no {prop} dataset {dataset!r} for {e.name} (known: {', '.join(ds.key)})")
+        row = match.iloc[0]
+    pts = session.points(e.name)
+    pts = pts[pts.dataset_id == row["id"]].sort_values("molality")
+    t = float(row["temperature_k"])
+    m, v, u = (pts[c].to_numpy(float) for c in ("molality", "value", "uncertainty"))
+    if from_ == "osmotic":
+        res = activity_from_osmotic(e, m, v, t, u_osmotic=u, fit_points=fit_points)
+    else:
+        res = osmotic_from_activity(e, m, v, t, u_gamma_pm=u, fit_points=fit_points)
+    return Conversion(e, str(row["key"]), res.direction, res)
+
+
+# -- single-ion activities --------------------------------------------------------------------
+
+def parse_salts(session: Session, specs: Sequence[str]) -> list[tuple[Any, float]]:
+    """``["NaCl=0.1", "KCl=0.05"]`` -> [(NaCl, 0.1), (KCl, 0.05)] (molality in mol/kg)."""
+    from saltbench.chemistry.electrolyte import parse_formula
+    from saltbench.errors import UserError
+
+    out = []
+    for spec in specs:
+        name, sep, value = spec.partition("=")
+        if not sep:
+            raise UserError(f"--salt: expected SALT=MOLALITY (mol/kg), e.g. NaCl=0.1, found {spec!r}")
+        try:
+            m = float(value)
+        except ValueError:
+            raise UserError(f"--salt {spec}: molality {value!r} is not a number") from None
+        if not np.isfinite(m) or m <= 0:
+            raise UserError(f"--salt {spec}: the molality must be positive (mol/kg)")
+        try:
+            e = session.electrolyte(name.strip())
+        except UserError:
+            try:
+                e = parse_formula(name.strip())
+            except ValueError as exc:
+                raise UserError(f"--salt {spec}: {exc}; the salts here are those of known ions "
+                                "('saltbench data list' shows the stored ones)") from None
+        out.append((e, m))
+    if not out:
+        raise UserError("give at least one --salt SALT=MOLALITY")
+    return out
+
+
+def _ion_values(session: Session, set_id: str, name: str) -> dict[str, float]:
+    from saltbench.errors import UserError
+    from saltbench.store.parameter_sets import ion_values
+
+    values = ion_values(session.store, set_id, name)
+    if not values:
+        raise UserError(f"the store holds no parameter set {set_id!r} with ion values {name!r}")
+    return values
+
+
+def _set_note(session: Session, set_id: str) -> str:
+    from saltbench.store.parameter_sets import typed_from_memory
+
+    return f"parameter set {set_id}" + (" (typed from memory; verify)" if typed_from_memory(session.store, set_id)
+                                        else "")
+
+
+@dataclass
+class IonActivity:
+    result: Any  # saltbench.measurements.conventions.SingleIonResult
+    sources: list[str]  # where each parameter came from
+    notes: list[str]
+
+
+def ion_activity(session: Session, salts: Sequence[tuple[Any, float]], convention: str,
+                 temperature_k: float = 298.15, *, b_ion: dict[str, float] | None = None,
+                 missing: str = "error") -> IonActivity:
+    """Single-ion activity coefficients of ``salts`` under ``convention`` (see CONVENTIONS)."""
+    from saltbench.errors import UserError
+    from saltbench.measurements import conventions as conv
+    from saltbench.store.parameter_sets import electrolyte_values
+
+    if convention not in CONVENTIONS:
+        raise UserError(f"unknown convention {convention!r} (choose: {', '.join(CONVENTIONS)})")
+    sources: list[str] = []
+    notes: list[str] = []
+    comp = list(salts)
+    if convention == "bates-guggenheim":
+        res = conv.bates_guggenheim(comp, temperature_k)
+        sources.append("log10 gamma(Cl-) = -A sqrt(I)/(1 + 1.5 sqrt(I)), A from IAPWS water "
+                       "properties at the given temperature")
+        notes.append("the convention assigns gamma(Cl-) only; other ions are not defined by it")
+    elif convention == "debye-huckel":
+        res = conv.debye_huckel_limiting(comp, temperature_k)
+    elif convention == "davies":
+        res = conv.davies(comp, temperature_k)
+    elif convention in ("extended-debye-huckel", "truesdell-jones"):
+        sizes = _ion_values(session, ION_SIZE_SET, "a")
+        sources.append(f"ion sizes a_i from {_set_note(session, ION_SIZE_SET)}")
+        if convention == "extended-debye-huckel":
+            res = conv.extended_debye_huckel(comp, sizes, temperature_k)
+        else:
+            ions, _ = conv.ion_molalities(comp)
+            given = dict(b_ion or {})
+            absent = [n for n in ions if n not in given]
+            if absent and missing == "error":
+                raise UserError(f"Truesdell-Jones needs b_i (kg/mol) for {', '.join(absent)}: no "
+                                "stored set holds them; give --b-ion ION=VALUE, or --missing zero")
+            for n in absent:
+                given[n] = 0.0
+            if absent:
+                notes.append(f"b_i taken as 0 for {', '.join(absent)} (--missing zero): for those "
+                             "ions this is the extended Debye-Hückel form")
+            sources.append("b_i as given on the command line" if b_ion else "no b_i given")
+            res = conv.truesdell_jones(comp, sizes, given, temperature_k)
+    elif convention == "sit":
+        stored = electrolyte_values(session.store, SIT_SET, "eps")
+        if not stored:
+            raise UserError(f"the store holds no SIT parameter set {SIT_SET!r}")
+        eps = {}
+        for target, value in stored.items():
+            e = session.electrolyte(target)
+            eps[(e.cation.name, e.anion.name)] = value
+        sources.append(f"eps(i, k) from {_set_note(session, SIT_SET)}")
+        res = conv.sit(comp, eps, temperature_k, missing=missing)
+        if res.parameters.get("taken_as_zero"):
+            notes.append("eps taken as 0 for "
+                         + ", ".join(cast("tuple[str, ...]", res.parameters["taken_as_zero"])))
+    else:  # macinnes
+        from saltbench.chemistry.electrolyte import parse_formula
+
+        if abs(temperature_k - 298.15) > 0.01:
+            raise UserError(f"the MacInnes convention here takes gamma±(KCl) from {MACINNES_PARAMS}, "
+                            "a set for 25 °C only; use --temperature 298.15")
+        g_kcl, label, _ = _mean_at_ionic_strength(session, parse_formula("KCl"))
+        sources.append("gamma(K+) = gamma(Cl-) = gamma±(KCl) at the same ionic strength from "
+                       + label)
+        mean = {}
+        for salt, _m in comp:
+            if salt.name == "KCl":
+                continue
+            if salt.cation.name != "K+" and salt.anion.name != "Cl-":
+                raise UserError(f"{salt.name}: the MacInnes convention derives ions only from salts "
+                                "of K+ or Cl- with one other ion")
+            mean[salt], other_label, _ = _mean_at_ionic_strength(session, salt)
+            sources.append(f"gamma±({salt.name}) at the same ionic strength from {other_label}")
+        res = conv.macinnes(comp, g_kcl, temperature_k, mean_gammas=mean)
+    return IonActivity(res, sources, notes)
+
+
+def _mean_at_ionic_strength(session: Session, salt):
+    """gamma±(salt) as a function of ionic strength, from the stored MacInnes model set."""
+    e = session.electrolyte(salt.name)
+    f, label, _ = model_function(session, MACINNES_MODEL, MACINNES_PARAMS, e, what="gamma")
+    per = float(e.ionic_strength(1.0))
+    return (lambda i: f(np.atleast_1d(i) / per).reshape(np.shape(i))), label, per

@@ -11,9 +11,8 @@ import sys
 import tempfile
 from pathlib import Path
 
-from saltbench.api import Session
+from saltbench.api import Session, make_report
 from saltbench.comparison.settings import CompareSettings
-from saltbench.report.writer import make_report
 
 MODELS = ("davies", "extended-debye-huckel", "pitzer", "bromley")
 

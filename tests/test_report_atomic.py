@@ -6,9 +6,8 @@ from pathlib import Path
 
 import pytest
 
-from saltbench.api import Session
+from saltbench.api import Session, make_report
 from saltbench.comparison.settings import CompareSettings
-from saltbench.report.writer import make_report
 
 
 @pytest.fixture

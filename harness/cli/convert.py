@@ -23,7 +23,7 @@ def convert(app, electrolyte: str, from_: str, dataset: str | None, fit_points: 
     Below the lowest measured molality the integral runs over a fitted Hückel form, not data;
     the output says so and gives that form.
     """
-    from saltbench.measurements.workflow import convert_stored
+    from saltbench.api import convert_stored
 
     c = convert_stored(app.session(), electrolyte, from_, dataset, fit_points)
     r = c.result

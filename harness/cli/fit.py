@@ -29,51 +29,19 @@ def fit(app, electrolytes, model_id, up_to, fix, free, data_sel, on, temperature
 
     Several electrolytes give one joint fit in which per-ion parameters are shared by ion.
     """
-    from saltbench.api import select_data
-    from saltbench.fitting import fit as run_fit
-    from saltbench.fitting import fit_joint, parse_assignments
-    from saltbench.fitting.selection import parse_on
-    from saltbench.scaffold.names import slug
-    from saltbench.store.fitted import fit_set_id, save_fit
+    from saltbench.api import fit as run
 
-    s = app.session()
-    model = s.registry.model(model_id)
-    fixed = parse_assignments(fix)
-    props = parse_on(on or None)
     datasets = [d.strip() for d in data_sel.split(",") if d.strip()] or None
-    sels = []
-    for name in electrolytes:
-        e = s.electrolyte(name)
-        sels.append((e, select_data(s, e, datasets=datasets, on=props, up_to=up_to, temperature_k=temperature_k)))
-    dh = fit_constant(s, model, [e for e, _ in sels], temperature_k, dh_constant)
-    from saltbench.models.discovery import plugin_output_to_stderr
-
-    with plugin_output_to_stderr():
-        if len(sels) == 1:
-            e, sel = sels[0]
-            result = run_fit(model, e, sel.data, fixed=fixed, free=free or None, dh=dh)
-        else:
-            result = fit_joint(model, [(e, sel.data) for e, sel in sels], fixed=fixed, free=free or None, dh=dh)
-    names = [e.name for e, _ in sels]
-    hashes = [d["content_hash"] for _, sel in sels for d in sel.datasets]
-    settings = {"up_to": up_to, "fix": fixed, "free": list(free), "data": datasets, "on": props,
-                "temperature_k": temperature_k, "a_phi": dh.a_phi}
-    out = result.to_dict()
+    f = run(app.session(), electrolytes, model_id, up_to=up_to, fix=fix, free=free, datasets=datasets,
+            on=on or None, temperature_k=temperature_k, set_name=set_name, save=save, dh_constant=dh_constant)
+    model, names, dh = f.model, f.electrolytes, f.dh
+    out = f.result.to_dict()
     out["electrolyte"] = names[0] if len(names) == 1 else names
     out["datasets"] = [{"key": d["key"], "content_hash": d["content_hash"], "n_points": d["n_points"]}
-                       for _, sel in sels for d in sel.datasets]
-    out["parameter_set"] = None
+                       for _, sel in f.selections for d in sel.datasets]
+    out["parameter_set"] = f.parameter_set
     out["a_phi"] = dh.a_phi
     out["a_phi_origin"] = dh.origin
-    if save:
-        set_id = slug(set_name) if set_name else fit_set_id(model.id, names, settings, hashes)
-        if not set_id:
-            from saltbench.errors import UserError
-
-            raise UserError("--name must contain letters or digits")
-        out["parameter_set"] = save_fit(s.store, result, set_id=set_id, settings=settings, data_hashes=hashes,
-                                        electrolytes=names, temperature_k=temperature_k,
-                                        a_phi=None if dh_constant == "current" else dh.a_phi)
     if fmt == "json":
         emit([], fmt, json_obj=out)
         echo_caution(fmt)
@@ -112,25 +80,3 @@ def fit(app, electrolytes, model_id, up_to, fix, free, data_sel, on, temperature
 def _f(x) -> str:
     return "-" if x is None else f"{x:.4g}"
 
-
-def fit_constant(session, model, electrolytes, temperature_k: float, choice: str):
-    """The Debye-Hückel state a refit uses (``--dh-constant``), decided by saltbench.water.basis."""
-    from saltbench.errors import UserError
-    from saltbench.store import parameter_sets as ps
-    from saltbench.water.basis import evaluation_basis, parse_constant
-
-    try:
-        constant = parse_constant(choice)
-    except ValueError as exc:
-        raise UserError(f"--dh-constant: {exc}") from None
-    if constant != "published":
-        return evaluation_basis(temperature_k, constant=constant).dh
-    sets = [found[0] for e in electrolytes if (found := ps.published(session.store, model, e))]
-    constants = {p.a_phi for p in sets if p.a_phi is not None}
-    if len(constants) != 1:
-        raise UserError(f"--dh-constant published: {model.id} has " + (
-            "no published set with a stated A_phi for " if not constants else "published sets with different A_phi "
-            "for ") + f"{', '.join(e.name for e in electrolytes)}; give a value, e.g. --dh-constant 0.392")
-    pub = sets[0]
-    return evaluation_basis(temperature_k, set_id=pub.set_id, set_a_phi=pub.a_phi,
-                            set_temperature_k=pub.temperature_k).dh

@@ -51,11 +51,11 @@ def ion_activity(app, salts: tuple[str, ...], convention: str, temperature_k: fl
     """
     import numpy as np
 
+    from saltbench.api import ion_activity as compute
+    from saltbench.api import parse_salts
     from saltbench.errors import UserError
     from saltbench.measurements.conventions import CONVENTION_MAX_I, SINGLE_ION_CAVEAT, ion_molalities
     from saltbench.measurements.nernst import CALIBRATION_CAUTION
-    from saltbench.measurements.workflow import ion_activity as compute
-    from saltbench.measurements.workflow import parse_salts
 
     convention = convention.lower()
     s = app.session()

@@ -31,9 +31,9 @@ def _problems(registry) -> None:
 @click.pass_obj
 def models(app, fmt: str) -> None:
     """Every discovered activity model with its plugin, parameters and citation."""
-    from saltbench.models.discovery import build_registry
+    from saltbench.api import plugin_registry
 
-    reg = build_registry(app.plugin_files, app.disabled)
+    reg = plugin_registry(app.plugin_files, app.disabled)
     _problems(reg)
     records = [_model_record(info) for info in reg.models.values()]
     if fmt == "json":
@@ -60,9 +60,9 @@ def models(app, fmt: str) -> None:
 @click.pass_obj
 def plugins(app, fmt: str) -> None:
     """Plugin inventory: load order, kind, path, version, models contributed, problems."""
-    from saltbench.models.discovery import build_registry
+    from saltbench.api import plugin_registry
 
-    reg = build_registry(app.plugin_files, app.disabled)
+    reg = plugin_registry(app.plugin_files, app.disabled)
     records: list[dict] = []
     for i, rec in enumerate(reg.plugins, start=1):
         records.append({"order": i, "name": rec.name, "kind": rec.kind, "path": rec.path,

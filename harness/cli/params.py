@@ -16,12 +16,12 @@ from saltbench.cli.output import emit, fold, format_option
 @click.pass_obj
 def params(app, set_id: str | None, model_id: str | None, export_dir: str | None, fmt: str) -> None:
     """List parameter sets, or show one (SET_ID) with its values, source and settings."""
+    from saltbench.api import parameter_set, parameter_sets
     from saltbench.errors import UserError
-    from saltbench.store.parameter_sets import list_sets
 
     s = app.session()
     if set_id is None:
-        frame = list_sets(s.store)
+        frame = parameter_sets(s)
         if model_id:
             s.registry.model(model_id)  # an unknown or misspelt id is an error, not an empty list
             frame = frame[frame.model == model_id]
@@ -40,9 +40,7 @@ def params(app, set_id: str | None, model_id: str | None, export_dir: str | None
         for path in export_parameter_set(s, set_id, export_dir):
             click.echo(f"wrote {path}")
         return
-    from saltbench.store.parameter_sets import load_set
-
-    doc = load_set(s.store, set_id)
+    doc = parameter_set(s, set_id)
     if doc is None:
         raise UserError(f"no parameter set {set_id!r} in the store (see 'saltbench params')")
     doc.pop("source_entry")

@@ -24,9 +24,9 @@ def add(app, paths: tuple[str, ...], fmt: str) -> None:
     Either every file loads, or none does and the store is unchanged. Re-adding a corrected
     file updates its set; reduce it again to replace its reduced dataset.
     """
-    from saltbench.store.measurements import add_readings
+    from saltbench.api import add_readings
 
-    report = add_readings(app.session().store, paths)
+    report = add_readings(app.session(), paths)
     emit_ingest(report, fmt)
 
 
@@ -35,9 +35,9 @@ def add(app, paths: tuple[str, ...], fmt: str) -> None:
 @click.pass_obj
 def list_(app, fmt: str) -> None:
     """One line per measurement set: kind, readings, method, reduction status."""
-    from saltbench.store.measurements import list_sets
+    from saltbench.api import measurement_sets
 
-    frame = list_sets(app.session().store)
+    frame = measurement_sets(app.session())
     cols = ["key", "kind", "electrolyte", "temperature_k", "n_readings", "method",
             "method_version", "status", "dataset", "source"]
     records = [] if frame.empty else frame[cols].to_dict("records")
@@ -59,13 +59,13 @@ def reduce(app, keys: tuple[str, ...], all_: bool, method: str | None, fmt: str)
     Each reduced dataset is stored as your own data, linked to its readings and to the
     reduction method and version; reducing again replaces it.
     """
+    from saltbench.api import measurement_keys, reduce_stored
     from saltbench.errors import UserError
-    from saltbench.measurements.workflow import all_keys, reduce_stored
 
     s = app.session()
     if all_ and keys:
         raise UserError("give set ids or --all, not both")
-    todo = all_keys(s) if all_ else list(keys)
+    todo = measurement_keys(s) if all_ else list(keys)
     if all_ and not todo:
         raise UserError("--all: the store holds no measurement sets; add raw readings with "
                         "'saltbench readings add FILE' first")
@@ -165,13 +165,12 @@ def show(app, key: str, plot_path: str | None, fmt: str) -> None:
     """A measurement set: its header, readings, E° extrapolation points and stored reduction."""
     import numpy as np
 
+    from saltbench.api import emf_extrapolation, measurement_set, reduction_of
     from saltbench.errors import UserError
     from saltbench.measurements.nernst import CALIBRATION_CAUTION
-    from saltbench.measurements.reduce import standard_emf_extrapolation
-    from saltbench.store.measurements import load_set, reduction_of
 
     s = app.session()
-    ms = load_set(s.store, key)
+    ms = measurement_set(s, key)
     rows = []
     for i in range(ms.reading.size):
         r = {"line": ms.lines[i], "molality": None if np.isnan(ms.molality[i]) else float(ms.molality[i])}
@@ -182,12 +181,12 @@ def show(app, key: str, plot_path: str | None, fmt: str) -> None:
         rows.append(r)
     ext = None
     if ms.kind == "emf":
-        ext = standard_emf_extrapolation(ms)
+        ext = emf_extrapolation(ms)
         if plot_path:
             _plot(ext, key, plot_path)
     elif plot_path:
         raise UserError(f"--plot draws the E° extrapolation of EMF sets; {key} holds {ms.kind} readings")
-    reduction = reduction_of(s.store, key)
+    reduction = reduction_of(s, key)
     head = {"key": ms.key, "kind": ms.kind, "electrolyte": ms.electrolyte.name,
             "temperature_k": ms.temperature_k, "source": ms.source, "typed": ms.typed,
             "method": ms.method, "method_version": ms.method_version, "settings": ms.settings,

@@ -64,9 +64,9 @@ def report(ctx, electrolytes, models, up_to, tol, folds, on, data_sel, temperatu
     The report states its limits. For dosing, safety limits or regulated measurements, verify
     every result under local codes and licensed practice.
     """
+    from saltbench.api import make_report, rerun_report
     from saltbench.comparison.runner import default_jobs
     from saltbench.errors import UserError
-    from saltbench.report.writer import make_report, rerun
 
     app = ctx.obj
     s = app.session()
@@ -80,7 +80,7 @@ def report(ctx, electrolytes, models, up_to, tol, folds, on, data_sel, temperatu
         if not from_manifest.is_file():
             raise UserError(f"--from {from_manifest}: no such file")
         command = _command_line(app, (), None, None, out_dir, from_manifest)
-        result = rerun(s, from_manifest, folder=out_dir, jobs=jobs, command=command, argv=sys.argv)
+        result = rerun_report(s, from_manifest, folder=out_dir, jobs=jobs, command=command, argv=sys.argv)
     else:
         if not electrolytes:
             raise UserError("name at least one electrolyte (or re-run one with --from MANIFEST)")

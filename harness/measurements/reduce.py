@@ -15,6 +15,8 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from saltbench.curation.readings import MeasurementSet
+from saltbench.curation.reduction_methods import Method, method_for
 from saltbench.errors import UserError
 from saltbench.measurements.emf_cell import (
     CellSpec,
@@ -23,9 +25,7 @@ from saltbench.measurements.emf_cell import (
     gamma_from_emf,
 )
 from saltbench.measurements.isopiestic import osmotic_from_isopiestic
-from saltbench.measurements.methods import Method, method_for
 from saltbench.measurements.nernst import CALIBRATION_CAUTION, calibrate_electrode
-from saltbench.measurements.readings_file import MeasurementSet
 from saltbench.measurements.water_activity import (
     osmotic_from_vapour_pressure,
     osmotic_from_water_activity,

@@ -1,5 +1,5 @@
-"""Run a comparison and write its report into one folder: HTML, PDF, Markdown, CSV tables, the
-figures as PNG, and the JSON manifest.
+"""Write a comparison's report into one folder: HTML, PDF, Markdown, CSV tables, the figures as
+PNG, and the JSON manifest (:func:`saltbench.api.make_report` runs the comparison first).
 
 Layout of the folder (names are fixed, so no user text becomes a file name except through
 :func:`saltbench.scaffold.names.slug`, checked by :func:`~saltbench.scaffold.names.inside`)::
@@ -112,20 +112,15 @@ def _sha256(path: Path) -> str:
     return hashlib.sha256(path.read_bytes()).hexdigest()
 
 
-def make_report(session, electrolytes, settings, *, title: str | None = None, folder: Path | None = None,
-                command: str = "", argv: list[str] | None = None, jobs: int = 1,
-                created: str | None = None) -> ReportResult:
-    """Compare, then write every report file into ``folder`` (default ``reports/<slug>``)."""
+def write_report(session, comparison, *, title: str | None = None, folder: Path | None = None,
+                 command: str = "", argv: list[str] | None = None, created: str | None = None) -> ReportResult:
+    """Write every report file of ``comparison`` (run with curves) into ``folder`` (default
+    ``reports/<slug>``). The comparison itself is run by :func:`saltbench.api.make_report`."""
     from saltbench import __version__
-    from saltbench.api import compare
     from saltbench.report.content import ReportFacts, build_document
     from saltbench.report.manifest import build_manifest
     from saltbench.report.residuals import refit_residuals
 
-    names = list(electrolytes)
-    if not names:
-        raise UserError("name at least one electrolyte")
-    comparison = compare(session, names, settings, jobs=jobs, curves=True)
     title = (title or "").strip() or default_title(list(comparison.outcomes))
     folder = (Path(folder) if folder else default_folder(title, list(comparison.outcomes))).resolve()
     created = created or time_stamp()
@@ -214,19 +209,3 @@ def _move_into_place(done: Path, final: Path) -> None:
     if old is not None:
         shutil.rmtree(old, ignore_errors=True)
 
-
-def rerun(session, manifest_path: Path, *, folder: Path | None = None, jobs: int = 1,
-          command: str = "", argv: list[str] | None = None) -> ReportResult:
-    """Re-run the report a manifest describes and say whether its results still agree."""
-    from saltbench.report.manifest import check_agreement, load_manifest, settings_from
-
-    manifest_path = Path(manifest_path)
-    old = load_manifest(manifest_path)
-    settings = settings_from(old)
-    if folder is None:
-        here = manifest_path.resolve().parent
-        folder = here.parent / f"{here.name}-rerun"
-    result = make_report(session, old["command"]["electrolytes"], settings, title=old["title"],
-                         folder=folder, command=command, argv=argv, jobs=jobs)
-    result.agreement = check_agreement(old, result.manifest)
-    return result

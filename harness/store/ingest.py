@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import hashlib
 import json
+import os
 import sqlite3
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field
@@ -45,6 +46,24 @@ class Batch:
     sources: list[Source] = field(default_factory=list)
     datasets: list[Dataset] = field(default_factory=list)
     parameter_files: list[ParameterFile] = field(default_factory=list)
+
+
+def expand_paths(paths: Sequence[str | os.PathLike[str]]) -> list[Path]:
+    """The files named, a folder standing for its bibliographies (``*.sources.txt``,
+    ``sources.txt``) and then its ``*.csv`` files."""
+    out: list[Path] = []
+    for p in map(Path, paths):
+        if p.is_dir():
+            bibs = sorted(q for q in p.glob("*.txt") if q.name == "sources.txt" or q.name.endswith(".sources.txt"))
+            found = bibs + sorted(p.glob("*.csv"))
+            if not found:
+                # Adding nothing and saying nothing reads as success; the user meant some files.
+                raise UserError(f"{p}: folder holds no bibliography (*.sources.txt, sources.txt) "
+                                "or CSV file to add")
+            out += found
+        else:
+            out.append(p)
+    return out
 
 
 def file_kind(path: str | Path, text: str) -> str:

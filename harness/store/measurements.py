@@ -10,7 +10,9 @@ from __future__ import annotations
 
 import hashlib
 import json
+import os
 from collections.abc import Sequence
+from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
@@ -20,22 +22,26 @@ from saltbench import __version__
 from saltbench.chemistry.electrolyte import parse_formula
 from saltbench.curation.bibliography import read_bibliography
 from saltbench.curation.blocks import read_text
+from saltbench.curation.readings import STORE_COLUMN, MeasurementSet, read_readings
+from saltbench.curation.reduction_methods import METHODS, Method
 from saltbench.errors import InputFileError, UserError
-from saltbench.measurements.methods import METHODS
-from saltbench.measurements.readings_file import MeasurementSet, read_readings
-from saltbench.measurements.reduce import Reduction
 from saltbench.store import queries
 from saltbench.store.connection import Store
-from saltbench.store.ingest import IngestReport, _ensure_electrolyte, _upsert_source, file_kind, upsert_parent
+from saltbench.store.ingest import (
+    IngestReport,
+    _ensure_electrolyte,
+    _upsert_source,
+    expand_paths,
+    file_kind,
+    upsert_parent,
+)
 
 PROVIDER = "readings"
 
 
-def parse_readings_files(paths: Sequence[str | Path]) -> tuple[list, list[MeasurementSet]]:
+def parse_readings_files(paths: Sequence[str | os.PathLike[str]]) -> tuple[list, list[MeasurementSet]]:
     """Bibliographies and readings files (or folders of them), all parsed and validated before
     any store access."""
-    from saltbench.api import expand_paths
-
     sources, sets = [], []
     keys: dict[str, str] = {}
     for path in expand_paths(paths):
@@ -113,7 +119,7 @@ def _write_set(store: Store, ms: MeasurementSet, report: IngestReport) -> None:
         for i in range(ms.reading.size))
 
 
-def add_readings(store: Store, paths: Sequence[str | Path]) -> IngestReport:
+def add_readings(store: Store, paths: Sequence[str | os.PathLike[str]]) -> IngestReport:
     """Load readings files (and bibliographies) in one transaction; store unchanged on error."""
     sources, sets = parse_readings_files(paths)
     report = IngestReport()
@@ -133,11 +139,9 @@ def load_set(store: Store, key: str) -> MeasurementSet:
         "SELECT id, key, kind, electrolyte, temperature_k, source, typed, method, method_version, "
         "note, settings, file FROM measurement_sets WHERE key = ?", (key,)).fetchone()
     if row is None:
-        known = ", ".join(r[0] for r in store.conn.execute("SELECT key FROM measurement_sets ORDER BY key"))
+        known = ", ".join(all_keys(store))
         raise UserError(f"no measurement set {key!r} in the store; known: {known or 'none'}")
     (pk, key, kind, electrolyte, t, source, typed, method, version, note, settings, file) = row
-    from saltbench.measurements.readings_file import STORE_COLUMN
-
     col = STORE_COLUMN[kind]
     rows = store.conn.execute(
         f"SELECT molality, u_molality, activity, {col}, u_reading, printed_unit, line FROM readings "
@@ -147,6 +151,11 @@ def load_set(store: Store, key: str) -> MeasurementSet:
     return MeasurementSet(key, file, kind, e, float(t), source, typed, method, version, note,
                           json.loads(settings), arr(0), arr(1), arr(2), arr(3), arr(4),
                           rows[0][5] if rows else "", [r[6] for r in rows])
+
+
+def all_keys(store: Store) -> list[str]:
+    """The keys of every stored measurement set, in order."""
+    return [r[0] for r in store.conn.execute("SELECT key FROM measurement_sets ORDER BY key")]
 
 
 def set_pk(store: Store, key: str) -> int:
@@ -189,14 +198,29 @@ def reduced_dataset_key(ms: MeasurementSet, prop: str) -> str:
     return f"{ms.key}.{prop}"
 
 
-def _typed_for_dataset(ms: MeasurementSet, red: Reduction) -> str:
-    how = f"reduced by saltbench ({red.method.name} v{red.method.version}) from measurement set {ms.key}"
+def _typed_for_dataset(ms: MeasurementSet, method: Method) -> str:
+    how = f"reduced by saltbench ({method.name} v{method.version}) from measurement set {ms.key}"
     if ms.typed.lower().startswith("measured"):
         return f"{ms.typed}; {how}"
     return f"measured readings {how}; the readings were {ms.typed}"
 
 
-def store_reduction(store: Store, ms: MeasurementSet, red: Reduction) -> str | None:
+@dataclass(frozen=True)
+class ReducedValues:
+    """What the store keeps of a reduction (plain values; the reductions themselves live above,
+    in :mod:`saltbench.measurements`): the method, the property it gives (None: no dataset),
+    the values with their standard uncertainties, a note and JSON-able details."""
+
+    method: Method
+    property: str | None
+    molality: np.ndarray
+    value: np.ndarray
+    u_value: np.ndarray
+    note: str
+    details: dict[str, object]
+
+
+def store_reduction(store: Store, ms: MeasurementSet, red: ReducedValues) -> str | None:
     """Write (or replace) the reduction of ``ms``; returns the reduced dataset's key, if any."""
     pk = set_pk(store, ms.key)
     h_in = store.conn.execute("SELECT content_hash FROM measurement_sets WHERE id = ?", (pk,)).fetchone()[0]
@@ -223,7 +247,7 @@ def store_reduction(store: Store, ms: MeasurementSet, red: Reduction) -> str | N
     return key
 
 
-def _write_dataset(store: Store, ms: MeasurementSet, red: Reduction, key: str,
+def _write_dataset(store: Store, ms: MeasurementSet, red: ReducedValues, key: str,
                    previous_id: int | None) -> int:
     row = store.conn.execute("SELECT id FROM datasets WHERE origin = 'user' AND key = ?", (key,)).fetchone()
     if row is not None and row[0] != previous_id:
@@ -248,7 +272,7 @@ def _write_dataset(store: Store, ms: MeasurementSet, red: Reduction, key: str,
         "property": red.property, "basis": "linear", "scale": "molality",
         "temperature_k": ms.temperature_k, "pressure_pa": 101325.0, "source": ms.source,
         "table_ref": f"reduced from measurement set {ms.key}", "precision": 1e-6,
-        "uncertainty": None, "typed": _typed_for_dataset(ms, red), "from_memory": int(ms.from_memory),
+        "uncertainty": None, "typed": _typed_for_dataset(ms, red.method), "from_memory": int(ms.from_memory),
         "note": f"reduction: {red.method.name} v{red.method.version} ({red.method.description}); {red.note}",
         "file": ms.path,
         "content_hash": hashlib.sha256(json.dumps(doc, sort_keys=True).encode()).hexdigest(),

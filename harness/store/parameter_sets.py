@@ -1,14 +1,39 @@
-"""Parameter sets in the store: published ones (from files) and fitted ones (from `fit`)."""
+"""Parameter sets in the store: published ones (from files) and fitted ones (from `fit`).
+
+The store does not import the model contract: a model is anything with an ``id`` and
+``parameters`` (each with ``name``, ``scope`` and ``ion_key``), described by :class:`ModelKeys`.
+"""
 
 from __future__ import annotations
 
 import json
+from collections.abc import Sequence
 from dataclasses import dataclass, field
+from typing import Protocol
 
 from saltbench.chemistry.electrolyte import Electrolyte
 from saltbench.errors import UserError
-from saltbench.models.contract import SolutionModel
 from saltbench.store.connection import Store
+
+
+class ParameterKey(Protocol):
+    """How a stored value is found for one parameter of a model."""
+
+    @property
+    def name(self) -> str: ...
+    @property
+    def scope(self) -> str: ...  # "electrolyte", "cation" or "anion"
+    @property
+    def ion_key(self) -> str | None: ...
+
+
+class ModelKeys(Protocol):
+    """What the store needs of a model: its id and its parameters' keys."""
+
+    @property
+    def id(self) -> str: ...
+    @property
+    def parameters(self) -> Sequence[ParameterKey]: ...
 
 
 @dataclass
@@ -30,7 +55,7 @@ class ResolvedParameters:
     m_min: float | None = None
 
 
-def resolve(store: Store, model: SolutionModel, electrolyte: Electrolyte, set_row: tuple) -> ResolvedParameters | None:
+def resolve(store: Store, model: ModelKeys, electrolyte: Electrolyte, set_row: tuple) -> ResolvedParameters | None:
     pk, set_id, kind, source, a_phi, from_memory, temperature_k = set_row
     rows = store.conn.execute("SELECT target, target_kind, name, value, stderr, m_max FROM parameter_values "
                               "WHERE set_pk = ?", (pk,)).fetchall()
@@ -84,14 +109,14 @@ def resolve(store: Store, model: SolutionModel, electrolyte: Electrolyte, set_ro
 _SET_COLUMNS = "id, set_id, kind, source, a_phi, from_memory, temperature_k"
 
 
-def published(store: Store, model: SolutionModel, electrolyte: Electrolyte) -> list[ResolvedParameters]:
+def published(store: Store, model: ModelKeys, electrolyte: Electrolyte) -> list[ResolvedParameters]:
     rows = store.conn.execute(f"SELECT {_SET_COLUMNS} FROM parameter_sets WHERE model = ? AND kind = 'published' "
                               "ORDER BY set_id", (model.id,)).fetchall()
     out = [resolve(store, model, electrolyte, r) for r in rows]
     return [r for r in out if r is not None]
 
 
-def by_id(store: Store, model: SolutionModel, electrolyte: Electrolyte, set_id: str) -> ResolvedParameters:
+def by_id(store: Store, model: ModelKeys, electrolyte: Electrolyte, set_id: str) -> ResolvedParameters:
     row = store.conn.execute(f"SELECT {_SET_COLUMNS}, model FROM parameter_sets WHERE set_id = ?", (set_id,)).fetchone()
     if row is None:
         known = ", ".join(r[0] for r in store.conn.execute(
@@ -139,3 +164,23 @@ def load_set(store: Store, set_id: str) -> dict | None:
             doc["source_entry"] = dict(zip(cols, src))
             doc["citation"] = doc["source_entry"]["citation"]
     return doc
+
+
+def ion_values(store: Store, set_id: str, name: str) -> dict[str, float]:
+    """The per-ion values ``name`` of set ``set_id``, by ion (empty if the set holds none)."""
+    return {t: float(v) for t, v in store.conn.execute(
+        "SELECT v.target, v.value FROM parameter_values v JOIN parameter_sets s ON s.id = v.set_pk "
+        "WHERE s.set_id = ? AND v.target_kind = 'ion' AND v.name = ?", (set_id, name))}
+
+
+def electrolyte_values(store: Store, set_id: str, name: str) -> dict[str, float]:
+    """The per-electrolyte values ``name`` of set ``set_id``, by electrolyte (empty if none)."""
+    return {t: float(v) for t, v in store.conn.execute(
+        "SELECT v.target, v.value FROM parameter_values v JOIN parameter_sets s ON s.id = v.set_pk "
+        "WHERE s.set_id = ? AND v.target_kind = 'electrolyte' AND v.name = ?", (set_id, name))}
+
+
+def typed_from_memory(store: Store, set_id: str) -> bool:
+    """Whether set ``set_id`` was typed from memory (False for a set the store does not hold)."""
+    row = store.conn.execute("SELECT from_memory FROM parameter_sets WHERE set_id = ?", (set_id,)).fetchone()
+    return bool(row and row[0])

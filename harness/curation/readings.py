@@ -21,8 +21,8 @@ from saltbench.chemistry.electrolyte import Electrolyte, parse_formula
 from saltbench.chemistry.ions import Ion
 from saltbench.curation.blocks import TYPED_FROM_SOURCE, Block, parse_block, parse_float
 from saltbench.curation.datasets import _declared_ions
+from saltbench.curation.reduction_methods import KINDS, default_method, method_for
 from saltbench.errors import InputFileError, UserError
-from saltbench.measurements.methods import KINDS, default_method, method_for
 
 MAGIC = "saltbench readings"
 COMMON_FIELDS = {"kind", "electrolyte", "temperature", "source", "typed", "method", "note", "id",

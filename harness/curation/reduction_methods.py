@@ -2,7 +2,9 @@
 
 A method's version goes up whenever a fix changes the numbers it produces, so a reduced dataset
 records exactly which reduction made it and ``saltbench readings reduce`` can tell a stale
-reduction from a current one.
+reduction from a current one. The list belongs to the readings file format (a file names its
+method; the store records the version that reduced it); the reductions themselves are in
+:mod:`saltbench.measurements`.
 """
 
 from __future__ import annotations
