@@ -733,9 +733,11 @@ def ion_activity(session: Session, salts: Sequence[tuple[Any, float]], conventio
                        "properties at the given temperature")
         notes.append("the convention assigns gamma(Cl-) only; other ions are not defined by it")
     elif convention == "debye-huckel":
-        res = conv.debye_huckel_limiting(comp, temperature_k)
+        model = session.registry.model("debye-huckel-limiting")
+        res = conv.model_single_ion(comp, model, "Debye-Hückel limiting law", None, temperature_k)
     elif convention == "davies":
-        res = conv.davies(comp, temperature_k)
+        model = session.registry.model("davies")
+        res = conv.model_single_ion(comp, model, "Davies", None, temperature_k)
     elif convention in ("extended-debye-huckel", "truesdell-jones"):
         sizes = _ion_values(session, ION_SIZE_SET, "a")
         sources.append(f"ion sizes a_i from {_set_note(session, ION_SIZE_SET)}")
@@ -764,7 +766,7 @@ def ion_activity(session: Session, salts: Sequence[tuple[Any, float]], conventio
             e = session.electrolyte(target)
             eps[(e.cation.name, e.anion.name)] = value
         sources.append(f"eps(i, k) from {_set_note(session, SIT_SET)}")
-        res = conv.sit(comp, eps, temperature_k, missing=missing)
+        res = _sit(session, comp, eps, temperature_k, missing)
         if res.parameters.get("taken_as_zero"):
             notes.append("eps taken as 0 for "
                          + ", ".join(cast("tuple[str, ...]", res.parameters["taken_as_zero"])))
@@ -788,6 +790,40 @@ def ion_activity(session: Session, salts: Sequence[tuple[Any, float]], conventio
             sources.append(f"gamma±({salt.name}) at the same ionic strength from {other_label}")
         res = conv.macinnes(comp, g_kcl, temperature_k, mean_gammas=mean)
     return IonActivity(res, sources, notes)
+
+
+def _sit(session: Session, salts: Sequence[tuple[Any, float]],
+         epsilon: dict[tuple[str, str], float], temperature_k: float, missing: str) -> Any:
+    """SIT single-ion values through the SIT model with ``epsilon[(cation, anion)]`` (kg/mol);
+    pairs of opposite charge without a value are refused or, with ``missing="zero"``, taken as
+    zero and listed."""
+    from saltbench.errors import UserError
+    from saltbench.measurements import conventions as conv
+    from saltbench.models.contract import ParameterKey
+
+    if missing not in ("error", "zero"):
+        raise UserError("missing must be 'error' or 'zero'")
+    ions, _ = conv.ion_molalities(salts)
+    absent: list[str] = []
+    params: dict[ParameterKey, float] = {}
+    for n, ion in ions.items():
+        for k, other in ions.items():
+            if other.charge * ion.charge >= 0:
+                continue
+            cation, anion = (n, k) if ion.charge > 0 else (k, n)
+            key = ParameterKey("eps", (cation, anion))
+            if (cation, anion) in epsilon:
+                params[key] = float(epsilon[(cation, anion)])
+            elif f"{cation}/{anion}" not in absent:
+                absent.append(f"{cation}/{anion}")
+                params[key] = 0.0
+    if absent and missing == "error":
+        raise UserError(f"SIT needs epsilon for the ion pairs {', '.join(absent)} (kg/mol) and has "
+                        "none for them; to take them as zero knowingly, use --missing zero "
+                        "(missing='zero' in Python)")
+    res = conv.model_single_ion(salts, session.registry.model("sit"), "SIT", params, temperature_k)
+    res.parameters["taken_as_zero"] = tuple(absent)
+    return res
 
 
 def _mean_at_ionic_strength(session: Session, salt):

@@ -108,6 +108,17 @@ def test_sit_uses_stored_epsilon(run_main, seeded_store) -> None:
     assert any("sit-grenthe-1992" in s and "verify" in s for s in doc["parameters_from"])
 
 
+def test_sit_refuses_pairs_without_epsilon_unless_told(run_main, seeded_store) -> None:
+    # the stored set (from memory of Grenthe et al. (1992), appendix B) has eps for Na+/Cl-,
+    # K+/Cl- and Na+/NO3- but not K+/NO3-: refused in one line, or taken as zero and said so
+    code, _, err = run_main("ion-activity", "--salt", "NaCl=0.5", "--salt", "KNO3=0.1",
+                            "--convention", "sit", store=seeded_store)
+    assert code == 2 and "SIT needs epsilon for the ion pairs K+/NO3- (kg/mol)" in err
+    doc = _json(run_main, seeded_store, "--salt", "NaCl=0.5", "--salt", "KNO3=0.1",
+                "--convention", "sit", "--missing", "zero")
+    assert "eps taken as 0 for K+/NO3-" in doc["notes"]
+
+
 def test_truesdell_jones_needs_its_b_values(run_main, seeded_store) -> None:
     code, _, err = run_main("ion-activity", "--salt", "NaCl=0.1", "--convention", "truesdell-jones",
                             store=seeded_store)

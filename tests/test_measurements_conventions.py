@@ -10,16 +10,31 @@ from saltbench.errors import UserError
 from saltbench.measurements import (
     SINGLE_ION_CAVEAT,
     bates_guggenheim,
-    davies,
-    debye_huckel_limiting,
     extended_debye_huckel,
     ionic_strength,
     macinnes,
-    sit,
+    model_single_ion,
     truesdell_jones,
 )
+from saltbench.models.contract import ParameterKey
+from saltbench.plugins.davies import Davies
+from saltbench.plugins.debye_huckel import DebyeHuckelLimiting
+from saltbench.plugins.sit import SIT
 
 P = parse_formula
+
+
+# The limiting law, Davies and SIT reach single ions through their models' own single-ion forms.
+def debye_huckel_limiting(comp):
+    return model_single_ion(comp, DebyeHuckelLimiting(), "Debye-Hückel limiting law")
+
+
+def davies(comp):
+    return model_single_ion(comp, Davies(), "Davies")
+
+
+def sit(comp, eps):
+    return model_single_ion(comp, SIT(), "SIT", {ParameterKey("eps", k): v for k, v in eps.items()})
 PHOSPHATE = [(P("KH2PO4"), 0.025), (P("Na2HPO4"), 0.025)]
 
 
@@ -122,10 +137,13 @@ def test_sit_sums_over_counter_ions():
     d = a * math.sqrt(1.5) / (1 + 1.5 * math.sqrt(1.5))
     assert float(r.log10_gamma["Na+"]) == pytest.approx(-d + 0.03 * 1.5)
     assert float(r.log10_gamma["Cl-"]) == pytest.approx(-d + 0.03 * 1.0 + 0.0 * 0.5)
-    with pytest.raises(UserError, match="K\\+/Cl-"):
-        sit(comp, {("Na+", "Cl-"): 0.03})
-    assert sit(comp, {("Na+", "Cl-"): 0.03}, missing="zero").parameters["taken_as_zero"] == (
-        "K+/Cl-",)
+
+
+def test_a_model_without_single_ion_values_is_refused():
+    from saltbench.plugins.pitzer import register_models
+    pitzer = [m for m in register_models(context=None) if m.id == "pitzer"][0]
+    with pytest.raises(UserError, match="no single-ion values"):
+        model_single_ion([(P("NaCl"), 0.1), (P("KCl"), 0.1)], pitzer, "Pitzer")
 
 
 def test_macinnes_convention():

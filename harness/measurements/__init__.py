@@ -27,13 +27,11 @@ from saltbench.measurements.conventions import (
     Composition,
     SingleIonResult,
     bates_guggenheim,
-    davies,
-    debye_huckel_limiting,
     extended_debye_huckel,
     ion_molalities,
     ionic_strength,
     macinnes,
-    sit,
+    model_single_ion,
     truesdell_jones,
 )
 from saltbench.measurements.emf_cell import (
@@ -90,7 +88,7 @@ __all__ = [
     "sigma",
     # conventions
     "BATES_GUGGENHEIM_MAX_I", "PH_CAUTION", "SINGLE_ION_CAVEAT", "Composition",
-    "SingleIonResult", "bates_guggenheim", "davies", "debye_huckel_limiting",
-    "extended_debye_huckel", "ion_molalities", "ionic_strength", "macinnes", "sit",
+    "SingleIonResult", "bates_guggenheim", "model_single_ion",
+    "extended_debye_huckel", "ion_molalities", "ionic_strength", "macinnes",
     "truesdell_jones",
 ]

@@ -11,18 +11,15 @@ result says so. Decadic forms, A = A_gamma / ln 10 and B (Å^-1 (kg/mol)^1/2) fr
 - Bates-Guggenheim convention for pH standards (Bates and Guggenheim, Pure Appl. Chem. 1, 163
   (1960); Buck et al., Pure Appl. Chem. 74, 2169 (2002), eq. 14):
   log10 gamma(Cl-) = -A sqrt(I) / (1 + 1.5 sqrt(I)),  for I <= 0.1 mol/kg only.
-- Debye-Hückel limiting law (Debye and Hückel, Phys. Z. 24, 185 (1923)):
-  log10 gamma_i = -A z_i^2 sqrt(I).
+- A solution model's own single-ion form (:func:`model_single_ion`): the built-in models that
+  give one for mixtures are the Debye-Hückel limiting law (Debye and Hückel, Phys. Z. 24, 185
+  (1923)), Davies (Ion Association, Butterworths, 1962) and SIT (Guggenheim and Turgeon,
+  Trans. Faraday Soc. 51, 747 (1955); Ciavatta, Ann. Chim. (Rome) 70, 551 (1980)); their formulas
+  are written once, in the plugins (``saltbench.plugins._ionic``).
 - Extended Debye-Hückel with ion size a_i (same source):
   log10 gamma_i = -A z_i^2 sqrt(I) / (1 + B a_i sqrt(I)).
-- Davies (Davies, Ion Association, Butterworths, 1962, eq. 3.3):
-  log10 gamma_i = -A z_i^2 (sqrt(I)/(1 + sqrt(I)) - b I), b = 0.3.
 - Truesdell-Jones (Truesdell and Jones, J. Res. U.S. Geol. Surv. 2, 233 (1974), eq. 2):
   log10 gamma_i = -A z_i^2 sqrt(I) / (1 + B a_i sqrt(I)) + b_i I.
-- SIT, specific ion interaction (Guggenheim and Turgeon, Trans. Faraday Soc. 51, 747 (1955);
-  Ciavatta, Ann. Chim. (Rome) 70, 551 (1980)):
-  log10 gamma_i = -z_i^2 D + sum_k eps(i, k) m_k,  D = A sqrt(I) / (1 + 1.5 sqrt(I)),
-  the sum over ions k of opposite charge; eps in kg/mol.
 """
 
 from __future__ import annotations
@@ -35,7 +32,10 @@ import numpy as np
 
 from saltbench.chemistry.electrolyte import Electrolyte
 from saltbench.chemistry.ions import Ion
+from saltbench.chemistry.solution import Composition as Solution
 from saltbench.errors import UserError
+from saltbench.models.contract import Conditions, ParameterKey, Request, SolutionModel
+from saltbench.models.quantities import ln_gamma
 from saltbench.water.debye_huckel import DebyeHuckel, debye_huckel_constants
 
 SINGLE_ION_CAVEAT = (
@@ -128,14 +128,6 @@ def _need(mapping: Mapping[str, float], ions: Mapping[str, Ion], what: str) -> d
     return {n: float(mapping[n]) for n in ions}
 
 
-def debye_huckel_limiting(composition: Composition, temperature_k: float = 298.15, *,
-                          dh: DebyeHuckel | None = None) -> SingleIonResult:
-    ions, mol, i, dh = _setup(composition, temperature_k, dh)
-    s = np.sqrt(i)
-    logs = {n: -dh.a_gamma_log10 * ion.charge**2 * s for n, ion in ions.items()}
-    return SingleIonResult("Debye-Hückel limiting law", i, dh.temperature_k, ions, mol, logs)
-
-
 def extended_debye_huckel(composition: Composition, ion_sizes: Mapping[str, float],
                           temperature_k: float = 298.15, *,
                           dh: DebyeHuckel | None = None) -> SingleIonResult:
@@ -147,15 +139,6 @@ def extended_debye_huckel(composition: Composition, ion_sizes: Mapping[str, floa
             for n, ion in ions.items()}
     return SingleIonResult("extended Debye-Hückel", i, dh.temperature_k, ions, mol, logs,
                            {"ion_sizes_angstrom": a})
-
-
-def davies(composition: Composition, temperature_k: float = 298.15, *, b: float = 0.3,
-           dh: DebyeHuckel | None = None) -> SingleIonResult:
-    ions, mol, i, dh = _setup(composition, temperature_k, dh)
-    s = np.sqrt(i)
-    logs = {n: -dh.a_gamma_log10 * ion.charge**2 * (s / (1.0 + s) - b * i)
-            for n, ion in ions.items()}
-    return SingleIonResult("Davies", i, dh.temperature_k, ions, mol, logs, {"b": b})
 
 
 def truesdell_jones(composition: Composition, ion_sizes: Mapping[str, float],
@@ -172,40 +155,27 @@ def truesdell_jones(composition: Composition, ion_sizes: Mapping[str, float],
                            {"ion_sizes_angstrom": a, "b": bi})
 
 
-def sit(composition: Composition, epsilon: Mapping[tuple[str, str], float],
-        temperature_k: float = 298.15, *, missing: str = "error",
-        dh: DebyeHuckel | None = None) -> SingleIonResult:
-    """SIT with ``epsilon[(ion, counter_ion)]`` in kg/mol (either order of the pair).
-
-    Pairs of opposite charge without a value are refused (``missing="error"``) or taken as zero
-    (``missing="zero"``, listed in the result's parameters).
-    """
-    if missing not in ("error", "zero"):
-        raise UserError("missing must be 'error' or 'zero'")
+def model_single_ion(composition: Composition, model: SolutionModel, label: str,
+                     params: Mapping[ParameterKey, float] | None = None,
+                     temperature_k: float = 298.15, *,
+                     dh: DebyeHuckel | None = None) -> SingleIonResult:
+    """Single-ion values of a solution under a model's own single-ion form (the Debye-Hückel
+    limiting law, Davies, SIT...): ``model`` is any solution model that computes ``ln_gamma``
+    of ions for mixtures; ``params`` gives its keyed parameters (others at their defaults)."""
     ions, mol, i, dh = _setup(composition, temperature_k, dh)
-    eps = {frozenset(k): float(v) for k, v in epsilon.items()}
-    d = dh.a_gamma_log10 * np.sqrt(i) / (1.0 + 1.5 * np.sqrt(i))
-    absent: list[str] = []
-    logs = {}
-    for n, ion in ions.items():
-        total = -ion.charge**2 * d
-        for k, other in ions.items():
-            if other.charge * ion.charge >= 0:
-                continue
-            key = frozenset((n, k))
-            if key not in eps:
-                pair = f"{n}/{k}" if ion.charge > 0 else f"{k}/{n}"
-                if pair not in absent:
-                    absent.append(pair)
-                continue
-            total = total + eps[key] * mol[k]
-        logs[n] = total
-    if absent and missing == "error":
-        raise UserError(f"SIT needs epsilon for the ion pairs {', '.join(absent)} (kg/mol) and has none for "
-                        "them; to take them as zero knowingly, use --missing zero (missing='zero' in Python)")
-    return SingleIonResult("SIT", i, dh.temperature_k, ions, mol, logs,
-                           {"epsilon": {tuple(sorted(k)): v for k, v in eps.items()},
-                            "taken_as_zero": tuple(absent)})
+    solution = Solution.of_salts(list(composition), dh.temperature_k)
+    if "ln_gamma" not in model.computes or not model.supports_composition(solution):
+        raise UserError(f"model {model.id} gives no single-ion values for this solution")
+    keys = model.keys_for(solution)
+    given = dict(params or {})
+    values = {k: np.full((1, 1), float(given.get(k, p.default))) for k, p in keys.items()}
+    wanted = tuple(ln_gamma(n) for n in solution.names)
+    out = model.compute(Request(solution, wanted, values,
+                                Conditions.single(dh, solution.n)))
+    shape = np.shape(i)
+    logs = {q.of: np.asarray(out.values[q])[0].reshape(shape) / math.log(10.0) for q in wanted}
+    return SingleIonResult(label, i, dh.temperature_k, ions, mol, logs,
+                           {str(k): float(v[0, 0]) for k, v in values.items()})
 
 
 def bates_guggenheim(composition: Composition, temperature_k: float = 298.15, *,
