@@ -113,10 +113,10 @@ class CrossValidation:
 def cross_validate_problem(problem: FitProblem, folds: int | str = 5,
                            scheme: str = "interleaved",
                            start: np.ndarray | None = None,
-                           stop_outside: tuple[float, float] | None = None) -> CrossValidation:
+                           stop_outside: Mapping[str, float] | None = None) -> CrossValidation:
     """Cross-validate a prepared problem; ``start`` (a full parameter vector) seeds each fold.
 
-    ``stop_outside`` = (tolerance on ln gamma±, on phi) stops after the first fold with a
+    ``stop_outside`` (a tolerance per fitted property) stops after the first fold with a
     held-out point outside it, or with no prediction: for a caller that only asks whether every
     held-out point is within tolerance, the answer is then known. The folds not run keep NaN
     predictions and ``folds_run`` says how many ran.
@@ -158,10 +158,12 @@ def cross_validate_problem(problem: FitProblem, folds: int | str = 5,
             flags.append(f"{label}: model error on held-out points: {exc}")
         if stop_outside is not None:
             r = np.abs(problem.obs[held] - pred[held])
-            tol = np.where(problem.is_osm[held], stop_outside[1], stop_outside[0])
-            if not np.all(r <= tol):  # NaN (no prediction) counts as outside
+            tol = np.full(r.shape, np.nan)
+            for name, value in stop_outside.items():
+                tol[problem.kind[held] == name] = value
+            if not np.all(r <= tol):  # NaN (no prediction or tolerance) counts as outside
                 break
-    kind = np.where(problem.is_osm, "osmotic", "ln_gamma")
+    kind = np.asarray(problem.kind, dtype=object).copy()
     return CrossValidation(scheme, int(folds), problem.molality.copy(), kind, problem.obs.copy(),
                            pred, labels, flags, theta, folds_run)
 

@@ -149,11 +149,12 @@ class FitProblem:
         if len(blocks) == 1:
             d = blocks[0].data
             self.obs, self.sigma, self.molality = d.value, d.uncertainty, d.molality
-            self.is_osm = blocks[0].is_osm
+            self.is_osm, self.kind = blocks[0].is_osm, d.kind
         else:
             self.obs = _stack([b.data.value for b in blocks], float)
             self.sigma = _stack([b.data.uncertainty for b in blocks], float)
             self.is_osm = _stack([b.is_osm for b in blocks], bool)
+            self.kind = _stack([b.data.kind for b in blocks], object)
             self.molality = _stack([b.data.molality for b in blocks], float)
         sizes = [b.data.n for b in blocks]
         self.slices = [slice(s - n, s) for s, n in zip(accumulate(sizes), sizes)]

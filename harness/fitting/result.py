@@ -32,6 +32,7 @@ from saltbench.fitting import criteria
 from saltbench.fitting.flags import FAILED_FIT_KINDS, Flag, FlagKind, flag, texts
 from saltbench.fitting.least_squares import ScaledSVD, Solution, scaled_svd
 from saltbench.fitting.problem import FitProblem
+from saltbench.fitting.properties import names as property_names
 
 ILL_CONDITIONED = 1e6
 SINGULAR = 1e-9
@@ -75,7 +76,7 @@ class FitResult:
     temperature_k: float
     # per-point arrays, aligned with the problem's data (blocks in order)
     molality: np.ndarray = field(repr=False)
-    is_osmotic: np.ndarray = field(repr=False)  # of each point
+    kind: np.ndarray = field(repr=False)  # each point's fitted property (fitting.properties)
     observed: np.ndarray = field(repr=False)
     uncertainty: np.ndarray = field(repr=False)
     prediction: np.ndarray = field(repr=False)
@@ -115,11 +116,6 @@ class FitResult:
         return self.observed - self.prediction
 
     @cached_property
-    def kind(self) -> np.ndarray:
-        """``"ln_gamma"`` or ``"osmotic"`` for each point."""
-        return np.where(self.is_osmotic, "osmotic", "ln_gamma")
-
-    @cached_property
     def correlation(self) -> np.ndarray:
         """Correlation matrix of the free parameters (NaN where a standard error is unknown)."""
         k = self.n_params
@@ -132,10 +128,9 @@ class FitResult:
 
     @cached_property
     def residual_stats(self) -> dict[str, dict[str, float | int | None]]:
-        """Count, RMS and largest absolute residual per kind (``ln_gamma``, ``osmotic``)."""
+        """Count, RMS and largest absolute residual per fitted property (each registered one)."""
         residual = self.residual
-        return {"ln_gamma": _kind_stats(residual, ~self.is_osmotic),
-                "osmotic": _kind_stats(residual, self.is_osmotic)}
+        return {name: _kind_stats(residual, self.kind == name) for name in property_names()}
 
     def to_dict(self) -> dict[str, Any]:
         params = [{"name": p["name"], "value": _json_float(p["value"]),
@@ -156,8 +151,7 @@ class FitResult:
                            "scale": _json_float(self.covariance_scale),
                            "scaling": self.covariance_scaling},
             "residuals": {
-                "ln_gamma": stats["ln_gamma"],
-                "osmotic": stats["osmotic"],
+                **stats,
                 "chi2": _json_float(self.chi2),
                 "chi2_reduced": _json_float(self.chi2_reduced),
                 "n_points": self.n_points,
@@ -269,7 +263,7 @@ def build_result(problem: FitProblem, solution: Solution, *,
         aicc=criteria.aicc(chi2, k, n) if crit_ok else None,
         bic=criteria.bic(chi2, k, n) if crit_ok else None,
         condition_number=cond, temperature_k=float(temps.pop()) if len(temps) == 1 else math.nan,
-        molality=p.molality.copy(), is_osmotic=p.is_osm, observed=p.obs.copy(),
+        molality=p.molality.copy(), kind=p.kind.copy(), observed=p.obs.copy(),
         uncertainty=p.sigma.copy(), prediction=pred,
         stderr_free=np.array(sd_list, dtype=float), param_map=param_map,
         n_evaluations=p.n_evaluations,

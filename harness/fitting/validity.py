@@ -95,10 +95,21 @@ class ValidityRange:
                            for t in self.trials]}
 
 
-def _within(residual: np.ndarray, is_osm: np.ndarray, tol_ln: float,
-            tol_phi: float) -> np.ndarray:
-    tol = np.where(is_osm, tol_phi, tol_ln)
-    return np.isfinite(residual) & (np.abs(residual) <= tol)
+Tolerance = Mapping[str, float]  # by fitted property (saltbench.fitting.properties)
+
+
+def _within(residual: np.ndarray, kind: np.ndarray, tol: Tolerance) -> np.ndarray:
+    limit = np.full(residual.shape, np.nan)
+    for name, value in tol.items():
+        limit[kind == name] = value
+    return np.isfinite(residual) & (np.abs(residual) <= limit)
+
+
+def _worst_by_kind(residual: np.ndarray, kind: np.ndarray, sel: np.ndarray | bool,
+                   tol: Tolerance) -> dict[str, float | None]:
+    """``worst_<property>`` for each property with a tolerance: the largest |residual| of its
+    points in ``sel``."""
+    return {f"worst_{name}": _worst(residual, (kind == name) & sel) for name in tol}
 
 
 def _worst(residual: np.ndarray, sel: np.ndarray) -> float | None:
@@ -123,7 +134,7 @@ def _finish(electrolyte: Electrolyte, mode: str, last_ok: float | None,
                          flags, trials)
 
 
-def _fixed_scan(problem: FitProblem, theta: np.ndarray, tol_ln: float, tol_phi: float
+def _fixed_scan(problem: FitProblem, theta: np.ndarray, tol: Tolerance
                 ) -> tuple[float | None, float | None, list[Flag], list[dict[str, Any]]]:
     flags: list[Flag] = []
     try:
@@ -131,15 +142,14 @@ def _fixed_scan(problem: FitProblem, theta: np.ndarray, tol_ln: float, tol_phi: 
     except (ModelError, ModelDomainError) as exc:
         flags.append(flag(FlagKind.MODEL_ERROR, detail=str(exc)))
         return None, None, flags, []
-    ok = _within(resid, problem.is_osm, tol_ln, tol_phi)
+    ok = _within(resid, problem.kind, tol)
     m = problem.molality
     grid = np.unique(m)
     first_fail = float(m[~ok].min()) if not ok.all() else None
     below = grid[grid < first_fail] if first_fail is not None else grid
     last_ok = float(below.max()) if below.size else None
     trials = [{"limit": float(L), "passed": bool(ok[m <= L].all()),
-               "worst_ln_gamma": _worst(resid, (m <= L) & ~problem.is_osm),
-               "worst_osmotic": _worst(resid, (m <= L) & problem.is_osm)} for L in grid]
+               **_worst_by_kind(resid, problem.kind, m <= L, tol)} for L in grid]
     return last_ok, first_fail, flags, trials
 
 
@@ -166,10 +176,10 @@ def _same_points(cv: CrossValidation | None, problem: FitProblem, folds: int,
             and cv.molality.shape == problem.molality.shape
             and bool(np.array_equal(cv.molality, problem.molality))
             and bool(np.array_equal(cv.observed, problem.obs))
-            and bool(np.array_equal(cv.kind == "osmotic", problem.is_osm)))
+            and bool(np.array_equal(cv.kind, problem.kind)))
 
 
-def _refit_scan(problem: FitProblem, tol_ln: float, tol_phi: float, folds: int, scheme: str,
+def _refit_scan(problem: FitProblem, tol: Tolerance, folds: int, scheme: str,
                 full_cv: CrossValidation | None = None, stop_early: bool = False
                 ) -> tuple[float | None, float | None, list[Flag], list[dict[str, Any]]]:
     flags: list[Flag] = []
@@ -198,16 +208,15 @@ def _refit_scan(problem: FitProblem, tol_ln: float, tol_phi: float, folds: int, 
             cv = full_cv
         else:
             cv = cross_validate_problem(sub, min(folds, n), scheme, start=start,
-                                        stop_outside=(tol_ln, tol_phi) if stop_early else None)
+                                        stop_outside=tol if stop_early else None)
         if cv.theta is not None:
             start = cv.theta
-        ok = _within(cv.residual, cv.kind == "osmotic", tol_ln, tol_phi)
+        ok = _within(cv.residual, cv.kind, tol)
         cache[i] = bool(ok.all())
         ran = cv.ran
         trials.append({"limit": L, "passed": cache[i], "folds": min(folds, n),
                        "folds_run": int(cv.folds_run or cv.folds),
-                       "worst_ln_gamma": _worst(cv.residual, (cv.kind == "ln_gamma") & ran),
-                       "worst_osmotic": _worst(cv.residual, (cv.kind == "osmotic") & ran),
+                       **_worst_by_kind(cv.residual, cv.kind, ran, tol),
                        "flags": list(cv.flags)})
         if not cache[i] and cv.flags:
             flags.append(flag(FlagKind.TRIAL_FAILED, limit=L, detail=cv.flags[0]))
@@ -221,7 +230,7 @@ def _refit_scan(problem: FitProblem, tol_ln: float, tol_phi: float, folds: int, 
     return last_ok, first_fail, flags, trials
 
 
-def _fit_scan(problem: FitProblem, tol_ln: float, tol_phi: float
+def _fit_scan(problem: FitProblem, tol: Tolerance
               ) -> tuple[float | None, float | None, list[Flag], list[dict[str, Any]]]:
     from saltbench.fitting.engine import run
 
@@ -246,10 +255,10 @@ def _fit_scan(problem: FitProblem, tol_ln: float, tol_phi: float
         if solved:
             start.append(problem.theta_from(result.values))
         resid = result.residual
-        ok = solved and bool(_within(resid, result.is_osmotic, tol_ln, tol_phi).all())
+        ok = solved and bool(_within(resid, result.kind, tol).all())
         cache[i] = ok
-        trials.append({"limit": L, "passed": ok, "worst_ln_gamma": _worst(resid, ~result.is_osmotic),
-                       "worst_osmotic": _worst(resid, result.is_osmotic), "flags": texts(result.flags)})
+        trials.append({"limit": L, "passed": ok, **_worst_by_kind(resid, result.kind, True, tol),
+                       "flags": texts(result.flags)})
         if not solved and result.flags:
             flags.append(flag(FlagKind.TRIAL_FAILED, limit=L, detail=str(result.flags[0])))
         return ok
@@ -315,17 +324,15 @@ def validity_range(model: SolutionModel, electrolyte: Electrolyte | str, data: F
     tol = {"ln_gamma": float(tolerance_ln_gamma), "osmotic": float(tolerance_phi)}
     if params is not None:
         problem = build_problem(model, [(e, data)], dh=dh, temperature_k=temperature_k)
-        result = _fixed_scan(problem, problem.theta_from(params), tol["ln_gamma"],
-                             tol["osmotic"])
+        result = _fixed_scan(problem, problem.theta_from(params), tol)
         mode = "fixed"
     else:
         problem = build_problem(model, [(e, data)], fixed=fixed, start=start, free=free,
                                 bounds=bounds, dh=dh, temperature_k=temperature_k)
         if judge == "fit":
-            result = _fit_scan(problem, tol["ln_gamma"], tol["osmotic"])
+            result = _fit_scan(problem, tol)
         else:
-            result = _refit_scan(problem, tol["ln_gamma"], tol["osmotic"], folds, scheme, full_cv,
-                                 stop_early)
+            result = _refit_scan(problem, tol, folds, scheme, full_cv, stop_early)
         mode = "refit"
     last_ok, first_fail, flags, trials = result
     if last_ok is not None:
