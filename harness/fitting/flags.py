@@ -81,62 +81,59 @@ def flag(kind: FlagKind, **data: Any) -> Flag:
 
 _QUANTITY = {"ln_gamma": "ln gamma±", "osmotic": "phi"}
 
+#: The wording of each kind, filled from the flag's data (and the few derived fields of
+#: :func:`_fields`).
+_WORDING: dict[FlagKind, str] = {
+    FlagKind.DID_NOT_CONVERGE: "did not converge: {detail}",
+    FlagKind.STEPS_REJECTED: "model failed at some trial parameters (steps rejected): {detail}",
+    FlagKind.MODEL_ERROR: "model error: {detail}",
+    FlagKind.TOO_FEW_POINTS: "too few points ({n_points} points for {n_params} free parameters)",
+    FlagKind.SINGULAR: "singular (the data carry no information on {names})",
+    FlagKind.SINGULAR_COMBINATION: "singular (no information on a combination of {names})",
+    FlagKind.ILL_CONDITIONED: "ill-conditioned (condition number {condition_number:.3g})",
+    FlagKind.AT_BOUND: "parameter {name} at bound ({side} = {bound:g})",
+    FlagKind.TOO_FEW_TO_JUDGE: ("too few points to judge a refitted model ({n_points} points for "
+                                "{n_params} free parameters)"),
+    FlagKind.TRIAL_FAILED: "at trial limit {limit:g} mol/kg: {detail}",
+    FlagKind.DATA_END: "data end before model fails (highest data molality {top:g} mol/kg)",
+    FlagKind.SPARSE: "data too sparse to judge between {low:g} and {high:g} mol/kg",
+    FlagKind.DETERMINATION_HELDOUT: (
+        "determination: held out, points are predicted to within {worst:.2g} in {quantity_words}, "
+        "beyond the tolerance {tolerance:g}: the data determine the parameters poorly (gaps or too "
+        "few points); expect predictions within that band, not the tolerance"),
+    FlagKind.DETERMINATION_STDERR: ("determination: {name} = {value:.3g} ± {stderr:.2g}, standard "
+                                    "error above its value"),
+    FlagKind.AUTHORS_TEMPERATURE: ("authors: {model_name} is claimed for {low:g} to {high:g} K; used "
+                                   "at {temperature:g} K"),
+    FlagKind.AUTHORS_MOLALITY: ("authors: {model_name} is claimed to {claim:g} mol/kg for "
+                                "{electrolyte} ({note}); the data here reach {top:g} mol/kg"),
+    FlagKind.PUBLISHED_TEMPERATURE: (
+        "published: {set_id} holds values for {set_temperature:g} K; judged at {temperature:g} K "
+        "with them unchanged ({constant}): an extrapolation in temperature"),
+    FlagKind.PUBLISHED_ANCHORING: (
+        "published: {set_id} and {dataset} differ by a near-constant {offset:+.3f} in ln gamma± "
+        "(spread {spread:.3f}) over {low:g} to {high:g} mol/kg: they anchor the dilute end "
+        "differently (gamma± scaled by {scale:.3f}), not the shape{phi_note}; a refit absorbs this "
+        "into its dilute parameters"),
+}
+
+
+def _fields(f: Flag) -> dict[str, Any]:
+    d = dict(f.data)
+    if "names" in d:
+        d["names"] = ", ".join(d["names"])
+    if "quantity" in d:
+        d["quantity_words"] = _QUANTITY[d["quantity"]]
+    if f.kind is FlagKind.PUBLISHED_ANCHORING:
+        phi = d.get("phi_gap")
+        d["phi_note"] = (f"; in phi the set and the osmotic data agree within {phi:.3f}"
+                         if phi is not None else "")
+    return d
+
 
 def describe(f: Flag) -> str:
     """The flag in words: the one place its wording is made."""
-    d = f.data
-    k = f.kind
-    if k is FlagKind.DID_NOT_CONVERGE:
-        return f"did not converge: {d['detail']}"
-    if k is FlagKind.STEPS_REJECTED:
-        return f"model failed at some trial parameters (steps rejected): {d['detail']}"
-    if k is FlagKind.MODEL_ERROR:
-        return f"model error: {d['detail']}"
-    if k is FlagKind.TOO_FEW_POINTS:
-        return f"too few points ({d['n_points']} points for {d['n_params']} free parameters)"
-    if k is FlagKind.SINGULAR:
-        return f"singular (the data carry no information on {', '.join(d['names'])})"
-    if k is FlagKind.SINGULAR_COMBINATION:
-        return f"singular (no information on a combination of {', '.join(d['names'])})"
-    if k is FlagKind.ILL_CONDITIONED:
-        return f"ill-conditioned (condition number {d['condition_number']:.3g})"
-    if k is FlagKind.AT_BOUND:
-        return f"parameter {d['name']} at bound ({d['side']} = {d['bound']:g})"
-    if k is FlagKind.TOO_FEW_TO_JUDGE:
-        return (f"too few points to judge a refitted model ({d['n_points']} points for "
-                f"{d['n_params']} free parameters)")
-    if k is FlagKind.TRIAL_FAILED:
-        return f"at trial limit {d['limit']:g} mol/kg: {d['detail']}"
-    if k is FlagKind.DATA_END:
-        return f"data end before model fails (highest data molality {d['top']:g} mol/kg)"
-    if k is FlagKind.SPARSE:
-        return f"data too sparse to judge between {d['low']:g} and {d['high']:g} mol/kg"
-    if k is FlagKind.DETERMINATION_HELDOUT:
-        return (f"determination: held out, points are predicted to within {d['worst']:.2g} in "
-                f"{_QUANTITY[d['quantity']]}, beyond the tolerance {d['tolerance']:g}: the data determine "
-                "the parameters poorly (gaps or too few points); expect predictions within that band, not "
-                "the tolerance")
-    if k is FlagKind.DETERMINATION_STDERR:
-        return (f"determination: {d['name']} = {d['value']:.3g} ± {d['stderr']:.2g}, standard error "
-                "above its value")
-    if k is FlagKind.AUTHORS_TEMPERATURE:
-        return (f"authors: {d['model_name']} is claimed for {d['low']:g} to {d['high']:g} K; used at "
-                f"{d['temperature']:g} K")
-    if k is FlagKind.AUTHORS_MOLALITY:
-        return (f"authors: {d['model_name']} is claimed to {d['claim']:g} mol/kg for {d['electrolyte']} "
-                f"({d['note']}); the data here reach {d['top']:g} mol/kg")
-    if k is FlagKind.PUBLISHED_TEMPERATURE:
-        return (f"published: {d['set_id']} holds values for {d['set_temperature']:g} K; judged at "
-                f"{d['temperature']:g} K with them unchanged ({d['constant']}): an extrapolation in "
-                "temperature")
-    if k is FlagKind.PUBLISHED_ANCHORING:
-        phi = d.get("phi_gap")
-        phi_note = f"; in phi the set and the osmotic data agree within {phi:.3f}" if phi is not None else ""
-        return (f"published: {d['set_id']} and {d['dataset']} differ by a near-constant {d['offset']:+.3f} "
-                f"in ln gamma± (spread {d['spread']:.3f}) over {d['low']:g} to {d['high']:g} mol/kg: they "
-                f"anchor the dilute end differently (gamma± scaled by {d['scale']:.3f}), not the "
-                f"shape{phi_note}; a refit absorbs this into its dilute parameters")
-    raise ValueError(f"no wording for flag kind {k!r}")  # pragma: no cover - every kind is above
+    return _WORDING[f.kind].format(**_fields(f))
 
 
 def texts(flags: list[Flag] | tuple[Flag, ...]) -> list[str]:
