@@ -39,7 +39,7 @@ class Bromley(ActivityModel):
     name = "Bromley"
     citation = _CITATION
     parameters: tuple[Parameter, ...] = (
-        Parameter("B", "B", "kg/mol", 0.05, lower=-0.5, upper=0.5, linear=True,
+        Parameter("B", "B", "kg/mol", 0.05, lower=-0.5, upper=0.5, linear=True, belongs_to="pair",
                   description="Bromley's interaction parameter of the salt (decadic basis)"),
     )
     validity = _VALIDITY

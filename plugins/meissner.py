@@ -32,7 +32,7 @@ class Meissner(ActivityModel):
     citation = ("H. P. Meissner and C. L. Kusik, AIChE J. 18, 294-298 (1972); C. L. Kusik and "
                 "H. P. Meissner, AIChE Symp. Ser. 74 (173), 14-20 (1978)")
     parameters = (
-        Parameter("q", "q", "1", 2.0, lower=-3.0, upper=11.0,
+        Parameter("q", "q", "1", 2.0, lower=-3.0, upper=11.0, belongs_to="pair",
                   description="Meissner's q, one per salt"),
     )
     validity = Validity(max_ionic_strength=20.0,

@@ -88,21 +88,21 @@ class Pitzer(ActivityModel):
         "Chem. 77, 2300 (1973) and J. Solution Chem. 3, 539 (1974)"
     )
     parameters = (
-        Parameter("beta0", "β(0)", "kg/mol", 0.0, linear=True,
+        Parameter("beta0", "β(0)", "kg/mol", 0.0, linear=True, belongs_to="pair",
                   description="short-range second virial coefficient, constant part"),
-        Parameter("beta1", "β(1)", "kg/mol", 0.0, linear=True,
+        Parameter("beta1", "β(1)", "kg/mol", 0.0, linear=True, belongs_to="pair",
                   description="second virial coefficient, part decaying as exp(-alpha1 sqrt(I))"),
-        Parameter("beta2", "β(2)", "kg/mol", 0.0, linear=True,
+        Parameter("beta2", "β(2)", "kg/mol", 0.0, linear=True, belongs_to="pair",
                   description="second virial coefficient, part decaying as exp(-alpha2 sqrt(I)); "
                               "used for 2-2 salts (ion association), 0 otherwise"),
-        Parameter("C_phi", "Cφ", "kg²/mol²", 0.0, linear=True,
+        Parameter("C_phi", "Cφ", "kg²/mol²", 0.0, linear=True, belongs_to="pair",
                   description="third virial coefficient of the osmotic coefficient"),
-        Parameter("alpha1", "α1", "(kg/mol)^1/2", 0.0, lower=0.0, upper=50.0, fixed=True,
+        Parameter("alpha1", "α1", "(kg/mol)^1/2", 0.0, lower=0.0, upper=50.0, fixed=True, belongs_to="pair",
                   description="0 selects the charge-type value: 2.0, or 1.4 for 2-2 salts"),
-        Parameter("alpha2", "α2", "(kg/mol)^1/2", 0.0, lower=0.0, upper=100.0, fixed=True,
+        Parameter("alpha2", "α2", "(kg/mol)^1/2", 0.0, lower=0.0, upper=100.0, fixed=True, belongs_to="pair",
                   description="0 selects the charge-type value: 12 for 2-2 salts (and 12 "
                               "elsewhere, where beta2 is normally 0)"),
-        Parameter("b", "b", "(kg/mol)^1/2", B_PITZER, lower=0.1, upper=10.0, fixed=True,
+        Parameter("b", "b", "(kg/mol)^1/2", B_PITZER, lower=0.1, upper=10.0, fixed=True, belongs_to="model",
                   description="Debye-Hückel term constant, 1.2 for all salts"),
     )
     validity = Validity(

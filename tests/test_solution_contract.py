@@ -79,6 +79,13 @@ def test_parameters_are_keyed_by_what_they_belong_to():
           .register_models(context=None) if m.id == "truesdell-jones"][0]
     assert tj.salt_keys(NACL)["a_anion"] == ParameterKey("a", ("Cl-",))
     assert _old_plugin().LabHydrationModel().salt_keys(NACL)["b"] == ParameterKey("b", ("NaCl",))
+    # Pitzer's binary parameters belong to the cation-anion pair, its b to the model
+    # (Pitzer, J. Phys. Chem. 77, 268 (1973): b = 1.2 (kg/mol)^1/2 for every salt)
+    pitzer = [m for m in __import__("saltbench.plugins.pitzer", fromlist=["x"])
+              .register_models(context=None) if m.id == "pitzer"][0]
+    keys = pitzer.salt_keys(MGSO4)
+    assert keys["beta2"] == ParameterKey("beta2", ("Mg+2", "SO4-2"))
+    assert keys["b"] == ParameterKey("b")
 
 
 # -- the mixture models against their published forms --------------------------------------------
