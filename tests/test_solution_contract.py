@@ -120,6 +120,19 @@ def test_sit_in_a_mixture_adds_each_counter_ion_term():
     assert out.values[ln_gamma("Na+")][0, 0] / math.log(10) == pytest.approx(expected, rel=1e-12)
 
 
+def test_the_mean_of_any_salt_formed_from_the_ions_present():
+    # ln gamma±(NaNO3) in NaCl + KNO3 = (ln gamma(Na+) + ln gamma(NO3-)) / 2 (IUPAC Green Book, 2.13)
+    kno3 = parse_formula("KNO3")
+    comp = Composition.of_salts([(NACL, 0.1), (kno3, 0.2)])
+    qs = [ln_gamma("Na+"), ln_gamma("NO3-"), ln_gamma_pm("NaNO3")]
+    out = Davies().compute(_request(Davies(), comp, {ParameterKey("b"): 0.3}, qs))
+    assert out.values[qs[2]][0, 0] == pytest.approx(
+        0.5 * (out.values[qs[0]][0, 0] + out.values[qs[1]][0, 0]), rel=1e-14)
+    from saltbench.errors import UserError
+    with pytest.raises(UserError, match="ion Ca"):
+        comp.salt("CaCl2")
+
+
 def test_water_activity_follows_from_the_osmotic_coefficient():
     # ln a_w = -M_w phi sum_i m_i (IUPAC Green Book, 2.13), M_w = 18.015 g/mol
     comp = Composition.of_salts([(NACL, 1.0), (MGSO4, 0.3)])

@@ -16,7 +16,7 @@ from functools import cached_property
 
 import numpy as np
 
-from saltbench.chemistry.electrolyte import Electrolyte
+from saltbench.chemistry.electrolyte import Electrolyte, parse_formula
 from saltbench.chemistry.ions import Ion
 from saltbench.errors import UserError
 
@@ -141,10 +141,17 @@ class Composition:
         return 0.5 * (self.molality @ self.charges**2)
 
     def salt(self, name: str) -> Electrolyte:
+        """A neutral salt of ions present: one the composition was made of, or any other formed
+        from its ions (NaNO3 in a solution of NaCl and KNO3)."""
         for s in self.salts:
             if s.name == name:
                 return s
-        raise UserError(f"salt {name} is not named in the composition")
+        salt = parse_formula(name)
+        missing = [i.name for i in (salt.cation, salt.anion) if i.name not in self.names]
+        if missing:
+            raise UserError(f"salt {name}: ion {missing[0]} is not in the solution "
+                            f"({', '.join(self.names)})")
+        return salt
 
     @property
     def single_salt(self) -> Electrolyte | None:
