@@ -24,7 +24,7 @@ from saltbench.measurements.conventions import (
     BATES_GUGGENHEIM_MAX_I,
     PH_CAUTION,
     SINGLE_ION_CAVEAT,
-    Composition,
+    SaltAmounts,
     SingleIonResult,
     bates_guggenheim,
     extended_debye_huckel,
@@ -87,7 +87,7 @@ __all__ = [
     "DiluteExtrapolation", "GibbsDuhemResult", "activity_from_osmotic", "osmotic_from_activity",
     "sigma",
     # conventions
-    "BATES_GUGGENHEIM_MAX_I", "PH_CAUTION", "SINGLE_ION_CAVEAT", "Composition",
+    "BATES_GUGGENHEIM_MAX_I", "PH_CAUTION", "SINGLE_ION_CAVEAT", "SaltAmounts",
     "SingleIonResult", "bates_guggenheim", "model_single_ion",
     "extended_debye_huckel", "ion_molalities", "ionic_strength", "macinnes",
     "truesdell_jones",

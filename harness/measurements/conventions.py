@@ -32,7 +32,7 @@ import numpy as np
 
 from saltbench.chemistry.electrolyte import Electrolyte
 from saltbench.chemistry.ions import Ion
-from saltbench.chemistry.solution import Composition as Solution
+from saltbench.chemistry.solution import Composition
 from saltbench.errors import UserError
 from saltbench.models.contract import Conditions, ParameterKey, Request, SolutionModel
 from saltbench.models.quantities import ln_gamma
@@ -55,8 +55,9 @@ BATES_GUGGENHEIM_MAX_I = 0.1  # mol/kg, the limit stated with the convention
 CONVENTION_MAX_I = {"debye-huckel": 0.001, "extended-debye-huckel": 0.1, "davies": 0.5,
                     "truesdell-jones": 2.0, "sit": 3.5, "bates-guggenheim": BATES_GUGGENHEIM_MAX_I}
 
-#: A solution: salts with their molalities in mol/kg (numbers or arrays of one shape).
-Composition = Sequence[tuple[Electrolyte, float | np.ndarray]]
+#: A solution as salts with their molalities in mol/kg (numbers or arrays of one shape); the
+#: model contract's :class:`saltbench.chemistry.solution.Composition` is built from it.
+SaltAmounts = Sequence[tuple[Electrolyte, float | np.ndarray]]
 
 
 @dataclass(frozen=True)
@@ -92,7 +93,7 @@ class SingleIonResult:
         return self.log10_gamma[ion]
 
 
-def ion_molalities(composition: Composition) -> tuple[dict[str, Ion], dict[str, np.ndarray]]:
+def ion_molalities(composition: SaltAmounts) -> tuple[dict[str, Ion], dict[str, np.ndarray]]:
     """The ions of a solution of salts and their molalities (mol/kg), summed over the salts."""
     if not composition:
         raise UserError("a solution needs at least one salt")
@@ -108,14 +109,14 @@ def ion_molalities(composition: Composition) -> tuple[dict[str, Ion], dict[str, 
     return ions, mol
 
 
-def ionic_strength(composition: Composition) -> np.ndarray:
+def ionic_strength(composition: SaltAmounts) -> np.ndarray:
     """I = 1/2 sum_i m_i z_i^2 in mol/kg."""
     ions, mol = ion_molalities(composition)
     # a sum of arrays (numpy scalars for scalar molalities); mypy types it by the int start 0
     return 0.5 * sum(mol[n] * ions[n].charge ** 2 for n in ions)  # type: ignore[return-value]
 
 
-def _setup(composition: Composition, temperature_k: float, dh: DebyeHuckel | None):
+def _setup(composition: SaltAmounts, temperature_k: float, dh: DebyeHuckel | None):
     ions, mol = ion_molalities(composition)
     i = 0.5 * sum(mol[n] * ions[n].charge ** 2 for n in ions)
     return ions, mol, np.asarray(i, dtype=float), dh or debye_huckel_constants(temperature_k)
@@ -128,7 +129,7 @@ def _need(mapping: Mapping[str, float], ions: Mapping[str, Ion], what: str) -> d
     return {n: float(mapping[n]) for n in ions}
 
 
-def extended_debye_huckel(composition: Composition, ion_sizes: Mapping[str, float],
+def extended_debye_huckel(composition: SaltAmounts, ion_sizes: Mapping[str, float],
                           temperature_k: float = 298.15, *,
                           dh: DebyeHuckel | None = None) -> SingleIonResult:
     """``ion_sizes`` in Å keyed by ion name (``"Na+"``, ``"SO4-2"``)."""
@@ -141,7 +142,7 @@ def extended_debye_huckel(composition: Composition, ion_sizes: Mapping[str, floa
                            {"ion_sizes_angstrom": a})
 
 
-def truesdell_jones(composition: Composition, ion_sizes: Mapping[str, float],
+def truesdell_jones(composition: SaltAmounts, ion_sizes: Mapping[str, float],
                     b_ion: Mapping[str, float], temperature_k: float = 298.15, *,
                     dh: DebyeHuckel | None = None) -> SingleIonResult:
     """``ion_sizes`` in Å and ``b_ion`` in kg/mol, both keyed by ion name."""
@@ -155,7 +156,7 @@ def truesdell_jones(composition: Composition, ion_sizes: Mapping[str, float],
                            {"ion_sizes_angstrom": a, "b": bi})
 
 
-def model_single_ion(composition: Composition, model: SolutionModel, label: str,
+def model_single_ion(composition: SaltAmounts, model: SolutionModel, label: str,
                      params: Mapping[ParameterKey, float] | None = None,
                      temperature_k: float = 298.15, *,
                      dh: DebyeHuckel | None = None) -> SingleIonResult:
@@ -163,7 +164,7 @@ def model_single_ion(composition: Composition, model: SolutionModel, label: str,
     limiting law, Davies, SIT...): ``model`` is any solution model that computes ``ln_gamma``
     of ions for mixtures; ``params`` gives its keyed parameters (others at their defaults)."""
     ions, mol, i, dh = _setup(composition, temperature_k, dh)
-    solution = Solution.of_salts(list(composition), dh.temperature_k)
+    solution = Composition.of_salts(list(composition), dh.temperature_k)
     if "ln_gamma" not in model.computes or not model.supports_composition(solution):
         raise UserError(f"model {model.id} gives no single-ion values for this solution")
     keys = model.keys_for(solution)
@@ -178,7 +179,7 @@ def model_single_ion(composition: Composition, model: SolutionModel, label: str,
                            {str(k): float(v[0, 0]) for k, v in values.items()})
 
 
-def bates_guggenheim(composition: Composition, temperature_k: float = 298.15, *,
+def bates_guggenheim(composition: SaltAmounts, temperature_k: float = 298.15, *,
                      dh: DebyeHuckel | None = None) -> SingleIonResult:
     """gamma(Cl-) at the ionic strength of a pH standard; refused above I = 0.1 mol/kg."""
     ions, mol, i, dh = _setup(composition, temperature_k, dh)
@@ -202,7 +203,7 @@ def _mean_at(value: object, i: np.ndarray) -> np.ndarray:
     return g
 
 
-def macinnes(composition: Composition, gamma_kcl: float | Callable[[np.ndarray], np.ndarray],
+def macinnes(composition: SaltAmounts, gamma_kcl: float | Callable[[np.ndarray], np.ndarray],
              temperature_k: float = 298.15, *,
              mean_gammas: Mapping[Electrolyte, float | Callable[[np.ndarray], np.ndarray]]
              | None = None) -> SingleIonResult:
