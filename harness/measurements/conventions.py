@@ -35,6 +35,7 @@ from saltbench.chemistry.ions import Ion
 from saltbench.chemistry.solution import Composition
 from saltbench.errors import UserError
 from saltbench.models.contract import Conditions, ParameterKey, Request, SolutionModel
+from saltbench.models.dh_terms import size_term
 from saltbench.models.quantities import ln_gamma
 from saltbench.water.debye_huckel import DebyeHuckel, debye_huckel_constants
 
@@ -135,11 +136,17 @@ def extended_debye_huckel(composition: SaltAmounts, ion_sizes: Mapping[str, floa
     """``ion_sizes`` in Å keyed by ion name (``"Na+"``, ``"SO4-2"``)."""
     ions, mol, i, dh = _setup(composition, temperature_k, dh)
     a = _need(ion_sizes, ions, "ion sizes (Å)")
-    s = np.sqrt(i)
-    logs = {n: -dh.a_gamma_log10 * ion.charge**2 * s / (1.0 + dh.b_gamma_per_angstrom * a[n] * s)
-            for n, ion in ions.items()}
+    logs = _size_terms(ions, a, i, dh)
     return SingleIonResult("extended Debye-Hückel", i, dh.temperature_k, ions, mol, logs,
                            {"ion_sizes_angstrom": a})
+
+
+def _size_terms(ions: Mapping[str, Ion], sizes: Mapping[str, float], i: np.ndarray,
+                dh: DebyeHuckel) -> dict[str, np.ndarray]:
+    """log10 of the Debye-Hückel ion-size term of each ion (saltbench.models.dh_terms)."""
+    s = np.sqrt(i)
+    return {n: size_term(dh.a_gamma_log10, ion.charge**2, s, dh.b_gamma_per_angstrom * sizes[n] * s)
+            for n, ion in ions.items()}
 
 
 def truesdell_jones(composition: SaltAmounts, ion_sizes: Mapping[str, float],
@@ -149,9 +156,7 @@ def truesdell_jones(composition: SaltAmounts, ion_sizes: Mapping[str, float],
     ions, mol, i, dh = _setup(composition, temperature_k, dh)
     a = _need(ion_sizes, ions, "ion sizes (Å)")
     bi = _need(b_ion, ions, "Truesdell-Jones b values (kg/mol)")
-    s = np.sqrt(i)
-    logs = {n: -dh.a_gamma_log10 * ion.charge**2 * s / (1.0 + dh.b_gamma_per_angstrom * a[n] * s)
-            + bi[n] * i for n, ion in ions.items()}
+    logs = {n: v + bi[n] * i for n, v in _size_terms(ions, a, i, dh).items()}
     return SingleIonResult("Truesdell-Jones", i, dh.temperature_k, ions, mol, logs,
                            {"ion_sizes_angstrom": a, "b": bi})
 
