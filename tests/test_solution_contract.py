@@ -159,6 +159,25 @@ def test_one_salt_forms_are_unchanged_by_the_port():
     np.testing.assert_allclose(ev.ln_gamma_pm / math.log(10), expected, rtol=1e-12)
 
 
+def test_each_solution_is_computed_at_its_own_temperature():
+    # Davies at 0 and 50 °C in one request: each row equals a request at that temperature alone
+    # (A_gamma rises with temperature: the IAPWS-based A_phi is 0.3770 at 0 °C and 0.4102 at
+    # 50 °C within 0.3 %, from memory of Archer and Wang, J. Phys. Chem. Ref. Data 19, 371 (1990))
+    comp = Composition.of_salt(NACL, [0.1, 0.1], temperature_k=[273.15, 323.15])
+    conditions = Conditions.of(comp)
+    assert len(conditions.dh) == 2
+    assert conditions.a_phi == pytest.approx([0.3770, 0.4102], rel=3e-3)
+    q = ln_gamma_pm("NaCl")
+    key = ParameterKey("b")
+    both = Davies().compute(Request(comp, (q,), {key: np.array([[0.3]])}, conditions)).values[q][0]
+    for row, t in enumerate((273.15, 323.15)):
+        alone = Composition.of_salt(NACL, 0.1, temperature_k=t)
+        one = Davies().compute(Request(alone, (q,), {key: np.array([[0.3]])},
+                                       Conditions.of(alone))).values[q][0, 0]
+        assert both[row] == pytest.approx(one, rel=1e-14)
+    assert both[0] > both[1]  # larger A at 50 °C: lower ln gamma± in the dilute range
+
+
 # -- batches and temperature forms --------------------------------------------------------------
 def test_several_parameter_sets_are_evaluated_in_one_request():
     comp = Composition.of_salts([(NACL, [0.1, 0.5, 2.0]), (MGSO4, 0.1)])

@@ -183,7 +183,23 @@ class Conditions:
 
     @classmethod
     def single(cls, dh: DebyeHuckel, n: int) -> Conditions:
+        """One set of constants for all ``n`` rows (one temperature, or a published constant)."""
         return cls((dh,), np.zeros(n, dtype=np.intp))
+
+    @classmethod
+    def of(cls, composition: Composition) -> Conditions:
+        """The constants of water at each row's own temperature and pressure (IAPWS, through
+        :func:`saltbench.water.debye_huckel.debye_huckel_constants`), computed once per
+        distinct state."""
+        from saltbench.water.debye_huckel import debye_huckel_constants
+
+        p = composition.pressure_pa
+        states = list(zip(composition.temperature_k.tolist(),
+                          [None] * composition.n if p is None else p.tolist()))
+        distinct = list(dict.fromkeys(states))
+        where = {state: k for k, state in enumerate(distinct)}
+        group = np.array([where[state] for state in states], dtype=np.intp)
+        return cls(tuple(debye_huckel_constants(t, pa) for t, pa in distinct), group)
 
     def _per_row(self, values: list[float]) -> np.ndarray:
         if len(values) == 1:
