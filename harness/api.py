@@ -452,7 +452,7 @@ def compare(session: Session, electrolytes, settings=None, *, jobs: int = 1, cur
     from saltbench.comparison.sources import source_disagreements
 
     for task in tasks:
-        disagreeing = source_disagreements(task.data, settings.tol_ln_gamma, settings.tol_phi)
+        disagreeing = source_disagreements(task.data, settings.tolerances)
         if disagreeing:
             comp.disagreements[task.electrolyte.name] = disagreeing
     return comp

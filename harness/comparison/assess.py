@@ -130,7 +130,7 @@ def determination_notes(result, heldout: dict | None, settings: CompareSettings)
     held-out errors beyond the tolerance, and parameters whose standard error exceeds their value."""
     notes = []
     held = (heldout or {}).get("held_out", {})
-    for kind, tol in (("ln_gamma", settings.tol_ln_gamma), ("osmotic", settings.tol_phi)):
+    for kind, tol in settings.tolerances.items():
         worst = (held.get(kind) or {}).get("max_abs")
         if heldout and heldout.get("folds") and worst is not None and worst > tol:
             notes.append(flag(FlagKind.DETERMINATION_HELDOUT, worst=worst, quantity=kind, tolerance=tol))

@@ -21,6 +21,11 @@ class CompareSettings:
     extra: dict = field(default_factory=dict)
 
     @property
+    def tolerances(self) -> dict[str, float]:
+        """The tolerance of each fitted property (saltbench.fitting.properties), by its name."""
+        return {"ln_gamma": self.tol_ln_gamma, "osmotic": self.tol_phi}
+
+    @property
     def scan_folds(self) -> int:
         """Folds for the validity scan: leave-one-out means one fold per point at every trial."""
         return 10**9 if self.folds == "loo" else int(self.folds)

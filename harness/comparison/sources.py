@@ -4,11 +4,13 @@ where two datasets print the same property at the same molality."""
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass
 
 import numpy as np
 
-from saltbench.fitting.data import LN_GAMMA, FitData
+from saltbench.fitting.data import FitData
+from saltbench.fitting.properties import REGISTRY
 
 
 @dataclass(frozen=True)
@@ -17,7 +19,7 @@ class SourceDisagreement:
 
     first: str
     second: str
-    quantity: str  # "ln_gamma" or "osmotic"
+    quantity: str  # a fitted property's name ("ln_gamma", "osmotic")
     worst: float  # largest difference
     low: float  # mol/kg, the common molalities' range
     high: float
@@ -25,7 +27,7 @@ class SourceDisagreement:
 
     @property
     def text(self) -> str:
-        what = "ln gamma±" if self.quantity == LN_GAMMA else "phi"
+        what = REGISTRY[self.quantity].text
         return (f"{self.first} and {self.second} differ by up to {self.worst:.3f} in {what} at the molalities both "
                 f"print ({self.low:g} to {self.high:g} mol/kg), beyond the tolerance {self.tolerance:g}: no model "
                 "can stay within it of both; compare one of them with --data")
@@ -34,8 +36,9 @@ class SourceDisagreement:
         return self.text
 
 
-def source_disagreements(data: FitData, tol_ln_gamma: float, tol_phi: float) -> list[SourceDisagreement]:
-    """One per pair of datasets that differ beyond the tolerance at common molalities."""
+def source_disagreements(data: FitData, tolerances: Mapping[str, float]) -> list[SourceDisagreement]:
+    """One per pair of datasets that differ beyond the tolerance of their property (keyed by
+    fitted property) at common molalities."""
     out = []
     keys = list(dict.fromkeys(data.dataset))
     for i, a in enumerate(keys):
@@ -48,7 +51,7 @@ def source_disagreements(data: FitData, tol_ln_gamma: float, tol_phi: float) -> 
                 if not common.size:
                     continue
                 diff = np.abs(data.value[sa][ia] - data.value[sb][ib])
-                tol = tol_ln_gamma if kind == LN_GAMMA else tol_phi
+                tol = tolerances[str(kind)]
                 if diff.max() > tol:
                     out.append(SourceDisagreement(str(a), str(b), str(kind), float(diff.max()), float(common.min()),
                                                   float(common.max()), tol))

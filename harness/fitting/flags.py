@@ -13,6 +13,8 @@ from dataclasses import dataclass, field
 from enum import StrEnum
 from typing import Any
 
+from saltbench.fitting.properties import REGISTRY
+
 
 class FlagKind(StrEnum):
     # A fit that went wrong: such a flag keeps a model out of the recommendation.
@@ -79,7 +81,6 @@ def flag(kind: FlagKind, **data: Any) -> Flag:
     return Flag(kind, data)
 
 
-_QUANTITY = {"ln_gamma": "ln gamma±", "osmotic": "phi"}
 
 #: The wording of each kind, filled from the flag's data (and the few derived fields of
 #: :func:`_fields`).
@@ -123,7 +124,7 @@ def _fields(f: Flag) -> dict[str, Any]:
     if "names" in d:
         d["names"] = ", ".join(d["names"])
     if "quantity" in d:
-        d["quantity_words"] = _QUANTITY[d["quantity"]]
+        d["quantity_words"] = REGISTRY[d["quantity"]].text
     if f.kind is FlagKind.PUBLISHED_ANCHORING:
         phi = d.get("phi_gap")
         d["phi_note"] = (f"; in phi the set and the osmotic data agree within {phi:.3f}"

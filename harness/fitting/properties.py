@@ -39,6 +39,11 @@ class FittedProperty:
     symbol: str  # as printed in tables, e.g. "ln γ±"
     description: str
     curated: Mapping[str, Converter]  # curated property name -> conversion
+    words: str = ""  # in plain-text messages, e.g. "ln gamma±" (default: the name)
+
+    @property
+    def text(self) -> str:
+        return self.words or self.name
 
     def quantity(self, electrolyte: Electrolyte) -> Quantity:
         """The quantity of ``electrolyte``'s solution this property is compared with."""
@@ -98,7 +103,7 @@ def _water_activity(m, v, u, nu, dataset):
 
 LN_GAMMA_PROPERTY = register_property(FittedProperty(
     "ln_gamma", "ln_gamma_pm", "ln γ±", "natural log of the mean activity coefficient",
-    {"gamma_pm": _gamma, "ln_gamma_pm": _ln, "log10_gamma_pm": _log10}))
+    {"gamma_pm": _gamma, "ln_gamma_pm": _ln, "log10_gamma_pm": _log10}, "ln gamma±"))
 OSMOTIC_PROPERTY = register_property(FittedProperty(
     "osmotic", "osmotic", "φ", "osmotic coefficient",
-    {"osmotic": _ln, "water_activity": _water_activity}))
+    {"osmotic": _ln, "water_activity": _water_activity}, "phi"))
