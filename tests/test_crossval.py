@@ -13,6 +13,7 @@ from saltbench.chemistry.electrolyte import parse_formula
 from saltbench.errors import UserError
 from saltbench.fitting import cross_validate, fit
 from saltbench.fitting.crossval import fold_labels
+from saltbench.fitting.flags import FlagKind
 
 NACL = parse_formula("NaCl")
 GRID = np.round(np.arange(0.1, 3.01, 0.1), 2)  # invented molality grid, mol/kg
@@ -96,5 +97,8 @@ def test_failing_model_is_reported_not_raised():
     data = synthetic((4.0, 0.05), NACL, GRID)
     cv = cross_validate(NaNModel(), NACL, data, folds=3)
     assert np.all(np.isnan(cv.prediction))
-    assert len(cv.flags) == 3 and all("model error" in f for f in cv.flags)
+    assert len(cv.flags) == 3
+    assert [f["fold"] for f in cv.flags] == [1, 2, 3]
+    assert all(f.kind in (FlagKind.FOLD_UNSOLVED, FlagKind.FOLD_HELDOUT_ERROR) for f in cv.flags)
+    assert all("model error" in text for text in cv.to_dict()["flags"])
     assert cv.to_dict()["held_out"]["ln_gamma"]["rms"] is None

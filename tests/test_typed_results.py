@@ -34,6 +34,13 @@ WORDING = {
     FlagKind.TRIAL_FAILED: ({"limit": 2.5, "detail": "model error: x"}, "at trial limit 2.5 mol/kg: model error: x"),
     FlagKind.DATA_END: ({"top": 6.0}, "data end before model fails (highest data molality 6 mol/kg)"),
     FlagKind.SPARSE: ({"low": 2.0, "high": 10.0}, "data too sparse to judge between 2 and 10 mol/kg"),
+    FlagKind.FOLD_TOO_FEW: ({"fold": 2, "folds": 5, "n_points": 3, "n_params": 3},
+                            "fold 2/5: too few points (3 for 3 free parameters)"),
+    FlagKind.FOLD_UNSOLVED: ({"fold": 1, "folds": 5, "reason": "singular (x)"}, "fold 1/5: singular (x)"),
+    FlagKind.FOLD_NOT_CONVERGED: ({"fold": 3, "folds": 5, "detail": "max steps"},
+                                  "fold 3/5: did not converge: max steps"),
+    FlagKind.FOLD_HELDOUT_ERROR: ({"fold": 4, "folds": 5, "detail": "nan"},
+                                  "fold 4/5: model error on held-out points: nan"),
     FlagKind.DETERMINATION_HELDOUT: (
         {"worst": 0.0234, "quantity": "osmotic", "tolerance": 0.01},
         "determination: held out, points are predicted to within 0.023 in phi, beyond the tolerance 0.01: the "

@@ -19,6 +19,7 @@ import numpy as np
 from saltbench.chemistry.electrolyte import Electrolyte
 from saltbench.errors import ModelDomainError, ModelError, UserError
 from saltbench.fitting.data import FitData
+from saltbench.fitting.flags import Flag, FlagKind, flag, texts
 from saltbench.fitting.least_squares import solve
 from saltbench.fitting.problem import FitProblem, build_problem
 from saltbench.models.contract import SolutionModel
@@ -52,7 +53,7 @@ class CrossValidation:
     observed: np.ndarray = field(repr=False)
     prediction: np.ndarray = field(repr=False)  # held-out predictions; NaN where a fold failed
     fold: np.ndarray = field(repr=False)
-    flags: list[str] = field(default_factory=list)
+    flags: list[Flag] = field(default_factory=list)
     theta: np.ndarray | None = field(default=None, repr=False)  # last fold's parameters
     folds_run: int | None = None  # fewer than ``folds`` when stopped early (see stop_outside)
 
@@ -104,7 +105,7 @@ class CrossValidation:
                         "predicted": num(p), "fold": int(f)}
                        for m, k, o, p, f in zip(self.molality, self.kind, self.observed,
                                                 self.prediction, self.fold)],
-            "flags": list(self.flags),
+            "flags": texts(self.flags),
             **({"folds_run": self.folds_run}
                if self.folds_run is not None and self.folds_run < self.folds else {}),
         }
@@ -133,7 +134,7 @@ def cross_validate_problem(problem: FitProblem, folds: int | str = 5,
         if full.prediction is not None:
             seeded = problem.with_start(full.theta)
     pred = np.full(n, np.nan)
-    flags: list[str] = []
+    flags: list[Flag] = []
     theta = None
     folds_run = 0
     for f in range(int(folds)):
@@ -141,21 +142,22 @@ def cross_validate_problem(problem: FitProblem, folds: int | str = 5,
         held = labels == f
         train = seeded.subset(~held)
         sol = solve(train)
-        label = f"fold {f + 1}/{folds}"
+        which = {"fold": f + 1, "folds": folds}
         if train.n <= train.k:
-            flags.append(f"{label}: too few points ({train.n} for {train.k} free parameters)")
+            flags.append(flag(FlagKind.FOLD_TOO_FEW, **which, n_points=train.n, n_params=train.k))
         if sol.prediction is None:
-            flags.append(f"{label}: {sol.flags[-1] if sol.flags else sol.message}")
+            flags.append(flag(FlagKind.FOLD_UNSOLVED, **which,
+                              reason=str(sol.flags[-1]) if sol.flags else sol.message))
             if stop_outside is not None:
                 break
             continue
         if not sol.converged:
-            flags.append(f"{label}: did not converge: {sol.message}")
+            flags.append(flag(FlagKind.FOLD_NOT_CONVERGED, **which, detail=sol.message))
         theta = sol.theta
         try:
             pred[held] = seeded.subset(held).predict(sol.theta)
         except (ModelError, ModelDomainError) as exc:
-            flags.append(f"{label}: model error on held-out points: {exc}")
+            flags.append(flag(FlagKind.FOLD_HELDOUT_ERROR, **which, detail=str(exc)))
         if stop_outside is not None:
             r = np.abs(problem.obs[held] - pred[held])
             tol = np.full(r.shape, np.nan)

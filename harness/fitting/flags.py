@@ -31,6 +31,11 @@ class FlagKind(StrEnum):
     TRIAL_FAILED = "trial-failed"  # limit (mol/kg), detail: why the fit at that limit failed
     DATA_END = "data-end"  # top: highest data molality
     SPARSE = "sparse"  # low, high: a stretch the data are too sparse to judge
+    # One fold of a cross-validation (fold, folds: its number and how many).
+    FOLD_TOO_FEW = "fold-too-few"  # n_points, n_params of the training points
+    FOLD_UNSOLVED = "fold-unsolved"  # reason: the solver's last flag or message
+    FOLD_NOT_CONVERGED = "fold-not-converged"  # detail: the solver's message
+    FOLD_HELDOUT_ERROR = "fold-heldout-error"  # detail: the model's failure on held-out points
     # Notes of the comparison: they describe, they do not unrank.
     DETERMINATION_HELDOUT = "determination-heldout"  # worst, quantity ("ln_gamma"/"osmotic"), tolerance
     DETERMINATION_STDERR = "determination-stderr"  # name, value, stderr
@@ -96,6 +101,10 @@ _WORDING: dict[FlagKind, str] = {
     FlagKind.TOO_FEW_TO_JUDGE: ("too few points to judge a refitted model ({n_points} points for "
                                 "{n_params} free parameters)"),
     FlagKind.TRIAL_FAILED: "at trial limit {limit:g} mol/kg: {detail}",
+    FlagKind.FOLD_TOO_FEW: "fold {fold}/{folds}: too few points ({n_points} for {n_params} free parameters)",
+    FlagKind.FOLD_UNSOLVED: "fold {fold}/{folds}: {reason}",
+    FlagKind.FOLD_NOT_CONVERGED: "fold {fold}/{folds}: did not converge: {detail}",
+    FlagKind.FOLD_HELDOUT_ERROR: "fold {fold}/{folds}: model error on held-out points: {detail}",
     FlagKind.DATA_END: "data end before model fails (highest data molality {top:g} mol/kg)",
     FlagKind.SPARSE: "data too sparse to judge between {low:g} and {high:g} mol/kg",
     FlagKind.DETERMINATION_HELDOUT: (

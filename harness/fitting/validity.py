@@ -217,9 +217,9 @@ def _refit_scan(problem: FitProblem, tol: Tolerance, folds: int, scheme: str,
         trials.append({"limit": L, "passed": cache[i], "folds": min(folds, n),
                        "folds_run": int(cv.folds_run or cv.folds),
                        **_worst_by_kind(cv.residual, cv.kind, ran, tol),
-                       "flags": list(cv.flags)})
+                       "flags": texts(cv.flags)})
         if not cache[i] and cv.flags:
-            flags.append(flag(FlagKind.TRIAL_FAILED, limit=L, detail=cv.flags[0]))
+            flags.append(flag(FlagKind.TRIAL_FAILED, limit=L, detail=str(cv.flags[0])))
         return cache[i]
 
     # Search from the top: the range is the highest trial limit at which the refitted model
