@@ -17,8 +17,9 @@ f being the Debye-Hückel term. Integrating from 0 (derived here; not in the 194
     int_0^m ... = -A |z+ z-| sqrt(I) m int_0^1 u^2 / ((1 + x u)^2 (1 - r m u^2)) du,
 
 x = B a sqrt(I), which is evaluated by 64-point Gauss-Legendre quadrature (smooth in u for
-r m < 1). No iteration is needed. The equation has no meaning once r m >= 1 (all the water bound
-as hydration) or p m <= -1; there the model raises a domain error.
+r m < 1), and adaptively where r m > 0.9 (its peak at u = 1 grows as 1/(1 - r m)). No
+iteration is needed. The equation has no meaning once r m >= 1 (all the water bound as
+hydration) or p m <= -1; there the model raises a domain error.
 """
 
 from __future__ import annotations
@@ -32,6 +33,19 @@ from saltbench.models import dh_terms as dh
 from saltbench.water import MOLAR_MASS_WATER
 
 _U, _W = unit_nodes()  # Gauss-Legendre on [0, 1]
+#: Above this r m the integrand's peak near u = 1 (height 1/(1 - r m)) is too narrow for the 64
+#: fixed nodes (at r m = 0.9987 they are off by 2e-5 in phi); there an adaptive quadrature
+#: (scipy.integrate.quad) takes over, row by row.
+_NEAR_BOUND = 0.9
+
+
+def _adaptive(x: float, c: float) -> float:
+    """int_0^1 u^2 / ((1 + x u)^2 (1 - c u^2)) du by adaptive quadrature, for c near 1."""
+    from scipy.integrate import quad
+
+    value, _ = quad(lambda u: u * u / ((1.0 + x * u) ** 2 * (1.0 - c * u * u)), 0.0, 1.0,
+                    epsabs=1e-14, epsrel=1e-13, limit=200)
+    return value
 
 
 class StokesRobinson(ActivityModel):
@@ -63,7 +77,11 @@ class StokesRobinson(ActivityModel):
         x = ctx.dh.b_gamma_per_angstrom * params["a"] * s
         u = _U[None, :]
         integrand = u**2 / ((1.0 + x[:, None] * u) ** 2 * (1.0 - r * m[:, None] * u**2))
-        q = -ctx.dh.a_gamma * e.zz * s * (integrand @ _W)  # = (1/m) int_0^m m' f' /(1 - r m')
+        integral = integrand @ _W
+        near = r * m > _NEAR_BOUND
+        if near.any():
+            integral[near] = [_adaptive(float(xk), float(ck)) for xk, ck in zip(x[near], r * m[near])]
+        q = -ctx.dh.a_gamma * e.zz * s * integral  # = (1/m) int_0^m m' f' /(1 - r m')
         mixing = (np.log1p(p * m) - np.log1p(-r * m)) / (mw * e.nu * m)
         return mixing + q, s, x
 

@@ -9,6 +9,7 @@ copy of it). ``run_cli`` goes through click's CliRunner; ``run_main`` goes throu
 
 from __future__ import annotations
 
+import os
 import shutil
 import sqlite3
 from collections.abc import Callable, Iterator
@@ -16,11 +17,18 @@ from pathlib import Path
 
 import pytest
 from click.testing import CliRunner
+from hypothesis import settings
 
 from saltbench.store import open_store
 from saltbench.store.connection import Store
 
 REFDATA = Path(__file__).resolve().parent.parent / "refdata"
+
+# Property tests draw the same examples on every run, so that CI is reproducible; set
+# SALTBENCH_HYPOTHESIS=explore to draw new ones (and fix what they find).
+settings.register_profile("reproducible", derandomize=True)
+settings.register_profile("explore", derandomize=False)
+settings.load_profile(os.environ.get("SALTBENCH_HYPOTHESIS", "reproducible"))
 
 CliResult = tuple[int, str, str]
 

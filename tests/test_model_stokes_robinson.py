@@ -47,3 +47,21 @@ def test_refuses_more_hydration_than_water():
 def test_not_supported_for_2_2():
     with pytest.raises(ModelDomainError):
         evaluate(StokesRobinson(), parse_formula("MgSO4"), [0.1])
+
+
+def test_osmotic_coefficient_holds_near_the_hydration_limit():
+    # At r m = h m M_w = 0.9987 the integrand of the closed form peaks as 1/(1 - r m) near u = 1;
+    # the adaptive quadrature there keeps phi consistent with ln gamma± by Gibbs-Duhem (the
+    # reference integral with 1024 nodes, converged to 1e-13 at this point; common practice, no
+    # source) where the fixed 64 nodes were off by 2e-5.
+    from saltbench.chemistry.electrolyte import parse_formula
+    from saltbench.models.evaluate import evaluate, make_context, osmotic_by_gibbs_duhem
+    from saltbench.water.debye_huckel import debye_huckel_constants
+
+    e = parse_formula("KBr")
+    m = np.array([3.6, 3.9, 3.99542056])
+    params = {"h": 13.875, "a": 0.0}
+    ctx = make_context(e, dh=debye_huckel_constants(273.15))
+    ev = evaluate(StokesRobinson(), e, m, params, ctx=ctx)
+    gd = osmotic_by_gibbs_duhem(StokesRobinson(), m, params, ctx, nodes=1024)
+    np.testing.assert_allclose(ev.osmotic, gd, rtol=0, atol=1e-10)
