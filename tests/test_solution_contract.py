@@ -205,26 +205,30 @@ def test_reference_expansion_is_the_constant_at_the_reference_temperature():
 
 
 def test_a_temperature_form_reaches_a_model_as_values_per_solution():
-    # Davies b(T) from a reference expansion, evaluated per row; the chain rule
-    # d ln gamma / d c_j = (d ln gamma / d b) f_j(T) agrees with finite differences in c_j
-    comp = Composition.of_salt(NACL, [0.2, 0.2], temperature_k=[298.15, 298.15])
-    t = np.array([288.15, 318.15])
-    coeffs = np.array([0.3, 1e-3, 0.0, 0.0])
-    b = REFERENCE_EXPANSION.value(coeffs, t)  # (2,)
-    key = ParameterKey("b")
-    q = ln_gamma_pm("NaCl")
-    conditions = Conditions.single(debye_huckel_constants(298.15), 2)
-    out = Davies().compute(Request(comp, (q,), {key: b[None, :]}, conditions, (key,)))
-    d_b = out.derivatives[q][key][0]
+    # Davies b(T) from a reference expansion, resolved per row; the chain rule
+    # d ln gamma / d c_j = (d ln gamma / d b) f_j(T) agrees with central differences in c_j
+    from saltbench.models.temperature import chain, resolve
+
+    comp = Composition.of_salt(NACL, [0.2, 0.2], temperature_k=[288.15, 318.15])
+    conditions = Conditions.of(comp)
+    key, q = ParameterKey("b"), ln_gamma_pm("NaCl")
+    forms = {key: REFERENCE_EXPANSION}
+    coeffs = np.array([[0.3, 1e-3, 5.0, 0.02]])
+    values = resolve(forms, {key: coeffs}, comp.temperature_k)
+    assert values[key].shape == (1, 2)
+    assert values[key][0] == pytest.approx(REFERENCE_EXPANSION.value(coeffs[0], comp.temperature_k))
+    out = Davies().compute(Request(comp, (q,), values, conditions, (key,)))
+    by_coefficient = chain(forms, out.derivatives[q], comp.temperature_k)
     h = 1e-6
-    for j in range(4):
-        step = np.zeros(4)
-        step[j] = h
-        up = REFERENCE_EXPANSION.value(coeffs + step, t)[None, :]
-        dn = REFERENCE_EXPANSION.value(coeffs - step, t)[None, :]
-        vu = Davies().compute(Request(comp, (q,), {key: up}, conditions)).values[q][0]
-        vd = Davies().compute(Request(comp, (q,), {key: dn}, conditions)).values[q][0]
-        np.testing.assert_allclose(d_b * REFERENCE_EXPANSION.basis(t)[:, j], (vu - vd) / (2 * h),
+    for j, name in enumerate(REFERENCE_EXPANSION.coefficients):
+        step = np.zeros_like(coeffs)
+        step[0, j] = h
+        up = Davies().compute(Request(comp, (q,), resolve(forms, {key: coeffs + step},
+                                                          comp.temperature_k), conditions))
+        dn = Davies().compute(Request(comp, (q,), resolve(forms, {key: coeffs - step},
+                                                          comp.temperature_k), conditions))
+        np.testing.assert_allclose(by_coefficient[(key, name)][0],
+                                   (up.values[q][0] - dn.values[q][0]) / (2 * h),
                                    rtol=1e-6, atol=1e-12)
 
 

@@ -18,12 +18,14 @@ Forms here:
 
 from __future__ import annotations
 
-from collections.abc import Callable, Mapping, Sequence
+from collections.abc import Callable, Hashable, Mapping, Sequence
 from dataclasses import dataclass
+from typing import TypeVar
 
 import numpy as np
 
 REFERENCE_K = 298.15
+K = TypeVar("K", bound=Hashable)  # a parameter key
 
 
 @dataclass(frozen=True)
@@ -67,6 +69,29 @@ REFERENCE_EXPANSION = TemperatureForm(
     description="p = c0 + c1 (T - Tr) + c2 (1/T - 1/Tr) + c3 ln(T/Tr), Tr = 298.15 K")
 
 FORMS = {f.id: f for f in (CONSTANT, REFERENCE_EXPANSION)}
+
+
+def resolve(forms: Mapping[K, TemperatureForm], coefficients: Mapping[K, np.ndarray],
+            temperature_k: np.ndarray) -> dict[K, np.ndarray]:
+    """Each parameter's values at each row's temperature, as a request takes them: (S, N) from
+    its form and its coefficients (S, J) for S parameter sets."""
+    t = np.atleast_1d(np.asarray(temperature_k, dtype=float))
+    return {key: np.atleast_2d(forms[key].value(np.atleast_2d(c), t))
+            for key, c in coefficients.items()}
+
+
+def chain(forms: Mapping[K, TemperatureForm], derivatives: Mapping[K, np.ndarray],
+          temperature_k: np.ndarray) -> dict[tuple[K, str], np.ndarray]:
+    """Derivatives with respect to each coefficient, d q / d c_j = (d q / d p) f_j(T), keyed
+    (parameter key, coefficient name), from a model's d q / d p (S, N)."""
+    t = np.atleast_1d(np.asarray(temperature_k, dtype=float))
+    out = {}
+    for key, d in derivatives.items():
+        f = forms[key]
+        basis = f.basis(t)  # (N, J)
+        for j, name in enumerate(f.coefficients):
+            out[(key, name)] = np.asarray(d) * basis[:, j]
+    return out
 
 
 def form(name: str) -> TemperatureForm:
