@@ -22,7 +22,7 @@ import numpy as np
 
 from saltbench.models import ActivityModel, Parameter, Validity, hookimpl
 from saltbench.models import dh_terms as dh
-from saltbench.plugins._ionic import IonicStrengthModel, size_g
+from saltbench.plugins._ionic import CONVENTION, IonicStrengthModel, size_g
 
 _A_SIZE: dict = dict(unit="Å", lower=0.0, upper=20.0)
 
@@ -48,6 +48,7 @@ class DebyeHuckelLimiting(IonicStrengthModel):
 
 class ExtendedDebyeHuckel(ActivityModel):
     id = "extended-debye-huckel"
+    single_ion_convention = CONVENTION
     name = "Extended Debye-Hückel (one ion size)"
     citation = "P. Debye and E. Hückel, Phys. Z. 24, 185-206 (1923)"
     parameters: tuple[Parameter, ...] = (
@@ -84,6 +85,7 @@ class ExtendedDebyeHuckel(ActivityModel):
 
 class ExtendedDebyeHuckelIons(ActivityModel):
     id = "extended-debye-huckel-ions"
+    single_ion_convention = CONVENTION
     name = "Extended Debye-Hückel (one size per ion)"
     citation = ("P. Debye and E. Hückel, Phys. Z. 24, 185-206 (1923); per-ion sizes as tabulated "
                 "by J. Kielland, J. Am. Chem. Soc. 59, 1675-1678 (1937)")

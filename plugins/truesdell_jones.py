@@ -21,6 +21,7 @@ import numpy as np
 
 from saltbench.models import ActivityModel, Parameter, Validity, hookimpl
 from saltbench.models import dh_terms as dh
+from saltbench.plugins._ionic import CONVENTION
 
 LN10 = math.log(10.0)
 _A_SIZE: dict = dict(unit="Å", lower=0.0, upper=20.0)
@@ -29,6 +30,7 @@ _B_LIN: dict = dict(unit="kg/mol", lower=-1.0, upper=1.0, linear=True)
 
 class TruesdellJones(ActivityModel):
     id = "truesdell-jones"
+    single_ion_convention = CONVENTION
     name = "Truesdell-Jones"
     citation = "A. H. Truesdell and B. F. Jones, J. Res. U.S. Geol. Surv. 2, 233-248 (1974)"
     parameters = (
@@ -91,6 +93,7 @@ class TruesdellJones(ActivityModel):
 
 class BDot(ActivityModel):
     id = "b-dot"
+    single_ion_convention = CONVENTION
     name = "b-dot (Helgeson)"
     citation = "H. C. Helgeson, Am. J. Sci. 267, 729-804 (1969)"
     parameters = (

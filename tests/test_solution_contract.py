@@ -306,3 +306,20 @@ class _OffOsmotic(IonicStrengthModel):
 def test_the_kit_finds_an_osmotic_coefficient_that_breaks_gibbs_duhem_in_a_mixture():
     problems = check_model(_OffOsmotic())
     assert any("Gibbs-Duhem along dilution" in p for p in problems)
+
+
+def test_single_ion_values_come_with_their_convention():
+    # Single-ion activity coefficients rest on a non-thermodynamic convention (Guggenheim,
+    # J. Phys. Chem. 33, 842 (1929)): a model that gives them must say which
+    from saltbench.models.contract import check_declaration
+    from saltbench.models.discovery import build_registry
+
+    class Unstated(_OffOsmotic):
+        id = "unstated"
+        single_ion_convention = ""
+
+    assert "states no single_ion_convention" in " ".join(check_declaration(Unstated()))
+    registry = build_registry([], ())
+    givers = [i.model for i in registry.models.values() if "ln_gamma" in i.model.computes]
+    assert {m.id for m in givers} >= {"davies", "sit", "truesdell-jones", "extended-debye-huckel"}
+    assert all(m.single_ion_convention for m in givers)

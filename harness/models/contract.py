@@ -516,6 +516,9 @@ def check_declaration(model: SolutionModel) -> list[str]:
             problems.append("ln_gamma_pm is not implemented")
     elif type(model).compute is SolutionModel.compute:
         problems.append("compute is not implemented")
+    if ("ln_gamma" in model.computes and not model.single_ion_convention
+            and not isinstance(model, ActivityModel)):
+        problems.append("gives single-ion values but states no single_ion_convention")
     unknown = sorted(set(model.computes) - {k.name for k in kinds()})
     if unknown:
         problems.append(f"computes unknown quantity kinds: {', '.join(unknown)}")
