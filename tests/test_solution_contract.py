@@ -323,3 +323,51 @@ def test_single_ion_values_come_with_their_convention():
     givers = [i.model for i in registry.models.values() if "ln_gamma" in i.model.computes]
     assert {m.id for m in givers} >= {"davies", "sit", "truesdell-jones", "extended-debye-huckel"}
     assert all(m.single_ion_convention for m in givers)
+
+
+# -- the harness's checked compute ----------------------------------------------------------------
+def test_checked_compute_derives_phi_and_water_activity_for_one_salt():
+    # a one-salt model without an analytic phi (the old template's form minus its osmotic):
+    # phi by the Gibbs-Duhem integral, a_w = exp(-M_w phi sum m_i) (IUPAC Green Book, 2.13);
+    # for Davies both agree with its closed form to the quadrature's 1e-12
+    from saltbench.models.evaluate import compute
+
+    comp = Composition.of_salt(NACL, [0.05, 0.5], temperature_k=[298.15, 318.15])
+    conditions = Conditions.of(comp)
+    davies = Davies()
+
+    class MeanOnly(ActivityModel):
+        id, name, citation = "mean-only", "Davies mean only", "Davies (1962), as a test"
+        parameters = davies.parameters
+
+        def ln_gamma_pm(self, m, params, ctx):
+            return salt_view(davies).ln_gamma_pm(m, params, ctx)
+
+    params = {ParameterKey("b"): np.array([[0.3], [0.2]])}
+    wanted = (OSMOTIC, WATER_ACTIVITY)
+    derived = compute(MeanOnly(), Request(comp, wanted, params, conditions))
+    closed = compute(davies, Request(comp, wanted, params, conditions))
+    assert "osmotic" not in MeanOnly().computes
+    np.testing.assert_allclose(derived.values[OSMOTIC], closed.values[OSMOTIC], rtol=0, atol=1e-11)
+    total = comp.molality.sum(axis=1)
+    np.testing.assert_allclose(derived.values[WATER_ACTIVITY],
+                               np.exp(-MOLAR_MASS_WATER * total * derived.values[OSMOTIC]), rtol=1e-14)
+
+
+def test_checked_compute_turns_bad_plugin_output_into_one_error():
+    from saltbench.errors import ModelDomainError, ModelError
+    from saltbench.models.evaluate import compute
+
+    class Broken(_OffOsmotic):
+        id = "broken"
+
+        def compute(self, request):
+            out = super().compute(request)
+            out.values = {q: v[:, :1] for q, v in out.values.items()}
+            return out
+
+    comp = Composition.of_salts([(NACL, [0.1, 0.2]), (MGSO4, 0.1)])
+    with pytest.raises(ModelError, match="broken.*shape"):
+        compute(Broken(), _request(Broken(), comp, {}, [OSMOTIC]))
+    with pytest.raises(ModelDomainError, match="does not take"):
+        compute(_old_plugin().LabHydrationModel(), _request(Davies(), comp, {}, [OSMOTIC]))

@@ -227,8 +227,9 @@ class Request:
     ``params`` gives a value for every parameter key the model uses here (see
     :meth:`SolutionModel.keys_for`), for S sets at once (a fit's folds and trials); ``wrt``
     names the keys whose derivatives are wanted (empty: none). ``quantities`` are the
-    quantities wanted; a model returns those it computes and leaves out the rest (the harness
-    derives phi from ln gamma± by Gibbs-Duhem for one salt, and a_w from phi).
+    quantities wanted; a model returns those it computes and leaves out the rest
+    (:func:`saltbench.models.evaluate.compute` derives phi from ln gamma± by Gibbs-Duhem for one
+    salt, and a_w from phi).
     """
 
     composition: Composition
@@ -242,7 +243,7 @@ class Request:
         return int(next(iter(self.params.values())).shape[0]) if self.params else 1
 
     def value(self, key: ParameterKey) -> np.ndarray:
-        """The values of ``key``, (S, 1) or (S, N); a KeyError names the missing key."""
+        """The values of ``key``, (S, 1) or (S, N); a ModelDomainError names a missing key."""
         try:
             return self.params[key]
         except KeyError:

@@ -7,7 +7,7 @@ inside the 1e-8 the contract asks for.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
@@ -15,17 +15,19 @@ from saltbench.chemistry.electrolyte import Electrolyte
 from saltbench.chemistry.gibbs_duhem import GAUSS_NODES, dilution_grid, osmotic_from_ln_gamma
 from saltbench.errors import ModelDomainError, ModelError
 from saltbench.models.contract import (
-    ActivityModel,
+    Computed,
     EvalContext,
     Params,
+    Request,
     SolutionModel,
     call_model,
 )
+from saltbench.models.quantities import OSMOTIC, WATER_ACTIVITY, ln_gamma_pm
 from saltbench.models.salt_view import salt_view
 from saltbench.water.debye_huckel import DebyeHuckel, debye_huckel_constants
 from saltbench.water.properties import MOLAR_MASS_WATER
 
-__all__ = ["GAUSS_NODES", "Evaluation", "call_model", "check_supported", "evaluate",
+__all__ = ["GAUSS_NODES", "Evaluation", "call_model", "check_supported", "compute", "evaluate",
            "make_context", "osmotic_by_gibbs_duhem", "water_activity"]
 
 
@@ -44,7 +46,7 @@ class Evaluation:
         return np.exp(self.ln_gamma_pm)
 
 
-def _checked(model: ActivityModel, what: str, value: object, shape: tuple[int, ...]) -> np.ndarray:
+def _checked(model: SolutionModel, what: str, value: object, shape: tuple[int, ...]) -> np.ndarray:
     arr = np.asarray(value, dtype=float)
     if arr.shape != shape:
         raise ModelError(f"model {model.id}: {what} has shape {arr.shape}, expected {shape}")
@@ -114,3 +116,56 @@ def evaluate(model: SolutionModel, electrolyte: Electrolyte, molality: np.ndarra
             ion_values = {k: _checked(model, f"ln_gamma_ions[{k}]", v, m.shape)
                           for k, v in dict(raw).items()}
     return Evaluation(m, ln_g, phi, source, ion_values, water_activity(electrolyte, m, phi))
+
+
+def compute(model: SolutionModel, request: Request) -> Computed:
+    """``model.compute(request)`` checked, with what the harness derives for every model.
+
+    Plugin exceptions become :class:`ModelError`; every value must be finite and (S, N).
+    Asked-for quantities the model does not give are derived where thermodynamics allows: the
+    osmotic coefficient of a solution of one salt by the Gibbs-Duhem integral of its ln gamma±
+    (:mod:`saltbench.chemistry.gibbs_duhem`), and the water activity from phi,
+    ln a_w = -M_w phi sum_i m_i (IUPAC Green Book, 3rd ed., 2007, 2.13). Anything else missing
+    is a :class:`ModelDomainError` naming it.
+    """
+    comp = request.composition
+    if not model.supports_composition(comp):
+        raise ModelDomainError(f"model {model.id} does not take a solution of "
+                               f"{', '.join(comp.names)}")
+    wanted = set(request.quantities)
+    own = tuple(q for q in request.quantities if q.kind in model.computes)
+    salt = comp.single_salt
+    need_phi = (OSMOTIC in wanted or WATER_ACTIVITY in wanted) and "osmotic" not in model.computes
+    if need_phi and salt is not None:
+        own += (ln_gamma_pm(salt.name),)
+    elif need_phi and "water_activity" not in model.computes:
+        raise ModelDomainError(f"model {model.id} gives no osmotic coefficient for mixtures")
+    if (WATER_ACTIVITY in wanted and WATER_ACTIVITY not in own and "osmotic" in model.computes):
+        own += (OSMOTIC,)
+    out = call_model(model, "compute", replace(request, quantities=tuple(dict.fromkeys(own))))
+    shape = (request.n_sets, comp.n)
+    values = {q: _checked(model, str(q), v, shape) for q, v in dict(out.values).items()}
+    derivs = {q: {k: _checked(model, f"d {q}/d {k}", v, shape) for k, v in dict(d).items()}
+              for q, d in dict(out.derivatives).items()}
+    if need_phi and salt is not None and OSMOTIC not in values:
+        m = comp.salt_molality(salt)
+        phi = np.empty(shape)
+        for g, dh in enumerate(request.conditions.dh):
+            rows = request.conditions.group == g
+            ctx = make_context(salt, dh=dh)
+            for s in range(request.n_sets):
+                phi[s, rows] = osmotic_by_gibbs_duhem(model, m[rows], _one_set(model, request, s, salt), ctx)
+        values[OSMOTIC] = phi
+    if WATER_ACTIVITY in wanted and WATER_ACTIVITY not in values:
+        total = comp.molality.sum(axis=1)
+        values[WATER_ACTIVITY] = np.exp(-MOLAR_MASS_WATER * total * values[OSMOTIC])
+    missing = [str(q) for q in request.quantities if q not in values]
+    if missing:
+        raise ModelDomainError(f"model {model.id} does not give {', '.join(missing)}")
+    return Computed({q: values[q] for q in request.quantities}, derivs)
+
+
+def _one_set(model: SolutionModel, request: Request, s: int, salt: Electrolyte) -> dict[str, float]:
+    """Parameter set ``s`` of ``request`` by the model's one-salt names."""
+    return {name: float(np.asarray(request.value(key))[s].reshape(-1)[0])
+            for name, key in model.salt_keys(salt).items()}
