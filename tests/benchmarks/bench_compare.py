@@ -97,6 +97,7 @@ def bench_models(quick: bool) -> dict[str, Any]:
     from saltbench.chemistry.electrolyte import parse_formula
     from saltbench.models.discovery import build_registry
     from saltbench.models.evaluate import evaluate, make_context
+    from saltbench.models.salt_view import salt_view
 
     points = 20_000 if quick else 100_000
     repeat = 3 if quick else 7
@@ -107,7 +108,7 @@ def bench_models(quick: bool) -> dict[str, Any]:
     exp_rate = best_rate(lambda: np.exp(m), points, repeat)
     rows = []
     for mid, info in sorted(reg.models.items()):
-        model = info.model
+        model = salt_view(info.model)  # one-salt calls, through compute for solution models
         if not model.supports(e):
             continue
         p = model.defaults(e)

@@ -16,6 +16,7 @@ import numpy as np
 from saltbench.chemistry.electrolyte import parse_formula
 from saltbench.models.discovery import build_registry
 from saltbench.models.evaluate import make_context, osmotic_by_gibbs_duhem
+from saltbench.models.salt_view import salt_view
 
 from timing import best_rate
 
@@ -33,7 +34,7 @@ def main() -> None:
     exp_rate = best_rate(lambda: np.exp(m), m.size, args.repeat)
     rows = []
     for mid, info in sorted(reg.models.items()):
-        model = info.model
+        model = salt_view(info.model)  # one-salt calls, through compute for solution models
         if not model.supports(e):
             continue
         p = model.defaults()
