@@ -152,3 +152,24 @@ def test_a_phi_increases_with_temperature_and_with_a_phi_rescales_b():
     assert pm.a_phi == 0.392 and pm.origin == "Pitzer and Mayorga (1973)"
     # A_phi ~ l_B^3/2 and B ~ l_B^1/2 at fixed density, so B scales as A_phi^1/3.
     assert pm.b_gamma / dh.b_gamma == pytest.approx((0.392 / dh.a_phi) ** (1 / 3), rel=1e-12)
+
+
+def test_the_written_out_25c_state_is_what_iapws_gives():
+    # The 25 °C, 101325 Pa state is kept in the code so that a comparison at 25 °C needs no
+    # import of the IAPWS library; it must be exactly what the library computes (IAPWS-95 and
+    # IAPWS R8-97 through iapws)
+    from saltbench.water import properties
+
+    for (t, p), (rho, eps) in properties.KNOWN_STATES.items():
+        fresh = properties._fresh_state(t, p)
+        assert (fresh.density, fresh.permittivity, fresh.pressure_pa) == (rho, eps, properties.P_STANDARD)
+
+
+def test_a_25c_comparison_does_not_import_the_iapws_library():
+    import subprocess
+    import sys
+
+    code = ("import sys; from saltbench.water.debye_huckel import debye_huckel_constants; "
+            "debye_huckel_constants(298.15); print('iapws' in sys.modules)")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    assert out.stdout.strip() == "False"

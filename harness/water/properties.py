@@ -42,8 +42,22 @@ def check_temperature(temperature_k: float) -> None:
         )
 
 
+#: Liquid water at 25 °C and 101325 Pa, as IAPWS-95 and IAPWS R8-97 give it through ``iapws``
+#: (density kg/m^3, relative permittivity), written out so that a comparison at 25 °C need not
+#: import the library (0.3 s of every start); tests/test_water.py holds it to a fresh computation.
+KNOWN_STATES: dict[tuple[float, float | None], tuple[float, float]] = {
+    (298.15, None): (997.0476367603434, 78.4084823561759)}
+
+
 @lru_cache(maxsize=512)
 def _state(temperature_k: float, pressure_pa: float | None) -> WaterState:
+    known = KNOWN_STATES.get((temperature_k, pressure_pa))
+    if known is not None:
+        return WaterState(temperature_k, P_STANDARD, known[0], known[1])
+    return _fresh_state(temperature_k, pressure_pa)
+
+
+def _fresh_state(temperature_k: float, pressure_pa: float | None) -> WaterState:
     from iapws import IAPWS95  # heavy import kept out of module import time
     from iapws.iapws97 import _PSat_T
 
