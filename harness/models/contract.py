@@ -242,6 +242,13 @@ class Request:
     def n_sets(self) -> int:
         return int(next(iter(self.params.values())).shape[0]) if self.params else 1
 
+    def named_values(self, names: Mapping[str, ParameterKey], s: int, row: int) -> dict[str, float]:
+        """Parameter set ``s`` at one row, by the names in ``names`` (a one-salt model's own
+        parameter names, each with its key: see :meth:`SolutionModel.salt_keys`)."""
+        n = self.composition.n
+        return {name: float(np.broadcast_to(self.value(key)[s], (n,))[row])
+                for name, key in names.items()}
+
     def value(self, key: ParameterKey) -> np.ndarray:
         """The values of ``key``, (S, 1) or (S, N); a ModelDomainError names a missing key."""
         try:
@@ -446,6 +453,7 @@ class ActivityModel(SolutionModel):
             arr = target.setdefault(q, np.empty((s_count, comp.n)))
             arr[s, rows] = np.asarray(v, dtype=float)
 
+        analytic_phi = "osmotic" in self.computes
         groups = [np.flatnonzero(request.conditions.group == g)
                   for g in range(len(request.conditions.dh))]
         for g, rows in enumerate(groups):
@@ -454,11 +462,10 @@ class ActivityModel(SolutionModel):
             m = m_all[rows]
             ctx = EvalContext(salt, request.conditions.dh[g], wrt_names if request.wrt else None)
             for s in range(s_count):
-                p = {name: float(np.broadcast_to(request.value(k)[s], (comp.n,))[rows[0]])
-                     for name, k in keys.items()}
+                p = request.named_values(keys, s, rows[0])
                 phi = d_ln = d_phi = None
                 combined = None
-                if request.wrt and OSMOTIC in wanted and "osmotic" in self.computes:
+                if request.wrt and OSMOTIC in wanted and analytic_phi:
                     combined = self.values_and_jacobian(m, p, ctx)
                 if combined is not None:
                     ln_g, phi, d_ln, d_phi = combined
@@ -479,10 +486,10 @@ class ActivityModel(SolutionModel):
                         put(values, ions_q[0], s, rows, ions["cation"])
                         put(values, ions_q[1], s, rows, ions["anion"])
                 for q, d in ((mean_q, d_ln), (OSMOTIC, d_phi)):
-                    if d is None or (q is OSMOTIC and phi is None):
+                    if d is None or (q == OSMOTIC and phi is None):
                         continue
                     for name, col in dict(d).items():
-                        if name in keys and (not wrt_names or name in wrt_names):
+                        if name in wrt_names:
                             put(derivs.setdefault(q, {}), keys[name], s, rows, col)
         return Computed(values, derivs)
 

@@ -150,11 +150,15 @@ def compute(model: SolutionModel, request: Request) -> Computed:
     if need_phi and salt is not None and OSMOTIC not in values:
         m = comp.salt_molality(salt)
         phi = np.empty(shape)
+        names = model.salt_keys(salt)
         for g, dh in enumerate(request.conditions.dh):
-            rows = request.conditions.group == g
+            rows = np.flatnonzero(request.conditions.group == g)
+            if not rows.size:
+                continue
             ctx = make_context(salt, dh=dh)
             for s in range(request.n_sets):
-                phi[s, rows] = osmotic_by_gibbs_duhem(model, m[rows], _one_set(model, request, s, salt), ctx)
+                phi[s, rows] = osmotic_by_gibbs_duhem(model, m[rows],
+                                                      request.named_values(names, s, rows[0]), ctx)
         values[OSMOTIC] = phi
     if WATER_ACTIVITY in wanted and WATER_ACTIVITY not in values:
         total = comp.molality.sum(axis=1)
@@ -164,8 +168,3 @@ def compute(model: SolutionModel, request: Request) -> Computed:
         raise ModelDomainError(f"model {model.id} does not give {', '.join(missing)}")
     return Computed({q: values[q] for q in request.quantities}, derivs)
 
-
-def _one_set(model: SolutionModel, request: Request, s: int, salt: Electrolyte) -> dict[str, float]:
-    """Parameter set ``s`` of ``request`` by the model's one-salt names."""
-    return {name: float(np.asarray(request.value(key))[s].reshape(-1)[0])
-            for name, key in model.salt_keys(salt).items()}
