@@ -28,7 +28,7 @@ import numpy as np
 from saltbench.models import dh_terms as dh
 from saltbench.models.contract import Computed, ParameterKey, Request, SolutionModel
 from saltbench.models.quantities import OSMOTIC, WATER_ACTIVITY, Quantity
-from saltbench.water.properties import MOLAR_MASS_WATER
+from saltbench.water.properties import MOLAR_MASS_WATER, water_activity
 
 #: The convention the single-ion values of these models rest on: each ion's value is the
 #: model's own ionic-strength form (Guggenheim, J. Phys. Chem. 33, 842 (1929)).
@@ -108,7 +108,7 @@ class IonicStrengthModel(SolutionModel):
             elif q == OSMOTIC:
                 values[q], derivs[q] = osm, dict(d_osm)
             elif q == WATER_ACTIVITY:
-                values[q] = np.exp(-MOLAR_MASS_WATER * total * osm)
+                values[q] = water_activity(total, osm)
                 derivs[q] = {k: -MOLAR_MASS_WATER * total * values[q] * d
                              for k, d in d_osm.items()}
         return Computed(values, derivs)

@@ -22,6 +22,7 @@ from saltbench.fitting.data import FitData
 from saltbench.fitting.flags import Flag, FlagKind, flag, texts
 from saltbench.fitting.least_squares import solve
 from saltbench.fitting.problem import FitProblem, build_problem
+from saltbench.fitting.properties import per_point
 from saltbench.models.contract import SolutionModel
 from saltbench.water.debye_huckel import DebyeHuckel
 
@@ -160,9 +161,7 @@ def cross_validate_problem(problem: FitProblem, folds: int | str = 5,
             flags.append(flag(FlagKind.FOLD_HELDOUT_ERROR, **which, detail=str(exc)))
         if stop_outside is not None:
             r = np.abs(problem.obs[held] - pred[held])
-            tol = np.full(r.shape, np.nan)
-            for name, value in stop_outside.items():
-                tol[problem.kind[held] == name] = value
+            tol = per_point(problem.kind[held], stop_outside)
             if not np.all(r <= tol):  # NaN (no prediction or tolerance) counts as outside
                 break
     kind = np.asarray(problem.kind, dtype=object).copy()

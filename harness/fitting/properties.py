@@ -77,6 +77,14 @@ def names() -> tuple[str, ...]:
     return tuple(REGISTRY)
 
 
+def per_point(kind: np.ndarray, by_property: Mapping[str, float]) -> np.ndarray:
+    """Each point's value of a per-property setting (a tolerance), NaN where it has none."""
+    out = np.full(np.shape(kind), np.nan)
+    for name, value in by_property.items():
+        out[kind == name] = value
+    return out
+
+
 # -- the built-in properties --------------------------------------------------------------------
 def _gamma(m, v, u, nu, dataset):
     if np.any(v <= 0):

@@ -43,6 +43,7 @@ from saltbench.fitting.crossval import CrossValidation, cross_validate_problem
 from saltbench.fitting.data import FitData
 from saltbench.fitting.flags import Flag, FlagKind, flag, texts
 from saltbench.fitting.problem import FitProblem, build_problem
+from saltbench.fitting.properties import per_point
 from saltbench.models.contract import SolutionModel
 from saltbench.water.debye_huckel import DebyeHuckel
 
@@ -99,10 +100,7 @@ Tolerance = Mapping[str, float]  # by fitted property (saltbench.fitting.propert
 
 
 def _within(residual: np.ndarray, kind: np.ndarray, tol: Tolerance) -> np.ndarray:
-    limit = np.full(residual.shape, np.nan)
-    for name, value in tol.items():
-        limit[kind == name] = value
-    return np.isfinite(residual) & (np.abs(residual) <= limit)
+    return np.isfinite(residual) & (np.abs(residual) <= per_point(kind, tol))
 
 
 def _worst_by_kind(residual: np.ndarray, kind: np.ndarray, sel: np.ndarray | bool,

@@ -25,7 +25,7 @@ import numpy as np
 
 from saltbench.chemistry.electrolyte import Electrolyte
 from saltbench.errors import UserError
-from saltbench.water.properties import MOLAR_MASS_WATER
+from saltbench.water.properties import water_activity
 
 OsmoticFunction = Callable[[np.ndarray], np.ndarray]
 
@@ -84,5 +84,5 @@ def osmotic_from_isopiestic(electrolyte: Electrolyte, molality: np.ndarray | flo
         ratio * u_phi_r,
     ])
     u_phi = np.sqrt((terms**2).sum(axis=0))
-    a_w = np.exp(-reference.nu * m_r * MOLAR_MASS_WATER * phi_r)
+    a_w = water_activity(reference.nu * m_r, phi_r)
     return IsopiesticResult(electrolyte, reference, m, m_r, phi_r, ratio, phi, u_phi, a_w)

@@ -24,7 +24,7 @@ import numpy as np
 
 from saltbench.chemistry.electrolyte import Electrolyte
 from saltbench.errors import UserError
-from saltbench.water.properties import MOLAR_MASS_WATER
+from saltbench.water.properties import MOLAR_MASS_WATER, water_activity
 
 IDEAL_VAPOUR_NOTE = (
     "a_w = p/p*: ideal-vapour approximation (fugacity ratio taken as pressure ratio)"
@@ -73,7 +73,7 @@ def water_activity_from_osmotic(electrolyte: Electrolyte, molality: np.ndarray |
                                 osmotic: np.ndarray | float) -> np.ndarray:
     """a_w = exp(-nu m M_w phi), eq. (1)."""
     m = _arr("molalities", molality)
-    return np.exp(-electrolyte.nu * m * MOLAR_MASS_WATER * np.asarray(osmotic, dtype=float))
+    return water_activity(electrolyte.nu * m, osmotic)
 
 
 def saturation_pressure(temperature_k: float) -> float:

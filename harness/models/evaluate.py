@@ -25,7 +25,7 @@ from saltbench.models.contract import (
 from saltbench.models.quantities import OSMOTIC, WATER_ACTIVITY, ln_gamma_pm
 from saltbench.models.salt_view import salt_view
 from saltbench.water.debye_huckel import DebyeHuckel, debye_huckel_constants
-from saltbench.water.properties import MOLAR_MASS_WATER
+from saltbench.water.properties import water_activity as water_activity_of
 
 __all__ = ["GAUSS_NODES", "Evaluation", "call_model", "check_supported", "compute", "evaluate",
            "make_context", "osmotic_by_gibbs_duhem", "water_activity"]
@@ -68,8 +68,8 @@ def osmotic_by_gibbs_duhem(model: SolutionModel, m: np.ndarray, params: Params,
 
 
 def water_activity(electrolyte: Electrolyte, m: np.ndarray, osmotic: np.ndarray) -> np.ndarray:
-    """a_w = exp(-nu m M_w phi)."""
-    return np.exp(-electrolyte.nu * np.asarray(m) * MOLAR_MASS_WATER * np.asarray(osmotic))
+    """a_w = exp(-nu m M_w phi) (:func:`saltbench.water.properties.water_activity`)."""
+    return water_activity_of(electrolyte.nu * np.asarray(m), osmotic)
 
 
 def make_context(electrolyte: Electrolyte, temperature_k: float = 298.15,
@@ -161,8 +161,7 @@ def compute(model: SolutionModel, request: Request) -> Computed:
                                                       request.named_values(names, s, rows[0]), ctx)
         values[OSMOTIC] = phi
     if WATER_ACTIVITY in wanted and WATER_ACTIVITY not in values:
-        total = comp.molality.sum(axis=1)
-        values[WATER_ACTIVITY] = np.exp(-MOLAR_MASS_WATER * total * values[OSMOTIC])
+        values[WATER_ACTIVITY] = water_activity_of(comp.molality.sum(axis=1), values[OSMOTIC])
     missing = [str(q) for q in request.quantities if q not in values]
     if missing:
         raise ModelDomainError(f"model {model.id} does not give {', '.join(missing)}")

@@ -10,10 +10,11 @@ from saltbench.water.properties import (
     T_MAX,
     T_MIN,
     WaterState,
+    water_activity,
     water_state,
 )
 
 __all__ = [
     "DebyeHuckel", "debye_huckel_constants", "with_a_phi",
-    "MOLAR_MASS_WATER", "T_MAX", "T_MIN", "WaterState", "water_state",
+    "MOLAR_MASS_WATER", "water_activity", "T_MAX", "T_MIN", "WaterState", "water_state",
 ]

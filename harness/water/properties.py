@@ -12,10 +12,21 @@ from __future__ import annotations
 from dataclasses import dataclass
 from functools import lru_cache
 
+import numpy as np
+
 from saltbench.errors import UserError
 
 #: kg/mol, from the IUPAC standard atomic weights (2 x 1.008 + 15.999), from memory of the IUPAC table.
 MOLAR_MASS_WATER = 0.018015
+
+
+
+def water_activity(total_molality: np.ndarray | float, osmotic: np.ndarray | float) -> np.ndarray:
+    """a_w = exp(-M_w phi sum_i m_i), ``total_molality`` = sum_i m_i in mol/kg (nu m for one
+    salt): the definition of the molal osmotic coefficient (IUPAC Green Book, 3rd ed., 2007,
+    2.13)."""
+    return np.exp(-np.asarray(total_molality) * MOLAR_MASS_WATER * np.asarray(osmotic, dtype=float))
+
 
 #: Temperature range (K) saltbench accepts for liquid-water properties: 0 °C to 300 °C.
 #: The IAPWS releases extend further; activity models and published parameters rarely do.
