@@ -94,33 +94,37 @@ class SingleIonResult:
         return self.log10_gamma[ion]
 
 
+def _solution(composition: SaltAmounts,
+              temperature_k: float = 298.15) -> tuple[Composition, tuple[int, ...]]:
+    """The salts as the contract's :class:`Composition` (which checks them), and the shape of the
+    caller's molalities, in which every result is given back."""
+    shape = np.broadcast_shapes(*(np.shape(m) for _, m in composition)) if composition else ()
+    return Composition.of_salts(list(composition), temperature_k), shape
+
+
+def _ions(solution: Composition, shape: tuple[int, ...]
+          ) -> tuple[dict[str, Ion], dict[str, np.ndarray]]:
+    return ({ion.name: ion for ion in solution.ions},
+            {n: solution.of(n).reshape(shape) for n in solution.names})
+
+
 def ion_molalities(composition: SaltAmounts) -> tuple[dict[str, Ion], dict[str, np.ndarray]]:
     """The ions of a solution of salts and their molalities (mol/kg), summed over the salts."""
-    if not composition:
-        raise UserError("a solution needs at least one salt")
-    ions: dict[str, Ion] = {}
-    mol: dict[str, np.ndarray] = {}
-    for salt, molality in composition:
-        m = np.asarray(molality, dtype=float)
-        if np.any(~np.isfinite(m)) or np.any(m < 0):
-            raise UserError(f"molality of {salt.name} must be a non-negative number")
-        for ion, nu in ((salt.cation, salt.nu_cation), (salt.anion, salt.nu_anion)):
-            ions[ion.name] = ion
-            mol[ion.name] = mol.get(ion.name, 0.0) + nu * m
-    return ions, mol
+    return _ions(*_solution(composition))
 
 
 def ionic_strength(composition: SaltAmounts) -> np.ndarray:
     """I = 1/2 sum_i m_i z_i^2 in mol/kg."""
-    ions, mol = ion_molalities(composition)
-    # a sum of arrays (numpy scalars for scalar molalities); mypy types it by the int start 0
-    return 0.5 * sum(mol[n] * ions[n].charge ** 2 for n in ions)  # type: ignore[return-value]
+    solution, shape = _solution(composition)
+    return solution.ionic_strength.reshape(shape)
 
 
 def _setup(composition: SaltAmounts, temperature_k: float, dh: DebyeHuckel | None):
-    ions, mol = ion_molalities(composition)
-    i = 0.5 * sum(mol[n] * ions[n].charge ** 2 for n in ions)
-    return ions, mol, np.asarray(i, dtype=float), dh or debye_huckel_constants(temperature_k)
+    """The solution, its ions and their molalities, I and the Debye-Hückel constants."""
+    dh = dh or debye_huckel_constants(temperature_k)
+    solution, shape = _solution(composition, dh.temperature_k)
+    ions, mol = _ions(solution, shape)
+    return ions, mol, solution.ionic_strength.reshape(shape), dh, solution
 
 
 def _need(mapping: Mapping[str, float], ions: Mapping[str, Ion], what: str) -> dict[str, float]:
@@ -134,7 +138,7 @@ def extended_debye_huckel(composition: SaltAmounts, ion_sizes: Mapping[str, floa
                           temperature_k: float = 298.15, *,
                           dh: DebyeHuckel | None = None) -> SingleIonResult:
     """``ion_sizes`` in Å keyed by ion name (``"Na+"``, ``"SO4-2"``)."""
-    ions, mol, i, dh = _setup(composition, temperature_k, dh)
+    ions, mol, i, dh, _ = _setup(composition, temperature_k, dh)
     a = _need(ion_sizes, ions, "ion sizes (Å)")
     logs = _size_terms(ions, a, i, dh)
     return SingleIonResult("extended Debye-Hückel", i, dh.temperature_k, ions, mol, logs,
@@ -153,7 +157,7 @@ def truesdell_jones(composition: SaltAmounts, ion_sizes: Mapping[str, float],
                     b_ion: Mapping[str, float], temperature_k: float = 298.15, *,
                     dh: DebyeHuckel | None = None) -> SingleIonResult:
     """``ion_sizes`` in Å and ``b_ion`` in kg/mol, both keyed by ion name."""
-    ions, mol, i, dh = _setup(composition, temperature_k, dh)
+    ions, mol, i, dh, _ = _setup(composition, temperature_k, dh)
     a = _need(ion_sizes, ions, "ion sizes (Å)")
     bi = _need(b_ion, ions, "Truesdell-Jones b values (kg/mol)")
     logs = {n: v + bi[n] * i for n, v in _size_terms(ions, a, i, dh).items()}
@@ -168,8 +172,7 @@ def model_single_ion(composition: SaltAmounts, model: SolutionModel, label: str,
     """Single-ion values of a solution under a model's own single-ion form (the Debye-Hückel
     limiting law, Davies, SIT...): ``model`` is any solution model that computes ``ln_gamma``
     of ions for mixtures; ``params`` gives its keyed parameters (others at their defaults)."""
-    ions, mol, i, dh = _setup(composition, temperature_k, dh)
-    solution = Composition.of_salts(list(composition), dh.temperature_k)
+    ions, mol, i, dh, solution = _setup(composition, temperature_k, dh)
     if "ln_gamma" not in model.computes or not model.supports_composition(solution):
         raise UserError(f"model {model.id} gives no single-ion values for this solution")
     keys = model.keys_for(solution)
@@ -187,7 +190,7 @@ def model_single_ion(composition: SaltAmounts, model: SolutionModel, label: str,
 def bates_guggenheim(composition: SaltAmounts, temperature_k: float = 298.15, *,
                      dh: DebyeHuckel | None = None) -> SingleIonResult:
     """gamma(Cl-) at the ionic strength of a pH standard; refused above I = 0.1 mol/kg."""
-    ions, mol, i, dh = _setup(composition, temperature_k, dh)
+    ions, mol, i, dh, _ = _setup(composition, temperature_k, dh)
     if np.any(i > BATES_GUGGENHEIM_MAX_I * (1 + 1e-9)):
         raise UserError(
             f"the Bates-Guggenheim convention is defined only up to I = {BATES_GUGGENHEIM_MAX_I:g} "
@@ -220,7 +223,7 @@ def macinnes(composition: SaltAmounts, gamma_kcl: float | Callable[[np.ndarray],
     """
     from saltbench.chemistry.ions import KNOWN_IONS
 
-    ions, mol, i, _ = _setup(composition, temperature_k, None)
+    ions, mol, i, _, _ = _setup(composition, temperature_k, None)
     log_k = np.log10(_mean_at(gamma_kcl, i))
     logs: dict[str, np.ndarray] = {"K+": log_k, "Cl-": log_k}
     all_ions = {"K+": KNOWN_IONS["K"], "Cl-": KNOWN_IONS["Cl"], **ions}
