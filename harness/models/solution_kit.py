@@ -33,7 +33,7 @@ from saltbench.chemistry.electrolyte import Electrolyte, parse_formula
 from saltbench.chemistry.gibbs_duhem import dilution_weights, unit_nodes
 from saltbench.chemistry.solution import Composition
 from saltbench.models.contract import Conditions, ParameterKey, Request, SolutionModel
-from saltbench.models.quantities import OSMOTIC, Quantity, kinds, ln_gamma, ln_gamma_pm
+from saltbench.models.quantities import OSMOTIC, WATER_ACTIVITY, Quantity, kinds, ln_gamma, ln_gamma_pm
 from saltbench.water.debye_huckel import DebyeHuckel
 
 #: Test mixtures (salt formulas), each taken at the molalities of MIXTURE_MOLALITIES.
@@ -50,8 +50,8 @@ JACOBIAN_ATOL = 1e-8
 Report = Callable[[str | None, str], None]
 
 
-def _request(model: SolutionModel, comp: Composition, values: Mapping[ParameterKey, float],
-             dh: DebyeHuckel, quantities: tuple[Quantity, ...], wrt: tuple[ParameterKey, ...] = (),
+def _request(comp: Composition, values: Mapping[ParameterKey, float], dh: DebyeHuckel,
+             quantities: tuple[Quantity, ...], wrt: tuple[ParameterKey, ...] = (),
              sets: int = 1, shift: Mapping[ParameterKey, float] | None = None) -> Request:
     params = {}
     for k, v in values.items():
@@ -67,7 +67,7 @@ def _quantities(model: SolutionModel, comp: Composition) -> tuple[Quantity, ...]
     if "ln_gamma" in model.computes:
         out += [ln_gamma(n) for n in comp.names]
     out += [ln_gamma_pm(s.name) for s in comp.salts]
-    for q in (OSMOTIC, Quantity("water_activity")):
+    for q in (OSMOTIC, WATER_ACTIVITY):
         if q.kind in model.computes:
             out.append(q)
     return tuple(out)
@@ -86,7 +86,7 @@ def check_compute(model: SolutionModel, comp: Composition, by_name: Mapping[str,
     wanted = _quantities(model, comp)
     free = tuple(k for k, p in model.keys_for(comp).items() if not p.fixed)
     try:
-        out = model.compute(_request(model, comp, values, dh, wanted, free))
+        out = model.compute(_request(comp, values, dh, wanted, free))
     except Exception as exc:  # the kit reports, it does not crash on the plugin's bug
         report(label, f"compute raised {type(exc).__name__}: {exc}")
         return None
@@ -126,9 +126,9 @@ def _check_batch(model, comp, values, dh, wanted, free, single, label, report) -
     if values[k] + step > p.upper:
         step = -step
     try:
-        both = model.compute(_request(model, comp, values, dh, wanted, (), sets=2,
+        both = model.compute(_request(comp, values, dh, wanted, (), sets=2,
                                       shift={k: step}))
-        other = model.compute(_request(model, comp, {**values, k: values[k] + step}, dh, wanted))
+        other = model.compute(_request(comp, {**values, k: values[k] + step}, dh, wanted))
     except Exception as exc:
         report(label, f"compute of two parameter sets raised {type(exc).__name__}: {exc}")
         return
@@ -155,8 +155,8 @@ def _check_derivatives(model, comp, values, dh, wanted, derivs, label, report) -
             if hi <= lo:
                 continue
             try:
-                up = model.compute(_request(model, comp, {**values, k: hi}, dh, (q,))).values[q]
-                dn = model.compute(_request(model, comp, {**values, k: lo}, dh, (q,))).values[q]
+                up = model.compute(_request(comp, {**values, k: hi}, dh, (q,))).values[q]
+                dn = model.compute(_request(comp, {**values, k: lo}, dh, (q,))).values[q]
             except Exception as exc:
                 report(label, f"finite differences in {k} failed: {type(exc).__name__}: {exc}")
                 continue
@@ -195,7 +195,7 @@ def check_mixture(model: SolutionModel, comp: Composition, amounts: Mapping[str,
 
     def mean_values(c: Composition) -> dict[str, np.ndarray]:
         qs = tuple(ln_gamma_pm(s.name) for s in c.salts)
-        out = model.compute(_request(model, c, values, dh, qs)).values
+        out = model.compute(_request(c, values, dh, qs)).values
         return {q.of: np.asarray(out[q])[0] for q in qs}
 
     try:
@@ -212,7 +212,7 @@ def _limiting_law(model, comp, values, dh, tolerance, label, report) -> None:
                                 / comp.ionic_strength[0]).rows(slice(0, 1))
     qs = tuple(ln_gamma(n) for n in comp.names) if "ln_gamma" in model.computes else \
         tuple(ln_gamma_pm(s.name) for s in comp.salts)
-    out = model.compute(_request(model, dilute, values, dh, qs)).values
+    out = model.compute(_request(dilute, values, dh, qs)).values
     root = math.sqrt(DILUTE_IONIC_STRENGTH)
     for q in qs:
         if q.kind == "ln_gamma":
@@ -258,7 +258,7 @@ def _cross_differentials(comp: Composition, mean_values, label, report) -> None:
 
 def _gibbs_duhem(model, comp, amounts, values, dh, mean_values, label, report) -> None:
     u, _ = unit_nodes()
-    phi = np.asarray(model.compute(_request(model, comp, values, dh, (OSMOTIC,)))
+    phi = np.asarray(model.compute(_request(comp, values, dh, (OSMOTIC,)))
                      .values[OSMOTIC])[0]
     total = comp.molality.sum(axis=1)
     at = mean_values(comp)
