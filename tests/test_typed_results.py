@@ -29,6 +29,11 @@ WORDING = {
     FlagKind.SINGULAR_COMBINATION: ({"names": ("b", "c")}, "singular (no information on a combination of b, c)"),
     FlagKind.ILL_CONDITIONED: ({"condition_number": 1.23456e7}, "ill-conditioned (condition number 1.23e+07)"),
     FlagKind.AT_BOUND: ({"name": "a", "side": "upper", "bound": 10.0}, "parameter a at bound (upper = 10)"),
+    FlagKind.SEVERAL_MINIMA: (
+        {"chi2_first": 1132.0, "chi2": 28.55, "first": {"a": 2.638}, "start": {"a": 20.0},
+         "found": {"a": 5.786}},
+        "several minima: from the usual start the fit stopped at chi2 1132 (a = 2.638); started at "
+        "a = 20 it reached 28.55 (a = 5.786), which is kept"),
     FlagKind.TOO_FEW_TO_JUDGE: ({"n_points": 4, "n_params": 2},
                                 "too few points to judge a refitted model (4 points for 2 free parameters)"),
     FlagKind.TRIAL_FAILED: ({"limit": 2.5, "detail": "model error: x"}, "at trial limit 2.5 mol/kg: model error: x"),

@@ -26,6 +26,9 @@ class FlagKind(StrEnum):
     SINGULAR_COMBINATION = "singular-combination"  # names: parameters of the undetermined combination
     ILL_CONDITIONED = "ill-conditioned"  # condition_number
     AT_BOUND = "at-bound"  # name, side ("lower"/"upper"), bound
+    # The minimum kept is lower than the one found from the usual start (a note: the kept one
+    # is the better fit). chi2_first, chi2; first, start, found: nonlinear values by name.
+    SEVERAL_MINIMA = "several-minima"
     # A validity scan's account of its range.
     TOO_FEW_TO_JUDGE = "too-few-to-judge"  # n_points, n_params
     TRIAL_FAILED = "trial-failed"  # limit (mol/kg), detail: why the fit at that limit failed
@@ -47,7 +50,8 @@ class FlagKind(StrEnum):
 
 #: Kinds that describe a result without making it unfit to rank.
 NOTE_KINDS = frozenset({
-    FlagKind.DATA_END, FlagKind.SPARSE, FlagKind.DETERMINATION_HELDOUT, FlagKind.DETERMINATION_STDERR,
+    FlagKind.SEVERAL_MINIMA, FlagKind.DATA_END, FlagKind.SPARSE, FlagKind.DETERMINATION_HELDOUT,
+    FlagKind.DETERMINATION_STDERR,
     FlagKind.AUTHORS_TEMPERATURE, FlagKind.AUTHORS_MOLALITY, FlagKind.PUBLISHED_TEMPERATURE,
     FlagKind.PUBLISHED_ANCHORING})
 #: Kinds after which a fit has no usable solution (``FitResult.ok`` is false).
@@ -98,6 +102,9 @@ _WORDING: dict[FlagKind, str] = {
     FlagKind.SINGULAR_COMBINATION: "singular (no information on a combination of {names})",
     FlagKind.ILL_CONDITIONED: "ill-conditioned (condition number {condition_number:.3g})",
     FlagKind.AT_BOUND: "parameter {name} at bound ({side} = {bound:g})",
+    FlagKind.SEVERAL_MINIMA: ("several minima: from the usual start the fit stopped at chi2 "
+                              "{chi2_first:.4g} ({first_words}); started at {start_words} it "
+                              "reached {chi2:.4g} ({found_words}), which is kept"),
     FlagKind.TOO_FEW_TO_JUDGE: ("too few points to judge a refitted model ({n_points} points for "
                                 "{n_params} free parameters)"),
     FlagKind.TRIAL_FAILED: "at trial limit {limit:g} mol/kg: {detail}",
@@ -134,6 +141,9 @@ def _fields(f: Flag) -> dict[str, Any]:
         d["names"] = ", ".join(d["names"])
     if "quantity" in d:
         d["quantity_words"] = REGISTRY[d["quantity"]].text
+    for key in ("first", "start", "found"):
+        if isinstance(d.get(key), Mapping):
+            d[f"{key}_words"] = ", ".join(f"{n} = {v:.4g}" for n, v in d[key].items())
     if f.kind is FlagKind.PUBLISHED_ANCHORING:
         phi = d.get("phi_gap")
         d["phi_note"] = (f"; in phi the set and the osmotic data agree within {phi:.3f}"

@@ -221,9 +221,133 @@ def solve_linear(problem: FitProblem, offset: np.ndarray, design: np.ndarray, *,
     return LinearSolution(x, basis, pinned, a, svd)
 
 
+#: Starts of the spread screen, as fractions of each nonlinear parameter's range, bounds
+#: included (a minimum often sits on a bound): one parameter, nine points; two, a 4 x 4
+#: grid; more, the first sixteen points of a Halton sequence in the box. An unbounded side
+#: is taken as 10 max(1, |start|) away from the start.
+SPREAD_1D = tuple(i / 8 for i in range(9))
+SPREAD_2D = (0.0, 1 / 3, 2 / 3, 1.0)
+SPREAD_MANY = 16
+#: A spread start's minimum counts as lower when its chi-square is below the first one's by
+#: more than this fraction (and 1e-9 absolute): differences within it are the optimiser's
+#: tolerance, not another minimum.
+SPREAD_RTOL = 1e-6
+#: At most this many screened points (the lowest first) are refined by the local optimiser.
+SPREAD_REFINE = 2
+
+
+def _halton(count: int, dims: int) -> np.ndarray:
+    primes = (2, 3, 5, 7, 11, 13, 17, 19, 23, 29, 31, 37)[:dims]
+    out = np.empty((count, dims))
+    for j, b in enumerate(primes):
+        for i in range(count):
+            f, r, k = 1.0, 0.0, i + 1
+            while k:
+                f /= b
+                r += f * (k % b)
+                k //= b
+            out[i, j] = r
+    return out
+
+
+def spread_points(lower: np.ndarray, upper: np.ndarray, start: np.ndarray
+                  ) -> tuple[np.ndarray, tuple[int, ...] | None]:
+    """Well-spread points (rows) in the box [lower, upper] around ``start``, and the shape of
+    the grid they form (None when they are not a grid)."""
+    reach = 10.0 * np.maximum(1.0, np.abs(start))
+    lo = np.where(np.isfinite(lower), lower, start - reach)
+    hi = np.where(np.isfinite(upper), upper, start + reach)
+    d = start.size
+    shape: tuple[int, ...] | None
+    if d == 1:
+        frac, shape = np.array(SPREAD_1D)[:, None], (len(SPREAD_1D),)
+    elif d == 2:
+        g = np.array(SPREAD_2D)
+        frac = np.stack(np.meshgrid(g, g, indexing="ij"), axis=-1).reshape(-1, 2)
+        shape = (g.size, g.size)
+    else:
+        frac, shape = _halton(SPREAD_MANY, d), None
+    return lo + frac * (hi - lo), shape
+
+
+def screen_minima(values: np.ndarray, shape: tuple[int, ...] | None) -> list[int]:
+    """Indices of the screened points that are lowest among their grid neighbours (all
+    points when they form no grid), finite ones only, lowest first."""
+    v = np.asarray(values, dtype=float)
+    if shape is None:
+        picks = [i for i in range(v.size) if np.isfinite(v[i])]
+    else:
+        grid = v.reshape(shape)
+        padded = np.pad(grid, 1, constant_values=np.inf)
+        ok = np.isfinite(grid)
+        for axis in range(grid.ndim):
+            for step in (-1, 1):
+                sl = [slice(1, -1)] * grid.ndim
+                sl[axis] = slice(1 + step, grid.shape[axis] + 1 + step)
+                ok &= grid <= padded[tuple(sl)]
+        picks = list(np.flatnonzero(ok.ravel()))
+    return [int(i) for i in sorted(picks, key=lambda i: v[i])]
+
+
+def _chi2(resid: np.ndarray) -> float:
+    return float(resid @ resid) if np.isfinite(resid).all() else math.inf
+
+
+def _spread_starts(proj: _Projection, local, first, lower: np.ndarray, upper: np.ndarray):
+    """Screen well-spread starts and refine the most promising.
+
+    The reduced sum of squares (the linear parameters solved at each point) is evaluated at
+    :func:`spread_points`; the local optimiser is started again from the (at most
+    ``SPREAD_REFINE``) points whose value is already below the minimum it found from the
+    problem's start, since those lie in a lower basin. The lowest minimum is kept; when it is
+    lower than the first by more than ``SPREAD_RTOL`` the result carries a ``several-minima``
+    flag with both values. A multi-start by screening, as in global optimisation practice
+    (e.g. Rinnooy Kan and Timmer, Math. Program. 39, 27 (1987), whose clustering it reduces to
+    its first step).
+    """
+    best = first
+    # The model failing at a screened point says nothing about the fit kept: only the failures
+    # on the path to the kept minimum are reported.
+    kept_failures = list(proj.failures)
+    chi_first = _chi2(proj.fun(first.x))
+    if not math.isfinite(chi_first):
+        proj.failures[:] = kept_failures
+        return first, None
+    points, shape = spread_points(lower, upper, first.x)
+    screened = np.array([_chi2(proj.fun(x)) for x in points])
+    # The grid point next to the first minimum (within half a step) lies in its basin.
+    step = np.ptp(points, axis=0) / (max(shape) - 1 if shape else 1)
+    near = np.all(np.abs(points - first.x) <= 0.5 * step, axis=1) if shape else \
+        np.zeros(len(points), dtype=bool)
+    below = [i for i in screen_minima(screened, shape) if not near[i]][:SPREAD_REFINE]
+    chi_best, start = chi_first, None
+    for i in below:
+        proj.failures.clear()
+        try:
+            res = local(points[i])
+        except (_Abort, ValueError, *_MODEL_FAILURES):
+            continue
+        c = _chi2(proj.fun(res.x))
+        if res.status > 0 and c < chi_best * (1 - SPREAD_RTOL) - 1e-9:
+            best, chi_best, start = res, c, points[i]
+            kept_failures = list(proj.failures)
+    proj.failures[:] = kept_failures
+    if start is None:
+        return first, None
+    names = [proj.p.names[g] for g in proj.p.nonlinear]
+    return best, flag(FlagKind.SEVERAL_MINIMA, chi2_first=chi_first, chi2=chi_best,
+                      first=dict(zip(names, first.x.tolist())),
+                      start=dict(zip(names, start.tolist())),
+                      found=dict(zip(names, best.x.tolist())))
+
+
 def solve(problem: FitProblem, *, max_evaluations: int | None = None,
-          tolerance: float = 1e-10) -> Solution:
-    """Minimise the weighted sum of squares of ``problem``; never raises for a model failure."""
+          tolerance: float = 1e-10, spread: bool = True) -> Solution:
+    """Minimise the weighted sum of squares of ``problem``; never raises for a model failure.
+
+    With nonlinear free parameters and ``spread`` (the default), the local minimum found from
+    the problem's start is checked against well-spread starts (:func:`spread_points`); see
+    :func:`_spread_starts`."""
     p = problem
     proj = _Projection(p)
     theta = p.theta0.copy()
@@ -241,10 +365,17 @@ def solve(problem: FitProblem, *, max_evaluations: int | None = None,
 
             lb, ub = p.lower[p.nonlinear], p.upper[p.nonlinear]
             x0 = np.clip(p.theta0[p.nonlinear], lb, ub)
-            res = least_squares(proj.fun, x0, jac=proj.jac, bounds=(lb, ub), method="trf",
-                                x_scale="jac", ftol=tolerance, xtol=tolerance, gtol=tolerance,
-                                max_nfev=max_evaluations)
+            def local(x: np.ndarray):
+                return least_squares(proj.fun, x, jac=proj.jac, bounds=(lb, ub), method="trf",
+                                     x_scale="jac", ftol=tolerance, xtol=tolerance,
+                                     gtol=tolerance, max_nfev=max_evaluations)
+
+            res = local(x0)
             iterations = int(res.nfev)
+            if spread:
+                res, found = _spread_starts(proj, local, res, lb, ub)
+                if found is not None:
+                    flags.append(found)
             proj.set_point(res.x)
             theta = proj.theta
             converged = bool(res.status > 0)
