@@ -16,7 +16,6 @@ from pathlib import Path
 from typing import TYPE_CHECKING, Any, cast
 
 import numpy as np
-import pandas as pd
 
 from saltbench.store import queries
 from saltbench.store.bundled import sync_bundled
@@ -24,6 +23,8 @@ from saltbench.store.connection import Store, open_store
 from saltbench.store.ingest import IngestReport, expand_paths, ingest
 
 if TYPE_CHECKING:
+    import pandas as pd
+
     from saltbench.fitting.uncertainty import Propagation
     from saltbench.measurements.gibbs_duhem import GibbsDuhemResult
 
@@ -391,8 +392,8 @@ def select_data(session: Session, electrolyte, *, datasets=None, on=None, up_to=
     from saltbench.fitting.selection import select
 
     e = session.electrolyte(electrolyte) if isinstance(electrolyte, str) else electrolyte
-    points = session.points(e.name)
-    stored = sorted({round(float(t), 2) for t in points.temperature_k})
+    points = queries.point_rows(session.store, e.name)
+    stored = sorted({round(float(r["temperature_k"]), 2) for r in points})
     if stored and all(abs(t - temperature_k) >= 0.05 for t in stored):
         from saltbench.errors import UserError
 
@@ -402,7 +403,7 @@ def select_data(session: Session, electrolyte, *, datasets=None, on=None, up_to=
                         f"{', '.join(f'{t:g}' for t in stored)} K (add your own measurements at "
                         f"{temperature_k:g} K with 'saltbench data add', or use 'saltbench predict "
                         "--temperature', which warns that it extrapolates)")
-    return select(points, session.datasets(e.name), e, datasets=datasets, on=on,
+    return select(points, queries.dataset_rows(session.store, e.name), e, datasets=datasets, on=on,
                   up_to=up_to, temperature_k=temperature_k)
 
 

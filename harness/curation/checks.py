@@ -22,13 +22,16 @@ Only molalities up to the last point of each dataset are compared: no extrapolat
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from typing import TYPE_CHECKING
 
 import numpy as np
-import pandas as pd
 
 from saltbench.chemistry.electrolyte import Electrolyte
 from saltbench.curation.smoothing import choose_terms, design, fit_smooth, fit_smooth_joint
 from saltbench.water.debye_huckel import debye_huckel_constants
+
+if TYPE_CHECKING:
+    import pandas as pd
 
 #: Neighbours check (see ``loo_neighbours``): standard deviations of the prediction allowed
 #: beyond half a printed digit, and the share of two predictions' disagreement added to it.

@@ -2,10 +2,9 @@
 
 from __future__ import annotations
 
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
-
-import pandas as pd
+from typing import TYPE_CHECKING, Any
 
 from saltbench.errors import UserError
 from saltbench.fitting.data import FitData
@@ -15,11 +14,24 @@ PROPERTY_ALIASES = {"gamma": "gamma_pm", "gamma_pm": "gamma_pm", "activity": "ga
                     "aw": "water_activity"}
 
 
+if TYPE_CHECKING:
+    import pandas as pd
+
+Row = Mapping[str, Any]
+
+
 @dataclass
 class Selection:
     data: FitData
     datasets: list[dict]  # key, source, property, content_hash, n_points, from_memory, origin
-    frame: pd.DataFrame
+    rows: list[Row]  # the points chosen, sorted by molality and dataset
+
+    @property
+    def frame(self) -> pd.DataFrame:
+        """The points chosen, as a DataFrame (pandas is imported here, on demand)."""
+        import pandas as pd
+
+        return pd.DataFrame([dict(r) for r in self.rows])
 
 
 def parse_on(text: str | None) -> list[str]:
@@ -33,37 +45,43 @@ def parse_on(text: str | None) -> list[str]:
     return out
 
 
-def select(points: pd.DataFrame, meta: pd.DataFrame, electrolyte, *, datasets: Sequence[str] | None = None,
-           on: Sequence[str] | None = None, up_to: float | None = None,
-           temperature_k: float = 298.15) -> Selection:
+def select(points: Sequence[Row], meta: Sequence[Row], electrolyte, *,
+           datasets: Sequence[str] | None = None, on: Sequence[str] | None = None,
+           up_to: float | None = None, temperature_k: float = 298.15) -> Selection:
     """Points of ``electrolyte`` chosen by dataset key or source key (``datasets``), property
-    (``on``), molality (``up_to``) and temperature (within 0.05 K)."""
-    frame = points.copy()
-    frame = frame[(frame.temperature_k - temperature_k).abs() < 0.05]
-    if frame.empty:
+    (``on``), molality (``up_to``) and temperature (within 0.05 K). ``points`` and ``meta``
+    are the store's point and dataset rows (:func:`saltbench.store.queries.point_rows`)."""
+    rows = [r for r in points if abs(r["temperature_k"] - temperature_k) < 0.05]
+    if not rows:
         raise UserError(f"no data for {electrolyte.name} at {temperature_k:g} K")
     if datasets:
         wanted = set(datasets)
-        known = set(frame.dataset) | set(frame.source) | set(frame.origin)
+        known = {r[c] for r in rows for c in ("dataset", "source", "origin")}
         unknown = sorted(wanted - known)
         if unknown:
             raise UserError(f"--data: no dataset, source or origin {unknown[0]!r} for {electrolyte.name}; "
-                            f"datasets: {', '.join(sorted(set(frame.dataset)))}")
-        frame = frame[frame.dataset.isin(wanted) | frame.source.isin(wanted) | frame.origin.isin(wanted)]
+                            f"datasets: {', '.join(sorted({r['dataset'] for r in rows}))}")
+        rows = [r for r in rows
+                if r["dataset"] in wanted or r["source"] in wanted or r["origin"] in wanted]
     props = list(on or ["gamma_pm", "osmotic", "water_activity"])
-    frame = frame[frame.property.isin(props)]
+    rows = [r for r in rows if r["property"] in props]
     if up_to is not None:
         if up_to <= 0:
             raise UserError("--up-to must be a positive molality in mol/kg")
-        frame = frame[frame.molality <= up_to * (1 + 1e-12)]
-    if frame.empty:
+        rows = [r for r in rows if r["molality"] <= up_to * (1 + 1e-12)]
+    if not rows:
         raise UserError(f"no {'/'.join(props)} data for {electrolyte.name} with these options")
-    frame = frame.sort_values(["molality", "dataset"]).reset_index(drop=True)
-    data = FitData.from_frame(frame, electrolyte=electrolyte.name, nu=electrolyte.nu)
-    used = meta[meta.key.isin(set(frame.dataset))]
+    # by molality, then dataset; equal keys keep the store's order (a stable sort, as before)
+    rows.sort(key=lambda r: (r["molality"], r["dataset"]))
+    columns = {c: [r[c] for r in rows]
+               for c in ("molality", "value", "uncertainty", "property", "dataset")}
+    data = FitData.from_frame(columns, electrolyte=electrolyte.name, nu=electrolyte.nu)
+    counts: dict[str, int] = {}
+    for r in rows:
+        counts[r["dataset"]] = counts.get(r["dataset"], 0) + 1
     infos = [{"key": r["key"], "source": r["source"], "property": r["property"],
-              "content_hash": r["content_hash"], "n_points": int((frame.dataset == r["key"]).sum()),
+              "content_hash": r["content_hash"], "n_points": counts[r["key"]],
               "from_memory": bool(r["from_memory"]), "origin": r["origin"], "citation": r["citation"],
               "typed": r["typed"], "table_ref": r["table_ref"]}
-             for r in used.to_dict("records")]
-    return Selection(data, infos, frame)
+             for r in meta if r["key"] in counts]
+    return Selection(data, infos, rows)

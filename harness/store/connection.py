@@ -10,13 +10,35 @@ import contextlib
 import datetime as _dt
 import os
 import sqlite3
+import sys
 from collections.abc import Iterator
 from pathlib import Path
-
-import sqlite_utils
+from typing import TYPE_CHECKING
 
 from saltbench.errors import StoreError
 from saltbench.store.schema import MIGRATIONS, SCHEMA_VERSION
+
+
+def _import_sqlite_utils():
+    """sqlite-utils imports pandas when it is installed, only to convert pandas values handed
+    to it (its ``db`` module); the store never hands it any. Unless pandas is loaded already,
+    it is hidden while sqlite-utils loads, so that a command returning no DataFrame does not
+    pay about 0.4 s to import it (pandas stays importable afterwards, for the API's tables)."""
+    if "sqlite_utils" in sys.modules or "pandas" in sys.modules:
+        import sqlite_utils
+        return sqlite_utils
+    sys.modules["pandas"] = None  # type: ignore[assignment]  # import fails while this is set
+    try:
+        import sqlite_utils
+    finally:
+        del sys.modules["pandas"]
+    return sqlite_utils
+
+
+if TYPE_CHECKING:
+    import sqlite_utils
+else:
+    sqlite_utils = _import_sqlite_utils()
 
 ENV_STORE = "SALTBENCH_STORE"
 BUSY_TIMEOUT_S = 60.0

@@ -13,9 +13,9 @@ import json
 import os
 from collections.abc import Sequence
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 import numpy as np
-import pandas as pd
 
 from saltbench import __version__
 from saltbench.chemistry.electrolyte import parse_formula
@@ -34,6 +34,9 @@ from saltbench.store.ingest import (
     file_kind,
     upsert_parent,
 )
+
+if TYPE_CHECKING:
+    import pandas as pd
 
 PROVIDER = "readings"
 
@@ -176,6 +179,8 @@ def list_sets(store: Store) -> pd.DataFrame:
     LEFT JOIN datasets d ON d.id = r.dataset_id
     ORDER BY m.electrolyte, m.kind, m.key
     """
+    import pandas as pd
+
     frame = pd.DataFrame(list(store.db.query(sql)))
     if frame.empty:
         return frame

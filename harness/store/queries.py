@@ -1,10 +1,14 @@
-"""Read-only queries returning pandas DataFrames, plus the store's content hash."""
+"""Read-only queries returning rows (plain dicts) or, for the API's tables, pandas DataFrames,
+plus the store's content hash. pandas is imported only where a DataFrame is made, so that a
+command that needs none (a comparison) does not pay for it."""
 
 from __future__ import annotations
 
 import hashlib
+from typing import TYPE_CHECKING, Any
 
-import pandas as pd
+if TYPE_CHECKING:
+    import pandas as pd
 
 from saltbench.chemistry.electrolyte import Electrolyte
 from saltbench.chemistry.ions import Ion
@@ -16,8 +20,17 @@ CONTENT_TABLES = ("sources", "ions", "electrolytes", "datasets", "points", "para
                   "reductions")
 
 
+Row = dict[str, Any]
+
+
+def _rows(store: Store, sql: str, params: tuple = ()) -> list[Row]:
+    return list(store.db.query(sql, params))
+
+
 def _frame(store: Store, sql: str, params: tuple = ()) -> pd.DataFrame:
-    return pd.DataFrame(list(store.db.query(sql, params)))
+    import pandas as pd
+
+    return pd.DataFrame(_rows(store, sql, params))
 
 
 def electrolytes(store: Store) -> pd.DataFrame:
@@ -38,6 +51,13 @@ def electrolytes(store: Store) -> pd.DataFrame:
 
 
 def datasets(store: Store, electrolyte: str | None = None) -> pd.DataFrame:
+    import pandas as pd
+
+    return pd.DataFrame(dataset_rows(store, electrolyte))
+
+
+def dataset_rows(store: Store, electrolyte: str | None = None) -> list[Row]:
+    """The stored datasets (of ``electrolyte``) with their source's citation, as rows."""
     sql = """
     SELECT d.id, d.key, d.origin, d.electrolyte, d.property, d.basis, d.scale, d.temperature_k,
            d.pressure_pa, d.source, s.citation, s.doi, d.table_ref, d.precision, d.uncertainty,
@@ -51,10 +71,18 @@ def datasets(store: Store, electrolyte: str | None = None) -> pd.DataFrame:
         sql += " WHERE d.electrolyte = ?"
         params = (electrolyte,)
     sql += " ORDER BY d.electrolyte, d.property, d.source, d.key"
-    return _frame(store, sql, params)
+    return _rows(store, sql, params)
 
 
 def points(store: Store, electrolyte: str | None = None, dataset_ids: list[int] | None = None) -> pd.DataFrame:
+    import pandas as pd
+
+    return pd.DataFrame(point_rows(store, electrolyte, dataset_ids))
+
+
+def point_rows(store: Store, electrolyte: str | None = None,
+               dataset_ids: list[int] | None = None) -> list[Row]:
+    """The stored points (of ``electrolyte``, of ``dataset_ids``) with their dataset's fields."""
     sql = """
     SELECT d.electrolyte, d.property, p.molality, p.value, p.u_value AS uncertainty,
            d.temperature_k, d.source, d.key AS dataset, d.id AS dataset_id, d.origin,
@@ -72,7 +100,7 @@ def points(store: Store, electrolyte: str | None = None, dataset_ids: list[int] 
     if where:
         sql += " WHERE " + " AND ".join(where)
     sql += " ORDER BY d.electrolyte, d.property, d.source, d.key, p.molality"
-    return _frame(store, sql, tuple(params))
+    return _rows(store, sql, tuple(params))
 
 
 def sources(store: Store) -> pd.DataFrame:
