@@ -408,8 +408,14 @@ def select_data(session: Session, electrolyte, *, datasets=None, on=None, up_to=
 
 
 def compare(session: Session, electrolytes, settings=None, *, jobs: int = 1, curves: bool = False,
-            progress: bool = False):
-    """Compare models on each electrolyte; returns a :class:`saltbench.comparison.runner.Comparison`."""
+            progress: bool = False, executor=None):
+    """Compare models on each electrolyte; returns a :class:`saltbench.comparison.runner.Comparison`.
+
+    The work per electrolyte runs in this process, in ``jobs`` worker processes of our own, or
+    on ``executor``: any :class:`concurrent.futures.Executor`, such as a distributed engine's
+    (``dask.distributed.Client(...).get_executor()``), for thousands of datasets or a bootstrap
+    study. Its workers need saltbench and the same plugin files installed; they receive the
+    data with each task and never open the store."""
     from saltbench.comparison.assess import PublishedInput
     from saltbench.comparison.runner import ElectrolyteTask, run_comparison
     from saltbench.comparison.settings import CompareSettings
@@ -447,7 +453,8 @@ def compare(session: Session, electrolytes, settings=None, *, jobs: int = 1, cur
         target = min(settings.up_to, top) if settings.up_to else top
         tasks.append(ElectrolyteTask(e, sel.data, sel.datasets, published, supported, target))
     comp = run_comparison(tasks, settings, registry=reg, plugin_files=session._plugin_files,
-                          disabled=session._disabled, jobs=jobs, curves=curves, progress=progress)
+                          disabled=session._disabled, jobs=jobs, curves=curves, progress=progress,
+                          executor=executor)
     comp.skipped = skipped
     comp.per_ion = per_ion_models
     from saltbench.comparison.sources import source_disagreements
@@ -461,16 +468,16 @@ def compare(session: Session, electrolytes, settings=None, *, jobs: int = 1, cur
 
 def make_report(session: Session, electrolytes, settings=None, *, title: str | None = None,
                 folder: str | os.PathLike[str] | None = None, command: str = "", argv: list[str] | None = None,
-                jobs: int = 1, created: str | None = None):
+                jobs: int = 1, created: str | None = None, executor=None):
     """Compare, then write every report file into ``folder`` (default ``reports/<slug>``); returns
-    a :class:`saltbench.report.writer.ReportResult`."""
+    a :class:`saltbench.report.writer.ReportResult`. ``executor`` as for :func:`compare`."""
     from saltbench.errors import UserError
     from saltbench.report.writer import write_report
 
     names = list(electrolytes)
     if not names:
         raise UserError("name at least one electrolyte")
-    comparison = compare(session, names, settings, jobs=jobs, curves=True)
+    comparison = compare(session, names, settings, jobs=jobs, curves=True, executor=executor)
     return write_report(session, comparison, title=title, folder=Path(folder) if folder else None,
                         command=command, argv=argv, created=created)
 

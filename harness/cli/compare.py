@@ -134,7 +134,8 @@ def build_settings(models: str, up_to, tol: str, folds, on: str, data_sel: str, 
 @click.argument("electrolytes", nargs=-1)
 @click.option("--all", "all_", is_flag=True, help="Every electrolyte in the store.")
 @settings_options
-@click.option("--jobs", type=click.IntRange(min=1), default=None, help="Worker processes (default: all cores).")
+@click.option("--jobs", type=click.IntRange(min=1), default=None,
+              help="Worker processes (default: the CPUs this process may use).")
 @click.option("--summary", is_flag=True, help="Only the recommendation for each electrolyte, and how many got one.")
 @format_option
 @click.pass_obj

@@ -51,7 +51,8 @@ def _command_line(app, electrolytes, settings, title, out_dir, from_manifest) ->
 @click.option("--from", "from_manifest", type=click.Path(dir_okay=False, path_type=Path), default=None,
               metavar="MANIFEST", help="Re-run the report a manifest.json describes and say whether the "
               "results still agree (default folder: the manifest's folder name + '-rerun').")
-@click.option("--jobs", type=click.IntRange(min=1), default=None, help="Worker processes (default: all cores).")
+@click.option("--jobs", type=click.IntRange(min=1), default=None,
+              help="Worker processes (default: the CPUs this process may use).")
 @click.pass_context
 def report(ctx, electrolytes, models, up_to, tol, folds, on, data_sel, temperature_k, time_limit, out_dir, title,
            from_manifest, jobs):

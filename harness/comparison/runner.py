@@ -3,11 +3,13 @@ processes with ``jobs > 1``), rank, and return a :class:`Comparison`."""
 
 from __future__ import annotations
 
+import multiprocessing
 import os
 import sys
 from collections.abc import Sequence
-from concurrent.futures import ProcessPoolExecutor, as_completed
+from concurrent.futures import Executor, ProcessPoolExecutor, as_completed
 from dataclasses import dataclass, field
+from pathlib import Path
 from typing import Any
 
 from saltbench.comparison.assess import PublishedInput, assess
@@ -106,23 +108,79 @@ def expected_cost(task: ElectrolyteTask) -> float:
     return len(task.model_ids) * (10.0 + float(task.data.n))
 
 
+def _cgroup_cpus(root: Path = Path("/sys/fs/cgroup")) -> float | None:
+    """The CPU quota of this process's control group (containers), in CPUs, if one is set:
+    cgroup v2's ``cpu.max`` ("quota period") or v1's ``cpu.cfs_quota_us`` over
+    ``cpu.cfs_period_us``; None where there is none or it cannot be read."""
+    try:
+        text = (root / "cpu.max").read_text().split()
+        if text and text[0] != "max":
+            return int(text[0]) / int(text[1])
+        return None
+    except (OSError, ValueError, IndexError):
+        pass
+    try:
+        quota = int((root / "cpu" / "cpu.cfs_quota_us").read_text())
+        period = int((root / "cpu" / "cpu.cfs_period_us").read_text())
+        return quota / period if quota > 0 and period > 0 else None
+    except (OSError, ValueError):
+        return None
+
+
+def usable_cpus(cgroup_root: Path = Path("/sys/fs/cgroup")) -> int:
+    """How many CPUs this process may use: those of its affinity mask (what the scheduler
+    lets it run on; ``os.process_cpu_count`` where Python has it), capped by a container's CPU
+    quota, rounded up, at least one."""
+    count = getattr(os, "process_cpu_count", None)
+    if count is not None:
+        n = count() or 1
+    elif hasattr(os, "sched_getaffinity"):
+        n = len(os.sched_getaffinity(0))
+    else:
+        n = os.cpu_count() or 1
+    quota = _cgroup_cpus(cgroup_root)
+    if quota is not None:
+        n = min(n, max(1, -int(-quota // 1)))
+    return max(1, n)
+
+
 def default_jobs() -> int:
-    return max(1, len(os.sched_getaffinity(0)) if hasattr(os, "sched_getaffinity") else (os.cpu_count() or 1))
+    return usable_cpus()
+
+
+def start_method() -> str:
+    """The way worker processes start, chosen here rather than left to the Python version
+    (3.14 changed Linux's default): ``fork`` on Linux, where workers inherit the warmed water
+    state and plugin registry at no cost; ``spawn`` elsewhere (macOS, where forking a process
+    that has loaded system frameworks is unsafe, and Windows, which cannot fork)."""
+    return "fork" if sys.platform.startswith("linux") else "spawn"
 
 
 def run_comparison(tasks: list[ElectrolyteTask], settings: CompareSettings, *, registry,
                    plugin_files: Sequence[str | os.PathLike[str]] = (), disabled: Sequence[str] = (), jobs: int = 1,
-                   curves: bool = False, progress: bool = False) -> Comparison:
+                   curves: bool = False, progress: bool = False,
+                   executor: Executor | None = None) -> Comparison:
+    """Assess every task and rank. With ``executor`` (any :class:`concurrent.futures.Executor`,
+    e.g. a distributed engine's) each electrolyte's work is submitted to it and ``jobs`` is
+    ignored; otherwise ``jobs > 1`` starts a pool of worker processes of our own."""
     comp = Comparison(settings)
     comp.plugin_problems = [str(p) for p in registry.problems]
     bar = _progress(len(tasks), progress)
     results: dict[str, list[ModelOutcome]] = {}
-    if jobs > 1 and len(tasks) > 1:
-        _warm_before_fork(settings, registry)
+    own_pool = executor is None and jobs > 1 and len(tasks) > 1
+    if executor is not None or own_pool:
         # Largest first, so that no long task starts last while the other workers sit idle.
         by_cost = sorted(tasks, key=expected_cost, reverse=True)
-        # never more workers than tasks or than the CPUs this process may use
-        pool = ProcessPoolExecutor(max_workers=min(jobs, len(tasks), default_jobs()))
+        if own_pool:
+            _warm_before_fork(settings, registry)
+            # never more workers than tasks or than the CPUs this process may use
+            pool: Executor = ProcessPoolExecutor(
+                max_workers=min(jobs, len(tasks), default_jobs()),
+                mp_context=multiprocessing.get_context(start_method()))
+        else:
+            assert executor is not None
+            pool = executor
+        futures: list = []
         try:
             futures = [pool.submit(run_task, t, settings, list(plugin_files), list(disabled), curves)
                        for t in by_cost]
@@ -131,12 +189,16 @@ def run_comparison(tasks: list[ElectrolyteTask], settings: CompareSettings, *, r
                 results[name] = outs
                 bar(name)
         except BaseException:
-            # Ctrl-C (or a failure): stop the workers now instead of waiting for their tasks
-            for proc in list(getattr(pool, "_processes", {}).values()):
-                proc.terminate()
-            pool.shutdown(wait=False, cancel_futures=True)
+            for fut in futures:
+                fut.cancel()
+            if own_pool:
+                # Ctrl-C (or a failure): stop the workers now instead of waiting for their tasks
+                for proc in list(getattr(pool, "_processes", {}).values()):
+                    proc.terminate()
+                pool.shutdown(wait=False, cancel_futures=True)
             raise
-        pool.shutdown()
+        if own_pool:
+            pool.shutdown()
     else:
         for t in tasks:
             name, outs = run_task(t, settings, plugin_files, disabled, curves, registry=registry)
