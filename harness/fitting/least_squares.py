@@ -232,8 +232,13 @@ SPREAD_MANY = 16
 #: more than this fraction (and 1e-9 absolute): differences within it are the optimiser's
 #: tolerance, not another minimum.
 SPREAD_RTOL = 1e-6
-#: At most this many screened points (the lowest first) are refined by the local optimiser.
+#: At most this many screened points (the lowest first) are refined by the local optimiser,
+#: and only those whose chi-square is below this multiple of the first minimum's. A point far
+#: above it rarely lies in a lower basin: on the bundled data every refinement that found a
+#: lower minimum started below 12 times the first minimum (one exception, 175 times, gained
+#: 0.2 % in chi-square), while more than nine in ten refinements found nothing new.
 SPREAD_REFINE = 2
+SPREAD_PROMISE = 20.0
 
 
 def _halton(count: int, dims: int) -> np.ndarray:
@@ -319,7 +324,8 @@ def _spread_starts(proj: _Projection, local, first, lower: np.ndarray, upper: np
     step = np.ptp(points, axis=0) / (max(shape) - 1 if shape else 1)
     near = np.all(np.abs(points - first.x) <= 0.5 * step, axis=1) if shape else \
         np.zeros(len(points), dtype=bool)
-    below = [i for i in screen_minima(screened, shape) if not near[i]][:SPREAD_REFINE]
+    below = [i for i in screen_minima(screened, shape)
+             if not near[i] and screened[i] < SPREAD_PROMISE * chi_first][:SPREAD_REFINE]
     chi_best, start = chi_first, None
     for i in below:
         proj.failures.clear()
