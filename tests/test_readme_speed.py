@@ -1,15 +1,18 @@
-"""The README's "Speed" figures are those of the benchmark run it names, kept in reports/benchmarks/:
-a figure retyped by hand or left from an older run fails here."""
+"""The README's "Speed" table is the one made from the benchmark run it names (kept in
+reports/benchmarks/) by tests/benchmarks/speed_table.py: a figure retyped by hand, or left from
+an older run, fails here."""
 
 from __future__ import annotations
 
 import json
 import re
+import sys
 from pathlib import Path
 
-import pytest
-
 ROOT = Path(__file__).resolve().parents[1]
+sys.path.insert(0, str(ROOT / "tests" / "benchmarks"))
+
+import speed_table  # noqa: E402
 
 
 def _speed_section() -> str:
@@ -19,52 +22,27 @@ def _speed_section() -> str:
     return text[start:end if end > 0 else None]
 
 
-@pytest.fixture(scope="module")
-def run() -> dict:
+def _run() -> dict:
     m = re.search(r"`(reports/benchmarks/[^`]+\.json)`", _speed_section())
     assert m, "the Speed section names the JSON of its run"
     return json.loads((ROOT / m.group(1)).read_text(encoding="utf-8"))
 
 
-def _row(label: str) -> list[str]:
-    for line in _speed_section().splitlines():
-        if line.startswith("| " + label):
-            return [c.strip() for c in line.strip().strip("|").split("|")]
-    raise AssertionError(f"no row starting {label!r}")
+def test_the_speed_table_is_made_from_the_named_run() -> None:
+    assert speed_table.block(_run()) in _speed_section()
 
 
-def _first_number(cell: str) -> float:
-    return float(re.search(r"\d+(?:\.\d+)?", cell).group())
+def test_the_table_says_not_met_where_the_run_missed_a_target() -> None:
+    run = _run()
+    table = speed_table.render(run)
+    # the run's own verdicts, one per target, against the words in the table
+    missed = [not run["compare"]["default"]["wall_s"] < run["targets"]["compare_all_wall_s_max"],
+              not run["linear"]["target_met"], not run["startup"]["compare_nacl"]["target_met"],
+              not run["fitting"]["pitzer_30_points"]["target_met"]]
+    assert table.count("**not met**") >= sum(missed)
 
 
-def test_compare_all_figures_are_the_runs(run) -> None:
-    row = _row("`compare --all`")
-    assert _first_number(row[1]) == round(run["compare"]["default"]["wall_s"], 1)
-    mem = _row("same, peak memory")
-    assert _first_number(mem[1]) == round(run["compare"]["default"]["peak_pss_all_processes_mb"])
-    jobs = _row("`--jobs 2` against `--jobs 1`")
-    assert _first_number(jobs[3]) == round(run["compare"]["speedup_jobs2_over_jobs1"], 2)
-
-
-def test_startup_figure_is_the_runs(run) -> None:
-    assert _first_number(_row("`saltbench --help`")[3]) == round(run["startup"]["ratio"], 2)
-
-
-def test_pitzer_fit_figures_are_the_runs(run) -> None:
-    fit = run["fitting"]["pitzer_30_points"]
-    row = _row("one Pitzer fit, 30 synthetic points")
-    assert _first_number(row[1]) == round(fit["saltbench_s"] * 1e3, 2)
-    assert _first_number(row[2]) == round(fit["baseline_curve_fit_s"] * 1e3, 2)
-    assert _first_number(row[3]) == round(fit["speedup"], 1)
-    assert ("not met" in row[4]) == (not fit["target_met"])
-    yardstick = _row("yardstick")
-    assert _first_number(yardstick[1]) == round(fit["purpose_written_s"] * 1e3, 2)
-    assert _first_number(yardstick[3]) == round(fit["purpose_written_speedup"], 1)
-    turns = fit["in_turns"]
-    row = _row("same fit, the calls taken in turns")
-    assert _first_number(row[1]) == round(turns["saltbench_s"] * 1e3, 2)
-    assert _first_number(row[2]) == round(turns["baseline_curve_fit_s"] * 1e3, 2)
-    assert _first_number(row[3]) == round(turns["speedup"], 1)
-    yardstick = _row("yardstick, calls taken in turns")
-    assert _first_number(yardstick[1]) == round(turns["purpose_written_s"] * 1e3, 2)
-    assert _first_number(yardstick[3]) == round(turns["purpose_written_speedup"], 1)
+def test_the_benchmark_document_sits_beside_the_script() -> None:
+    doc = ROOT / "tests" / "benchmarks" / "SPEED.md"
+    assert doc.exists() and "bench_compare.py" in doc.read_text(encoding="utf-8")
+    assert "tests/benchmarks/SPEED.md" in _speed_section()

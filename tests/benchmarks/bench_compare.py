@@ -424,7 +424,8 @@ def batched_yardstick(model, e, data, dh, folds: int = 5, tol: float = 0.01,
     r = (problem.obs - offset) / problem.sigma
     m = problem.molality
     k = a.shape[1]
-    labels = fold_labels(m, folds)
+    folds = min(folds, m.size) if m.size >= 2 else 0
+    labels = fold_labels(m, folds) if folds else np.zeros(m.size, dtype=int)
     grid = [L for L in np.unique(m) if int((m <= L).sum()) >= k + min_dof]
     masks = np.vstack([np.ones(m.size), *(labels != f for f in range(folds)),
                        *(m <= L for L in grid)])
