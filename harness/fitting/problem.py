@@ -165,6 +165,11 @@ class FitProblem:
         self._combined = (self._analytic_osmotic and model_type.values_and_jacobian
                           is not ActivityModel.values_and_jacobian)
         self._contexts: dict[tuple[int, frozenset[str]], EvalContext] = {}
+        # Problems made by subset() share their root's linear design (see linear_design):
+        # the root and the rows of its points that this problem holds, in order.
+        self._root: FitProblem = self
+        self._rows: np.ndarray | None = None
+        self._design_memo: dict[bytes, tuple[np.ndarray, np.ndarray] | None] = {}
 
     # -- bookkeeping --------------------------------------------------------------------------
     @property
@@ -192,6 +197,8 @@ class FitProblem:
                 blocks.append(Block(b.electrolyte, b.ctx, b.data.subset(sel), dict(b.mapping)))
         sub = FitProblem(self.model, blocks, list(self.params))
         sub._no_jacobian = self._no_jacobian
+        rows = np.flatnonzero(mask)
+        sub._root, sub._rows = self._root, rows if self._rows is None else self._rows[rows]
         return sub
 
     def with_start(self, theta: np.ndarray) -> FitProblem:
@@ -202,6 +209,7 @@ class FitProblem:
             params[i] = params[i]._replace(value=v)
         out = FitProblem(self.model, self.blocks, params)
         out._no_jacobian = self._no_jacobian
+        out._root, out._rows = self._root, self._rows
         return out
 
     def theta_from(self, values: Mapping[str, float]) -> np.ndarray:
@@ -288,6 +296,14 @@ class FitProblem:
         """Model values at every observation (ln gamma± or phi by kind), in data order."""
         if not self.blocks:
             return np.zeros(0)
+        if self._rows is not None and self.linear.size and not self.nonlinear.size:
+            # A subset of a problem whose free parameters are all linear: its root's design
+            # gives the values without calling the model (see linear_design).
+            t0 = theta.copy()
+            t0[self.linear] = 0.0
+            shared = self._shared_design(t0)
+            if shared is not None:
+                return shared[0] + shared[1] @ theta[self.linear]
         if len(self.blocks) == 1:
             return self.predict_block(self.blocks[0], theta)
         return np.concatenate([self.predict_block(b, theta) for b in self.blocks])
@@ -469,11 +485,42 @@ class FitProblem:
         """
         t0 = theta.copy()
         t0[self.linear] = 0.0
+        if not self.nonlinear.size:
+            shared = self._shared_design(t0)
+            if shared is not None:
+                return shared
+        return self._design_now(t0)
+
+    def _design_now(self, t0: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         cols = self.linear.tolist()
         for b in self.blocks:
             self._values_and_jacobian(b, t0, self._wrt(b, cols))
         offset = self.predict(t0)
         return offset, self.derivatives(t0, cols, base=offset)
+
+    def _shared_design(self, t0: np.ndarray) -> tuple[np.ndarray, np.ndarray] | None:
+        """The design of every free parameter linear, built once on the root problem and read
+        by each problem made from it by subset() (the folds of a cross-validation, the trial
+        limits of a validity scan): the model is not called again for points it has seen.
+        The values are those the subset's own call would give (a model's value at a point
+        does not depend on the other points). None when the root cannot give it (a model
+        failure at one of its points, which the subset may not hold): the subset then calls
+        the model itself, as it always did."""
+        root, rows = self._root, self._rows
+        if root is self and rows is None:
+            key = t0.tobytes()
+            if key not in self._design_memo:
+                try:
+                    self._design_memo[key] = self._design_now(t0)
+                except (ModelError, ModelDomainError, FloatingPointError):
+                    self._design_memo[key] = None
+            return self._design_memo[key]
+        if root.nonlinear.size or root.linear.tolist() != self.linear.tolist():
+            return None
+        full = root._shared_design(t0)
+        if full is None:
+            return None
+        return full[0][rows], full[1][rows]
 
 
 def _keep_values(block: Block, key: tuple, ln_g: np.ndarray, phi: np.ndarray | None

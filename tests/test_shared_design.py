@@ -1,0 +1,92 @@
+"""Folds and trial limits of a model whose free parameters all enter linearly are solved on
+the design built once (issue: one solve per model and salt): the model is called for the
+problem's points once, and each fold or trial reads its rows.
+
+The results must be those of building each fold's problem afresh; the held-out errors are held
+to the PRESS identity in tests/test_crossval.py (Allen, Technometrics 16, 125 (1974)).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+from fitting_models import PowerSeries, synthetic
+
+from saltbench.chemistry.electrolyte import parse_formula
+from saltbench.errors import ModelDomainError
+from saltbench.fitting import cross_validate, validity_range
+from saltbench.fitting.crossval import cross_validate_problem, fold_labels
+from saltbench.fitting.least_squares import solve
+from saltbench.fitting.problem import build_problem
+from saltbench.models import Parameter
+
+NACL = parse_formula("NaCl")
+GRID = np.round(np.geomspace(0.01, 4.0, 18), 4)
+
+
+class CountingSeries(PowerSeries):
+    id = "test-counting-series"
+    calls = 0
+
+    def ln_gamma_pm(self, m, params, ctx):
+        type(self).calls += 1
+        return super().ln_gamma_pm(m, params, ctx)
+
+
+def test_folds_read_the_design_built_once():
+    data = synthetic((3.5, 0.08), NACL, GRID, seed=5)
+    model = CountingSeries()
+    problem = build_problem(model, [(NACL, data)])
+    solve(problem)
+    before = CountingSeries.calls
+    cv = cross_validate_problem(problem, 5)
+    assert CountingSeries.calls == before  # no model call for the folds or their predictions
+    # ... and the same held-out predictions as folds built afresh from their own data.
+    labels = fold_labels(data.molality, 5)
+    for f in range(5):
+        held = labels == f
+        train = build_problem(PowerSeries(), [(NACL, data.subset(~held))])
+        theta = solve(train).theta
+        test = build_problem(PowerSeries(), [(NACL, data.subset(held))])
+        np.testing.assert_allclose(cv.prediction[held], test.predict(theta), rtol=1e-12,
+                                   atol=1e-14)
+
+
+def test_a_subset_reads_the_rows_of_its_roots_design():
+    data = synthetic((3.5, 0.08), NACL, GRID, seed=9)
+    problem = build_problem(PowerSeries(), [(NACL, data)])
+    mask = data.molality <= 1.0
+    sub = problem.subset(mask)
+    t0 = sub.theta0.copy()
+    t0[sub.linear] = 0.0
+    offset, design = sub.linear_design(sub.theta0)
+    own_offset, own_design = sub._design_now(t0)
+    np.testing.assert_allclose(offset, own_offset, rtol=1e-13, atol=1e-15)
+    np.testing.assert_allclose(design, own_design, rtol=1e-13, atol=1e-15)
+    # a subset of a subset reads the same rows
+    sub2 = sub.subset(sub.molality <= 0.2)
+    np.testing.assert_allclose(sub2.linear_design(sub2.theta0)[1],
+                               design[sub.molality <= 0.2], rtol=1e-13)
+
+
+class FailsAbove(PowerSeries):
+    """Linear in b1, b2, but undefined above 2 mol/kg: the root's design cannot be built."""
+
+    id = "test-fails-above"
+    parameters = (Parameter("b1", "b1", "kg/mol", 0.0, linear=True),
+                  Parameter("b2", "b2", "kg2/mol2", 0.0, linear=True))
+
+    def ln_gamma_pm(self, m, params, ctx):
+        if np.max(m) > 2.0:
+            raise ModelDomainError("test model undefined above 2 mol/kg")
+        return super().ln_gamma_pm(m, params, ctx)
+
+
+def test_a_model_failing_beyond_a_subset_leaves_the_subset_to_itself():
+    data = synthetic((3.5, 0.08), NACL, GRID, seed=13)
+    # the full data fail, the points up to 2 mol/kg do not: the validity scan's trials below
+    # 2 mol/kg are solved (each calls the model on its own points, as before).
+    v = validity_range(FailsAbove(), NACL, data)
+    assert v.max_molality is not None and v.max_molality <= 2.0
+    low = data.subset(data.molality <= 2.0)
+    cv = cross_validate(FailsAbove(), NACL, low, folds=3)
+    assert np.all(np.isfinite(cv.prediction))
