@@ -298,6 +298,31 @@ def _chi2(resid: np.ndarray) -> float:
     return float(resid @ resid) if np.isfinite(resid).all() else math.inf
 
 
+def _screen(proj: _Projection, points: np.ndarray) -> np.ndarray:
+    """The reduced sum of squares at each of ``points`` (inf where the model fails): from the
+    values and designs shared with the problem's root (one set of model calls for a fit, its
+    folds and its trial limits), else by evaluating the problem at each point."""
+    p = proj.p
+    parts = p.screen_parts(points)
+    if parts is None:
+        return np.array([_chi2(proj.fun(x)) for x in points])
+    out = np.full(len(points), math.inf)
+    for j, part in enumerate(parts):
+        if part is None:
+            # The model failed at this point on the root's data; these may not reach there.
+            if p.is_subset:
+                out[j] = _chi2(proj.fun(points[j]))
+            continue
+        offset, design = part
+        try:
+            pred = offset if design is None else \
+                offset + design @ solve_linear(p, offset, design, projection=False).x
+        except _MODEL_FAILURES:
+            continue
+        out[j] = _chi2((p.obs - pred) / p.sigma)
+    return out
+
+
 def _spread_starts(proj: _Projection, local, first, lower: np.ndarray, upper: np.ndarray):
     """Screen well-spread starts and refine the most promising.
 
@@ -319,7 +344,7 @@ def _spread_starts(proj: _Projection, local, first, lower: np.ndarray, upper: np
         proj.failures[:] = kept_failures
         return first, None
     points, shape = spread_points(lower, upper, first.x)
-    screened = np.array([_chi2(proj.fun(x)) for x in points])
+    screened = _screen(proj, points)
     # The grid point next to the first minimum (within half a step) lies in its basin.
     step = np.ptp(points, axis=0) / (max(shape) - 1 if shape else 1)
     near = np.all(np.abs(points - first.x) <= 0.5 * step, axis=1) if shape else \

@@ -170,6 +170,7 @@ class FitProblem:
         self._root: FitProblem = self
         self._rows: np.ndarray | None = None
         self._design_memo: dict[bytes, tuple[np.ndarray, np.ndarray] | None] = {}
+        self._screen_memo: dict[bytes, list[tuple[np.ndarray, np.ndarray | None] | None]] = {}
 
     # -- bookkeeping --------------------------------------------------------------------------
     @property
@@ -179,6 +180,11 @@ class FitProblem:
     @property
     def k(self) -> int:
         return int(self.free.size)
+
+    @property
+    def is_subset(self) -> bool:
+        """Whether this problem was made by subset() from another (and shares its designs)."""
+        return self._rows is not None
 
     @property
     def electrolyte_label(self) -> str:
@@ -497,6 +503,39 @@ class FitProblem:
             self._values_and_jacobian(b, t0, self._wrt(b, cols))
         offset = self.predict(t0)
         return offset, self.derivatives(t0, cols, base=offset)
+
+    def screen_parts(self, points: np.ndarray
+                     ) -> list[tuple[np.ndarray, np.ndarray | None] | None] | None:
+        """For each row of ``points`` (values of the free nonlinear parameters): the
+        prediction at the free linear parameters' zero and the design in them (None without
+        free linear parameters), on this problem's points; None for a point where the model
+        fails. Built once on the root problem and read by the problems made from it by
+        subset(), so that a fold or trial screening the same points calls no model. None
+        when this problem cannot share its root's (different free parameters)."""
+        root, rows = self._root, self._rows
+        if root is not self and (root.nonlinear.tolist() != self.nonlinear.tolist()
+                                 or root.linear.tolist() != self.linear.tolist()):
+            return None
+        key = np.ascontiguousarray(points, dtype=float).tobytes()
+        parts = root._screen_memo.get(key)
+        if parts is None:
+            parts = []
+            for x in points:
+                t = root.theta0.copy()
+                t[root.nonlinear] = x
+                t[root.linear] = 0.0
+                try:
+                    if root.linear.size:
+                        parts.append(root._design_now(t))
+                    else:
+                        parts.append((root.predict(t), None))
+                except (ModelError, ModelDomainError, FloatingPointError):
+                    parts.append(None)
+            root._screen_memo[key] = parts
+        if rows is None:
+            return parts
+        return [None if q is None else (q[0][rows], None if q[1] is None else q[1][rows])
+                for q in parts]
 
     def _shared_design(self, t0: np.ndarray) -> tuple[np.ndarray, np.ndarray] | None:
         """The design of every free parameter linear, built once on the root problem and read
