@@ -111,3 +111,14 @@ def test_screen_minima_are_the_grid_points_below_their_neighbours():
     assert screen_minima(grid.ravel(), (3, 3)) == [8, 4]
     # No grid: every finite point, lowest first; infinities (model failures) are left out.
     assert screen_minima(np.array([2.0, np.inf, 1.0]), None) == [2, 0]
+
+
+def test_compare_prints_the_several_minima_note(run_cli, seeded_store):
+    # LiCH3COO (CRC Handbook, 0.1-1 mol/kg) with Meissner's q: the usual start stops at
+    # q near 3 with chi2 about 28, a start at the upper bound finds q near 10.8 with chi2 about 1.2.
+    code, out, _ = run_cli("compare", "LiCH3COO", "--models", "meissner,bromley",
+                           store=seeded_store)
+    assert code == 0
+    line = " ".join(out.split())
+    assert "meissner: several minima: from the usual start the fit stopped at chi2" in line
+    assert "which is kept" in line

@@ -152,7 +152,7 @@ def compare(app, electrolytes, all_, models, up_to, tol, folds, on, data_sel, te
     from saltbench.comparison.outcome import VerdictKind
     from saltbench.comparison.runner import default_jobs
     from saltbench.errors import UserError
-    from saltbench.fitting.flags import DETERMINATION_KINDS, PUBLISHED_KINDS
+    from saltbench.fitting.flags import DETERMINATION_KINDS, PUBLISHED_KINDS, FlagKind
 
     s = app.session()
     names = list(electrolytes)
@@ -195,8 +195,11 @@ def compare(app, electrolytes, all_, models, up_to, tol, folds, on, data_sel, te
             if o.verdict and o.verdict.kind in (VerdictKind.FAILED, VerdictKind.NOT_RANKED):
                 click.echo(wrap(f"   {o.model}: {o.verdict.text}", indent="     "))
             for flag in o.flags:
-                if flag.kind in PUBLISHED_KINDS or (flag.kind in DETERMINATION_KINDS and (
-                        o.recommended or o.model == rec.most_accurate)):
+                # A fit kept from another start than the usual one is worth a line whatever
+                # its rank: the model's sum of squares has several minima on these data.
+                if flag.kind in PUBLISHED_KINDS or flag.kind is FlagKind.SEVERAL_MINIMA or (
+                        flag.kind in DETERMINATION_KINDS
+                        and (o.recommended or o.model == rec.most_accurate)):
                     click.echo(wrap(f"   {o.model}: {flag.text}", indent="     "))
         if comp.skipped.get(name):
             click.echo(f"   not applicable to {name}: {', '.join(comp.skipped[name])}")
