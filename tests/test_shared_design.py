@@ -111,3 +111,35 @@ def test_the_spread_screen_of_a_fold_reads_its_roots_evaluations():
     own = _Projection(fold)
     direct = np.array([float(np.sum(own.fun(x) ** 2)) for x in points])
     np.testing.assert_allclose(shared, direct, rtol=1e-10)
+
+
+def test_the_validity_scan_reuses_the_callers_fit_of_all_the_data():
+    from fitting_models import ExtendedDH
+
+    from saltbench.fitting.engine import run
+
+    class Counting(ExtendedDH):
+        calls = 0
+
+        def ln_gamma_pm(self, m, params, ctx):
+            type(self).calls += 1
+            return super().ln_gamma_pm(m, params, ctx)
+
+    model = Counting()
+    data = synthetic((3.5, 0.08), NACL, GRID, seed=23)
+    problem = build_problem(model, [(NACL, data)])
+    result = run(problem)
+    start = Counting.calls
+    with_fit = validity_range(model, NACL, data, full_fit=(problem, result))
+    calls_with = Counting.calls - start
+    start = Counting.calls
+    without = validity_range(model, NACL, data)
+    calls_without = Counting.calls - start
+    assert with_fit == without  # same range, limits, flags and trial records
+    assert calls_with < calls_without  # the top trial was not fitted again
+    # a fit of other points is not taken for the top trial
+    other = build_problem(model, [(NACL, data.subset(data.molality <= 1.0))])
+    other_fit = run(other)
+    start = Counting.calls
+    assert validity_range(model, NACL, data, full_fit=(other, other_fit)) == without
+    assert Counting.calls - start == calls_without

@@ -93,7 +93,8 @@ def assess(model, plugin: str, e: Electrolyte, data: FitData, published: Publish
             if n_free > 0:
                 refit = validity_range(model, e, data, tolerance_ln_gamma=settings.tol_ln_gamma,
                                        tolerance_phi=settings.tol_phi, folds=settings.scan_folds,
-                                       dh=dh, full_cv=cv, stop_early=True)
+                                       dh=dh, full_cv=cv, stop_early=True,
+                                       full_fit=(problem, result))
             else:
                 refit = validity_range(model, e, data, params={}, tolerance_ln_gamma=settings.tol_ln_gamma,
                                        tolerance_phi=settings.tol_phi, dh=dh)

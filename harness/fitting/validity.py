@@ -44,6 +44,7 @@ from saltbench.fitting.data import FitData
 from saltbench.fitting.flags import Flag, FlagKind, flag, texts
 from saltbench.fitting.problem import FitProblem, build_problem
 from saltbench.fitting.properties import per_point
+from saltbench.fitting.result import FitResult
 from saltbench.models.contract import SolutionModel
 from saltbench.water.debye_huckel import DebyeHuckel
 
@@ -228,7 +229,24 @@ def _refit_scan(problem: FitProblem, tol: Tolerance, folds: int, scheme: str,
     return last_ok, first_fail, flags, trials
 
 
-def _fit_scan(problem: FitProblem, tol: Tolerance
+def _same_fit(full_fit: tuple[FitProblem, FitResult] | None, sub: FitProblem) -> bool:
+    """Whether ``full_fit`` (a problem and its result) fits exactly ``sub``'s points with the
+    same model, constants, parameters, bounds and start."""
+    if full_fit is None:
+        return False
+    other = full_fit[0]
+    return (other.model is sub.model and other.n == sub.n
+            and len(other.blocks) == len(sub.blocks)
+            and all(a.ctx == b.ctx for a, b in zip(other.blocks, sub.blocks))
+            and bool(np.array_equal(other.molality, sub.molality))
+            and bool(np.array_equal(other.obs, sub.obs))
+            and bool(np.array_equal(other.sigma, sub.sigma))
+            and list(other.kind) == list(sub.kind)
+            and other.params == sub.params)
+
+
+def _fit_scan(problem: FitProblem, tol: Tolerance,
+              full_fit: tuple[FitProblem, FitResult] | None = None
               ) -> tuple[float | None, float | None, list[Flag], list[dict[str, Any]]]:
     from saltbench.fitting.engine import run
 
@@ -248,7 +266,10 @@ def _fit_scan(problem: FitProblem, tol: Tolerance
             return cache[i]
         L = grid[i]
         sub = problem.subset(m <= L)
-        result = run(sub.with_start(start[-1]) if start else sub)
+        trial = sub.with_start(start[-1]) if start else sub
+        # The top trial is often the caller's own fit of all the data (same start): reuse it.
+        result = full_fit[1] if full_fit is not None and _same_fit(full_fit, trial) \
+            else run(trial)
         solved = result.ok and bool(np.all(np.isfinite(result.prediction)))
         if solved:
             start.append(problem.theta_from(result.values))
@@ -301,7 +322,8 @@ def validity_range(model: SolutionModel, electrolyte: Electrolyte | str, data: F
                    temperature_k: float = 298.15,
                    full_cv: CrossValidation | None = None,
                    stop_early: bool = False,
-                   judge: Literal["fit", "heldout"] = "fit") -> ValidityRange:
+                   judge: Literal["fit", "heldout"] = "fit",
+                   full_fit: tuple[FitProblem, FitResult] | None = None) -> ValidityRange:
     """Highest molality (and ionic strength) up to which ``model`` stays within tolerance.
 
     With ``params`` (model parameter names -> values; others at their defaults) the model is
@@ -315,6 +337,9 @@ def validity_range(model: SolutionModel, electrolyte: Electrolyte | str, data: F
     trial's cross-validation at its first fold with a held-out point out of tolerance: the
     range, the limits and pass or fail of every trial stay the same, but a failing trial's
     worst deviations and flags then cover only the folds run (``folds_run`` in its record).
+    ``full_fit`` is the caller's fit of the same model to all of ``data`` with the same
+    options, as (problem, result); a trial of exactly its points, parameters and start reuses
+    it (that is checked, and it is ignored otherwise).
     """
     from saltbench.fitting.engine import as_electrolyte
 
@@ -328,7 +353,7 @@ def validity_range(model: SolutionModel, electrolyte: Electrolyte | str, data: F
         problem = build_problem(model, [(e, data)], fixed=fixed, start=start, free=free,
                                 bounds=bounds, dh=dh, temperature_k=temperature_k)
         if judge == "fit":
-            result = _fit_scan(problem, tol)
+            result = _fit_scan(problem, tol, full_fit)
         else:
             result = _refit_scan(problem, tol, folds, scheme, full_cv, stop_early)
         mode = "refit"
