@@ -352,6 +352,10 @@ def validity_range(model: SolutionModel, electrolyte: Electrolyte | str, data: F
     else:
         problem = build_problem(model, [(e, data)], fixed=fixed, start=start, free=free,
                                 bounds=bounds, dh=dh, temperature_k=temperature_k)
+        if full_fit is not None and _same_fit(full_fit, problem):
+            # The caller's problem is this one: its trials then share the designs and screen
+            # values it has built already (FitProblem.subset).
+            problem = full_fit[0]
         if judge == "fit":
             result = _fit_scan(problem, tol, full_fit)
         else:
