@@ -143,3 +143,15 @@ def test_the_validity_scan_reuses_the_callers_fit_of_all_the_data():
     start = Counting.calls
     assert validity_range(model, NACL, data, full_fit=(other, other_fit)) == without
     assert Counting.calls - start == calls_without
+
+
+def test_a_restarted_copy_of_the_root_shares_its_design_whole():
+    # with_start() keeps every point: its design is the root's, not one row of it.
+    data = synthetic((3.5, 0.08), NACL, GRID, seed=29)
+    problem = build_problem(PowerSeries(), [(NACL, data)])
+    theta = problem.theta0.copy()
+    theta[problem.linear] = [1.0, -0.5]
+    copy = problem.with_start(theta)
+    offset, design = copy.linear_design(copy.theta0)
+    assert offset.shape == (data.n,) and design.shape == (data.n, 2)
+    np.testing.assert_array_equal(solve(copy).theta, solve(problem).theta)

@@ -524,11 +524,11 @@ class FitProblem:
                 t = root.theta0.copy()
                 t[root.nonlinear] = x
                 t[root.linear] = 0.0
+                if root.linear.size:
+                    parts.append(root._root_design(t))
+                    continue
                 try:
-                    if root.linear.size:
-                        parts.append(root._design_now(t))
-                    else:
-                        parts.append((root.predict(t), None))
+                    parts.append((root.predict(t), None))
                 except (ModelError, ModelDomainError, FloatingPointError):
                     parts.append(None)
             root._screen_memo[key] = parts
@@ -546,20 +546,25 @@ class FitProblem:
         failure at one of its points, which the subset may not hold): the subset then calls
         the model itself, as it always did."""
         root, rows = self._root, self._rows
-        if root is self and rows is None:
-            key = t0.tobytes()
-            if key not in self._design_memo:
-                try:
-                    self._design_memo[key] = self._design_now(t0)
-                except (ModelError, ModelDomainError, FloatingPointError):
-                    self._design_memo[key] = None
-            return self._design_memo[key]
+        if rows is None:  # the root, or a copy of it with another start: the same points
+            return root._root_design(t0)
         if root.nonlinear.size or root.linear.tolist() != self.linear.tolist():
             return None
-        full = root._shared_design(t0)
+        full = root._root_design(t0)
         if full is None:
             return None
         return full[0][rows], full[1][rows]
+
+    def _root_design(self, t0: np.ndarray) -> tuple[np.ndarray, np.ndarray] | None:
+        """This problem's offset and design at ``t0`` (its free linear parameters at zero), kept
+        for the problems made from it; None, also kept, where the model fails."""
+        key = t0.tobytes()
+        if key not in self._design_memo:
+            try:
+                self._design_memo[key] = self._design_now(t0)
+            except (ModelError, ModelDomainError, FloatingPointError):
+                self._design_memo[key] = None
+        return self._design_memo[key]
 
 
 def _keep_values(block: Block, key: tuple, ln_g: np.ndarray, phi: np.ndarray | None
