@@ -3,6 +3,7 @@ processes with ``jobs > 1``), rank, and return a :class:`Comparison`."""
 
 from __future__ import annotations
 
+import math
 import multiprocessing
 import os
 import sys
@@ -140,7 +141,7 @@ def usable_cpus(cgroup_root: Path = Path("/sys/fs/cgroup")) -> int:
         n = os.cpu_count() or 1
     quota = _cgroup_cpus(cgroup_root)
     if quota is not None:
-        n = min(n, max(1, -int(-quota // 1)))
+        n = min(n, math.ceil(quota))
     return max(1, n)
 
 

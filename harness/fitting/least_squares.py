@@ -242,6 +242,9 @@ SPREAD_PROMISE = 20.0
 
 
 def _halton(count: int, dims: int) -> np.ndarray:
+    """The unscrambled Halton points 1..count in [0, 1)^dims (radical inverses in the first
+    primes): the same values as ``scipy.stats.qmc.Halton(dims, scramble=False)`` after its
+    first point, written out because importing scipy.stats takes about a second."""
     primes = (2, 3, 5, 7, 11, 13, 17, 19, 23, 29, 31, 37)[:dims]
     out = np.empty((count, dims))
     for j, b in enumerate(primes):
@@ -328,8 +331,9 @@ def _spread_starts(proj: _Projection, local, first, lower: np.ndarray, upper: np
 
     The reduced sum of squares (the linear parameters solved at each point) is evaluated at
     :func:`spread_points`; the local optimiser is started again from the (at most
-    ``SPREAD_REFINE``) points whose value is already below the minimum it found from the
-    problem's start, since those lie in a lower basin. The lowest minimum is kept; when it is
+    ``SPREAD_REFINE``) lowest points that are lower than their grid neighbours and than
+    ``SPREAD_PROMISE`` times the first minimum, other than the grid point next to that
+    minimum, each in a basin of its own. The lowest minimum is kept; when it is
     lower than the first by more than ``SPREAD_RTOL`` the result carries a ``several-minima``
     flag with both values. A multi-start by screening, as in global optimisation practice
     (e.g. Rinnooy Kan and Timmer, Math. Program. 39, 27 (1987), whose clustering it reduces to

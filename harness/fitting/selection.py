@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from collections import Counter
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any
@@ -76,9 +77,7 @@ def select(points: Sequence[Row], meta: Sequence[Row], electrolyte, *,
     columns = {c: [r[c] for r in rows]
                for c in ("molality", "value", "uncertainty", "property", "dataset")}
     data = FitData.from_frame(columns, electrolyte=electrolyte.name, nu=electrolyte.nu)
-    counts: dict[str, int] = {}
-    for r in rows:
-        counts[r["dataset"]] = counts.get(r["dataset"], 0) + 1
+    counts = Counter(r["dataset"] for r in rows)
     infos = [{"key": r["key"], "source": r["source"], "property": r["property"],
               "content_hash": r["content_hash"], "n_points": counts[r["key"]],
               "from_memory": bool(r["from_memory"]), "origin": r["origin"], "citation": r["citation"],

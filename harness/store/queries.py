@@ -27,10 +27,10 @@ def _rows(store: Store, sql: str, params: tuple = ()) -> list[Row]:
     return list(store.db.query(sql, params))
 
 
-def _frame(store: Store, sql: str, params: tuple = ()) -> pd.DataFrame:
+def _frame(rows: list[Row]) -> pd.DataFrame:
     import pandas as pd
 
-    return pd.DataFrame(_rows(store, sql, params))
+    return pd.DataFrame(rows)
 
 
 def electrolytes(store: Store) -> pd.DataFrame:
@@ -47,13 +47,11 @@ def electrolytes(store: Store) -> pd.DataFrame:
     FROM electrolytes e JOIN datasets d ON d.electrolyte = e.name
     GROUP BY e.name ORDER BY e.charge_type, e.name
     """
-    return _frame(store, sql)
+    return _frame(_rows(store, sql))
 
 
 def datasets(store: Store, electrolyte: str | None = None) -> pd.DataFrame:
-    import pandas as pd
-
-    return pd.DataFrame(dataset_rows(store, electrolyte))
+    return _frame(dataset_rows(store, electrolyte))
 
 
 def dataset_rows(store: Store, electrolyte: str | None = None) -> list[Row]:
@@ -75,9 +73,7 @@ def dataset_rows(store: Store, electrolyte: str | None = None) -> list[Row]:
 
 
 def points(store: Store, electrolyte: str | None = None, dataset_ids: list[int] | None = None) -> pd.DataFrame:
-    import pandas as pd
-
-    return pd.DataFrame(point_rows(store, electrolyte, dataset_ids))
+    return _frame(point_rows(store, electrolyte, dataset_ids))
 
 
 def point_rows(store: Store, electrolyte: str | None = None,
@@ -104,7 +100,7 @@ def point_rows(store: Store, electrolyte: str | None = None,
 
 
 def sources(store: Store) -> pd.DataFrame:
-    return _frame(store, "SELECT * FROM sources ORDER BY key")
+    return _frame(_rows(store, "SELECT * FROM sources ORDER BY key"))
 
 
 def electrolyte(store: Store, name: str) -> Electrolyte:
