@@ -18,8 +18,10 @@ f being the Debye-Hückel term. Integrating from 0 (derived here; not in the 194
 
 x = B a sqrt(I), which is evaluated by 64-point Gauss-Legendre quadrature (smooth in u for
 r m < 1), and adaptively where r m > 0.9 (its peak at u = 1 grows as 1/(1 - r m)). No
-iteration is needed. The equation has no meaning once r m >= 1 (all the water bound as
-hydration) or p m <= -1; there the model raises a domain error.
+iteration is needed. The derivatives in h and a (``jacobian``) differentiate the same
+integral under the integral sign, on the same nodes (c = r m, d/dh = M_w m d/dc, d/da = B sqrt(I)
+d/dx); a fit needs no extra model calls for them. The equation has no meaning once r m >= 1
+(all the water bound as hydration) or p m <= -1; there the model raises a domain error.
 """
 
 from __future__ import annotations
@@ -39,11 +41,13 @@ _U, _W = unit_nodes()  # Gauss-Legendre on [0, 1]
 _NEAR_BOUND = 0.9
 
 
-def _adaptive(x: float, c: float) -> float:
-    """int_0^1 u^2 / ((1 + x u)^2 (1 - c u^2)) du by adaptive quadrature, for c near 1."""
+def _adaptive(x: float, c: float, power: tuple[int, int] = (2, 1), extra: int = 2) -> float:
+    """int_0^1 u^extra / ((1 + x u)^power[0] (1 - c u^2)^power[1]) du by adaptive quadrature,
+    for c near 1 (extra = 2, power = (2, 1) is the integral of phi; the others its derivatives)."""
     from scipy.integrate import quad
 
-    value, _ = quad(lambda u: u * u / ((1.0 + x * u) ** 2 * (1.0 - c * u * u)), 0.0, 1.0,
+    px, pc = power
+    value, _ = quad(lambda u: u**extra / ((1.0 + x * u) ** px * (1.0 - c * u * u) ** pc), 0.0, 1.0,
                     epsabs=1e-14, epsrel=1e-13, limit=200)
     return value
 
@@ -63,7 +67,8 @@ class StokesRobinson(ActivityModel):
     validity = Validity(max_molality=4.0,
                         note="from memory of Stokes and Robinson (1948): fits to about 4 mol/kg")
 
-    def _phi(self, m, params, ctx):
+    def _phi(self, m, params, ctx, derivatives=False):
+        """phi, sqrt(I), x and, with ``derivatives``, (d phi/d h, d phi/d a)."""
         e = ctx.electrolyte
         m = np.asarray(m, dtype=float)
         h, mw = params["h"], MOLAR_MASS_WATER
@@ -76,25 +81,63 @@ class StokesRobinson(ActivityModel):
         s = np.sqrt(i)
         x = ctx.dh.b_gamma_per_angstrom * params["a"] * s
         u = _U[None, :]
-        integrand = u**2 / ((1.0 + x[:, None] * u) ** 2 * (1.0 - r * m[:, None] * u**2))
+        c = r * m
+        bind = 1.0 / (1.0 - c[:, None] * u**2)
+        ion = 1.0 / (1.0 + x[:, None] * u)
+        integrand = u**2 * ion**2 * bind
         integral = integrand @ _W
-        near = r * m > _NEAR_BOUND
+        near = c > _NEAR_BOUND
         if near.any():
-            integral[near] = [_adaptive(float(xk), float(ck)) for xk, ck in zip(x[near], r * m[near])]
-        q = -ctx.dh.a_gamma * e.zz * s * integral  # = (1/m) int_0^m m' f' /(1 - r m')
-        mixing = (np.log1p(p * m) - np.log1p(-r * m)) / (mw * e.nu * m)
-        return mixing + q, s, x
+            integral[near] = [_adaptive(float(xk), float(ck)) for xk, ck in zip(x[near], c[near])]
+        scale = -ctx.dh.a_gamma * e.zz * s
+        q = scale * integral  # = (1/m) int_0^m m' f' /(1 - r m')
+        mixing = (np.log1p(p * m) - np.log1p(-c)) / (mw * e.nu * m)
+        if not derivatives:
+            return mixing + q, s, x, None
+        # d/dc and d/dx of the integral, on the same nodes (adaptive where the peak is narrow)
+        by_c = (integrand * u**2 * bind) @ _W
+        by_x = (-2.0 * integrand * u * ion) @ _W
+        if near.any():
+            by_c[near] = [_adaptive(float(xk), float(ck), (2, 2), 4) for xk, ck in zip(x[near], c[near])]
+            by_x[near] = [-2.0 * _adaptive(float(xk), float(ck), (3, 1), 3)
+                          for xk, ck in zip(x[near], c[near])]
+        d_h = (1.0 / (1.0 - c) - 1.0 / (1.0 + p * m)) / e.nu + scale * by_c * mw * m
+        d_a = scale * by_x * ctx.dh.b_gamma_per_angstrom * s
+        return mixing + q, s, x, (d_h, d_a)
 
     def osmotic(self, m, params, ctx):
         return self._phi(m, params, ctx)[0]
 
     def ln_gamma_pm(self, m, params, ctx):
+        return self._evaluate(m, params, ctx, False)[0]
+
+    def jacobian(self, m, params, ctx):
+        """Analytic derivatives in h and a (the integrals' derivatives on the same nodes)."""
+        return self._evaluate(m, params, ctx, True)[2:]
+
+    def values_and_jacobian(self, m, params, ctx):
+        return self._evaluate(m, params, ctx, True)
+
+    def _evaluate(self, m, params, ctx, derivatives):
         e = ctx.electrolyte
         m = np.asarray(m, dtype=float)
-        phi, s, x = self._phi(m, params, ctx)
+        phi, s, x, d_phi = self._phi(m, params, ctx, derivatives)
         h, mw = params["h"], MOLAR_MASS_WATER
-        return (dh.size_term(ctx.dh.a_gamma, e.zz, s, x) + h * mw * m * phi
-                - np.log1p(mw * (e.nu - h) * m))
+        a_gamma = ctx.dh.a_gamma
+        ln_g = dh.size_term(a_gamma, e.zz, s, x) + h * mw * m * phi - np.log1p(mw * (e.nu - h) * m)
+        if d_phi is None:
+            return ln_g, phi, {}, {}
+        phi_h, phi_a = d_phi
+        # d size_term / d a = A |z+ z-| s x_a / (1 + x)^2, x_a = B s
+        size_a = a_gamma * e.zz * s * ctx.dh.b_gamma_per_angstrom * s / (1.0 + x) ** 2
+        d_ln = {"h": mw * m * phi + h * mw * m * phi_h + mw * m / (1.0 + mw * (e.nu - h) * m),
+                "a": size_a + h * mw * m * phi_a}
+        d_os = {"h": phi_h, "a": phi_a}
+        wrt = ctx.wrt
+        if wrt is not None:
+            d_ln = {k: v for k, v in d_ln.items() if k in wrt}
+            d_os = {k: v for k, v in d_os.items() if k in wrt}
+        return ln_g, phi, d_ln, d_os
 
 
 @hookimpl

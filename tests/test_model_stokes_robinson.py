@@ -65,3 +65,29 @@ def test_osmotic_coefficient_holds_near_the_hydration_limit():
     ev = evaluate(StokesRobinson(), e, m, params, ctx=ctx)
     gd = osmotic_by_gibbs_duhem(StokesRobinson(), m, params, ctx, nodes=1024)
     np.testing.assert_allclose(ev.osmotic, gd, rtol=0, atol=1e-10)
+
+
+@pytest.mark.parametrize("salt,h,a,m", [
+    ("NaCl", 3.5, 3.97, [0.01, 0.5, 2.0, 4.0]),
+    # r m = h m M_w above 0.9: the rows where the derivative integrals go adaptive too
+    ("CaCl2", 12.0, 4.73, [0.5, 0.95 / (12.0 * MOLAR_MASS_WATER), 0.998 / (12.0 * MOLAR_MASS_WATER)]),
+])
+def test_analytic_derivatives_match_central_differences(salt, h, a, m):
+    # d ln gamma± / d p and d phi / d p from the closed-form derivative integrals against central
+    # differences of the model's own values (a step of 1e-6 relative leaves errors near 1e-9;
+    # common practice, no source).
+    from saltbench.models.evaluate import make_context
+
+    e = parse_formula(salt)
+    m = np.asarray(m)
+    model, p = StokesRobinson(), {"h": h, "a": a}
+    ctx = make_context(e)
+    ln, phi, d_ln, d_phi = model.values_and_jacobian(m, p, ctx)
+    np.testing.assert_allclose(ln, model.ln_gamma_pm(m, p, ctx), rtol=1e-14)
+    for name in p:
+        step = 1e-6 * p[name]
+        up, down = dict(p, **{name: p[name] + step}), dict(p, **{name: p[name] - step})
+        num_ln = (model.ln_gamma_pm(m, up, ctx) - model.ln_gamma_pm(m, down, ctx)) / (2 * step)
+        num_phi = (model.osmotic(m, up, ctx) - model.osmotic(m, down, ctx)) / (2 * step)
+        np.testing.assert_allclose(d_ln[name], num_ln, rtol=1e-6, atol=1e-8)
+        np.testing.assert_allclose(d_phi[name], num_phi, rtol=1e-6, atol=1e-8)
