@@ -119,3 +119,23 @@ def parse_formula(formula: str, extra_ions: dict[str, Ion] | None = None) -> Ele
     nu_c = int(n_c) if n_c else 1
     nu_a = int(n_a) if n_a else 1
     return Electrolyte(text, cation, anion, nu_c, nu_a)
+
+
+def _part(formula: str, nu: int) -> str:
+    if nu == 1:
+        return formula
+    several = sum(ch.isupper() for ch in formula) > 1 or any(ch.isdigit() for ch in formula)
+    return f"({formula}){nu}" if several else f"{formula}{nu}"
+
+
+def neutral_salt(cation: Ion, anion: Ion) -> Electrolyte:
+    """The neutral salt of two ions in its smallest whole proportions (Ca+2 and Cl- give CaCl2,
+    NH4+ and SO4-2 give (NH4)2SO4), written as formulas are written in the bundled data."""
+    from math import gcd
+
+    if cation.charge <= 0 or anion.charge >= 0:
+        raise ValueError(f"{cation.name} and {anion.name} are not a cation and an anion")
+    g = gcd(cation.charge, -anion.charge)
+    nu_c, nu_a = -anion.charge // g, cation.charge // g
+    name = _part(cation.formula, nu_c) + _part(anion.formula, nu_a)
+    return Electrolyte(name, cation, anion, nu_c, nu_a)
