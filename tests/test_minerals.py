@@ -198,3 +198,32 @@ def test_duplicates_and_unknown_sources(tmp_path):
     with pytest.raises(InputFileError, match=r"k.csv:2: field 'source': unknown citation key 'crc-ksp-87'"):
         read_mineral_file(path, sources={"other": "Other"})
     assert read_mineral_file(path).minerals[0].label == "fluorite"
+
+
+# -- a described solution through a mixture model -----------------------------------------------------
+def test_a_described_solution_feeds_a_model_and_the_saturation_index(table):
+    # The record's Composition goes to a model as any other (here the Davies plugin, which takes
+    # mixtures); its ln gamma per ion, in the record's ion order, give the same SI as the Davies
+    # formula written out above (C. W. Davies, Ion Association, 1962).
+    from saltbench.chemistry.seawater import reference_seawater
+    from saltbench.models.contract import Conditions, ParameterKey, Request
+    from saltbench.models.evaluate import compute
+    from saltbench.models.quantities import WATER_ACTIVITY, ln_gamma
+    from saltbench.plugins.davies import Davies
+
+    record = reference_seawater(35.0, temperature_k=298.15)
+    comp = record.composition([0.5, 1.0])
+    quantities = tuple(ln_gamma(name) for name in comp.names) + (WATER_ACTIVITY,)
+    params = {ParameterKey("b"): np.array([[0.3]])}  # Davies (1962)
+    request = Request(comp, quantities, params, Conditions.single(debye_huckel_constants(298.15), comp.n), ())
+    out = compute(Davies(), request).values
+    lg = np.column_stack([out[ln_gamma(name)][0] for name in comp.names])
+    a_w = out[WATER_ACTIVITY][0]
+    minerals = minerals_in(table.minerals, comp.names)
+    res = saturation_index(minerals, comp.names, comp.molality, lg, a_w, comp.temperature_k, model="davies")
+    for row in range(comp.n):
+        by_hand = _davies_ln_gamma(comp.charges, float(comp.ionic_strength[row]))
+        hand = saturation_index(minerals, comp.names, comp.molality[row:row + 1], by_hand[None, :],
+                                a_w[row:row + 1], 298.15, model="hand")
+        assert res.si[row] == pytest.approx(hand.si[0], abs=1e-9)
+    assert "gypsum" in res.by_label() and res.model == "davies"
