@@ -29,7 +29,7 @@ from saltbench.chemistry.ions import Ion
 from saltbench.chemistry.seawater import reference_seawater
 from saltbench.chemistry.solution import STANDARD_TEMPERATURE_K
 from saltbench.chemistry.species import Species, parse_species
-from saltbench.curation.blocks import TYPED_FROM_SOURCE, Block, parse_block, parse_float
+from saltbench.curation.blocks import TYPED_FROM_SOURCE, Block, parse_block
 from saltbench.curation.datasets import _declared_ions
 from saltbench.curation.units import parse_temperature
 from saltbench.errors import InputFileError, UserError
