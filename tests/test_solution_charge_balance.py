@@ -9,6 +9,8 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
+from hypothesis import given
+from hypothesis import strategies as st
 
 from saltbench.chemistry.charge_balance import charge_balance
 from saltbench.chemistry.description import SolutionRecord
@@ -85,3 +87,20 @@ def test_closing_with_an_ion_of_the_wrong_sign_is_refused():
         r.closed_with("NaCl")
     with pytest.raises(UserError, match="unknown"):
         r.closed_with("Qq+")
+
+
+_ions = ("Na+", "K+", "Ca+2", "Mg+2", "Cl-", "SO4-2", "HCO3-")
+
+
+@given(st.lists(st.floats(min_value=0.01, max_value=50.0), min_size=7, max_size=7),
+       st.sampled_from(["mmol/kg", "mg/L", "g/kg", "mmol/L"]))
+def test_closing_zeroes_the_balance_on_any_basis(values, unit):
+    # whatever the analysis and its basis, the named ion of the deficient sign closes the balance to
+    # rounding and leaves every other amount as analysed (electroneutrality; common practice, no source)
+    r = _record(dict(zip(_ions, values)), unit, 1.02 if unit.endswith("/L") else None)
+    ion = "Cl-" if r.charge_balance.difference_eq[0] > 0 else "Na+"
+    closed = r.closed_with(ion)
+    assert abs(closed.charge_balance.percent[0]) < 1e-9
+    kept = [k for k, name in enumerate(_ions) if name != ion]
+    assert closed.amounts[kept].tolist() == r.amounts[kept].tolist()
+    assert closed.adjustment.amount > 0
