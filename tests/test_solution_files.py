@@ -184,3 +184,12 @@ def test_read_solution_tells_a_file_from_the_inline_form(tmp_path):
 def test_density_units(text, kg_per_l):
     # 1 g/mL = 1 g/cm3 = 1 kg/L = 1000 kg/m3 (SI prefixes; common practice, no source)
     assert parse_density(text).value == pytest.approx(kg_per_l, rel=1e-12)
+
+
+def test_the_invented_example_reads_and_says_it_is_invented():
+    # the README walk-through's analysis (refdata/examples/solutions, invented): it must stay readable,
+    # be marked invented, and balance within Standard Methods 1030 E's 5 % (from memory of 1030 E)
+    path = Path(__file__).resolve().parents[1] / "refdata" / "examples" / "solutions" / "kestrel-bay-concentrate.csv"
+    r = read_solution_file(path)
+    assert r.typed.startswith("invented") and "(invented)" in r.name
+    assert r.charge_balance.acceptable[0] and r.cautions == ()
