@@ -81,6 +81,10 @@ def test_molality_passes_through_and_salts_add_to_their_ions():
     comp = r.composition([1.0, 2.0])
     assert comp.molality[1] == pytest.approx(2 * comp.molality[0], rel=1e-15)
     assert comp.ionic_strength == pytest.approx([0.56, 1.12], rel=1e-14)
+    # scaled to chosen ionic strengths: I is linear in the factor (I = 1/2 sum m z^2)
+    at = r.composition(r.factors_for_ionic_strength([0.1, 1.0, 3.0]))
+    assert at.ionic_strength == pytest.approx([0.1, 1.0, 3.0], rel=1e-14)
+    assert at.molality[2] / at.molality[0] == pytest.approx(np.full(3, 30.0), rel=1e-14)
 
 
 # -- round trips ---------------------------------------------------------------------------------------

@@ -154,6 +154,17 @@ class SolutionRecord:
                            None if pressure_pa is None else np.full(f.size, float(pressure_pa)),
                            tuple(dict.fromkeys(self.salts)))
 
+    def factors_for_ionic_strength(self, ionic_strength: Sequence[float] | np.ndarray) -> np.ndarray:
+        """Concentration factors (see :meth:`concentrated`) that bring the solution to each ionic
+        strength asked (mol/kg); I is linear in the factor, so they are exact. For
+        ``record.composition(factors)``."""
+        target = np.atleast_1d(np.asarray(ionic_strength, dtype=float))
+        if target.ndim != 1 or np.any(~np.isfinite(target)) or np.any(target <= 0):
+            raise UserError("ionic strengths to scale to must be positive numbers (mol/kg)")
+        if self.ionic_strength <= 0:
+            raise UserError(f"solution {self.name} has no ions to scale")
+        return target / self.ionic_strength
+
     # -- new records ------------------------------------------------------------------------
     def concentrated(self, factor: float) -> SolutionRecord:
         """The solution with water taken away and every solute kept: each molality times
