@@ -1,0 +1,148 @@
+"""Solubility-product files (format in DEVELOPERS.md, "Solubility products"): one table, one
+source, one temperature, a row per mineral.
+
+The bundled file is ``refdata/minerals/ksp-crc-87.csv``, written by
+``refdata/tools/transcribe_ksp.py``; its citation is in ``minerals.sources.txt`` beside it.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from importlib import resources
+from pathlib import Path
+
+from saltbench.chemistry.electrolyte import parse_formula
+from saltbench.chemistry.ions import KNOWN_IONS, Ion
+from saltbench.chemistry.minerals import Mineral
+from saltbench.curation.bibliography import read_bibliography
+from saltbench.curation.blocks import TYPED_FROM_SOURCE, parse_block, parse_float
+from saltbench.errors import InputFileError, UserError
+
+MAGIC = "saltbench minerals"
+KNOWN_FIELDS = {"source", "table", "temperature", "typed", "note"}
+COLUMNS = ["name", "mineral", "formula", "cation", "nu_cation", "anion", "nu_anion", "water", "ksp",
+           "log10_ksp"]
+#: log10_ksp must equal log10(ksp) to its four printed decimals (half a unit of the last one).
+LOG_TOLERANCE = 0.5e-4 + 1e-12
+BUNDLED = "ksp-crc-87.csv"
+
+
+@dataclass(frozen=True)
+class MineralTable:
+    """A read solubility-product file: its minerals and provenance."""
+
+    path: str
+    source: str
+    citation: str
+    table: str
+    temperature_k: float
+    typed: str
+    note: str
+    minerals: tuple[Mineral, ...]
+
+    def find(self, name: str) -> Mineral:
+        """A mineral by its mineral name, its table name or its formula (case-insensitive)."""
+        key = name.strip().lower()
+        for m in self.minerals:
+            if key in (m.mineral.lower(), m.name.lower(), m.formula.lower()):
+                return m
+        known = ", ".join(m.label for m in self.minerals)
+        raise UserError(f"no solubility product for {name!r} in {self.source} (known: {known})")
+
+
+def _ion(path: str, line: int, field: str, text: str, nu_text: str, positive: bool) -> tuple[Ion, int]:
+    from saltbench.chemistry.species import parse_species
+
+    try:
+        species = parse_species(text)
+    except ValueError as exc:
+        raise InputFileError(path, line, field, str(exc)) from None
+    if species.is_salt or (species.charge > 0) != positive:
+        raise InputFileError(path, line, field, f"{text} is not {'a cation' if positive else 'an anion'}")
+    try:
+        nu = int(nu_text)
+    except ValueError:
+        raise InputFileError(path, line, f"nu_{field}", f"not a whole number: {nu_text!r}") from None
+    if nu < 1:
+        raise InputFileError(path, line, f"nu_{field}", "must be at least 1")
+    return species.parts[0][0], nu
+
+
+def read_mineral_file(path: str | Path, sources: dict[str, str] | None = None,
+                      text: str | None = None) -> MineralTable:
+    """Read one solubility-product file. ``sources`` maps citation keys to citations; when
+    given, the file's ``source`` must be one of them. Raises InputFileError naming FILE:LINE: field."""
+    b = parse_block(path, MAGIC, text=text)
+    p = b.path
+    b.check_fields(KNOWN_FIELDS)
+    if b.columns != COLUMNS:
+        raise InputFileError(p, b.columns_line, None, f"expected the columns {','.join(COLUMNS)!r}")
+    source = b.require("source")
+    citation = source.value
+    if sources is not None:
+        if source.value not in sources:
+            raise InputFileError(p, source.line, "source", f"unknown citation key {source.value!r}")
+        citation = sources[source.value]
+    temperature_k = b.temperature_k()
+    typed = b.typed(TYPED_FROM_SOURCE).value
+    minerals: list[Mineral] = []
+    seen: dict[str, int] = {}
+    for n, row in b.rows:
+        name = row["name"]
+        if not name:
+            raise InputFileError(p, n, "name", "empty")
+        for key in {name.lower(), row["mineral"].lower()} - {""}:
+            if key in seen:
+                raise InputFileError(p, n, "name", f"{key} appears twice (also on line {seen[key]})")
+            seen[key] = n
+        cation = _ion(p, n, "cation", row["cation"], row["nu_cation"], True)
+        anion = _ion(p, n, "anion", row["anion"], row["nu_anion"], False)
+        if cation[0].charge * cation[1] + anion[0].charge * anion[1] != 0:
+            raise InputFileError(p, n, "nu_anion", "the ions are not electroneutral in these numbers")
+        try:
+            water = int(row["water"])
+        except ValueError:
+            raise InputFileError(p, n, "water", f"not a whole number: {row['water']!r}") from None
+        if water < 0:
+            raise InputFileError(p, n, "water", "must not be negative")
+        _check_formula(p, n, row["formula"], cation, anion, water)
+        ksp = parse_float(p, n, "ksp", row["ksp"])
+        if not (0 < ksp < 1e3):
+            raise InputFileError(p, n, "ksp", f"{ksp:g} is not a solubility product (0 < Ksp)")
+        log10 = parse_float(p, n, "log10_ksp", row["log10_ksp"])
+        if abs(log10 - math.log10(ksp)) > LOG_TOLERANCE:
+            raise InputFileError(p, n, "log10_ksp", f"{log10:g} is not log10 of the Ksp {row['ksp']} "
+                                 f"({math.log10(ksp):.4f})")
+        minerals.append(Mineral(name, row["mineral"], row["formula"], (cation, anion), water,
+                                math.log10(ksp), temperature_k, citation))
+    if not minerals:
+        raise InputFileError(p, b.columns_line, None, "the table has no rows")
+    return MineralTable(p, source.value, citation, b.require("table").value, temperature_k, typed,
+                        b.get("note", "") or "", tuple(minerals))
+
+
+def _check_formula(path: str, line: int, formula: str, cation: tuple[Ion, int], anion: tuple[Ion, int],
+                   water: int) -> None:
+    """The formula column must say what the ion columns say (X or X(H2O)n)."""
+    salt_text = formula
+    suffix = f"(H2O){water}"
+    if water:
+        if not formula.endswith(suffix):
+            raise InputFileError(path, line, "formula", f"{formula} does not end in {suffix} "
+                                 f"(water column says {water})")
+        salt_text = formula[: -len(suffix)]
+    try:
+        salt = parse_formula(salt_text, {i.formula: i for i, _ in (cation, anion) if i.formula not in KNOWN_IONS})
+    except ValueError as exc:
+        raise InputFileError(path, line, "formula", str(exc)) from None
+    if (salt.cation, salt.nu_cation, salt.anion, salt.nu_anion) != (*cation, *anion):
+        raise InputFileError(path, line, "formula", f"{formula} is not {cation[1]} {cation[0].name} + "
+                             f"{anion[1]} {anion[0].name}")
+
+
+def bundled_minerals() -> MineralTable:
+    """The bundled table of solubility products (CRC Handbook, 87th ed.), citation resolved."""
+    root = Path(str(resources.files("saltbench.refdata"))) / "minerals"
+    sources = {s.key: s.citation() for s in read_bibliography(root / "minerals.sources.txt")}
+    return read_mineral_file(root / BUNDLED, sources)
