@@ -20,6 +20,8 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
 from scipy.integrate import quad
 
 from saltbench.chemistry.electrolyte import parse_formula
@@ -384,3 +386,48 @@ def test_the_kit_holds_each_rule_to_its_declared_defect():
     assert any("cross-differentials differ" in p and "NaCl + MgSO4" in p
                for p in check_model(_BromleyUndeclared()))
     assert any("beyond the mixing-rule defect" in p for p in check_model(_BromleyUnderstated()))
+
+
+# -- random solutions (hypothesis) --------------------------------------------------------------
+SALTS = ("NaCl", "KCl", "MgCl2", "CaCl2", "Na2SO4", "MgSO4")
+# Parameter windows around published magnitudes (Bromley 1973 B about -0.05 to 0.15; Kusik and
+# Meissner 1978 q about -1 to 7; Kielland ion sizes 3 to 9 Å; Truesdell-Jones b about -0.1 to
+# 0.2; all from memory of those papers), so the random draws stay where the rules are used.
+WINDOWS = {"B": (-0.1, 0.3), "q": (-1.0, 8.0), "a": (3.0, 9.0), "b": (-0.1, 0.2),
+           "b_dot": (0.0, 0.1)}
+RANDOM_MODELS = (Bromley(), Meissner(), TruesdellJones(), BDot())
+
+
+@settings(max_examples=25, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(data=st.data())
+@pytest.mark.parametrize("model", RANDOM_MODELS, ids=[m.id for m in RANDOM_MODELS])
+def test_random_mixtures_keep_gibbs_duhem_along_dilution(model, data):
+    # For any composition and any parameters in the windows: phi equals
+    # 1 + sum_s nu_s m_s [ln gamma±_s - int_0^1 ln gamma±_s(u^2 m) 2u du] / sum_i m_i (Robinson
+    # and Stokes 1959, ch. 2, at fixed fractions), the integral by numpy's 48-point
+    # Gauss-Legendre rule (not the harness's 64-point one), to 1e-8; and
+    # a_w = exp(-M_w phi sum_i m_i) (IUPAC Green Book, 3rd ed., 2007, 2.13) to 1e-12, with
+    # M_w = 18.015 g/mol from the IUPAC standard atomic weights H 1.008, O 15.999 (from memory
+    # of the IUPAC 2021 abridged table).
+    names = data.draw(st.lists(st.sampled_from(SALTS), min_size=2, max_size=4, unique=True))
+    amounts = data.draw(st.lists(st.floats(0.01, 1.0), min_size=len(names), max_size=len(names)))
+    target_i = data.draw(st.floats(0.01, 2.0))
+    unit = Composition.of_salts([(parse_formula(s), x) for s, x in zip(names, amounts)])
+    k = target_i / unit.ionic_strength[0]
+    salts = [parse_formula(s) for s in names]
+    comp = Composition.of_salts([(e, x * k) for e, x in zip(salts, amounts)])
+    values = {key: data.draw(st.floats(*WINDOWS[key.name])) for key in model.keys_for(comp)}
+    means = tuple(ln_gamma_pm(e.name) for e in salts)
+    got = _ask(model, comp, values, means + (OSMOTIC, WATER_ACTIVITY))
+    x, w = np.polynomial.legendre.leggauss(48)
+    u, w = 0.5 * (x + 1.0), 0.5 * w
+    path = _ask(model, comp.with_molality(comp.molality[0][None, :] * (u**2)[:, None]), values,
+                means)
+    total = comp.molality[0].sum()
+    phi = 1.0
+    for e, x_s in zip(salts, amounts):
+        integral = float(np.sum(path[ln_gamma_pm(e.name)] * 2.0 * u * w))
+        phi += e.nu * x_s * k * (float(got[ln_gamma_pm(e.name)][0]) - integral) / total
+    assert got[OSMOTIC][0] == pytest.approx(phi, abs=1e-8)
+    assert got[WATER_ACTIVITY][0] == pytest.approx(np.exp(-0.018015 * total * got[OSMOTIC][0]),
+                                                   rel=1e-12)
