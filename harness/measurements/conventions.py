@@ -173,7 +173,7 @@ def model_single_ion(composition: SaltAmounts, model: SolutionModel, label: str,
     limiting law, Davies, SIT...): ``model`` is any solution model that computes ``ln_gamma``
     of ions for mixtures; ``params`` gives its keyed parameters (others at their defaults)."""
     ions, mol, i, dh, solution = _setup(composition, temperature_k, dh)
-    if "ln_gamma" not in model.computes or not model.supports_composition(solution):
+    if not model.supports_composition(solution) or "ln_gamma" not in model.computes_for(solution):
         raise UserError(f"model {model.id} gives no single-ion values for this solution")
     keys = model.keys_for(solution)
     given = dict(params or {})

@@ -289,6 +289,26 @@ class SolutionModel:
     #: Whether ``compute`` takes solutions of several salts (not only one salt's ions).
     mixtures: bool = False
 
+    def mixing_rule_defect(self, composition: Composition, values: Mapping[ParameterKey, float],
+                           dh: DebyeHuckel) -> float | None:
+        """How far this model's mixture rule may break the cross-differential identity.
+
+        ``None`` (the default) for a model whose mixture values are the derivatives of one
+        excess Gibbs energy: the contract kit holds the identity to 1e-6 relative. A published
+        mixing rule that is not so derivable (Bromley's, b-dot's) returns the largest defect
+        |nu_j d ln gamma±_j/d m_k - nu_k d ln gamma±_k/d m_j| in kg/mol it is known to have for
+        ``composition`` at the parameter ``values`` (every key of ``keys_for``) and the
+        Debye-Hückel constants ``dh``, derived or measured and explained in the model's module.
+        The kit adds it to its tolerance, so the exception is written down and a defect that
+        grows still fails.
+        """
+        return None
+
+    def computes_for(self, composition: Composition) -> frozenset[str]:
+        """The quantity kinds ``compute`` returns itself for ``composition`` (``computes``
+        unless a model gives more for mixtures than its one-salt form does)."""
+        return self.computes
+
     # -- what a plugin implements -------------------------------------------------------------
     def compute(self, request: Request) -> Computed:
         """The quantities of ``request`` for its composition, with derivatives if asked."""

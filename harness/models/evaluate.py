@@ -133,14 +133,15 @@ def compute(model: SolutionModel, request: Request) -> Computed:
         raise ModelDomainError(f"model {model.id} does not take a solution of "
                                f"{', '.join(comp.names)}")
     wanted = set(request.quantities)
-    own = tuple(q for q in request.quantities if q.kind in model.computes)
+    gives = model.computes_for(comp)
+    own = tuple(q for q in request.quantities if q.kind in gives)
     salt = comp.single_salt
-    need_phi = (OSMOTIC in wanted or WATER_ACTIVITY in wanted) and "osmotic" not in model.computes
+    need_phi = (OSMOTIC in wanted or WATER_ACTIVITY in wanted) and "osmotic" not in gives
     if need_phi and salt is not None:
         own += (ln_gamma_pm(salt.name),)
-    elif need_phi and "water_activity" not in model.computes:
+    elif need_phi and "water_activity" not in gives:
         raise ModelDomainError(f"model {model.id} gives no osmotic coefficient for mixtures")
-    if (WATER_ACTIVITY in wanted and WATER_ACTIVITY not in own and "osmotic" in model.computes):
+    if (WATER_ACTIVITY in wanted and WATER_ACTIVITY not in own and "osmotic" in gives):
         own += (OSMOTIC,)
     out = call_model(model, "compute", replace(request, quantities=tuple(dict.fromkeys(own))))
     shape = (request.n_sets, comp.n)
