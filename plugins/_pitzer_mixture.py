@@ -65,29 +65,96 @@ def _g_terms(x: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndar
     return e, g, gp, dg, dgp
 
 
+def _rows(request: Request, keys: list[ParameterKey]) -> int:
+    """N when any of ``keys`` varies by row (a temperature form), else 1."""
+    n = request.composition.n
+    return n if any(request.value(k).shape[1] != 1 for k in keys) else 1
+
+
+def _gather(request: Request, keys: list[ParameterKey], rows: int) -> np.ndarray:
+    """The values of ``keys`` stacked on a last axis: (S, rows, len(keys))."""
+    out = np.empty((request.n_sets, rows, len(keys)))
+    for j, key in enumerate(keys):
+        out[:, :, j] = np.broadcast_to(request.value(key), out.shape[:2])
+    return out
+
+
+def _apply(w: np.ndarray, p: np.ndarray) -> np.ndarray:
+    """sum_m w[n, m] p[s, n, k, m] -> (S, N, K): a matrix product when p is the same for every
+    row (its axis 1 of length 1), elementwise otherwise."""
+    if p.shape[1] == 1:
+        return np.matmul(w[None], p[:, 0].swapaxes(-1, -2))
+    return np.einsum("nm,snkm->snk", w, p)
+
+
+def _dot(w: np.ndarray, p: np.ndarray) -> np.ndarray:
+    """sum_m w[n, m] p[s, n, m] -> (S, N), as :func:`_apply`."""
+    return _apply(w, p[:, :, None, :])[:, :, 0]
+
+
 class _Pairs:
-    """Per cation-anion pair arrays (S, N, Kc, Ka) of one composition and request."""
+    """Per cation-anion pair values (S, Np, Kc, Ka) (Np = 1 unless they vary by row) and the
+    functions of alpha sqrt(I) (S or 1, N, Kc, Ka) of one request."""
 
     def __init__(self, request: Request, cations: list[str], anions: list[str],
-                 alphas, s: np.ndarray) -> None:
-        shape = (request.n_sets, request.composition.n, len(cations), len(anions))
-        self.shape = shape
-        self.values: dict[str, np.ndarray] = {}
-        for name in (*_LINEAR_PAIR, "alpha1", "alpha2"):
-            arr = np.empty(shape)
-            for ci, c in enumerate(cations):
-                for ai, a in enumerate(anions):
-                    arr[:, :, ci, ai] = np.broadcast_to(
-                        request.value(ParameterKey(name, (c, a))), shape[:2])
-            self.values[name] = arr
-        # 0 stands for the charge-type default (see Pitzer.alphas_for)
-        for name in ("alpha1", "alpha2"):
-            arr = self.values[name]
-            zero = arr == 0.0
-            if zero.any():
-                arr[zero] = np.broadcast_to(alphas[name], shape)[zero]
-        root = s[None, :, None, None]
-        self.terms = {k: _g_terms(self.values[f"alpha{k}"] * root) for k in (1, 2)}
+                 alphas: dict[str, np.ndarray], s: np.ndarray) -> None:
+        kc, ka = len(cations), len(anions)
+        names = (*_LINEAR_PAIR, "alpha1", "alpha2")
+        keys = [ParameterKey(name, (c, a)) for name in names for c in cations for a in anions]
+        rows = _rows(request, keys)
+        flat = _gather(request, keys, rows).reshape(request.n_sets, rows, len(names), kc, ka)
+        self.values = {name: flat[:, :, j] for j, name in enumerate(names)}
+        self.terms = {}
+        for k in (1, 2):
+            name = f"alpha{k}"
+            # 0 stands for the charge-type default (see Pitzer.alphas_for)
+            alpha = np.where(self.values[name] == 0.0, alphas[name], self.values[name])
+            self.values[name] = alpha
+            if alpha.shape[:2] == (1, 1):
+                # one alpha per pair for all rows and sets: one function of sqrt(I) per distinct
+                # value (2.0, 1.4, 12 in practice), gathered to the pairs
+                unique, where = np.unique(alpha[0, 0], return_inverse=True)
+                terms = _g_terms(unique[:, None] * s[None, :])  # each (U, N)
+                idx = where.reshape(kc, ka)
+                self.terms[k] = tuple(part.T[None, :, idx] for part in terms)
+            else:
+                self.terms[k] = _g_terms(alpha * s[None, :, None, None])
+
+
+def _like(request: Request, names: list[str], charges: np.ndarray, others: list[str],
+          cation_side: bool, i: np.ndarray, a_phi: np.ndarray, cache: dict):
+    """theta (S, Np, K', K'), Etheta and Etheta' (N, K', K') of the like-charged ions ``names``
+    and psi (S, Np, K', K', K_other) of their triplets with ``others`` (zero on the diagonals)."""
+    kk, ko = len(names), len(others)
+    n_sets = request.n_sets
+    pairs = [(p, q) for p in range(kk) for q in range(p + 1, kk)]
+    t_keys = [ParameterKey("theta", (names[p], names[q])) for p, q in pairs]
+    p_keys = [ParameterKey("psi", (names[p], names[q], o) if cation_side
+                           else (o, names[p], names[q])) for p, q in pairs for o in others]
+    rows = _rows(request, t_keys + p_keys)
+    theta = np.zeros((n_sets, rows, kk, kk))
+    psi = np.zeros((n_sets, rows, kk, kk, ko))
+    n = request.composition.n
+    et = np.zeros((n, kk, kk))
+    etp = np.zeros((n, kk, kk))
+    if pairs:
+        tv = _gather(request, t_keys, rows)
+        pv = _gather(request, p_keys, rows).reshape(n_sets, rows, len(pairs), ko)
+        for j, (p, q) in enumerate(pairs):
+            theta[:, :, p, q] = theta[:, :, q, p] = tv[:, :, j]
+            psi[:, :, p, q] = psi[:, :, q, p] = pv[:, :, j]
+            if charges[p] != charges[q]:
+                zz = tuple(sorted((float(charges[p]), float(charges[q]))))
+                if zz not in cache:  # one evaluation per pair of charges, for both signs
+                    cache[zz] = etheta(zz[0], zz[1], i, a_phi)
+                et[:, p, q] = et[:, q, p] = cache[zz][0]
+                etp[:, p, q] = etp[:, q, p] = cache[zz][1]
+    return theta, et, etp, psi
+
+
+def _outer(x: np.ndarray, y: np.ndarray) -> np.ndarray:
+    """x[n, i] y[n, j] flattened to (N, I*J)."""
+    return (x[:, :, None] * y[:, None, :]).reshape(x.shape[0], -1)
 
 
 def compute_mixture(request: Request, default_alphas) -> Computed:
@@ -106,6 +173,7 @@ def compute_mixture(request: Request, default_alphas) -> Computed:
     an = np.flatnonzero(z < 0)
     cations = [comp.names[j] for j in cat]
     anions = [comp.names[j] for j in an]
+    kc, ka = len(cat), len(an)
     zc, za = z[cat], -z[an]
     mc, ma = m[:, cat], m[:, an]
     i = comp.ionic_strength
@@ -119,82 +187,67 @@ def compute_mixture(request: Request, default_alphas) -> Computed:
     b = np.broadcast_to(request.value(ParameterKey("b")), (n_sets, n))
 
     defaults = np.array([[default_alphas(int(c), int(a)) for a in za] for c in zc]).reshape(
-        len(cat), len(an), 2)
+        kc, ka, 2)
     alphas = {"alpha1": defaults[:, :, 0], "alpha2": defaults[:, :, 1]}
     pairs = _Pairs(request, cations, anions, alphas, s)
     pv = pairs.values
-    e1, g1, gp1, dg1, dgp1 = pairs.terms[1]
-    e2, g2, gp2, dg2, dgp2 = pairs.terms[2]
-    inv_i = (1.0 / i_safe)[None, :, None, None]
-    b_phi = pv["beta0"] + pv["beta1"] * e1 + pv["beta2"] * e2
-    b_mx = pv["beta0"] + pv["beta1"] * g1 + pv["beta2"] * g2
-    b_prime = (pv["beta1"] * gp1 + pv["beta2"] * gp2) * inv_i
-    c_scale = 1.0 / (2.0 * np.sqrt(np.outer(zc, za)))  # (Kc, Ka)
-    c_mx = pv["C_phi"] * c_scale
+    e1, g1, gp1 = pairs.terms[1][:3]
+    e2, g2, gp2 = pairs.terms[2][:3]
     mca = mc[:, :, None] * ma[:, None, :]  # (N, Kc, Ka)
+    mca_flat = mca.reshape(n, -1)
+    # the parts of B, B' and B^phi that vary with I, summed over the pairs where weighted
+    b_phi = pv["beta1"] * e1 + pv["beta2"] * e2  # + beta0
+    b_mx = pv["beta1"] * g1 + pv["beta2"] * g2  # + beta0
+    b_prime_sum = ((pv["beta1"] * gp1 + pv["beta2"] * gp2) * mca).reshape(
+        b_mx.shape[0], n, -1).sum(axis=-1) / i_safe
+    c_scale = 1.0 / (2.0 * np.sqrt(np.outer(zc, za)))  # (Kc, Ka)
+    c_mx = pv["C_phi"] * c_scale  # (S, Np, Kc, Ka)
+    beta0 = pv["beta0"]
 
-    # like-charged pairs: theta (S, N, K', K'), Etheta (N, K', K'), and psi of the triplets
-    def like(names: list[str], charges: np.ndarray, others: list[str], cation_side: bool):
-        kk = len(names)
-        theta = np.zeros((n_sets, n, kk, kk))
-        et = np.zeros((n, kk, kk))
-        etp = np.zeros((n, kk, kk))
-        psi = np.zeros((n_sets, n, kk, kk, len(others)))
-        for p in range(kk):
-            for q in range(p + 1, kk):
-                t = np.broadcast_to(request.value(ParameterKey("theta", (names[p], names[q]))),
-                                    (n_sets, n))
-                theta[:, :, p, q] = theta[:, :, q, p] = t
-                if charges[p] != charges[q]:
-                    e, ep = etheta(float(charges[p]), float(charges[q]), i, a_phi)
-                    et[:, p, q] = et[:, q, p] = e
-                    etp[:, p, q] = etp[:, q, p] = ep
-                for o, other in enumerate(others):
-                    owner = ((names[p], names[q], other) if cation_side
-                             else (other, names[p], names[q]))
-                    v = np.broadcast_to(request.value(ParameterKey("psi", owner)), (n_sets, n))
-                    psi[:, :, p, q, o] = psi[:, :, q, p, o] = v
-        return theta, et, etp, psi
-
-    th_c, et_c, etp_c, psi_c = like(cations, zc, anions, True)
-    th_a, et_a, etp_a, psi_a = like(anions, za, cations, False)
-    phi_c, phi_a = th_c + et_c, th_a + et_a
-    iv = i[:, None, None]
-    phiphi_c = phi_c + iv * etp_c
-    phiphi_a = phi_a + iv * etp_a
+    cache: dict = {}
+    th_c, et_c, etp_c, psi_c = _like(request, cations, zc, anions, True, i, a_phi, cache)
+    th_a, et_a, etp_a, psi_a = _like(request, anions, za, cations, False, i, a_phi, cache)
 
     # F and the Debye-Hückel parts
     one_bs = 1.0 + b * s
-    f_dh = -a_phi * (s / one_bs + (2.0 / b) * np.log1p(b * s))  # (S, N)
-    f = (f_dh + np.einsum("nca,snca->sn", mca, b_prime)
+    f = (-a_phi * (s / one_bs + (2.0 / b) * np.log1p(b * s)) + b_prime_sum
          + 0.5 * np.einsum("nc,nd,ncd->n", mc, mc, etp_c)
          + 0.5 * np.einsum("na,nb,nab->n", ma, ma, etp_a))
-    c_sum = np.einsum("nca,snca->sn", mca, c_mx)
+    c_sum = _dot(mca_flat, c_mx.reshape(c_mx.shape[0], c_mx.shape[1], -1))  # (S, N)
+    zc_ = big_z[None, :, None]
 
+    # cations: sum_a m_a (2 B_Ma + Z C_Ma) + 2 sum_c m_c Phi_Mc + psi terms + |z_M| sum C
     ln_c = (zc**2 * f[:, :, None]
-            + np.einsum("na,snca->snc", ma, 2.0 * b_mx + big_z[None, :, None, None] * c_mx)
-            + 2.0 * np.einsum("nd,sncd->snc", mc, phi_c)
-            + np.einsum("nda,sncda->snc", mca, psi_c)
-            + 0.5 * np.einsum("na,nb,snabc->snc", ma, ma, psi_a)
+            + 2.0 * (b_mx * ma[None, :, None, :]).sum(axis=-1)
+            + _apply(ma, 2.0 * beta0) + zc_ * _apply(ma, c_mx)
+            + 2.0 * _apply(mc, th_c) + 2.0 * np.einsum("nd,ncd->nc", mc, et_c)[None]
+            + _apply(mca_flat, psi_c.reshape(*psi_c.shape[:3], -1))
+            + 0.5 * _apply(_outer(ma, ma), psi_a.transpose(0, 1, 4, 2, 3).reshape(
+                *psi_a.shape[:2], kc, -1))
             + zc * c_sum[:, :, None])
-    # ln gamma_X: sum_a m_a sum_c m_c psi_cXa = sum_b sum_c m_b m_c psi_a[X, b, c]
     ln_a = (za**2 * f[:, :, None]
-            + np.einsum("nc,snca->sna", mc, 2.0 * b_mx + big_z[None, :, None, None] * c_mx)
-            + 2.0 * np.einsum("nb,snab->sna", ma, phi_a)
-            + np.einsum("ncb,snabc->sna", mca, psi_a)
-            + 0.5 * np.einsum("nc,nd,sncda->sna", mc, mc, psi_c)
+            + 2.0 * (b_mx * mc[None, :, :, None]).sum(axis=-2)
+            + _apply(mc, 2.0 * beta0.swapaxes(-1, -2)) + zc_ * _apply(mc, c_mx.swapaxes(-1, -2))
+            + 2.0 * _apply(ma, th_a) + 2.0 * np.einsum("nb,nab->na", ma, et_a)[None]
+            + _apply(_outer(ma, mc), psi_a.reshape(*psi_a.shape[:3], -1))
+            + 0.5 * _apply(_outer(mc, mc), psi_c.transpose(0, 1, 4, 2, 3).reshape(
+                *psi_c.shape[:2], ka, -1))
             + za * c_sum[:, :, None])
     ln_ions = np.empty((n_sets, n, k_ions))
     ln_ions[:, :, cat] = ln_c
     ln_ions[:, :, an] = ln_a
 
+    mcc, maa = _outer(mc, mc), _outer(ma, ma)
     excess = (-a_phi * i * s / one_bs
-              + np.einsum("nca,snca->sn", mca, b_phi + big_z[None, :, None, None] * c_mx)
-              + 0.5 * np.einsum("nc,nd,sncd->sn", mc, mc, phiphi_c)
-              + 0.5 * np.einsum("nc,nd,na,sncda->sn", mc, mc, ma, psi_c)
-              + 0.5 * np.einsum("na,nb,snab->sn", ma, ma, phiphi_a)
-              + 0.5 * np.einsum("na,nb,nc,snabc->sn", ma, ma, mc, psi_a))
-    osm = 1.0 + 2.0 * excess / total_safe
+              + (b_phi * mca).reshape(b_phi.shape[0], n, -1).sum(axis=-1)
+              + _dot(mca_flat, beta0.reshape(*beta0.shape[:2], -1)) + big_z * c_sum
+              + 0.5 * _dot(mcc, th_c.reshape(*th_c.shape[:2], -1))
+              + 0.5 * (mcc * (et_c + i[:, None, None] * etp_c).reshape(n, -1)).sum(axis=-1)
+              + 0.5 * _dot(_outer(mcc, ma), psi_c.reshape(*psi_c.shape[:2], -1))
+              + 0.5 * _dot(maa, th_a.reshape(*th_a.shape[:2], -1))
+              + 0.5 * (maa * (et_a + i[:, None, None] * etp_a).reshape(n, -1)).sum(axis=-1)
+              + 0.5 * _dot(_outer(maa, mc), psi_a.reshape(*psi_a.shape[:2], -1)))
+    osm = 1.0 + 2.0 * np.broadcast_to(excess, (n_sets, n)) / total_safe
 
     d_ions, d_osm = _derivatives(request, comp, cations, anions, cat, an, pairs, s, i_safe,
                                  big_z, total_safe, b, a_phi)
