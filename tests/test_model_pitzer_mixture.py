@@ -292,3 +292,25 @@ def test_the_limiting_law_for_every_ion():
     for ion in SEA_IONS:
         expected = -3 * 0.392 * ion.charge**2 * root
         assert out[ln_gamma(ion.name)][0, 0] == pytest.approx(expected, rel=1e-3)
+
+
+def test_parameters_that_vary_by_row_give_each_row_its_own_values():
+    # values (S, N) (a temperature form evaluated per row) against one row at a time; alphas
+    # that differ between two sets take the general path of the alpha functions
+    comp = Composition(SEA_IONS, SEA_M, np.full(2, 298.15))
+    a, b = _values(comp, 3), _values(comp, 4)
+    per_row = {k: np.array([[a[k][0, 0], b[k][0, 0]]]) for k in a}
+    qs = _all(comp)
+    out = _run(comp, per_row, qs, tuple(per_row)).values
+    for row, vals in ((0, a), (1, b)):
+        one = _run(comp.rows(slice(row, row + 1)), vals, qs).values
+        for q in qs:
+            np.testing.assert_allclose(out[q][0, row], one[q][0, 0], rtol=1e-13)
+    key = ParameterKey("alpha1", ("Mg+2", "Cl-"))
+    two = {k: np.vstack([v, v]) for k, v in a.items()}
+    two[key] = np.array([[2.0], [2.5]])
+    both = _run(comp, two, qs).values
+    alt = _run(comp, {**a, key: np.array([[2.5]])}, qs).values
+    for q in qs:
+        np.testing.assert_allclose(both[q][1], alt[q][0], rtol=1e-13)
+        np.testing.assert_allclose(both[q][0], _run(comp, a, qs).values[q][0], rtol=1e-13)
