@@ -1,4 +1,4 @@
-"""Pitzer's ion-interaction equations for a single salt M(nu+) X(nu-) in water.
+"""Pitzer's ion-interaction equations: a single salt M(nu+) X(nu-) in water, and mixtures.
 
 Sources: K. S. Pitzer, J. Phys. Chem. 77, 268 (1973), eqs. 7, 17, 18 (f^phi, f^gamma) and
 K. S. Pitzer and G. Mayorga, J. Phys. Chem. 77, 2300 (1973), eqs. 3-7 (B^phi, B^gamma, C);
@@ -27,6 +27,13 @@ alpha1 and alpha2 are fixed by default at Pitzer's values for the charge type: a
 
 Cost per evaluation: one sqrt, one log1p, and one exp per alpha in use (two at most), whatever
 the number of molalities (see ``tests/test_model_pitzer.py``).
+
+Mixtures: any other composition (several salts, or ions given without salts), and single-ion
+values, are computed by Pitzer's mixture equations in the form of Harvie, Møller and Weare
+(1984), with theta, psi and the unsymmetrical terms of Pitzer (1975): see
+:mod:`saltbench.plugins._pitzer_mixture` and :mod:`saltbench.plugins._etheta`. For one salt
+they give the equations above (to 1e-12, ``tests/test_model_pitzer_mixture.py``); the code above
+stays the one-salt path, as fast as it was.
 """
 
 from __future__ import annotations
@@ -135,8 +142,10 @@ class Pitzer(ActivityModel):
              "set's m_max is the highest molality its authors fitted (lower for 2-1, 3-1, 2-2); "
              "parameters are for 25 °C",
     )
-    description = ("Pitzer's virial-type equations for one salt: Debye-Hückel term with b = 1.2 "
-                   "plus second (beta0, beta1, beta2) and third (C_phi) virial coefficients.")
+    description = ("Pitzer's virial-type equations: Debye-Hückel term with b = 1.2 plus second "
+                   "(beta0, beta1, beta2) and third (C_phi) virial coefficients per cation-anion "
+                   "pair; in mixtures also theta per pair of like-charged ions (with the "
+                   "unsymmetrical terms Etheta of Pitzer 1975) and psi per triplet.")
 
     # -- charge-type defaults ---------------------------------------------------------------
     @staticmethod
