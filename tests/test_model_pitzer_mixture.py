@@ -314,3 +314,54 @@ def test_parameters_that_vary_by_row_give_each_row_its_own_values():
     for q in qs:
         np.testing.assert_allclose(both[q][1], alt[q][0], rtol=1e-13)
         np.testing.assert_allclose(both[q][0], _run(comp, a, qs).values[q][0], rtol=1e-13)
+
+
+# -- random brines (hypothesis) ------------------------------------------------------------------
+from hypothesis import HealthCheck, given, settings  # noqa: E402
+from hypothesis import strategies as st  # noqa: E402
+
+BRINE_SALTS = ("NaCl", "KCl", "MgCl2", "CaCl2", "Na2SO4", "MgSO4", "HCl")
+
+
+@st.composite
+def brines(draw):
+    """A solution of the salts above at 0 to 2 mol/kg each (at least one present), with
+    parameters drawn in windows of the published sizes."""
+    amounts = draw(st.lists(st.floats(0.0, 2.0), min_size=len(BRINE_SALTS),
+                            max_size=len(BRINE_SALTS)))
+    amounts = [a if a >= 1e-3 else 0.0 for a in amounts]  # absent, or present at 1e-3 or more
+    if not any(amounts):
+        amounts[0] = 0.5
+    comp = Composition.of_salts([(parse_formula(f), a) for f, a in zip(BRINE_SALTS, amounts)])
+    seed = draw(st.integers(0, 2**31 - 1))
+    return comp, _values(comp, seed)
+
+
+@settings(max_examples=25, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(brines())
+def test_cross_differentials_and_gibbs_duhem_hold_for_random_brines(case):
+    # the two identities of the module docstring, for solutions of up to 5 cations and 2 anions
+    # (with H+, Etheta for 1-2 mixing on both sides), by central differences; 1e-5 relative
+    # (ten times the fixed brine's) because an ion at 1e-3 mol/kg gets a step of 1e-9 mol/kg
+    comp, values = case
+    m0 = comp.molality
+    present = np.flatnonzero(m0[0] > 0)
+
+    def at(m):
+        c = comp.with_molality(m)
+        out = _run(c, values, tuple(ln_gamma(n) for n in c.names) + (OSMOTIC,)).values
+        return np.array([out[ln_gamma(n)][0, 0] for n in c.names]), out[OSMOTIC][0, 0]
+
+    d = np.zeros((len(comp.names), len(comp.names)))
+    gd_left = np.zeros(len(comp.names))
+    for k in present:
+        h = 1e-6 * m0[0, k]
+        up, dn = m0.copy(), m0.copy()
+        up[0, k] += h
+        dn[0, k] -= h
+        (lu, pu), (ld, pd) = at(up), at(dn)
+        d[:, k] = (lu - ld) / (2 * h)
+        gd_left[k] = (up.sum() * (pu - 1) - dn.sum() * (pd - 1)) / (2 * h)
+    sub = d[np.ix_(present, present)]
+    np.testing.assert_allclose(sub, sub.T, rtol=1e-5, atol=1e-6)
+    np.testing.assert_allclose(gd_left[present], m0[0] @ d[:, present], rtol=1e-5, atol=1e-6)
