@@ -83,7 +83,10 @@ def _apply(w: np.ndarray, p: np.ndarray) -> np.ndarray:
     """sum_m w[n, m] p[s, n, k, m] -> (S, N, K): a matrix product when p is the same for every
     row (its axis 1 of length 1), elementwise otherwise."""
     if p.shape[1] == 1:
-        return np.matmul(w[None], p[:, 0].swapaxes(-1, -2))
+        s, k, m = p.shape[0], p.shape[2], p.shape[3]
+        # one contiguous (N, M) x (M, S K) product (numpy hands a strided batch to slow loops)
+        flat = np.ascontiguousarray(w) @ np.ascontiguousarray(p[:, 0].reshape(s * k, m).T)
+        return flat.reshape(w.shape[0], s, k).transpose(1, 0, 2)
     return np.einsum("nm,snkm->snk", w, p)
 
 

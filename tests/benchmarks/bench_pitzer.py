@@ -81,8 +81,10 @@ def main() -> None:
     request = Request(comp, qs, values, Conditions.of(comp))
     x = rng.uniform(-1.0, 0.0, n)
     exp_rate = best_rate(lambda: np.exp(x), n, 20)
-    mix_rate = best_rate(lambda: model.compute(request), n, 3)
+    mix_rate = best_rate(lambda: model.compute(request), n, 5)
     out["mixture"] = {"compositions": n, "ions": len(ions),
+                      "seconds_per_composition": 1.0 / mix_rate,
+                      "seconds_per_exp": 1.0 / exp_rate,
                       "exp_equivalents_per_composition": exp_rate / mix_rate}
     print(json.dumps(out, indent=1))
     with open(args.out, "w", encoding="utf-8") as fh:
