@@ -1,4 +1,4 @@
-"""Pitzer's ion-interaction equations for a single salt M(nu+) X(nu-) in water.
+"""Pitzer's ion-interaction equations: a single salt M(nu+) X(nu-) in water, and mixtures.
 
 Sources: K. S. Pitzer, J. Phys. Chem. 77, 268 (1973), eqs. 7, 17, 18 (f^phi, f^gamma) and
 K. S. Pitzer and G. Mayorga, J. Phys. Chem. 77, 2300 (1973), eqs. 3-7 (B^phi, B^gamma, C);
@@ -27,6 +27,13 @@ alpha1 and alpha2 are fixed by default at Pitzer's values for the charge type: a
 
 Cost per evaluation: one sqrt, one log1p, and one exp per alpha in use (two at most), whatever
 the number of molalities (see ``tests/test_model_pitzer.py``).
+
+Mixtures: any other composition (several salts, or ions given without salts), and single-ion
+values, are computed by Pitzer's mixture equations in the form of Harvie, Møller and Weare
+(1984), with theta, psi and the unsymmetrical terms of Pitzer (1975): see
+:mod:`saltbench.plugins._pitzer_mixture` and :mod:`saltbench.plugins._etheta`. For one salt
+they give the equations above (to 1e-12, ``tests/test_model_pitzer_mixture.py``); the code above
+stays the one-salt path, as fast as it was.
 """
 
 from __future__ import annotations
@@ -36,7 +43,12 @@ from dataclasses import replace
 import numpy as np
 
 from saltbench.chemistry.electrolyte import Electrolyte
+from saltbench.chemistry.solution import Composition
 from saltbench.models import ActivityModel, EvalContext, Parameter, Validity, hookimpl
+from saltbench.models.contract import Computed, Conditions, Request
+from saltbench.models.quantities import OSMOTIC, WATER_ACTIVITY, Quantity, ln_gamma
+from saltbench.plugins._pitzer_mixture import compute_mixture
+from saltbench.water.properties import MOLAR_MASS_WATER, water_activity
 
 B_PITZER = 1.2  # (kg/mol)^1/2, Pitzer (1973): one value for all salts
 ALPHA1_DEFAULT = 2.0
@@ -78,6 +90,11 @@ def _dg(x: np.ndarray, e: np.ndarray, small: bool) -> np.ndarray:
 
 
 _ALL = frozenset(("beta0", "beta1", "beta2", "C_phi", "alpha1", "alpha2", "b"))
+_MIXING_KINDS = ("like-pair", "triplet")
+#: The convention of the single-ion values (see plugins/_pitzer_mixture.py).
+SINGLE_ION_CONVENTION = ("the model's own single-ion form: z_i^2 F of Pitzer's mixture equations "
+                         "(Harvie, Møller and Weare 1984; non-thermodynamic, only means are "
+                         "measurable)")
 
 
 class Pitzer(ActivityModel):
@@ -85,8 +102,15 @@ class Pitzer(ActivityModel):
     name = "Pitzer (binary)"
     citation = (
         "K. S. Pitzer, J. Phys. Chem. 77, 268 (1973); K. S. Pitzer and G. Mayorga, J. Phys. "
-        "Chem. 77, 2300 (1973) and J. Solution Chem. 3, 539 (1974)"
+        "Chem. 77, 2300 (1973) and J. Solution Chem. 3, 539 (1974); mixtures: K. S. Pitzer, "
+        "J. Solution Chem. 4, 249 (1975); C. E. Harvie, N. Møller and J. H. Weare, Geochim. "
+        "Cosmochim. Acta 48, 723 (1984)"
     )
+    # The name stays that of the one-salt model: comparisons and reports of single salts print
+    # it, and they must not change (tests/test_golden.py).
+    mixtures = True
+    computes = frozenset({"ln_gamma", "ln_gamma_pm", "osmotic", "water_activity"})  # type: ignore[assignment]
+    single_ion_convention = SINGLE_ION_CONVENTION
     parameters = (
         Parameter("beta0", "β(0)", "kg/mol", 0.0, linear=True, belongs_to="pair",
                   description="short-range second virial coefficient, constant part"),
@@ -104,6 +128,12 @@ class Pitzer(ActivityModel):
                               "elsewhere, where beta2 is normally 0)"),
         Parameter("b", "b", "(kg/mol)^1/2", B_PITZER, lower=0.1, upper=10.0, fixed=True, belongs_to="model",
                   description="Debye-Hückel term constant, 1.2 for all salts"),
+        Parameter("theta", "θ", "kg/mol", 0.0, linear=True, belongs_to="like-pair",
+                  description="second virial coefficient of two ions of like sign (mixtures "
+                              "only); the unsymmetrical terms Etheta are added for unlike charges"),
+        Parameter("psi", "ψ", "kg²/mol²", 0.0, linear=True, belongs_to="triplet",
+                  description="third virial coefficient of two ions of like sign with one of "
+                              "the other sign (mixtures only)"),
     )
     validity = Validity(
         max_molality=6.0,
@@ -112,8 +142,10 @@ class Pitzer(ActivityModel):
              "set's m_max is the highest molality its authors fitted (lower for 2-1, 3-1, 2-2); "
              "parameters are for 25 °C",
     )
-    description = ("Pitzer's virial-type equations for one salt: Debye-Hückel term with b = 1.2 "
-                   "plus second (beta0, beta1, beta2) and third (C_phi) virial coefficients.")
+    description = ("Pitzer's virial-type equations: Debye-Hückel term with b = 1.2 plus second "
+                   "(beta0, beta1, beta2) and third (C_phi) virial coefficients per cation-anion "
+                   "pair; in mixtures also theta per pair of like-charged ions (with the "
+                   "unsymmetrical terms Etheta of Pitzer 1975) and psi per triplet.")
 
     # -- charge-type defaults ---------------------------------------------------------------
     @staticmethod
@@ -138,6 +170,7 @@ class Pitzer(ActivityModel):
         alpha1 = 1.4; alpha1 = 2 otherwise (Pitzer and Mayorga 1973, 1974)."""
         if electrolyte is None:
             return self.parameters
+        # theta and psi have no value in a solution of one salt: its listing and fit skip them
         is_22 = electrolyte.charge_type == (2, 2)
         # The answer depends only on whether the salt is 2-2; a fit asks for it every time, so
         # it is kept per instance (checked against ``parameters`` in case that was replaced).
@@ -148,6 +181,8 @@ class Pitzer(ActivityModel):
         a1, a2 = self.alphas_for(electrolyte)
         out = []
         for p in self.parameters:
+            if p.owner_kind in _MIXING_KINDS:
+                continue
             if p.name == "alpha1":
                 p = replace(p, default=a1)
             elif p.name == "alpha2":
@@ -269,6 +304,48 @@ class Pitzer(ActivityModel):
     def values_and_jacobian(self, m, params, ctx):
         """ln gamma±, phi and the Jacobian in one pass over the shared terms."""
         return self._evaluate(m, params, ctx, ln=True, phi=True, wrt=ctx.wrt)
+
+    # -- solutions of any composition ----------------------------------------------------------
+    def default_alphas(self, z_cation: int, z_anion: int) -> tuple[float, float]:
+        """(alpha1, alpha2) of a cation-anion pair whose parameters are 0 (as :meth:`alphas_for`)."""
+        if (z_cation, z_anion) == (2, 2):
+            return ALPHA1_22, ALPHA2_22
+        return ALPHA1_DEFAULT, ALPHA2_22
+
+    def ln_gamma_ions(self, m, params, ctx):
+        """Single-ion values for one salt, by the mixture equations (``single_ion_convention``)."""
+        e = ctx.electrolyte
+        m = np.asarray(m, dtype=float)
+        comp = Composition.of_salt(e, m, ctx.temperature_k, ctx.pressure_pa)
+        keys = self.salt_keys(e)
+        values = {k: np.array([[float(params.get(name, self.parameter(name).default))]])
+                  for name, k in keys.items()}
+        qc, qa = ln_gamma(e.cation.name), ln_gamma(e.anion.name)
+        out = compute_mixture(Request(comp, (qc, qa), values, Conditions.single(ctx.dh, m.size)),
+                              self.default_alphas)
+        return {"cation": out.values[qc][0], "anion": out.values[qa][0]}
+
+    def compute(self, request: Request) -> Computed:
+        """One salt's ln gamma± and phi by the binary code above (its fast path, unchanged);
+        everything else, and single ions, by the mixture equations (plugins/_pitzer_mixture.py),
+        which reduce to the binary ones for one salt (tests/test_model_pitzer_mixture.py)."""
+        wanted = request.quantities
+        if request.composition.single_salt is None or any(q.kind == "ln_gamma" for q in wanted):
+            return compute_mixture(request, self.default_alphas)
+        if WATER_ACTIVITY not in wanted:
+            return super().compute(request)
+        binary: tuple[Quantity, ...] = tuple(q for q in wanted if q != WATER_ACTIVITY)
+        out = super().compute(replace(request, quantities=tuple(dict.fromkeys(binary + (OSMOTIC,)))))
+        total = request.composition.molality.sum(axis=1)
+        a_w = water_activity(total, out.values[OSMOTIC])
+        out.values[WATER_ACTIVITY] = a_w
+        out.derivatives[WATER_ACTIVITY] = {
+            k: -MOLAR_MASS_WATER * total * a_w * d
+            for k, d in out.derivatives.get(OSMOTIC, {}).items()}
+        if OSMOTIC not in wanted:
+            out.values.pop(OSMOTIC)
+            out.derivatives.pop(OSMOTIC, None)
+        return out
 
 
 @hookimpl

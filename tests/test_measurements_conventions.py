@@ -140,10 +140,12 @@ def test_sit_sums_over_counter_ions():
 
 
 def test_a_model_without_single_ion_values_is_refused():
-    from saltbench.plugins.pitzer import register_models
-    pitzer = [m for m in register_models(context=None) if m.id == "pitzer"][0]
+    # (Pitzer gives single-ion values for mixtures since it took mixtures; Stokes-Robinson
+    # gives only means)
+    from saltbench.plugins.stokes_robinson import register_models
+    model = [m for m in register_models(context=None) if m.id == "stokes-robinson"][0]
     with pytest.raises(UserError, match="no single-ion values"):
-        model_single_ion([(P("NaCl"), 0.1), (P("KCl"), 0.1)], pitzer, "Pitzer")
+        model_single_ion([(P("NaCl"), 0.1), (P("KCl"), 0.1)], model, "Stokes-Robinson")
 
 
 def test_macinnes_convention():

@@ -59,8 +59,15 @@ def test_registered_through_the_entry_point_group():
 def test_betas_and_c_phi_are_the_linear_parameters_and_the_rest_fixed():
     linear = {p.name for p in MODEL.parameters if p.linear}
     fixed = {p.name for p in MODEL.parameters if p.fixed}
-    assert linear == {"beta0", "beta1", "beta2", "C_phi"}
+    assert linear == {"beta0", "beta1", "beta2", "C_phi", "theta", "psi"}
     assert fixed == {"alpha1", "alpha2", "b"}
+    # theta and psi belong to like-charged pairs and triplets (Pitzer and Kim, J. Am. Chem. Soc.
+    # 96, 5701 (1974)): a salt alone has none, so its parameters are those of the binary model
+    assert MODEL.parameter("theta").belongs_to == "like-pair"
+    assert MODEL.parameter("psi").belongs_to == "triplet"
+    for formula in ("NaCl", "MgSO4"):
+        names = [p.name for p in MODEL.parameters_for(parse_formula(formula))]
+        assert names == ["beta0", "beta1", "beta2", "C_phi", "alpha1", "alpha2", "b"]
     assert MODEL.parameter("b").default == 1.2  # Pitzer (1973): b = 1.2 for all salts
 
 
@@ -135,7 +142,8 @@ def test_jacobian_matches_central_differences(formula, params):
     _, ctx = pm_context(formula)
     m = np.array([1e-5, 1e-3, 0.05, 0.7, 3.0])
     d_ln, d_phi = MODEL.jacobian(m, params, ctx)
-    assert set(d_ln) == set(d_phi) == {p.name for p in MODEL.parameters}
+    # every parameter of one salt (theta and psi belong to mixtures only)
+    assert set(d_ln) == set(d_phi) == {p.name for p in MODEL.parameters_for(parse_formula(formula))}
     for name in d_ln:
         h = 1e-6 * max(1.0, abs(params[name]))
         up, down = dict(params), dict(params)

@@ -8,6 +8,7 @@ import re
 from dataclasses import dataclass, field
 from pathlib import Path
 
+from saltbench.chemistry.ions import KNOWN_IONS, Ion
 from saltbench.curation.blocks import TYPED_FROM_SOURCE, parse_block, parse_float
 from saltbench.errors import InputFileError
 
@@ -15,11 +16,48 @@ MAGIC = "saltbench parameters"
 TYPED_FORMS = {**TYPED_FROM_SOURCE, "fitted ": "fitted <by whom, to which data>"}
 KNOWN_FIELDS = {"set", "model", "source", "table", "temperature", "a_phi", "typed", "note"}
 SET_ID = re.compile(r"^[a-z0-9]+(?:-[a-z0-9]+)*$")
+#: First columns of a parameter table: per electrolyte, per ion, or per group of ions (a pair of
+#: ions of like sign, or a triplet of two such ions and one of the other sign).
+TARGET_KINDS = ("electrolyte", "ion", "ions")
+_IONS_BY_NAME: dict[str, Ion] = {ion.name: ion for ion in KNOWN_IONS.values()}
+
+
+def ion_group(text: str) -> tuple[str, ...]:
+    """The owner named by an ``ions`` cell, in the order of a parameter key: cations before
+    anions, each sign in alphabetical order (``'Na+/K+'`` -> ``('K+', 'Na+')``,
+    ``'Cl-/Na+/K+'`` -> ``('K+', 'Na+', 'Cl-')``).
+
+    Two ions must have like sign (a like-charged pair, e.g. theta); three must be two distinct
+    ions of one sign and one of the other (a triplet, e.g. psi). Ions are named as in
+    :attr:`saltbench.chemistry.ions.Ion.name` (``Na+``, ``Mg+2``, ``SO4-2``) and must be known.
+    Raises ``ValueError`` with a plain message.
+    """
+    names = [part.strip() for part in text.split("/")]
+    if len(names) not in (2, 3):
+        raise ValueError(f"{text!r}: name two ions of like sign (e.g. K+/Na+) or a triplet "
+                         "(e.g. K+/Na+/Cl-), joined by '/'")
+    ions = []
+    for name in names:
+        ion = _IONS_BY_NAME.get(name)
+        if ion is None:
+            raise ValueError(f"unknown ion {name!r} (ions are named with their charge, e.g. Na+, "
+                             "Mg+2, Cl-, SO4-2)")
+        ions.append(ion)
+    if len({i.name for i in ions}) != len(ions):
+        raise ValueError(f"{text!r} names an ion twice")
+    cations = sorted(i.name for i in ions if i.charge > 0)
+    anions = sorted(i.name for i in ions if i.charge < 0)
+    if len(ions) == 2 and cations and anions:
+        raise ValueError(f"{text!r}: the two ions of a pair must have like sign (a cation-anion "
+                         "pair belongs in an 'electrolyte' table)")
+    if len(ions) == 3 and not (len(cations) == 2 or len(anions) == 2):
+        raise ValueError(f"{text!r}: a triplet is two ions of like sign and one of the other sign")
+    return tuple(cations + anions)
 
 
 @dataclass
 class ParameterRow:
-    target: str  # electrolyte formula or ion formula
+    target: str  # electrolyte formula, ion formula, or ions joined by '/' (see ion_group)
     values: dict[str, float]
     m_max: float | None
     line: int
@@ -38,7 +76,7 @@ class ParameterFile:
     a_phi: float | None
     typed: str
     note: str
-    target_kind: str  # "electrolyte" or "ion"
+    target_kind: str  # "electrolyte", "ion" or "ions" (TARGET_KINDS)
     rows: list[ParameterRow] = field(default_factory=list)
     set_line: int | None = None  # where the set id was given, for errors found at ingest
 
@@ -73,8 +111,9 @@ def read_parameter_file(path: str | Path) -> ParameterFile:
             raise b.error("a_phi", f"{a_phi:g} is not a plausible Debye-Hückel A_phi in (kg/mol)^1/2")
     typed = b.typed(TYPED_FORMS)
     first = b.columns[0]
-    if first not in ("electrolyte", "ion"):
-        raise InputFileError(p, b.columns_line, first, "the first column must be 'electrolyte' or 'ion'")
+    if first not in TARGET_KINDS:
+        raise InputFileError(p, b.columns_line, first,
+                             "the first column must be 'electrolyte', 'ion' or 'ions'")
     names = [c for c in b.columns[1:] if c != "m_max"]
     for c in names:
         if not re.fullmatch(r"[A-Za-z_][A-Za-z0-9_]*", c):
@@ -90,6 +129,11 @@ def read_parameter_file(path: str | Path) -> ParameterFile:
         target = row[first]
         if not target:
             raise InputFileError(p, n, first, "empty")
+        if first == "ions":
+            try:
+                target = "/".join(ion_group(target))
+            except ValueError as exc:
+                raise InputFileError(p, n, first, str(exc)) from None
         if target in seen:
             raise InputFileError(p, n, first, f"{target} appears twice (also on line {seen[target]})")
         seen[target] = n

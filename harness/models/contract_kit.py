@@ -170,7 +170,7 @@ def _check_jacobian(model, e, m, values, ctx, problems) -> None:
     for key in set(d_ln) | set(d_phi):
         if key not in declared:
             problems.add(e, f"jacobian names undeclared parameter {key!r}")
-    for p in model.free_parameters():
+    for p in model.free_parameters(e):  # of this salt: a mixing parameter has no part in it
         if p.name not in d_ln or p.name not in d_phi:
             problems.add(e, f"jacobian lacks free parameter {p.name!r}")
     for name in sorted(set(d_ln) & set(d_phi) & set(declared)):

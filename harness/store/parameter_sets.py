@@ -7,11 +7,14 @@ The store does not import the model contract: a model is anything with an ``id``
 from __future__ import annotations
 
 import json
-from collections.abc import Sequence
+import re
+from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field
-from typing import Protocol
+from typing import Generic, Protocol, TypeVar
 
-from saltbench.chemistry.electrolyte import Electrolyte
+from saltbench.chemistry.electrolyte import Electrolyte, parse_formula
+from saltbench.chemistry.ions import KNOWN_IONS
+from saltbench.curation.parameters import ion_group
 from saltbench.errors import UserError
 from saltbench.store.connection import Store
 
@@ -184,3 +187,107 @@ def typed_from_memory(store: Store, set_id: str) -> bool:
     """Whether set ``set_id`` was typed from memory (False for a set the store does not hold)."""
     row = store.conn.execute("SELECT from_memory FROM parameter_sets WHERE set_id = ?", (set_id,)).fetchone()
     return bool(row and row[0])
+
+
+# -- values for a solution: every key a composition needs, from a list of sets ------------------
+class OwnedKey(Protocol):
+    """A parameter in a solution, as the model contract keys it (``saltbench.models.ParameterKey``):
+    its name and what it belongs to (ion or salt names, cations before anions)."""
+
+    @property
+    def name(self) -> str: ...
+    @property
+    def owner(self) -> tuple[str, ...]: ...
+
+
+K = TypeVar("K", bound=OwnedKey)
+_ION_NAME = re.compile(r"^.+?([+-])\d*$")
+
+
+@dataclass
+class CompositionParameters(Generic[K]):
+    """Stored values for the keys of one composition: ``values`` (key -> value), ``set_of`` (key ->
+    the set id that gave it) and ``missing`` (the keys no set gave, in the order asked)."""
+
+    values: dict[K, float]
+    set_of: dict[K, str]
+    missing: list[K]
+
+
+def _sign(ion: str) -> str | None:
+    match = _ION_NAME.match(ion)
+    return match.group(1) if match else None
+
+
+def _lookups(owner: tuple[str, ...]) -> list[tuple[str, str]]:
+    """Where a key with ``owner`` may be stored: (kind, target) in order of preference."""
+    if len(owner) == 1:
+        return [("ion", owner[0]), ("electrolyte", owner[0])]
+    signs = [_sign(o) for o in owner]
+    if len(owner) == 2 and signs == ["+", "-"]:
+        return [("pair", "/".join(owner))]
+    if len(owner) in (2, 3):
+        try:
+            return [("ions", "/".join(ion_group("/".join(owner))))]
+        except ValueError:
+            return []
+    return []
+
+
+def _set_index(store: Store, pk: int) -> dict[tuple[str, str, str], float]:
+    """One set's values by (kind, target, name); electrolyte rows also by their cation-anion pair
+    ('pair', 'Na+/Cl-'), ion rows by the ion's name ('Na+', whether stored as 'Na' or 'Na+')."""
+    index: dict[tuple[str, str, str], float] = {}
+    for target, kind, name, value in store.conn.execute(
+            "SELECT target, target_kind, name, value FROM parameter_values WHERE set_pk = ?", (pk,)):
+        value = float(value)
+        if kind == "electrolyte":
+            index[("electrolyte", target, name)] = value
+            try:
+                salt = parse_formula(target)
+            except ValueError:
+                continue  # a salt of ions declared in a dataset: found by its name only
+            index.setdefault(("pair", f"{salt.cation.name}/{salt.anion.name}", name), value)
+        elif kind == "ion":
+            ion = KNOWN_IONS[target].name if target in KNOWN_IONS else target
+            index[("ion", ion, name)] = value
+        else:
+            index[(kind, target, name)] = value
+    return index
+
+
+def composition_values(store: Store, model_id: str, set_ids: Sequence[str],
+                       keys: Iterable[K]) -> CompositionParameters[K]:
+    """The value of each of ``keys`` (a model's keys for a composition, e.g. ``model.keys_for(c)``)
+    from the sets ``set_ids`` of model ``model_id``, the first set that holds a key giving it.
+
+    A cation-anion pair's key (``beta0[Na+/Cl-]``) is found in an electrolyte row of the salt of
+    that pair (``NaCl``); a per-ion key in an ion row (``Na`` or ``Na+``); a per-salt key in its
+    electrolyte row; a like-charged pair's or a triplet's key (``theta[K+/Na+]``,
+    ``psi[K+/Na+/Cl-]``) in an ``ions`` row, whatever the order of its owner. Model-wide keys
+    (``b``) are never stored: they come back in ``missing``, with every key no set holds. Raises
+    :class:`UserError` for a set the store does not hold or one of another model.
+    """
+    indexes: list[tuple[str, dict[tuple[str, str, str], float]]] = []
+    for set_id in set_ids:
+        row = store.conn.execute("SELECT id, model FROM parameter_sets WHERE set_id = ?",
+                                 (set_id,)).fetchone()
+        if row is None:
+            known = ", ".join(r[0] for r in store.conn.execute(
+                "SELECT set_id FROM parameter_sets WHERE model = ? ORDER BY set_id", (model_id,)))
+            raise UserError(f"no parameter set {set_id!r} in the store; sets for model "
+                            f"{model_id}: {known or 'none'}")
+        if row[1] != model_id:
+            raise UserError(f"parameter set {set_id!r} belongs to model {row[1]}, not {model_id}")
+        indexes.append((set_id, _set_index(store, int(row[0]))))
+    out: CompositionParameters[K] = CompositionParameters({}, {}, [])
+    for key in keys:
+        for set_id, index in indexes:
+            hit = next((index[(kind, target, key.name)] for kind, target in _lookups(key.owner)
+                        if (kind, target, key.name) in index), None)
+            if hit is not None:
+                out.values[key], out.set_of[key] = hit, set_id
+                break
+        else:
+            out.missing.append(key)
+    return out

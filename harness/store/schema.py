@@ -162,6 +162,24 @@ CREATE TABLE reductions (
     ("0003_point_precision", """
 ALTER TABLE points ADD COLUMN precision REAL CHECK (precision IS NULL OR precision > 0);
 """),
+    # Mixing parameters (Pitzer's theta and psi) belong to groups of ions, stored as target
+    # 'K+/Na+' or 'K+/Na+/Cl-' of kind 'ions'; SQLite changes a CHECK only by rebuilding the table.
+    ("0004_parameters_of_ion_groups", """
+CREATE TABLE parameter_values_new (
+    set_pk INTEGER NOT NULL REFERENCES parameter_sets(id) ON DELETE CASCADE,
+    target TEXT NOT NULL,
+    target_kind TEXT NOT NULL CHECK (target_kind IN ('electrolyte', 'ion', 'ions')),
+    name TEXT NOT NULL,
+    value REAL NOT NULL,
+    stderr REAL CHECK (stderr IS NULL OR stderr >= 0),
+    m_max REAL CHECK (m_max IS NULL OR m_max > 0),
+    PRIMARY KEY (set_pk, target, name)
+);
+INSERT INTO parameter_values_new (set_pk, target, target_kind, name, value, stderr, m_max)
+    SELECT set_pk, target, target_kind, name, value, stderr, m_max FROM parameter_values;
+DROP TABLE parameter_values;
+ALTER TABLE parameter_values_new RENAME TO parameter_values
+"""),
 ]
 
 SCHEMA_VERSION = len(MIGRATIONS)

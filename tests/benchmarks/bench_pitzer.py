@@ -1,0 +1,95 @@
+"""Cost of Pitzer's model: one salt on its binary path against a reference copy of the plugin,
+and a seawater-type mixture per composition in np.exp-equivalents (not a test).
+
+    python tests/benchmarks/bench_pitzer.py OUT.json [--before FILE] [--compositions N]
+
+``--before`` names a copy of an earlier plugins/pitzer.py (e.g. ``git show REV:plugins/pitzer.py
+> /tmp/pitzer_before.py``); both are timed in turns on the same one-salt calls (MgSO4, 20
+molalities: ``values_and_jacobian`` as a fit calls it, ``ln_gamma_pm``, and ``compute``) and
+the ratio after/before is printed. The mixture figure is a full evaluation (every ion's ln gamma,
+phi, a_w) of Na, K, Mg, Ca, Cl, SO4 with every key given, over N compositions, divided by the
+time of np.exp on N points (issue 19, item 7: at most 200 per composition).
+"""
+
+from __future__ import annotations
+
+import argparse
+import importlib.util
+import json
+
+import numpy as np
+
+from saltbench.chemistry.electrolyte import parse_formula
+from saltbench.chemistry.ions import KNOWN_IONS
+from saltbench.chemistry.solution import Composition
+from saltbench.models.contract import Conditions, Request
+from saltbench.models.evaluate import make_context
+from saltbench.models.quantities import OSMOTIC, WATER_ACTIVITY, ln_gamma, ln_gamma_pm
+from saltbench.plugins.pitzer import Pitzer
+
+from timing import best_rate, in_turns_median_times
+
+MGSO4 = {"beta0": 0.2210, "beta1": 3.343, "beta2": -37.23, "C_phi": 0.0250}  # Pitzer-Mayorga 1974
+
+
+def _one_salt_calls(model) -> dict:
+    e = parse_formula("MgSO4")
+    m = np.linspace(0.01, 3.0, 20)
+    ctx = make_context(e)
+    values = {**model.defaults(e), **MGSO4}
+    keys = model.salt_keys(e)
+    comp = Composition.of_salt(e, m)
+    keyed = {k: np.array([[values[name]]]) for name, k in keys.items()}
+    free = tuple(keys[p.name] for p in model.free_parameters(e))
+    request = Request(comp, (ln_gamma_pm("MgSO4"), OSMOTIC), keyed,
+                      Conditions.single(ctx.dh, comp.n), free)
+    return {"values_and_jacobian": lambda: model.values_and_jacobian(m, values, ctx),
+            "ln_gamma_pm": lambda: model.ln_gamma_pm(m, values, ctx),
+            "compute": lambda: model.compute(request)}
+
+
+def main() -> None:
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("out")
+    ap.add_argument("--before")
+    ap.add_argument("--compositions", type=int, default=100_000)
+    ap.add_argument("--repeat", type=int, default=2000)
+    args = ap.parse_args()
+    out: dict = {}
+    if args.before:
+        spec = importlib.util.spec_from_file_location("pitzer_before", args.before)
+        assert spec and spec.loader
+        mod = importlib.util.module_from_spec(spec)
+        spec.loader.exec_module(mod)
+        before, after = _one_salt_calls(mod.Pitzer()), _one_salt_calls(Pitzer())
+        fns = {f"{k}/before": v for k, v in before.items()}
+        fns.update({f"{k}/after": v for k, v in after.items()})
+        times = in_turns_median_times(fns, args.repeat)
+        out["one_salt"] = {k: {"before_s": times[f"{k}/before"][0],
+                               "after_s": times[f"{k}/after"][0],
+                               "ratio": times[f"{k}/after"][0] / times[f"{k}/before"][0]}
+                           for k in before}
+    n = args.compositions
+    rng = np.random.default_rng(0)
+    ions = tuple(KNOWN_IONS[f] for f in ("Na", "K", "Mg", "Ca", "Cl", "SO4"))
+    base = np.array([0.486, 0.0106, 0.0547, 0.0107, 0.5687, 0.0293])  # seawater-like, mol/kg
+    comp = Composition(ions, base * rng.uniform(0.2, 5.0, (n, 1)), np.full(n, 298.15))
+    model = Pitzer()
+    values = {k: np.array([[p.default if p.fixed else rng.normal(0, 0.05)]])
+              for k, p in model.keys_for(comp).items()}
+    qs = tuple(ln_gamma(i.name) for i in ions) + (OSMOTIC, WATER_ACTIVITY)
+    request = Request(comp, qs, values, Conditions.of(comp))
+    x = rng.uniform(-1.0, 0.0, n)
+    exp_rate = best_rate(lambda: np.exp(x), n, 20)
+    mix_rate = best_rate(lambda: model.compute(request), n, 5)
+    out["mixture"] = {"compositions": n, "ions": len(ions),
+                      "seconds_per_composition": 1.0 / mix_rate,
+                      "seconds_per_exp": 1.0 / exp_rate,
+                      "exp_equivalents_per_composition": exp_rate / mix_rate}
+    print(json.dumps(out, indent=1))
+    with open(args.out, "w", encoding="utf-8") as fh:
+        json.dump(out, fh, indent=1)
+
+
+if __name__ == "__main__":
+    main()
