@@ -840,3 +840,118 @@ def _mean_at_ionic_strength(session: Session, salt):
     f, label, _ = model_function(session, MACINNES_MODEL, MACINNES_PARAMS, e, what="gamma")
     per = float(e.ionic_strength(1.0))
     return (lambda i: f(np.atleast_1d(i) / per).reshape(np.shape(i))), label, per
+
+
+# -- solutions ---------------------------------------------------------------------------------
+@dataclass
+class SolutionPrediction:
+    """Models on one described solution (scaled to one or more concentrations): ``record`` as
+    read (closed if asked), ``factors`` (N,) the concentration factors of the rows of
+    ``assessment.composition``, ``citations`` (set id -> citation) and ``from_memory`` (set ids
+    typed from memory) for the sets used."""
+
+    record: Any  # saltbench.chemistry.description.SolutionRecord
+    factors: np.ndarray
+    assessment: Any  # saltbench.comparison.solutions.SolutionAssessment
+    citations: dict[str, str]
+    from_memory: list[str]
+
+    @property
+    def composition(self):
+        return self.assessment.composition
+
+
+def read_solution(spec: str, *, temperature_k: float | None = None, density: str | None = None,
+                  close_with: str | None = None):
+    """A solution file, the inline form or a named reference (see DEVELOPERS.md, "Describing a
+    solution"), its charge balance closed with ``close_with`` when asked."""
+    from saltbench.curation.solutions import read_solution as read
+
+    record = read(spec, temperature_k=temperature_k, density=density)
+    return record.closed_with(close_with) if close_with else record
+
+
+def _ordered_sets(session: Session, model, keys, chosen: Sequence[str]):
+    """The sets to look ``keys`` up in for ``model``: those of ``chosen`` that belong to it, in
+    that order; else its published sets, those of the source that covers most keys first (one
+    source's binary and mixing values were fitted together), then the others by set id."""
+    from saltbench.errors import UserError
+    from saltbench.store import parameter_sets as ps
+
+    store = session.store
+    mine = [s for s in chosen if ps.set_model(store, s) == model.id]
+    unknown = [s for s in chosen if ps.set_model(store, s) is None]
+    if unknown:
+        raise UserError(f"no parameter set {unknown[0]!r} in the store ('saltbench params list' shows them)")
+    if chosen and mine:
+        return ps.model_sets(store, model.id, mine)
+    infos = ps.model_sets(store, model.id)
+    by_source: dict[str, list] = {}
+    for info in infos:
+        by_source.setdefault(info.source, []).append(info)
+    cover = {src: len(ps.composition_values(store, model.id, [i.set_id for i in group], keys).values)
+             for src, group in by_source.items()}
+    best = max(cover, key=lambda src: (cover[src], src), default=None)
+    first = by_source.get(best, []) if best is not None and cover[best] else []
+    return first + [i for i in infos if i not in first]
+
+
+def _solution_lookup(session: Session, chosen: Sequence[str], used: dict):
+    from saltbench.comparison.solutions import Lookup
+    from saltbench.store import parameter_sets as ps
+
+    def lookup(model, keys):
+        infos = _ordered_sets(session, model, keys, chosen)
+        found = ps.composition_values(session.store, model.id, [i.set_id for i in infos], keys)
+        used.update({i.set_id: i for i in infos if i.set_id in found.set_of.values()})
+        fitted = {(i.set_id, salt): m for i in infos for salt, m in i.m_max.items()}
+        return Lookup(dict(found.values), dict(found.set_of), list(found.missing), fitted,
+                      {i.set_id: i.temperature_k for i in infos})
+    return lookup
+
+
+def _models_for(session: Session, model_ids: Sequence[str], composition):
+    reg = session.registry
+    if list(model_ids) in ([], ["all"]):
+        return [reg.model(mid) for mid in reg.models if reg.model(mid).supports_composition(composition)]
+    return [reg.model(mid) for mid in model_ids]
+
+
+def predict_solution(session: Session, spec: str, model_ids: Sequence[str] = ("all",), *,
+                     sets: Sequence[str] = (), missing: str = "error",
+                     ionic_strengths: Sequence[float] | None = None,
+                     factors: Sequence[float] | None = None, close_with: str | None = None,
+                     minerals: bool = False, temperature_k: float | None = None,
+                     density: str | None = None) -> SolutionPrediction:
+    """Every ion's ln gamma, ln gamma± of every salt the ions form, phi and a_w of a described
+    solution from each model asked for (``["all"]``: every model that takes it), with the
+    parameter sets looked up in the store (``sets`` first where given), scaled to
+    ``ionic_strengths`` or by concentration ``factors``; ``minerals`` adds saturation indices
+    from the bundled solubility products. See :mod:`saltbench.comparison.solutions`."""
+    from saltbench.comparison.solutions import assess_solution
+    from saltbench.errors import UserError
+
+    record = read_solution(spec, temperature_k=temperature_k, density=density, close_with=close_with)
+    if ionic_strengths is not None and factors is not None:
+        raise UserError("scale by ionic strength or by concentration factor, not both")
+    f = (record.factors_for_ionic_strength(ionic_strengths) if ionic_strengths is not None
+         else np.asarray(factors if factors is not None else [1.0], dtype=float))
+    composition = record.composition(f)
+    models = _models_for(session, model_ids, composition)
+    table: tuple = ()
+    if minerals:
+        from saltbench.curation.minerals import bundled_minerals
+
+        table = bundled_minerals().minerals
+    used: dict = {}
+    assessment = assess_solution(composition, models, _solution_lookup(session, list(sets), used),
+                                 missing=missing,  # type: ignore[arg-type]
+                                 minerals=table)
+    from saltbench.store import parameter_sets as ps
+
+    citations = {}
+    for set_id in used:
+        doc = ps.load_set(session.store, set_id) or {}
+        citations[set_id] = str(doc.get("citation") or doc.get("source") or "")
+    return SolutionPrediction(record, f, assessment, citations,
+                              [s for s, info in used.items() if info.from_memory])

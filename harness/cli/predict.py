@@ -27,28 +27,86 @@ def parse_molalities(text: str) -> np.ndarray:
     return values
 
 
+def _numbers(text: str | None, what: str) -> list[float] | None:
+    if text is None:
+        return None
+    try:
+        values = [float(x) for x in text.split(",")]
+    except ValueError:
+        raise UserError(f"{what}: expected comma-separated numbers, found {text!r}") from None
+    if not values or any(not np.isfinite(v) or v <= 0 for v in values):
+        raise UserError(f"{what}: the numbers must be positive")
+    return values
+
+
 @click.command()
-@click.argument("electrolyte")
-@click.option("--model", "model_id", required=True, help="Model id (see 'saltbench models').")
+@click.argument("electrolyte", required=False)
+@click.option("--model", "model_id", required=True,
+              help="Model id (see 'saltbench models'); with --solution also several, comma-separated, "
+                   "or 'all' (every model that takes the solution).")
+@click.option("--solution", "solution", metavar="SPEC",
+              help="A solution instead of one salt: a solution file, an inline list such as "
+                   "'NaCl=0.5,MgCl2=0.05' or 'Na=0.486,Mg=0.0547,Cl=0.5687' (mol/kg unless a unit is "
+                   "written), or 'seawater [S=35] [x2]' (DEVELOPERS.md, \"Describing a solution\").")
+@click.option("--sets", "sets", default="", metavar="IDS",
+              help="With --solution: parameter sets to take values from first, comma-separated "
+                   "(default: the model's published sets, one source's first).")
+@click.option("--missing", type=click.Choice(["error", "default"]), default="error", show_default=True,
+              help="With --solution: a cation-anion pair no set covers makes the model refuse, or "
+                   "takes the model's defaults (listed in the output).")
+@click.option("--scale-to-ionic-strength", "ionic_strengths", metavar="I1,I2,..",
+              help="With --solution: scale the composition (water taken away or added, every "
+                   "solute kept) to these ionic strengths in mol/kg.")
+@click.option("--factor", "factors", metavar="F1,F2,..",
+              help="With --solution: concentration factors on a water basis (2 = half the water).")
+@click.option("--close-with", "close_with", metavar="ION",
+              help="With --solution: close the charge balance by adding this ion (e.g. Cl-).")
+@click.option("--minerals", is_flag=True,
+              help="With --solution: saturation indices of the minerals its ions can form "
+                   "(CRC solubility products at 25 °C).")
+@click.option("--density", "density", metavar="RHO",
+              help="With --solution: the solution's density for per-litre amounts, e.g. '1.02 kg/L', "
+                   "or 'estimate'.")
 @click.option("--m", "molalities", default="0.001,0.01,0.1,0.5,1", show_default=True,
               help="Comma-separated molalities in mol/kg.")
 @click.option("--params", "params_choice", default="auto", show_default=True,
               help="'auto' (published if any, else defaults), 'published', 'defaults' or a parameter-set id.")
-@click.option("--temperature", "temperature_k", type=float, default=298.15, show_default=True,
-              help="Temperature in K.")
+@click.option("--temperature", "temperature_k", type=float, default=None,
+              help="Temperature in K [default: 298.15; for a solution, the one it states].")
 @click.option("--current-constant", is_flag=True,
               help="Evaluate a published set with today's A_phi instead of the one its authors used.")
 @format_option
 @click.pass_obj
-def predict(app, electrolyte: str, model_id: str, molalities: str, params_choice: str,
-            temperature_k: float, current_constant: bool, fmt: str) -> None:
+def predict(app, electrolyte: str | None, model_id: str, solution: str | None, sets: str, missing: str,
+            ionic_strengths: str | None, factors: str | None, close_with: str | None, minerals: bool,
+            density: str | None, molalities: str, params_choice: str, temperature_k: float | None,
+            current_constant: bool, fmt: str) -> None:
     """Mean activity coefficient, osmotic coefficient and water activity from one model.
 
     Each row is marked where it is an extrapolation: below or above the molalities the parameter
     set was fitted to (or the range its authors state), beyond the range the model's authors
     claim, or at a temperature other than the set's. With no parameter set for the salt it
     refuses, and says how to get one.
+
+    With --solution instead of a salt: each ion's activity coefficient, the mean activity
+    coefficient of every salt its ions form, phi and a_w from each model asked for, with the
+    parameter sets used, values taken as defaults or zero, and extrapolation marks.
     """
+    if solution is not None:
+        if electrolyte is not None:
+            raise UserError("give a salt or --solution, not both")
+        _predict_solution(app, solution, model_id, sets, missing, ionic_strengths, factors, close_with,
+                          minerals, temperature_k, density, fmt)
+        return
+    if electrolyte is None:
+        raise UserError("give a salt (e.g. NaCl) or --solution SPEC")
+    for flag_value, name in ((sets, "--sets"), (ionic_strengths, "--scale-to-ionic-strength"),
+                             (factors, "--factor"), (close_with, "--close-with"), (density, "--density")):
+        if flag_value:
+            raise UserError(f"{name} applies with --solution only")
+    if minerals:
+        raise UserError("--minerals applies with --solution only")
+    temperature_k = 298.15 if temperature_k is None else temperature_k
     from saltbench.api import predict as run
 
     s = app.session()
@@ -99,3 +157,21 @@ def predict(app, electrolyte: str, model_id: str, molalities: str, params_choice
           "osmotic": "phi", "water_activity": "a_w"},
          digits={"water_activity": 6})
     echo_caution(fmt)
+
+
+def _predict_solution(app, solution: str, model_id: str, sets: str, missing: str,
+                      ionic_strengths: str | None, factors: str | None, close_with: str | None,
+                      minerals: bool, temperature_k: float | None, density: str | None, fmt: str) -> None:
+    from saltbench.api import predict_solution
+    from saltbench.cli.solution_output import emit_solution
+
+    ids = [x.strip() for x in model_id.split(",") if x.strip()]
+    p = predict_solution(app.session(), solution, ids, sets=[x for x in sets.split(",") if x],
+                         missing=missing,
+                         ionic_strengths=_numbers(ionic_strengths, "--scale-to-ionic-strength"),
+                         factors=_numbers(factors, "--factor"), close_with=close_with,
+                         minerals=minerals, temperature_k=temperature_k, density=density)
+    if not any(m.ok for m in p.assessment.models):
+        why = "; ".join(f"{m.model_id}: {m.reason}" for m in p.assessment.models)
+        raise UserError(f"no model gave values for this solution ({why})")
+    emit_solution(p, fmt)

@@ -13,7 +13,7 @@ so.
 from __future__ import annotations
 
 from collections.abc import Mapping
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
@@ -76,6 +76,9 @@ def evaluate_solution(model: SolutionModel, composition: Composition,
     values = {k: np.full((1, 1), v) for k, v in used.items()}
     conditions = conditions or Conditions.of(composition)
     salts = pair_salts(composition)
+    # The pair salts ride with the composition, so a model finds each by name (ions a dataset or a
+    # reference composition declares have no formula to parse).
+    composition = replace(composition, salts=tuple(dict.fromkeys(composition.salts + salts)))
     ions = tuple(ln_gamma(name) for name in composition.names) if "ln_gamma" in model.computes else ()
     means = tuple(ln_gamma_pm(s.name) for s in salts)
     solvent = (OSMOTIC, WATER_ACTIVITY)

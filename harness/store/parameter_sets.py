@@ -291,3 +291,49 @@ def composition_values(store: Store, model_id: str, set_ids: Sequence[str],
         else:
             out.missing.append(key)
     return out
+
+
+@dataclass(frozen=True)
+class SetInfo:
+    """What a solution lookup needs to know of one stored set."""
+
+    set_id: str
+    kind: str
+    source: str
+    temperature_k: float
+    from_memory: bool
+    m_max: dict[str, float]  # electrolyte -> highest molality its values were fitted to
+
+
+def model_sets(store: Store, model_id: str, set_ids: Sequence[str] | None = None) -> list[SetInfo]:
+    """The stored sets of ``model_id``: the published ones in set-id order, or those named in
+    ``set_ids`` in that order (a set the store lacks, or of another model, is a UserError)."""
+    if set_ids is None:
+        rows = store.conn.execute(
+            "SELECT id, set_id, kind, source, temperature_k, from_memory FROM parameter_sets "
+            "WHERE model = ? AND kind = 'published' ORDER BY set_id", (model_id,)).fetchall()
+    else:
+        rows = []
+        for set_id in set_ids:
+            row = store.conn.execute(
+                "SELECT id, set_id, kind, source, temperature_k, from_memory, model FROM parameter_sets "
+                "WHERE set_id = ?", (set_id,)).fetchone()
+            if row is None:
+                raise UserError(f"no parameter set {set_id!r} in the store ('saltbench params list' "
+                                "shows them)")
+            if row[-1] != model_id:
+                raise UserError(f"parameter set {set_id!r} belongs to model {row[-1]}, not {model_id}")
+            rows.append(row[:-1])
+    out = []
+    for pk, set_id, kind, source, temperature_k, from_memory in rows:
+        ranges = {t: float(m) for t, m in store.conn.execute(
+            "SELECT target, MAX(m_max) FROM parameter_values WHERE set_pk = ? AND target_kind = "
+            "'electrolyte' AND m_max IS NOT NULL GROUP BY target", (pk,))}
+        out.append(SetInfo(set_id, kind, source or "", float(temperature_k), bool(from_memory), ranges))
+    return out
+
+
+def set_model(store: Store, set_id: str) -> str | None:
+    """The model a stored set belongs to, or None when the store has no such set."""
+    row = store.conn.execute("SELECT model FROM parameter_sets WHERE set_id = ?", (set_id,)).fetchone()
+    return None if row is None else str(row[0])
