@@ -896,7 +896,7 @@ def _ordered_sets(session: Session, model, keys, chosen: Sequence[str]):
     return first + [i for i in infos if i not in first]
 
 
-def _solution_lookup(session: Session, chosen: Sequence[str], used: dict):
+def solution_lookup(session: Session, chosen: Sequence[str], used: dict):
     from saltbench.comparison.solutions import Lookup
     from saltbench.store import parameter_sets as ps
 
@@ -944,7 +944,7 @@ def predict_solution(session: Session, spec: str, model_ids: Sequence[str] = ("a
 
         table = bundled_minerals().minerals
     used: dict = {}
-    assessment = assess_solution(composition, models, _solution_lookup(session, list(sets), used),
+    assessment = assess_solution(composition, models, solution_lookup(session, list(sets), used),
                                  missing=missing,  # type: ignore[arg-type]
                                  minerals=table)
     from saltbench.store import parameter_sets as ps
@@ -955,3 +955,57 @@ def predict_solution(session: Session, spec: str, model_ids: Sequence[str] = ("a
         citations[set_id] = str(doc.get("citation") or doc.get("source") or "")
     return SolutionPrediction(record, f, assessment, citations,
                               [s for s, info in used.items() if info.from_memory])
+
+
+@dataclass
+class SolubilityRun:
+    """Saturation molalities of one mineral in one background, per model."""
+
+    mineral: Any  # saltbench.chemistry.minerals.Mineral
+    background: Any  # SolutionRecord, or None for pure water
+    results: list  # saltbench.comparison.solubility.Solubility, one per model
+    citations: dict[str, str]
+    from_memory: list[str]
+    cautions: tuple[str, ...]
+
+
+def solubility(session: Session, mineral: str, model_ids: Sequence[str] = ("all",), *,
+               spec: str | None = None, sets: Sequence[str] = (), missing: str = "error",
+               temperature_k: float | None = None, density: str | None = None) -> SolubilityRun:
+    """The molality of ``mineral`` (a name, mineral name or formula of the bundled solubility
+    products) at saturation in pure water or in the solution ``spec``, per model (``["all"]``:
+    every model that takes the solution and gives single-ion values)."""
+    from saltbench.chemistry.minerals import NO_SPECIATION, SCALING_CAUTION
+    from saltbench.chemistry.solution import Composition
+    from saltbench.comparison.solubility import saturation_molality
+    from saltbench.curation.minerals import bundled_minerals
+    from saltbench.store import parameter_sets as ps
+
+    table = bundled_minerals()
+    target = table.find(mineral)
+    record = None
+    if spec is not None:
+        record = read_solution(spec, temperature_k=temperature_k, density=density)
+        background = record.composition()
+    else:
+        first_ion = target.ions[0][0]
+        # pure water: the mineral's own ions at zero
+        background = Composition((first_ion,), np.zeros((1, 1)),
+                                 np.array([temperature_k or target.temperature_k]))
+    probe = Composition(tuple(dict.fromkeys([*background.ions, *(i for i, _ in target.ions)])),
+                        np.ones((1, len(set([*background.ions, *(i for i, _ in target.ions)])))),
+                        background.temperature_k[:1])
+    models = [m for m in _models_for(session, model_ids, probe)
+              if list(model_ids) not in ([], ["all"]) or "ln_gamma" in m.computes]
+    used: dict = {}
+    lookup = solution_lookup(session, list(sets), used)
+    results = [saturation_molality(m, background, target, lookup, missing=missing) for m in models]
+    citations = {}
+    for set_id in used:
+        doc = ps.load_set(session.store, set_id) or {}
+        citations[set_id] = str(doc.get("citation") or doc.get("source") or "")
+    cautions = [SCALING_CAUTION] + ([NO_SPECIATION] if target.pairs_strongly else [])
+    if record is not None:
+        cautions += list(record.cautions)
+    return SolubilityRun(target, record, results, citations,
+                         [s for s, info in used.items() if info.from_memory], tuple(cautions))

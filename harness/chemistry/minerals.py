@@ -58,6 +58,14 @@ class Mineral:
         return self.mineral or self.name
 
     @property
+    def molar_mass(self) -> float:
+        """kg/mol of the formula unit with its water of hydration (atomic weights as for the
+        ions, :mod:`saltbench.chemistry.ions`)."""
+        from saltbench.chemistry.ions import formula_mass
+
+        return sum(ion.molar_mass * n for ion, n in self.ions) + self.water * formula_mass("H2O") / 1000.0
+
+    @property
     def pairs_strongly(self) -> bool:
         """A carbonate, or a sulfate of two doubly charged ions: where free-ion counting misleads."""
         names = {ion.name for ion, _ in self.ions}

@@ -28,9 +28,10 @@ COMMANDS = {
     "readings": "saltbench.cli.readings:readings",
     "ion-activity": "saltbench.cli.ion_activity:ion_activity",
     "convert": "saltbench.cli.convert:convert",
+    "solubility": "saltbench.cli.solubility:solubility",
 }
 HELP_ORDER = ["compare", "fit", "predict", "report", "data", "params", "readings", "convert", "ion-activity",
-              "models", "plugins", "new-model"]
+              "solubility", "models", "plugins", "new-model"]
 
 
 class LazyGroup(click.Group):

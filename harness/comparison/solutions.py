@@ -97,8 +97,34 @@ class SolutionAssessment:
         return stack.min(axis=0), stack.max(axis=0)
 
 
-def _one(model: SolutionModel, composition: Composition, lookup: LookupFn,
-         missing: Literal["error", "default"], minerals: Sequence[Mineral]) -> ModelOnSolution:
+@dataclass(frozen=True)
+class Resolved:
+    """A model's parameter values for a composition under the rules of the module docstring."""
+
+    values: dict[ParameterKey, float]
+    found: Lookup
+    defaulted: tuple[str, ...]
+    zero_mixing: tuple[str, ...]
+    absent: tuple[str, ...]  # keys no set gives and no rule fills: the model must refuse
+
+    @property
+    def sets(self) -> tuple[str, ...]:
+        return tuple(dict.fromkeys(self.found.set_of.values()))
+
+    @property
+    def set_of(self) -> dict[str, str]:
+        return {str(k): v for k, v in self.found.set_of.items()}
+
+    def refusal(self) -> str:
+        shown = ", ".join(self.absent[:6]) + (f" and {len(self.absent) - 6} more" if len(self.absent) > 6 else "")
+        return f"no parameter set gives {shown}"
+
+
+def resolve_values(model: SolutionModel, composition: Composition, lookup: LookupFn,
+                   missing: Literal["error", "default"]) -> Resolved:
+    """The values ``model`` takes for ``composition``: the sets' values, fixed and model-wide
+    parameters at their declarations, mixing terms no set gives at zero, other keys no set
+    gives at the model's defaults (``missing="default"``) or listed as absent."""
     keys = model.keys_for(composition)
     found = lookup(model, list(keys))
     values = dict(found.values)
@@ -120,14 +146,17 @@ def _one(model: SolutionModel, composition: Composition, lookup: LookupFn,
             defaulted.append(str(key))
         else:
             absent.append(str(key))
-    sets = tuple(dict.fromkeys(found.set_of.values()))
-    set_of = {str(k): v for k, v in found.set_of.items()}
-    if absent:
-        shown = ", ".join(absent[:6]) + (f" and {len(absent) - 6} more" if len(absent) > 6 else "")
-        return ModelOnSolution(model.id, model.name, None,
-                               f"no parameter set gives {shown}", sets, set_of)
+    return Resolved(values, found, tuple(defaulted), tuple(zero_mixing), tuple(absent))
+
+
+def _one(model: SolutionModel, composition: Composition, lookup: LookupFn,
+         missing: Literal["error", "default"], minerals: Sequence[Mineral]) -> ModelOnSolution:
+    res = resolve_values(model, composition, lookup, missing)
+    found, sets, set_of = res.found, res.sets, res.set_of
+    if res.absent:
+        return ModelOnSolution(model.id, model.name, None, res.refusal(), sets, set_of)
     try:
-        props = evaluate_solution(model, composition, values)
+        props = evaluate_solution(model, composition, res.values)
     except (ModelDomainError, ModelError) as exc:
         return ModelOnSolution(model.id, model.name, None, str(exc), sets, set_of)
     marks = extrapolation_marks(model, composition, found)
@@ -137,9 +166,9 @@ def _one(model: SolutionModel, composition: Composition, lookup: LookupFn,
         ln_g = np.column_stack([props.ln_gamma[n] for n in composition.names])
         sat = saturation_index(usable, composition.names, composition.molality, ln_g,
                                props.water_activity, composition.temperature_k, model=model.id,
-                               model_has_ion_pairing=_pairs_ions(model))
-    return ModelOnSolution(model.id, model.name, props, "", sets, set_of, tuple(defaulted),
-                           tuple(zero_mixing), marks, sat)
+                               model_has_ion_pairing=pairs_ions(model))
+    return ModelOnSolution(model.id, model.name, props, "", sets, set_of, res.defaulted,
+                           res.zero_mixing, marks, sat)
 
 
 def extrapolation_marks(model: SolutionModel, composition: Composition, found: Lookup
@@ -178,7 +207,7 @@ def extrapolation_marks(model: SolutionModel, composition: Composition, found: L
     return tuple(tuple(dict.fromkeys(m)) for m in out)
 
 
-def _pairs_ions(model: SolutionModel) -> bool:
+def pairs_ions(model: SolutionModel) -> bool:
     """Whether the model has a term standing for 2-2 ion association (Pitzer's beta2)."""
     return any(p.name == "beta2" for p in model.parameters)
 

@@ -26,6 +26,12 @@ COLUMNS = ["name", "mineral", "formula", "cation", "nu_cation", "anion", "nu_ani
 #: log10_ksp must equal log10(ksp) to its four printed decimals (half a unit of the last one).
 LOG_TOLERANCE = 0.5e-4 + 1e-12
 BUNDLED = "ksp-crc-87.csv"
+#: Mineral names a user types for compounds of one common solid form at 25 °C (common practice,
+#: no source). Not aliased: CaCO3 (calcite or aragonite: the table does not say) and MgCO3 (its
+#: printed Ksp is far above magnesite's, so it is not that mineral).
+ALIASES = {"barite": "BaSO4", "baryte": "BaSO4", "celestite": "SrSO4", "celestine": "SrSO4",
+           "fluorite": "CaF2", "witherite": "BaCO3", "strontianite": "SrCO3", "brucite": "Mg(OH)2",
+           "portlandite": "Ca(OH)2", "sellaite": "MgF2", "anglesite": "PbSO4", "chlorargyrite": "AgCl"}
 
 
 @dataclass(frozen=True)
@@ -42,8 +48,10 @@ class MineralTable:
     minerals: tuple[Mineral, ...]
 
     def find(self, name: str) -> Mineral:
-        """A mineral by its mineral name, its table name or its formula (case-insensitive)."""
+        """A mineral by its mineral name, its table name, its formula (case-insensitive) or a
+        mineral name of :data:`ALIASES`."""
         key = name.strip().lower()
+        key = ALIASES.get(key, key).lower()
         for m in self.minerals:
             if key in (m.mineral.lower(), m.name.lower(), m.formula.lower()):
                 return m
