@@ -110,8 +110,8 @@ def echo_table(prediction) -> None:
     cb = rec.charge_balance
     density = (f", density {rec.density_kg_per_l:g} kg/L ({rec.density_origin})"
                if rec.density_kg_per_l is not None else "")
-    click.echo(f"{rec.name}: {len(rec.species)} species in {rec.unit}{density}, "
-               f"T = {rec.temperature_k:g} K, charge imbalance {float(cb.percent[0]):+.2f} %")
+    click.echo(fold(f"{rec.name}: {len(rec.species)} species in {rec.unit}{density}, "
+                    f"T = {rec.temperature_k:g} K, charge imbalance {float(cb.percent[0]):+.2f} %", "  "))
     if rec.adjustment is not None:
         adj = rec.adjustment
         click.echo(f"  charge balance closed with {adj.amount:.6g} {adj.unit} {adj.ion} "
@@ -119,7 +119,7 @@ def echo_table(prediction) -> None:
     ok = [m for m in a.models if m.ok]
     for r in range(comp.n):
         click.echo("")
-        click.echo(f"x{prediction.factors[r]:.4g}: I = {comp.ionic_strength[r]:.4g} mol/kg")
+        click.echo(f"concentration factor {prediction.factors[r]:.4g}: I = {comp.ionic_strength[r]:.4g} mol/kg")
         emit(_table_rows(prediction, r, ok), "table", ["quantity"] + [m.model_id for m in ok],
              digits={m.model_id: 5 for m in ok})
         marked = [(m.model_id, m.marks[r]) for m in ok if m.marks and m.marks[r]]
