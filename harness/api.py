@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import os
 from collections.abc import Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from functools import cached_property
 from pathlib import Path
 from typing import TYPE_CHECKING, Any, cast
@@ -517,7 +517,7 @@ MACINNES_PARAMS = "pitzer-mayorga-1973"
 ION_SIZE_SET = "kielland-1937"
 SIT_SET = "sit-grenthe-1992"
 CONVENTIONS = ("macinnes", "bates-guggenheim", "debye-huckel", "extended-debye-huckel", "davies",
-               "truesdell-jones", "sit")
+               "truesdell-jones", "sit", "model")
 
 
 def add_readings(session: Session, paths: Sequence[str | os.PathLike[str]]) -> IngestReport:
@@ -720,18 +720,30 @@ class IonActivity:
     result: Any  # saltbench.measurements.conventions.SingleIonResult
     sources: list[str]  # where each parameter came from
     notes: list[str]
+    #: why the solution lies outside the model's ground (convention "model"; the CLI adds the
+    #: convention's own ionic-strength limit for the others)
+    extrapolation: list[str] = field(default_factory=list)
 
 
 def ion_activity(session: Session, salts: Sequence[tuple[Any, float]], convention: str,
                  temperature_k: float = 298.15, *, b_ion: dict[str, float] | None = None,
-                 missing: str = "error") -> IonActivity:
-    """Single-ion activity coefficients of ``salts`` under ``convention`` (see CONVENTIONS)."""
+                 missing: str = "error", model_id: str | None = None,
+                 sets: Sequence[str] = ()) -> IonActivity:
+    """Single-ion activity coefficients of ``salts`` under ``convention`` (see CONVENTIONS).
+
+    ``"model"``: the single-ion form of the mixture model ``model_id`` (Pitzer, SIT, Bromley,
+    Truesdell-Jones...), its parameters from the store as for :func:`predict_solution`
+    (``sets`` first; ``missing`` "error" or "default"), with its extrapolation marks."""
     from saltbench.errors import UserError
     from saltbench.measurements import conventions as conv
     from saltbench.store.parameter_sets import electrolyte_values
 
     if convention not in CONVENTIONS:
         raise UserError(f"unknown convention {convention!r} (choose: {', '.join(CONVENTIONS)})")
+    if convention == "model":
+        return _model_ion_activity(session, salts, model_id, temperature_k, sets, missing)
+    if model_id is not None:
+        raise UserError("a model is named with the convention 'model' only")
     sources: list[str] = []
     notes: list[str] = []
     comp = list(salts)
@@ -798,6 +810,39 @@ def ion_activity(session: Session, salts: Sequence[tuple[Any, float]], conventio
             sources.append(f"gamma±({salt.name}) at the same ionic strength from {other_label}")
         res = conv.macinnes(comp, g_kcl, temperature_k, mean_gammas=mean)
     return IonActivity(res, sources, notes)
+
+
+def _model_ion_activity(session: Session, salts, model_id: str | None, temperature_k: float,
+                        sets: Sequence[str], missing: str) -> IonActivity:
+    from saltbench.chemistry.solution import Composition
+    from saltbench.comparison.solutions import extrapolation_marks, resolve_values
+    from saltbench.errors import UserError
+    from saltbench.measurements import conventions as conv
+
+    if model_id is None:
+        raise UserError("the convention 'model' needs a model: --model ID (e.g. pitzer)")
+    model = session.registry.model(model_id)
+    if "ln_gamma" not in model.computes:
+        raise UserError(f"model {model_id} gives no single-ion values")
+    comp = Composition.of_salts(list(salts), temperature_k)
+    if missing not in ("error", "default"):
+        raise UserError("missing must be 'error' or 'default' with the convention 'model'")
+    used: dict = {}
+    res = resolve_values(model, comp, solution_lookup(session, list(sets), used), missing)  # type: ignore[arg-type]
+    if res.absent:
+        raise UserError(f"{model_id}: {res.refusal()}; give --sets, or --missing default to take "
+                        "the model's defaults knowingly")
+    result = conv.model_single_ion(list(salts), model, model.name, res.values, temperature_k)
+    sources = [f"{model.id} parameters from {_set_note(session, s)}" for s in res.sets]
+    notes = []
+    if res.defaulted:
+        notes.append(f"no set gives {', '.join(res.defaulted)}: the model's defaults were used "
+                     "(--missing default); these values are guesses")
+    if res.zero_mixing:
+        notes.append(f"mixing terms taken as zero: {', '.join(res.zero_mixing)}")
+    notes.append(f"convention: {model.single_ion_convention}")
+    marks = list(extrapolation_marks(model, comp, res.found)[0])
+    return IonActivity(result, sources, notes, marks)
 
 
 def _sit(session: Session, salts: Sequence[tuple[Any, float]],

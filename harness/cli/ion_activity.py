@@ -29,21 +29,27 @@ def _b_ion(specs: tuple[str, ...]) -> dict[str, float]:
               help="A salt and its molality in mol/kg (repeatable), e.g. --salt NaCl=0.1.")
 @click.option("--convention", required=True,
               type=click.Choice(["macinnes", "bates-guggenheim", "debye-huckel",
-                                 "extended-debye-huckel", "davies", "truesdell-jones", "sit"],
+                                 "extended-debye-huckel", "davies", "truesdell-jones", "sit", "model"],
                                 case_sensitive=False),
-              help="How the single-ion values are assigned.")
+              help="How the single-ion values are assigned; 'model': the single-ion form of the "
+                   "mixture model given by --model, its parameters from the store.")
+@click.option("--model", "model_id", metavar="ID",
+              help="With --convention model: the model (e.g. pitzer, sit, bromley).")
+@click.option("--sets", "sets", default="", metavar="IDS",
+              help="With --convention model: parameter sets to take values from first.")
 @click.option("--temperature", "temperature_k", type=float, default=298.15, show_default=True,
               help="Temperature in K.")
 @click.option("--b-ion", "b_ion", multiple=True, metavar="ION=VALUE",
               help="Truesdell-Jones b_i in kg/mol (repeatable), e.g. --b-ion Na+=0.075 --b-ion Cl-=0.015, the "
                    "values Truesdell and Jones (1974) give for Na+ and Cl- (from memory of the paper; verify).")
-@click.option("--missing", type=click.Choice(["error", "zero"]), default="error", show_default=True,
-              help="A missing SIT eps or Truesdell-Jones b_i: refuse, or take it as zero.")
+@click.option("--missing", type=click.Choice(["error", "zero", "default"]), default="error", show_default=True,
+              help="A missing SIT eps or Truesdell-Jones b_i: refuse, or take it as zero; with "
+                   "--convention model, 'default' takes the model's defaults for pairs no set covers.")
 @click.option("--format", "fmt", type=click.Choice(FORMATS), default="table", show_default=True,
               help="Output format.")
 @click.pass_obj
-def ion_activity(app, salts: tuple[str, ...], convention: str, temperature_k: float,
-                 b_ion: tuple[str, ...], missing: str, fmt: str) -> None:
+def ion_activity(app, salts: tuple[str, ...], convention: str, model_id: str | None, sets: str,
+                 temperature_k: float, b_ion: tuple[str, ...], missing: str, fmt: str) -> None:
     """Each ion's activity coefficient and activity in a solution of one or more salts.
 
     A single-ion activity rests on a non-thermodynamic convention; the mean quantity of a salt
@@ -67,7 +73,8 @@ def ion_activity(app, salts: tuple[str, ...], convention: str, temperature_k: fl
         if ion not in present:
             raise UserError(f"--b-ion {ion}: no ion {ion!r} in this solution; its ions are "
                             f"{', '.join(present)}")
-    out = compute(s, comp, convention, temperature_k, b_ion=given, missing=missing)
+    out = compute(s, comp, convention, temperature_k, b_ion=given, missing=missing, model_id=model_id,
+                  sets=[x for x in sets.split(",") if x])
     r = out.result
 
     def scalar(x) -> float:
@@ -97,6 +104,7 @@ def ion_activity(app, salts: tuple[str, ...], convention: str, temperature_k: fl
                       "is commonly held to work"] if i_max is not None and i_now > i_max * (1 + 1e-9) else [])
     if stored_off_temperature:
         extrapolation.append(f"stored 25 °C parameters used at {temperature_k:g} K")
+    extrapolation += [why for why in out.extrapolation if why not in extrapolation]
     doc = {"convention": r.convention, "temperature_k": r.temperature_k,
            "ionic_strength": i_now, "extrapolated": bool(extrapolation), "extrapolation": extrapolation,
            "solution": [{"salt": e.name, "molality": m} for e, m in comp],
