@@ -99,7 +99,7 @@ SINGLE_ION_CONVENTION = ("the model's own single-ion form: z_i^2 F of Pitzer's m
 
 class Pitzer(ActivityModel):
     id = "pitzer"
-    name = "Pitzer (binary)"
+    name = "Pitzer"
     citation = (
         "K. S. Pitzer, J. Phys. Chem. 77, 268 (1973); K. S. Pitzer and G. Mayorga, J. Phys. "
         "Chem. 77, 2300 (1973) and J. Solution Chem. 3, 539 (1974); mixtures: K. S. Pitzer, "
