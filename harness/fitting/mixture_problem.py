@@ -264,10 +264,29 @@ class MixtureProblem:
 
 
 # -- building problems ------------------------------------------------------------------------
+def _parse_key(text: str) -> ParameterKey | None:
+    """``"theta[K+/Na+]"`` -> ParameterKey("theta", ("K+", "Na+")); ``"b"`` -> ParameterKey("b")."""
+    text = text.strip()
+    name, bracket, rest = text.partition("[")
+    if not bracket:
+        return ParameterKey(name) if name else None
+    if not rest.endswith("]") or not name:
+        return None
+    return ParameterKey(name, tuple(part.strip() for part in rest[:-1].split("/")))
+
+
 def _resolve(item: KeyLike, keys: Mapping[ParameterKey, Parameter], by_name: Mapping[str, ParameterKey],
              model: SolutionModel, what: str) -> ParameterKey:
-    key = item if isinstance(item, ParameterKey) else by_name.get(str(item).strip())
-    if key is None or key not in keys:
+    """The model's key meant by ``item``: a key or its name, its ions in any order (the ions of
+    one key are distinct, so they name it whatever their order: ``theta[K+/Na+]`` is the
+    model's ``theta[Na+/K+]`` where it lists Na+ first)."""
+    given = item if isinstance(item, ParameterKey) else _parse_key(str(item))
+    key = None
+    if given is not None:
+        key = given if given in keys else next(
+            (k for k in keys if k.name == given.name and len(k.owner) == len(given.owner)
+             and set(k.owner) == set(given.owner)), None)
+    if key is None:
         known = ", ".join(by_name) or "none"
         raise UserError(f"model {model.id} has no parameter {str(item)!r} to {what} for these "
                         f"data (its keys here: {known})")
