@@ -413,3 +413,25 @@ def test_bad_mixture_data_are_user_errors():
         MixtureData(comp, WATER_ACTIVITY, [0.9, 1.2], 1e-4)
     with pytest.raises(UserError, match="cannot fit ln_gamma\\(H\\+\\)"):
         MixtureData(comp, ln_gamma("H+"), [0.0, 0.0], 0.01)
+
+
+class _MeansOnly(SIT):
+    """SIT as a model that gives only mean activity coefficients of mixtures."""
+
+    id = "sit-means-only"
+
+    def computes_for(self, composition):
+        return frozenset({"ln_gamma_pm"}) if composition.single_salt is None else self.computes
+
+    def compute(self, request):
+        out = super().compute(request)
+        keep = {q: v for q, v in out.values.items() if q.kind == "ln_gamma_pm"}
+        return Computed(keep, {q: d for q, d in out.derivatives.items() if q in keep})
+
+
+def test_a_quantity_the_model_cannot_give_is_a_user_error():
+    data, _, _, _ = pitzer_data(0)
+    with pytest.raises(UserError, match="cannot be fitted to these data: .*osmotic"):
+        fit_mixture(_MeansOnly(), data, free=SIT_FREE, dh=SIT_DH)
+    means = data.subset(np.array([q.kind == "ln_gamma_pm" for q in data.quantities]))
+    assert fit_mixture(_MeansOnly(), means, free=SIT_FREE, dh=SIT_DH).ok

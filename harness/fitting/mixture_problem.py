@@ -408,4 +408,12 @@ def build_mixture_problem(model: SolutionModel, data: MixtureData, *,
         raise UserError(f"no value for {', '.join(missing)}: hold them at published values "
                         "(held=) or fit them (free=)")
     conditions = Conditions.of(comp) if dh is None else Conditions.single(dh, comp.n)
-    return MixtureProblem(model, data, conditions, list(keys), params)
+    problem = MixtureProblem(model, data, conditions, list(keys), params)
+    try:  # what the model cannot give for these solutions is a mistake in the request
+        problem.predict(problem.theta0)
+    except ModelDomainError as exc:
+        raise UserError(f"model {model.id} cannot be fitted to these data: {exc}") from None
+    except (ModelError, FloatingPointError):
+        pass  # a failure at the start values: the solver reports it as a flag of the fit
+    problem.n_evaluations = 0
+    return problem
