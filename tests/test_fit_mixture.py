@@ -137,8 +137,8 @@ def test_sit_recovers_eps_within_its_standard_errors():
 def test_sit_standard_errors_cover_the_truth_over_many_seeds():
     # With exact uncertainties, (fitted - true) / stderr is standard normal (first-order
     # covariance of linear least squares, e.g. Press et al., Numerical Recipes, 3rd ed., 15.4):
-    # over 40 seeds its RMS lies within 0.75..1.3 (the chi distribution with 40 degrees of
-    # freedom puts 99.9 % there).
+    # over 40 seeds its RMS lies within 0.7..1.35 (the chi-square distribution with 40 degrees
+    # of freedom puts 99.6 % of sqrt(chi2 / 40) there; scipy.stats.chi2).
     truth = dict(zip(SIT_FREE, sit_set()))
     z = {name: [] for name in SIT_FREE}
     for seed in range(40):
@@ -146,7 +146,7 @@ def test_sit_standard_errors_cover_the_truth_over_many_seeds():
         for name in SIT_FREE:
             z[name].append((r.value(name) - truth[name]) / r.stderr(name))
     for name, values in z.items():
-        assert 0.75 < math.sqrt(np.mean(np.square(values))) < 1.3, name
+        assert 0.7 < math.sqrt(np.mean(np.square(values))) < 1.35, name
 
 
 def test_sit_without_noise_gives_the_published_values_exactly():
@@ -184,7 +184,7 @@ def test_pitzer_recovers_theta_and_psi_from_noisy_points_of_three_quantities():
 
 
 def test_pitzer_standard_errors_cover_the_truth_over_many_seeds():
-    # as for SIT above: (fitted - true) / stderr over 40 seeds has an RMS within 0.75..1.3
+    # as for SIT above: (fitted - true) / stderr over 40 seeds has an RMS within 0.7..1.35
     z = {"theta[H+/Na+]": [], "psi[H+/Na+/Cl-]": []}
     for seed in range(40):
         data, pairs, theta, psi = pitzer_data(100 + seed)
@@ -193,7 +193,7 @@ def test_pitzer_standard_errors_cover_the_truth_over_many_seeds():
         for name, truth in (("theta[H+/Na+]", theta), ("psi[H+/Na+/Cl-]", psi)):
             z[name].append((r.value(name) - truth) / r.stderr(name))
     for name, values in z.items():
-        assert 0.75 < math.sqrt(np.mean(np.square(values))) < 1.3, name
+        assert 0.7 < math.sqrt(np.mean(np.square(values))) < 1.35, name
 
 
 def test_water_activity_points_become_osmotic_coefficients():
@@ -335,14 +335,19 @@ def _misfit_data():
 
 
 def test_validity_range_in_ionic_strength_grows_with_the_tolerance():
+    # Each trial limit's fit (or cross-validation) does not depend on the tolerance, so a wider
+    # tolerance passes every limit a narrower one passed, and the search from the top can only
+    # reach as far or further (the rule of saltbench.fitting.validity).
     data = _misfit_data()
-    reach = []
-    for tol in (0.001, 0.003, 0.01, 0.03, 0.3):
-        v = mixture_validity(SIT(), data, free=SIT_FREE, dh=SIT_DH, tolerance_ln_gamma=tol)
-        reach.append(-1.0 if v.max_ionic_strength is None else v.max_ionic_strength)
-        assert v.mode == "refit" and v.highest_data_ionic_strength == 3.0
-    assert reach == sorted(reach) and reach[0] < 3.0
-    assert v.limited_by == "data" and v.max_ionic_strength == 3.0
+    for judge in ("fit", "heldout"):
+        reach = []
+        for tol in (0.001, 0.003, 0.01, 0.03, 0.3):
+            v = mixture_validity(SIT(), data, free=SIT_FREE, dh=SIT_DH, tolerance_ln_gamma=tol,
+                                 judge=judge)
+            reach.append(-1.0 if v.max_ionic_strength is None else v.max_ionic_strength)
+            assert v.mode == "refit" and v.highest_data_ionic_strength == 3.0
+        assert reach == sorted(reach) and reach[0] < 3.0, judge
+        assert v.limited_by == "data" and v.max_ionic_strength == 3.0, judge
 
 
 def test_validity_of_a_held_model_is_where_its_first_point_fails():
