@@ -24,6 +24,7 @@ from saltbench.fitting import FitData, fit
 from saltbench.fitting.crossval import fold_labels
 from saltbench.fitting.mixture import cross_validate_mixture, fit_mixture, mixture_validity
 from saltbench.fitting.mixture_data import MixtureData
+from saltbench.fitting.mixture_problem import build_mixture_problem
 from saltbench.models.contract import Computed, Conditions, ParameterKey, Request
 from saltbench.models.evaluate import compute
 from saltbench.models.quantities import OSMOTIC, WATER_ACTIVITY, ln_gamma, ln_gamma_pm
@@ -348,6 +349,43 @@ def test_validity_range_in_ionic_strength_grows_with_the_tolerance():
             assert v.mode == "refit" and v.highest_data_ionic_strength == 3.0
         assert reach == sorted(reach) and reach[0] < 3.0, judge
         assert v.limited_by == "data" and v.max_ionic_strength == 3.0, judge
+
+
+def test_subsets_of_subsets_read_their_own_rows():
+    # Folds of a trial limit are subsets of a subset; with the points in no particular order
+    # they must predict (from their root's shared design) what a problem built afresh on the
+    # same points predicts, and that is the SIT equation's value.
+    data = sit_data(6)
+    data = data.subset(np.random.default_rng(0).permutation(data.n))
+    problem = build_mixture_problem(SIT(), data, free=SIT_FREE, dh=SIT_DH)
+    theta = problem.theta_from({"eps[H+/Cl-]": 0.1, "eps[Na+/Cl-]": 0.05})
+    problem.linear_design(theta)  # the root's design, which its subsets read
+    first = data.ionic_strength <= 2.0
+    second = np.arange(int(first.sum())) % 2 == 0
+    nested = problem.subset(first).subset(second)
+    points = data.subset(first).subset(second)
+    fresh = build_mixture_problem(SIT(), points, free=SIT_FREE, dh=SIT_DH)
+    np.testing.assert_allclose(nested.predict(theta), fresh.predict(theta), rtol=1e-13)
+    np.testing.assert_allclose(nested.linear_design(theta)[1], fresh.linear_design(theta)[1],
+                               rtol=1e-13)
+    comp = points.composition
+    m_h, m_na = comp.of("H+"), comp.of("Na+")
+    np.testing.assert_allclose(nested.predict(theta),
+                               LN10 * sit_log10_gamma_pm_hcl(m_h, m_na, 0.1, 0.05, SIT_A),
+                               rtol=1e-12)
+
+
+def test_validity_does_not_depend_on_the_order_of_the_points():
+    # Judged by the fit, a trial limit's points are those up to it, whatever their order.
+    # (Held-out folds break ties of ionic strength by data order, so they may differ.)
+    data = _misfit_data()
+    shuffled = data.subset(np.random.default_rng(1).permutation(data.n))
+    for tol in (0.003, 0.01):
+        a = mixture_validity(SIT(), data, free=SIT_FREE, dh=SIT_DH, tolerance_ln_gamma=tol)
+        b = mixture_validity(SIT(), shuffled, free=SIT_FREE, dh=SIT_DH, tolerance_ln_gamma=tol)
+        assert a.limited_by == b.limited_by == "tolerance"
+        assert a.max_ionic_strength == b.max_ionic_strength
+        assert a.first_failing_ionic_strength == b.first_failing_ionic_strength
 
 
 def test_validity_of_a_held_model_is_where_its_first_point_fails():
