@@ -21,8 +21,9 @@ from saltbench.errors import ModelDomainError, ModelError, UserError
 from saltbench.fitting.data import FitData
 from saltbench.fitting.flags import Flag, FlagKind, flag, texts
 from saltbench.fitting.least_squares import solve
-from saltbench.fitting.problem import FitProblem, build_problem
+from saltbench.fitting.problem import build_problem
 from saltbench.fitting.properties import per_point
+from saltbench.fitting.protocol import Problem
 from saltbench.models.contract import SolutionModel
 from saltbench.water.debye_huckel import DebyeHuckel
 
@@ -112,7 +113,7 @@ class CrossValidation:
         }
 
 
-def cross_validate_problem(problem: FitProblem, folds: int | str = 5,
+def cross_validate_problem(problem: Problem, folds: int | str = 5,
                            scheme: str = "interleaved",
                            start: np.ndarray | None = None,
                            stop_outside: Mapping[str, float] | None = None) -> CrossValidation:

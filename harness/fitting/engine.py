@@ -14,7 +14,8 @@ from saltbench.chemistry.electrolyte import Electrolyte, parse_formula
 from saltbench.errors import UserError
 from saltbench.fitting.data import FitData
 from saltbench.fitting.least_squares import solve
-from saltbench.fitting.problem import FitProblem, build_problem
+from saltbench.fitting.problem import build_problem
+from saltbench.fitting.protocol import Problem
 from saltbench.fitting.result import FitResult, build_result
 from saltbench.models.contract import SolutionModel
 from saltbench.water.debye_huckel import DebyeHuckel
@@ -29,7 +30,7 @@ def as_electrolyte(electrolyte: Electrolyte | str) -> Electrolyte:
         raise UserError(str(exc)) from None
 
 
-def run(problem: FitProblem, *, covariance_scaling: str = "birge",
+def run(problem: Problem, *, covariance_scaling: str = "birge",
         max_evaluations: int | None = None) -> FitResult:
     """Solve a prepared problem and report it."""
     solution = solve(problem, max_evaluations=max_evaluations)

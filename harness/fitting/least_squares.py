@@ -30,7 +30,7 @@ import numpy as np
 
 from saltbench.errors import ModelDomainError, ModelError
 from saltbench.fitting.flags import Flag, FlagKind, flag
-from saltbench.fitting.problem import FitProblem
+from saltbench.fitting.protocol import Problem
 
 _MODEL_FAILURES = (ModelError, ModelDomainError, FloatingPointError, np.linalg.LinAlgError)
 
@@ -110,7 +110,7 @@ class _Abort(Exception):
 class _Projection:
     """theta_N -> projected residuals and Jacobian, caching the last point (fun then jac)."""
 
-    def __init__(self, problem: FitProblem) -> None:
+    def __init__(self, problem: Problem) -> None:
         self.p = problem
         self.key: bytes | None = None
         self.theta = problem.theta0
@@ -177,7 +177,7 @@ class LinearSolution:
     svd: ScaledSVD | None  # of ``weighted``, when it was needed
 
 
-def solve_linear(problem: FitProblem, offset: np.ndarray, design: np.ndarray, *,
+def solve_linear(problem: Problem, offset: np.ndarray, design: np.ndarray, *,
                  projection: bool = True) -> LinearSolution:
     """Weighted linear least squares in the free linear parameters, within their bounds.
 
@@ -376,7 +376,7 @@ def _spread_starts(proj: _Projection, local, first, lower: np.ndarray, upper: np
                       found=dict(zip(names, best.x.tolist())))
 
 
-def solve(problem: FitProblem, *, max_evaluations: int | None = None,
+def solve(problem: Problem, *, max_evaluations: int | None = None,
           tolerance: float = 1e-10, spread: bool = True) -> Solution:
     """Minimise the weighted sum of squares of ``problem``; never raises for a model failure.
 

@@ -190,6 +190,17 @@ class FitProblem:
     def electrolyte_label(self) -> str:
         return " + ".join(b.electrolyte.name for b in self.blocks)
 
+    @property
+    def temperature_k(self) -> float:
+        """The temperature of the blocks (K), NaN when they differ."""
+        temps = {round(b.ctx.temperature_k, 6) for b in self.blocks}
+        return float(temps.pop()) if len(temps) == 1 else math.nan
+
+    def param_map(self) -> dict[str, dict[str, str]]:
+        """For each electrolyte: the model's parameter name -> its global name."""
+        return {b.electrolyte.name: {m: self.names[g] for m, g in b.mapping.items()}
+                for b in self.blocks}
+
     def values_for(self, block: Block, theta: np.ndarray) -> dict[str, float]:
         return dict(zip(block.names, theta[block.indices].tolist()))
 

@@ -31,8 +31,8 @@ import numpy as np
 from saltbench.fitting import criteria
 from saltbench.fitting.flags import FAILED_FIT_KINDS, Flag, FlagKind, flag, texts
 from saltbench.fitting.least_squares import ScaledSVD, Solution, scaled_svd
-from saltbench.fitting.problem import FitProblem
 from saltbench.fitting.properties import names as property_names
+from saltbench.fitting.protocol import Problem
 
 ILL_CONDITIONED = 1e6
 SINGULAR = 1e-9
@@ -205,7 +205,7 @@ def _covariance(jac: np.ndarray, names: list[str], svd: ScaledSVD | None = None
     return cov, cond, flags
 
 
-def build_result(problem: FitProblem, solution: Solution, *,
+def build_result(problem: Problem, solution: Solution, *,
                  covariance_scaling: str = "birge") -> FitResult:
     """Statistics, covariance and flags of a solved problem."""
     if covariance_scaling not in SCALINGS:
@@ -249,10 +249,8 @@ def build_result(problem: FitProblem, solution: Solution, *,
                    "stderr": stderr_of.get(i) if gp.free else None,
                    "fixed": not gp.free, "unit": units.get(gp.model_name, "")}
                   for i, (gp, value) in enumerate(zip(p.params, solution.theta.tolist()))]
-    param_map = {b.electrolyte.name: {m: p.names[g] for m, g in b.mapping.items()}
-                 for b in p.blocks}
+    param_map = p.param_map()
     crit_ok = solution.prediction is not None
-    temps = {round(b.ctx.temperature_k, 6) for b in p.blocks}
     return FitResult(
         electrolyte=p.electrolyte_label, model=p.model.id, parameters=parameters,
         free_names=free_names, covariance=cov, covariance_scale=float(scale),
@@ -262,7 +260,7 @@ def build_result(problem: FitProblem, solution: Solution, *,
         aic=criteria.aic(chi2, k) if crit_ok else math.nan,
         aicc=criteria.aicc(chi2, k, n) if crit_ok else None,
         bic=criteria.bic(chi2, k, n) if crit_ok else None,
-        condition_number=cond, temperature_k=float(temps.pop()) if len(temps) == 1 else math.nan,
+        condition_number=cond, temperature_k=p.temperature_k,
         molality=p.molality.copy(), kind=p.kind.copy(), observed=p.obs.copy(),
         uncertainty=p.sigma.copy(), prediction=pred,
         stderr_free=np.array(sd_list, dtype=float), param_map=param_map,

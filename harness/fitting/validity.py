@@ -33,7 +33,7 @@ from __future__ import annotations
 import math
 from collections.abc import Iterable, Mapping
 from dataclasses import dataclass, field
-from typing import Any, Literal
+from typing import Any, Literal, NamedTuple
 
 import numpy as np
 
@@ -44,6 +44,7 @@ from saltbench.fitting.data import FitData
 from saltbench.fitting.flags import Flag, FlagKind, flag, texts
 from saltbench.fitting.problem import FitProblem, build_problem
 from saltbench.fitting.properties import per_point
+from saltbench.fitting.protocol import Problem
 from saltbench.fitting.result import FitResult
 from saltbench.models.contract import SolutionModel
 from saltbench.water.debye_huckel import DebyeHuckel
@@ -121,19 +122,25 @@ def _worst(residual: np.ndarray, sel: np.ndarray) -> float | None:
 def _finish(electrolyte: Electrolyte, mode: str, last_ok: float | None,
             first_fail: float | None, top: float, tol: dict[str, float], flags: list[Flag],
             trials: list[dict[str, Any]]) -> ValidityRange:
-    if first_fail is None and last_ok is not None:
-        limited_by = "data"
-        flags.append(flag(FlagKind.DATA_END, top=top))
-    elif last_ok is None:
-        limited_by = "none-valid"
-    else:
-        limited_by = "tolerance"
+    limited_by = limit_reason(last_ok, first_fail, top, flags)
     ionic = float(electrolyte.ionic_strength(last_ok)) if last_ok is not None else None
     return ValidityRange(last_ok, ionic, limited_by, first_fail, tol, mode, top,  # type: ignore[arg-type]
                          flags, trials)
 
 
-def _fixed_scan(problem: FitProblem, theta: np.ndarray, tol: Tolerance
+def limit_reason(last_ok: float | None, first_fail: float | None, top: float,
+                 flags: list[Flag]) -> Literal["tolerance", "data", "none-valid"]:
+    """What ends a range: the data (no limit failed; a ``data-end`` flag is added to
+    ``flags``), no valid point at all, or the tolerance."""
+    if first_fail is None and last_ok is not None:
+        flags.append(flag(FlagKind.DATA_END, top=top))
+        return "data"
+    if last_ok is None:
+        return "none-valid"
+    return "tolerance"
+
+
+def _fixed_scan(problem: Problem, theta: np.ndarray, tol: Tolerance
                 ) -> tuple[float | None, float | None, list[Flag], list[dict[str, Any]]]:
     flags: list[Flag] = []
     try:
@@ -168,7 +175,7 @@ def _coarse(grid: np.ndarray) -> list[int]:
     return picks
 
 
-def _same_points(cv: CrossValidation | None, problem: FitProblem, folds: int,
+def _same_points(cv: CrossValidation | None, problem: Problem, folds: int,
                  scheme: str) -> bool:
     """Whether ``cv`` is a cross-validation of exactly ``problem``'s points with these folds."""
     return (cv is not None and cv.folds == folds and cv.scheme == scheme
@@ -178,7 +185,7 @@ def _same_points(cv: CrossValidation | None, problem: FitProblem, folds: int,
             and bool(np.array_equal(cv.kind, problem.kind)))
 
 
-def _refit_scan(problem: FitProblem, tol: Tolerance, folds: int, scheme: str,
+def _refit_scan(problem: Problem, tol: Tolerance, folds: int, scheme: str,
                 full_cv: CrossValidation | None = None, stop_early: bool = False
                 ) -> tuple[float | None, float | None, list[Flag], list[dict[str, Any]]]:
     flags: list[Flag] = []
@@ -229,10 +236,10 @@ def _refit_scan(problem: FitProblem, tol: Tolerance, folds: int, scheme: str,
     return last_ok, first_fail, flags, trials
 
 
-def _same_fit(full_fit: tuple[FitProblem, FitResult] | None, sub: FitProblem) -> bool:
+def _same_fit(full_fit: tuple[FitProblem, FitResult] | None, sub: Problem) -> bool:
     """Whether ``full_fit`` (a problem and its result) fits exactly ``sub``'s points with the
     same model, constants, parameters, bounds and start."""
-    if full_fit is None:
+    if full_fit is None or not isinstance(sub, FitProblem):
         return False
     other = full_fit[0]
     return (other.model is sub.model and other.n == sub.n
@@ -245,7 +252,7 @@ def _same_fit(full_fit: tuple[FitProblem, FitResult] | None, sub: FitProblem) ->
             and other.params == sub.params)
 
 
-def _fit_scan(problem: FitProblem, tol: Tolerance,
+def _fit_scan(problem: Problem, tol: Tolerance,
               full_fit: tuple[FitProblem, FitResult] | None = None
               ) -> tuple[float | None, float | None, list[Flag], list[dict[str, Any]]]:
     from saltbench.fitting.engine import run
@@ -344,11 +351,12 @@ def validity_range(model: SolutionModel, electrolyte: Electrolyte | str, data: F
     from saltbench.fitting.engine import as_electrolyte
 
     e = as_electrolyte(electrolyte)
-    tol = {"ln_gamma": float(tolerance_ln_gamma), "osmotic": float(tolerance_phi)}
+    tol = tolerances(tolerance_ln_gamma, tolerance_phi)
+    theta: np.ndarray | None = None
+    problem: FitProblem
     if params is not None:
         problem = build_problem(model, [(e, data)], dh=dh, temperature_k=temperature_k)
-        result = _fixed_scan(problem, problem.theta_from(params), tol)
-        mode = "fixed"
+        theta = problem.theta_from(params)
     else:
         problem = build_problem(model, [(e, data)], fixed=fixed, start=start, free=free,
                                 bounds=bounds, dh=dh, temperature_k=temperature_k)
@@ -356,6 +364,41 @@ def validity_range(model: SolutionModel, electrolyte: Electrolyte | str, data: F
             # The caller's problem is this one: its trials then share the designs and screen
             # values it has built already (FitProblem.subset).
             problem = full_fit[0]
+    found = scan(problem, tol, theta=theta, judge=judge, folds=folds, scheme=scheme,
+                 full_cv=full_cv, stop_early=stop_early, full_fit=full_fit)
+    return _finish(e, found.mode, found.last_ok, found.first_fail,
+                   float(problem.molality.max()), tol, found.flags, found.trials)
+
+
+def tolerances(ln_gamma: float = 0.01, phi: float = 0.01) -> dict[str, float]:
+    """Tolerances by fitted property: |d ln gamma±| and |d phi| (absolute)."""
+    return {"ln_gamma": float(ln_gamma), "osmotic": float(phi)}
+
+
+class Scan(NamedTuple):
+    """What a validity search found along a problem's scan coordinate (``problem.molality``:
+    molality for one salt, ionic strength for mixtures)."""
+
+    mode: Literal["fixed", "refit"]
+    last_ok: float | None  # the highest passing limit
+    first_fail: float | None  # the first failing limit above it
+    flags: list[Flag]
+    trials: list[dict[str, Any]]  # sorted by limit
+
+
+def scan(problem: Problem, tol: Tolerance, *, theta: np.ndarray | None = None,
+         judge: Literal["fit", "heldout"] = "fit", folds: int = 5,
+         scheme: str = "interleaved", full_cv: CrossValidation | None = None,
+         stop_early: bool = False,
+         full_fit: tuple[FitProblem, FitResult] | None = None) -> Scan:
+    """The validity search of the module docstring on a prepared problem, by the same rules
+    for one salt and for mixtures: with ``theta`` (a full parameter vector) the model is judged
+    as given; without, its free parameters are refitted at each trial limit and judged by
+    ``judge``. Sparse stretches below the range are flagged."""
+    if theta is not None:
+        result = _fixed_scan(problem, theta, tol)
+        mode: Literal["fixed", "refit"] = "fixed"
+    else:
         if judge == "fit":
             result = _fit_scan(problem, tol, full_fit)
         else:
@@ -366,5 +409,4 @@ def validity_range(model: SolutionModel, electrolyte: Electrolyte | str, data: F
         flags += [flag(FlagKind.SPARSE, low=a, high=min(b, last_ok))
                   for a, b in sparse_stretches(problem.molality) if a < last_ok]
     trials.sort(key=lambda t: t["limit"])
-    return _finish(e, mode, last_ok, first_fail, float(problem.molality.max()), tol, flags,
-                   trials)
+    return Scan(mode, last_ok, first_fail, flags, trials)
