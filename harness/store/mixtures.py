@@ -18,6 +18,7 @@ import numpy as np
 from saltbench.chemistry.electrolyte import parse_formula
 from saltbench.chemistry.ions import Ion
 from saltbench.chemistry.solution import Composition
+from saltbench.curation.mixture_checks import MixturePointRecord
 from saltbench.curation.mixture_points import MixturePoints
 from saltbench.curation.mixtures import MixtureDataset, same_system
 from saltbench.errors import InputFileError, UserError
@@ -269,34 +270,17 @@ def mixture_points(store: Store, key_or_system: str) -> list[MixturePoints]:
     return [_points_of(store, pk, row) for pk, row in found]
 
 
-@dataclass(frozen=True)
-class StoredMixturePoint:
-    """One stored point with where it came from, for the data check."""
-
-    key: str
-    system: str
-    property: str
-    salt: str | None
-    temperature_k: float
-    ions: tuple[str, ...]
-    molality: tuple[float, ...]
-    ionic_strength: float
-    value_printed: float
-    u_printed: float
-    line: int | None
-    file: str
-
-
-def mixture_point_rows(store: Store) -> list[StoredMixturePoint]:
-    """Every stored mixture point, as the file printed it, with its resolved composition."""
+def mixture_point_rows(store: Store, key_or_system: str | None = None) -> list[MixturePointRecord]:
+    """Every stored mixture point (of one dataset or system), as the file printed it, with its
+    resolved composition."""
     out = []
-    for pk, row in _typed_rows(store):
+    for pk, row in _typed_rows(store) if key_or_system is None else _matching(store, key_or_system):
         pts = _points_of(store, pk, row)
         printed = store.conn.execute("SELECT value_printed, u_printed, line FROM mixture_points "
                                      "WHERE dataset_id = ? ORDER BY seq", (pk,)).fetchall()
         names = pts.composition.names
         for i, (vp, up, line) in enumerate(printed):
-            out.append(StoredMixturePoint(row.key, row.system, row.property, row.salt, row.temperature_k, names,
+            out.append(MixturePointRecord(row.key, row.system, row.property, row.salt, row.temperature_k, names,
                                           tuple(float(x) for x in pts.composition.molality[i]),
                                           float(pts.ionic_strength[i]), float(vp), float(up), line, row.file))
     return out

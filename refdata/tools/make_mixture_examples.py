@@ -50,7 +50,7 @@ B_NACL_MGCL2 = -0.006  # kg/mol, INVENTED
 NOISE_PHI = 0.002  # standard deviation of the noise on phi, INVENTED
 IONIC_STRENGTHS = (1.0, 2.0, 3.0)
 Y_NACL = tuple(round(0.1 * k, 1) for k in range(10))  # 0.0 to 0.9: HCl is always present
-Y_MGCL2 = (0.0, 0.25, 0.5, 0.75, 1.0)
+Y_MGCL2 = (0.0, 0.3, 0.6, 0.9)  # m(MgCl2) = 0.1 I, 0.2 I, 0.3 I: printed exactly
 ALPHA, B = 2.0, 1.2
 
 SOURCES = """\
@@ -130,7 +130,7 @@ def nacl_mgcl2(a_phi: float, sets: dict, rng: np.random.Generator) -> str:
     rows = []
     for i in IONIC_STRENGTHS:
         for y in Y_MGCL2:
-            m_nacl, m_mgcl2 = (1 - y) * i, y * i / 3
+            m_nacl, m_mgcl2 = round((1 - y) * i, 6), round(y * i / 3, 6)
             _, phi_na = pitzer_one_salt(np.array([i]), sets["NaCl"], 1, 1, 1, 1, a_phi)
             _, phi_mg = pitzer_one_salt(np.array([i / 3]), sets["MgCl2"], 1, 2, 2, 1, a_phi)
             ions = 2 * m_nacl + 3 * m_mgcl2
