@@ -173,4 +173,5 @@ def _duplicates(points: list[MixturePointRecord], rep: CheckReport) -> None:
                         f"than {DUPLICATE_SIGMAS:g} combined standard uncertainties ({DUPLICATE_SIGMAS * u:.3g})",
                         vb - va, DUPLICATE_SIGMAS * u))
         rep.summary.append({"electrolyte": family[0].system, "dataset": " vs ".join(keys), "check": "duplicates",
-                            "status": "flagged" if len(rep.findings) > before else "passed", "n_points": len(family), "n_same_composition": overlaps})
+                            "status": "flagged" if len(rep.findings) > before else "passed",
+                            "n_points": len(family), "n_same_composition": overlaps})

@@ -11,6 +11,7 @@ Ionic strength I = 1/2 sum_i m_i z_i^2 (IUPAC Green Book, 3rd ed., 2007, section
 
 from __future__ import annotations
 
+import builtins
 import csv
 import hashlib
 import json
@@ -75,17 +76,17 @@ class MixtureDataset:
     u_value: np.ndarray  # (N,)
     lines: list[int]
 
-    @property
+    @builtins.property  # the field ``property`` above shadows the builtin in this class body
     def quantity(self) -> tuple[str, str]:
         if self.property in SALT_PROPERTIES:
             return (LN_GAMMA_PM, self.salt or "")
         return (OSMOTIC, "") if self.property == "osmotic" else (WATER_ACTIVITY, "")
 
-    @property
+    @builtins.property
     def from_memory(self) -> bool:
         return self.typed.lower().startswith("from memory of")
 
-    @property
+    @builtins.property
     def invented(self) -> bool:
         return self.typed.lower().startswith("invented")
 
@@ -277,7 +278,7 @@ def read_mixture(path: str | Path, text: str | None = None) -> MixtureDataset:
         raise InputFileError(p, b.columns_line - 1, "uncertainty", "missing: give a dataset uncertainty "
                              "in the header or an uncertainty column")
     if not b.rows:
-        raise InputFileError(p, b.columns_line, None, "the table has no rows")
+        raise InputFileError(p, b.columns_line, "value", "the table has no rows: a mixture dataset needs points")
 
     ions = system_ions(salts)
     charges = np.array([i.charge for i in ions], dtype=float)

@@ -106,7 +106,8 @@ def parse_files(paths: Iterable[str | Path]) -> Batch:
     if problems:
         raise problems[0] if len(problems) == 1 else InputFileErrors(problems)
     keys: dict[str, str] = {}
-    for d in [*batch.datasets, *batch.mixtures]:
+    named: list[Dataset | MixtureDataset] = [*batch.datasets, *batch.mixtures]
+    for d in named:
         if d.key in keys:
             raise InputFileError(d.path, None, "id", f"dataset id {d.key!r} is also used by {keys[d.key]}")
         keys[d.key] = d.path

@@ -13,6 +13,7 @@ from __future__ import annotations
 import json
 from dataclasses import dataclass
 from pathlib import Path
+
 import numpy as np
 
 from saltbench.chemistry.electrolyte import parse_formula
