@@ -108,6 +108,19 @@ def test_a_key_is_one_dataset_whichever_kind(memory_store, tmp_path: Path) -> No
         ingest(memory_store, _files(tmp_path, clash=clash))
 
 
+def test_a_one_salt_dataset_cannot_take_a_mixture_key(memory_store, tmp_path: Path) -> None:
+    ingest(memory_store, _files(tmp_path, mix=HCL_NACL))
+    one_salt = (REFDATA / "datasets" / "NaCl.gamma_pm.crc-acids-bases-salts.csv").read_text(encoding="utf-8")
+    with pytest.raises(UserError, match="'mix' is already used by a mixture dataset"):
+        ingest(memory_store, [REFDATA / "sources.txt", write(tmp_path / "mix.csv", one_salt)])
+    # in one command, two files of either kind with one key are refused before anything is written
+    h = content_hash(memory_store)
+    with pytest.raises(UserError, match="dataset id 'mix' is also used by"):
+        ingest(memory_store, [REFDATA / "sources.txt", write(tmp_path / "a" / "mix.csv", one_salt),
+                              *_files(tmp_path, mix=HCL_NACL)])
+    assert content_hash(memory_store) == h
+
+
 def test_removal_takes_the_points_and_respects_fits(memory_store, tmp_path: Path) -> None:
     ingest(memory_store, _files(tmp_path, mix=HCL_NACL))
     [mp] = mixture_points(memory_store, "mix")

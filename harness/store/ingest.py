@@ -233,9 +233,6 @@ def _write_dataset(store: Store, d: Dataset, origin: str, provider: str, known_s
         raise InputFileError(d.path, d.source_line, "source", f"unknown citation key {d.source!r}: "
                              "add its entry to a bibliography file in the same command")
     _ensure_electrolyte(store, d.electrolyte, origin, bool(d.declared_ions), d.path)
-    if store.conn.execute("SELECT 1 FROM mixture_datasets WHERE key = ?", (d.key,)).fetchone():
-        raise InputFileError(d.path, None, "id", f"dataset id {d.key!r} is already used by a mixture "
-                             "dataset; choose another id")
     h = d.content_hash()
     row = store.conn.execute("SELECT id, content_hash FROM datasets WHERE origin = ? AND key = ?",
                              (origin, d.key)).fetchone()
@@ -323,11 +320,15 @@ def _write_batch(store: Store, batch: Batch, origin: str, provider: str, sync: b
         for s in batch.sources:
             _upsert_source(store, s, origin, report)
         known = {r[0] for r in store.conn.execute("SELECT key FROM sources")}
+        mixture_keys = _mixture_keys(store) if batch.datasets else set()
         for d in batch.datasets:
+            if d.key in mixture_keys:
+                raise InputFileError(d.path, None, "id", f"dataset id {d.key!r} is already used by a mixture "
+                                     "dataset; choose another id")
             _write_dataset(store, d, origin, provider, known, report)
         for pf in batch.parameter_files:
             _write_parameter_file(store, pf, origin, provider, known, report)
-        if batch.mixtures or sync:
+        if batch.mixtures or (sync and store.db["mixture_datasets"].exists()):
             from saltbench.store import mixtures  # it builds on this module's helpers
 
             for md in batch.mixtures:
@@ -351,6 +352,13 @@ def _write_batch(store: Store, batch: Batch, origin: str, provider: str, sync: b
     return report
 
 
+def _mixture_keys(store: Store) -> set[str]:
+    """Keys of the stored mixture datasets (none in a store from before migration 0005)."""
+    if not store.db["mixture_datasets"].exists():
+        return set()
+    return {r[0] for r in store.conn.execute("SELECT key FROM mixture_datasets")}
+
+
 def remove_dataset(store: Store, key: str, *, force: bool = False) -> list[str]:
     """Delete the user dataset ``key`` (its points with it) in one transaction; returns what was
     removed. Refuses, changing nothing, when a fitted parameter set was fitted to it or a
@@ -358,12 +366,13 @@ def remove_dataset(store: Store, key: str, *, force: bool = False) -> list[str]:
     reproducible)."""
     row = store.conn.execute("SELECT id, origin, content_hash FROM datasets WHERE key = ? "
                              "ORDER BY origin = 'user' DESC", (key,)).fetchone()
-    if row is None:
+    if row is None and _mixture_keys(store):
         from saltbench.store.mixtures import remove_mixture
 
         removed_mixture = remove_mixture(store, key, force=force)
         if removed_mixture is not None:
             return removed_mixture
+    if row is None:
         raise UserError(f"no dataset {key!r} in the store (see 'saltbench data show ELECTROLYTE')")
     pk, origin, h = row
     if origin != "user":
