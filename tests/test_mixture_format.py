@@ -160,3 +160,32 @@ def test_system_names_match_whatever_the_order(memory_store, tmp_path: Path) -> 
     assert [r.key for r in mixture_dataset_rows(memory_store, "NaCl + HCl")] == ["hcl-nacl"]
     assert [p.key for p in mixture_points(memory_store, "NaCl + HCl")] == ["hcl-nacl"]
     assert mixture_dataset_rows(memory_store, "HCl + KCl") == []
+
+
+def test_points_from_the_api_feed_a_model_as_they_are(tmp_path: Path) -> None:
+    """What fitting on mixtures will do: ask a model for ``points.quantity`` at
+    ``points.composition``. Davies's equation (C. W. Davies, J. Chem. Soc. 1938, 2093; 0.3 as
+    revised in 1962) gives ln gamma± = -A_gamma |z+ z-| (sqrt(I)/(1 + sqrt(I)) - 0.3 I), a function
+    of the ionic strength alone, so each mixture point must get the value of the formula at that
+    point's I, written out here by hand."""
+    from saltbench.api import Session
+    from saltbench.api import mixture_points as api_points
+    from saltbench.models.contract import Conditions, Request
+    from saltbench.models.discovery import build_registry
+    from saltbench.models.evaluate import compute
+    from saltbench.models.quantities import Quantity
+    from saltbench.store import open_store
+
+    session = Session(open_store(memory=True), seed=False)
+    session.add([write(tmp_path / "h.sources.txt", BIB), write(tmp_path / "mix.csv", NACL_MGCL2_IONS),
+                 write(tmp_path / "hcl.csv", HCL_NACL)])
+    [mp] = api_points(session, "HCl + NaCl")
+    assert isinstance(mp.quantity, Quantity) and mp.quantity == Quantity("ln_gamma_pm", "HCl")
+    model = build_registry(use_environment=False).models["davies"].model
+    params = {k: np.array([[0.3]]) for k in model.keys_for(mp.composition)}
+    conditions = Conditions.of(mp.composition)
+    out = compute(model, Request(mp.composition, (mp.quantity,), params, conditions))
+    s = np.sqrt(mp.ionic_strength)
+    by_hand = -conditions.a_gamma * (s / (1 + s) - 0.3 * mp.ionic_strength)
+    np.testing.assert_allclose(out.values[mp.quantity][0], by_hand, rtol=1e-12)
+    assert out.values[mp.quantity].shape == (1, mp.n) == (1, len(mp.values))
