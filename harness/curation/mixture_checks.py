@@ -36,8 +36,8 @@ OSMOTIC_RANGE = (0.1, 6.0)
 WATER_ACTIVITY_RANGE = (0.01, 1.0)  # open at 1: pure water
 MAX_IONIC_STRENGTH = 30.0
 DUPLICATE_SIGMAS = 3.0
-#: two compositions are the same when every ion molality agrees to this relative difference
-SAME_COMPOSITION_RTOL = 1e-9
+#: two compositions are the same when every ion molality agrees to this many significant digits
+SAME_COMPOSITION_DIGITS = 9
 
 GIBBS_DUHEM_NOT_APPLICABLE = (
     "not applicable to mixture data: the Gibbs-Duhem equation of a mixture ties the water activity "
@@ -95,12 +95,10 @@ def _family(p: MixturePointRecord) -> tuple:
     return (salts, basis, p.salt, round(p.temperature_k, 2))
 
 
-def _same_composition(a: MixturePointRecord, b: MixturePointRecord) -> bool:
-    ma = dict(zip(a.ions, a.molality))
-    mb = dict(zip(b.ions, b.molality))
-    if set(ma) != set(mb):
-        return False
-    return all(abs(ma[k] - mb[k]) <= SAME_COMPOSITION_RTOL * max(abs(ma[k]), abs(mb[k]), 1e-300) for k in ma)
+def composition_key(p: MixturePointRecord) -> tuple[tuple[str, float], ...]:
+    """Two points have the same composition when every ion molality agrees to
+    ``SAME_COMPOSITION_DIGITS`` significant digits (ions in any order)."""
+    return tuple(sorted((ion, float(f"{m:.{SAME_COMPOSITION_DIGITS}g}")) for ion, m in zip(p.ions, p.molality)))
 
 
 def _uncertainty_linear(p: MixturePointRecord) -> float:
@@ -145,6 +143,21 @@ def check_mixture_points(points: list[MixturePointRecord]) -> CheckReport:
     return rep
 
 
+def _compare(a: MixturePointRecord, b: MixturePointRecord, rep: CheckReport) -> None:
+    va, vb = _linear(a), _linear(b)
+    u = math.hypot(_uncertainty_linear(a), _uncertainty_linear(b))
+    if va == vb:
+        rep.findings.append(Finding(
+            "duplicates", b.system, b.key, None, b.line, b.file,
+            f"the same point as {a.key} ({a.file}:{a.line}) {_describe(b)}: a fit would count it twice", vb, None))
+    elif abs(va - vb) > DUPLICATE_SIGMAS * u:
+        rep.findings.append(Finding(
+            "duplicates", b.system, b.key, None, b.line, b.file,
+            f"{vb:.6g} {_describe(b)} disagrees with {a.key} ({a.file}:{a.line}), {va:.6g}, by more "
+            f"than {DUPLICATE_SIGMAS:g} combined standard uncertainties ({DUPLICATE_SIGMAS * u:.3g})",
+            vb - va, DUPLICATE_SIGMAS * u))
+
+
 def _duplicates(points: list[MixturePointRecord], rep: CheckReport) -> None:
     families: dict[tuple, list[MixturePointRecord]] = defaultdict(list)
     for p in points:
@@ -154,24 +167,16 @@ def _duplicates(points: list[MixturePointRecord], rep: CheckReport) -> None:
         if len(keys) < 2:
             continue
         overlaps, before = 0, len(rep.findings)
-        for i, a in enumerate(family):
-            for b in family[i + 1:]:
-                if a.key == b.key or not _same_composition(a, b):
-                    continue
-                overlaps += 1
-                va, vb = _linear(a), _linear(b)
-                u = math.hypot(_uncertainty_linear(a), _uncertainty_linear(b))
-                if va == vb:
-                    rep.findings.append(Finding(
-                        "duplicates", b.system, b.key, None, b.line, b.file,
-                        f"the same point as {a.key} ({a.file}:{a.line}) {_describe(b)}: a fit would count it "
-                        "twice", vb, None))
-                elif abs(va - vb) > DUPLICATE_SIGMAS * u:
-                    rep.findings.append(Finding(
-                        "duplicates", b.system, b.key, None, b.line, b.file,
-                        f"{vb:.6g} {_describe(b)} disagrees with {a.key} ({a.file}:{a.line}), {va:.6g}, by more "
-                        f"than {DUPLICATE_SIGMAS:g} combined standard uncertainties ({DUPLICATE_SIGMAS * u:.3g})",
-                        vb - va, DUPLICATE_SIGMAS * u))
+        buckets: dict[tuple, list[MixturePointRecord]] = defaultdict(list)
+        for p in family:
+            buckets[composition_key(p)].append(p)
+        for bucket in buckets.values():
+            for i, a in enumerate(bucket):
+                for b in bucket[i + 1:]:
+                    if a.key == b.key:
+                        continue
+                    overlaps += 1
+                    _compare(a, b, rep)
         rep.summary.append({"electrolyte": family[0].system, "dataset": " vs ".join(keys), "check": "duplicates",
                             "status": "flagged" if len(rep.findings) > before else "passed",
                             "n_points": len(family), "n_same_composition": overlaps})
