@@ -1054,3 +1054,63 @@ def solubility(session: Session, mineral: str, model_ids: Sequence[str] = ("all"
         cautions += list(record.cautions)
     return SolubilityRun(target, record, results, citations,
                          [s for s, info in used.items() if info.from_memory], tuple(cautions))
+
+# -- mixture datasets (issue 19, item 3) ------------------------------------------------------
+def mixture_datasets(session: Session, system: str | None = None):
+    """The stored mixture datasets (of ``system``, e.g. 'HCl + NaCl', salts in any order) as
+    :class:`saltbench.store.mixtures.MixtureDatasetRow` values."""
+    from saltbench.store.mixtures import mixture_dataset_rows
+
+    return mixture_dataset_rows(session.store, system)
+
+
+def mixture_points(session: Session, key_or_system: str):
+    """The points of one mixture dataset (by key) or of every dataset of a system, as a list of
+    :class:`saltbench.curation.mixture_points.MixturePoints` whose ``quantity`` is a
+    :class:`saltbench.models.quantities.Quantity`. Raises UserError when there is none."""
+    from dataclasses import replace
+
+    from saltbench.models.quantities import Quantity
+    from saltbench.store.mixtures import mixture_points as stored
+
+    return [replace(p, quantity=Quantity(*p.quantity)) for p in stored(session.store, key_or_system)]
+
+
+def is_mixture(session: Session, key_or_system: str) -> bool:
+    """Whether ``key_or_system`` names a stored mixture dataset or a system of one."""
+    from saltbench.store.mixtures import has_mixture
+
+    return has_mixture(session.store, key_or_system)
+
+
+def check_mixtures(session: Session, names: Sequence[str] = ()):
+    """The mixture checks (``saltbench.curation.mixture_checks``) over every stored mixture
+    dataset, or those of the named datasets or systems."""
+    from saltbench.curation.mixture_checks import check_mixture_points
+    from saltbench.store.mixtures import mixture_point_rows
+
+    if not names:
+        return check_mixture_points(mixture_point_rows(session.store))
+    chosen = {}
+    for name in names:
+        if not is_mixture(session, name):
+            mixture_points(session, name)  # raises the UserError naming it and the known systems
+        for p in mixture_point_rows(session.store, name):
+            chosen[(p.key, p.line, p.molality)] = p
+    return check_mixture_points(list(chosen.values()))
+
+
+def check_data_and_mixtures(session: Session, names: Sequence[str] = ()):
+    """``data check``: the one-salt checks for the named electrolytes and the mixture checks for
+    the named mixture datasets or systems; with no names, every electrolyte and every mixture."""
+    from saltbench.curation.checks import CheckReport
+    from saltbench.store.mixtures import mixture_dataset_rows
+
+    mixtures = [n for n in names if is_mixture(session, n)]
+    salts = [n for n in names if n not in mixtures]
+    report = check_data(session, salts) if salts or not names else CheckReport()
+    if mixtures or (not names and mixture_dataset_rows(session.store)):
+        part = check_mixtures(session, mixtures)
+        report.findings += part.findings
+        report.summary += part.summary
+    return report

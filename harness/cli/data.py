@@ -20,11 +20,18 @@ def data() -> None:
 @data.command("list")
 @click.option("--type", "charge_type", default=None, metavar="Z+-Z-",
               help="Only electrolytes of this charge type, e.g. 2-2 or 3-1.")
+@click.option("--mixtures", is_flag=True, help="List the mixture datasets only (one line each).")
 @format_option
 @click.pass_obj
-def list_(app, charge_type: str | None, fmt: str) -> None:
-    """One line per electrolyte: charge type, datasets, points, sources, range."""
+def list_(app, charge_type: str | None, mixtures: bool, fmt: str) -> None:
+    """One line per electrolyte: charge type, datasets, points, sources, range.
+
+    Mixture datasets follow in a table of their own (JSON and CSV: with --mixtures).
+    """
     s = app.session()
+    if mixtures:
+        list_mixtures(s, fmt)
+        return
     frame = s.electrolytes()
     if charge_type is not None:
         known = sorted(set(frame.charge_type))
@@ -66,6 +73,37 @@ def list_(app, charge_type: str | None, fmt: str) -> None:
           "max_molality": "max m", "from_memory": "from memory"})
     click.echo(f"{len(records)} electrolytes; max m in mol/kg; 'saltbench data show NAME' gives each dataset "
                "with its citation.")
+    if charge_type is None and fmt == "table":
+        list_mixtures(s, fmt, only_if_any=True)
+
+
+MIXTURE_COLUMNS = ["key", "system", "property", "temperature_k", "n_points", "min_ionic_strength",
+                   "max_ionic_strength", "typed_as", "source", "origin"]
+
+
+def mixture_typed_as(row) -> str:
+    """How a mixture dataset's values reached it, in one word (invented ones say so)."""
+    return "invented" if row.invented else typed_as(row.typed)
+
+
+def list_mixtures(session, fmt: str, only_if_any: bool = False) -> None:
+    """The mixture datasets, one line each (after the electrolytes, or alone with --mixtures)."""
+    from saltbench.api import mixture_datasets
+
+    rows = mixture_datasets(session)
+    if only_if_any and not rows:
+        return
+    records = [{**r.as_dict(), "property": r.property + (f"({r.salt})" if r.salt else ""),
+                "typed_as": mixture_typed_as(r)} for r in rows]
+    if fmt != "table":
+        emit(records, fmt, MIXTURE_COLUMNS)
+        return
+    click.echo("")
+    emit(records, fmt, MIXTURE_COLUMNS,
+         {"temperature_k": "T/K", "n_points": "points", "min_ionic_strength": "min I",
+          "max_ionic_strength": "max I", "typed_as": "typed"})
+    click.echo(f"{len(records)} mixture datasets; I in mol/kg; 'saltbench data show KEY' (or SYSTEM) gives "
+               "the compositions and values.")
 
 
 def typed_as(typed: str) -> str:
@@ -81,8 +119,16 @@ def typed_as(typed: str) -> str:
 @format_option
 @click.pass_obj
 def show(app, electrolyte: str, points: bool, fmt: str) -> None:
-    """Datasets (with full citations) and points for ELECTROLYTE."""
+    """Datasets (with full citations) and points for ELECTROLYTE.
+
+    A mixture dataset's key, or a system such as 'HCl + NaCl', shows mixture datasets.
+    """
     s = app.session()
+    from saltbench.api import is_mixture
+
+    if is_mixture(s, electrolyte):
+        show_mixtures(s, electrolyte, points, fmt)
+        return
     ds = s.datasets(electrolyte)
     pts = s.points(electrolyte)
     if fmt == "json":
@@ -111,6 +157,55 @@ def show(app, electrolyte: str, points: bool, fmt: str) -> None:
         if points:
             sub = pts[pts.dataset == d["key"]]
             click.echo("  " + emit_table(sub))
+        click.echo("")
+
+
+def show_mixtures(session, key_or_system: str, points: bool, fmt: str) -> None:
+    """One mixture dataset (by key) or every one of a system: fields, citation, points."""
+    from saltbench.api import mixture_datasets, mixture_points
+
+    found = mixture_points(session, key_or_system)
+    rows = {(r.key, r.origin): r for r in mixture_datasets(session)}
+    listing = []
+    for mp in found:
+        r = rows[(mp.key, mp.origin)]
+        names = mp.composition.names
+        pts = [{**{f"m({ion})": float(m) for ion, m in zip(names, mp.composition.molality[i])},
+                "ionic_strength": float(mp.ionic_strength[i]), "value": float(mp.values[i]),
+                "uncertainty": float(mp.uncertainties[i]), "line": mp.lines[i]} for i in range(mp.n)]
+        listing.append((r, mp, pts))
+    if fmt == "json":
+        emit([], fmt, json_obj=[{**r.as_dict(), "typed_as": mixture_typed_as(r),
+                                 "quantity": str(mp.quantity), "ions": list(mp.composition.names),
+                                 "points": pts if points else []} for r, mp, pts in listing])
+        return
+    if fmt == "csv":
+        emit([{"dataset": r.key, "quantity": str(mp.quantity), **p} for r, mp, pts in listing for p in pts], fmt)
+        return
+    from saltbench.cli.output import table
+
+    for r, mp, pts in listing:
+        click.echo(f"{r.key}  [{r.origin}]  mixture {r.system}")
+        if r.invented:
+            click.echo("  ** invented example data: not a measurement **")
+        elif r.from_memory:
+            click.echo("  ** typed from memory: verify against the original before regulated use **")
+        else:
+            click.echo(f"  {typed_as(r.typed)}")
+        click.echo(f"  {r.property}{f'({r.salt})' if r.salt else ''} as printed; values below are "
+                   f"{mp.quantity}; {r.temperature_k:.2f} K, {r.n_points} points, I = "
+                   f"{r.min_ionic_strength:g} to {r.max_ionic_strength:g} mol/kg")
+        click.echo(fold(r.citation, "    ", "  source: "))
+        click.echo(fold(f"{r.table_ref}; uncertainty {r.uncertainty if r.uncertainty is not None else 'per point'} "
+                        f"(printed basis); amounts given as {', '.join(f'm({c})' for c in r.columns)}",
+                        "    ", "  table: "))
+        click.echo(fold(r.typed, "    ", "  typed: "))
+        if r.note:
+            click.echo(fold(r.note, "    ", "  note: "))
+        click.echo(f"  content hash: {r.content_hash[:16]}")
+        if points:
+            digits = {k: 10 for k in pts[0] if k != "line"}
+            click.echo("  " + table(pts, digits=digits).replace("\n", "\n  "))
         click.echo("")
 
 
@@ -172,16 +267,19 @@ def check(app, electrolytes: tuple[str, ...], fmt: str) -> None:
 
     Exits with status 1 when any point is flagged, naming its file and line.
     """
-    from saltbench.api import check_data
+    from saltbench.api import check_data_and_mixtures
 
-    report = check_data(app.session(), electrolytes)
+    report = check_data_and_mixtures(app.session(), electrolytes)
     if fmt == "json":
         emit([], fmt, json_obj={"ok": report.ok, "findings": [f.as_dict() for f in report.findings],
                                 "checks": report.summary})
     else:
         for f in report.findings:
             click.echo(f"{f.file}:{f.line}: {f.check}: {f.electrolyte} {f.message}")
-        n = len(report.summary)
+        not_applicable = [r for r in report.summary if r.get("status") == "not applicable"]
+        for r in not_applicable:
+            click.echo(f"{r['dataset']}: {r['check']}: {r['reason']}")
+        n = len(report.summary) - len(not_applicable)
         click.echo(f"{n} checks, {len(report.findings)} flagged point(s)" if report.findings
                    else f"{n} checks passed")
         near = [r for r in report.summary if r["check"] == "neighbours"]

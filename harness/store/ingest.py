@@ -24,6 +24,7 @@ from saltbench.chemistry.ions import KNOWN_IONS, Ion
 from saltbench.curation.bibliography import Source, read_bibliography
 from saltbench.curation.blocks import read_text
 from saltbench.curation.datasets import Dataset, read_dataset
+from saltbench.curation.mixtures import MixtureDataset, read_mixture
 from saltbench.curation.parameters import ParameterFile, read_parameter_file
 from saltbench.errors import InputFileError, InputFileErrors, StoreError, UserError
 from saltbench.store.connection import Store
@@ -46,6 +47,7 @@ class Batch:
     sources: list[Source] = field(default_factory=list)
     datasets: list[Dataset] = field(default_factory=list)
     parameter_files: list[ParameterFile] = field(default_factory=list)
+    mixtures: list[MixtureDataset] = field(default_factory=list)
 
 
 def expand_paths(paths: Sequence[str | os.PathLike[str]]) -> list[Path]:
@@ -80,11 +82,14 @@ def file_kind(path: str | Path, text: str) -> str:
             return "parameters"
         if low.startswith("saltbench readings"):
             return "readings"
+        if low.startswith("saltbench mixture"):
+            return "mixture"
         if s.startswith("#"):
             continue  # a comment above a bibliography's first entry
         break
     raise InputFileError(path, 1, None, "not a saltbench file: expected a bibliography ([key] "
-                         "entries) or a first line '# saltbench dataset 1' / '# saltbench parameters 1'")
+                         "entries) or a first line '# saltbench dataset 1' / '# saltbench mixture 1' / "
+                         "'# saltbench parameters 1'")
 
 
 def parse_files(paths: Iterable[str | Path]) -> Batch:
@@ -101,7 +106,8 @@ def parse_files(paths: Iterable[str | Path]) -> Batch:
     if problems:
         raise problems[0] if len(problems) == 1 else InputFileErrors(problems)
     keys: dict[str, str] = {}
-    for d in batch.datasets:
+    named: list[Dataset | MixtureDataset] = [*batch.datasets, *batch.mixtures]
+    for d in named:
         if d.key in keys:
             raise InputFileError(d.path, None, "id", f"dataset id {d.key!r} is also used by {keys[d.key]}")
         keys[d.key] = d.path
@@ -122,6 +128,8 @@ def _parse_one(path: str | Path, batch: Batch, seen_keys: dict[str, str]) -> Non
         batch.datasets.append(read_dataset(path, text=text))
     elif kind == "parameters":
         batch.parameter_files.append(read_parameter_file(path))
+    elif kind == "mixture":
+        batch.mixtures.append(read_mixture(path, text=text))
     else:
         raise InputFileError(path, 1, None, "raw readings are loaded with 'saltbench readings add'")
 
@@ -312,10 +320,21 @@ def _write_batch(store: Store, batch: Batch, origin: str, provider: str, sync: b
         for s in batch.sources:
             _upsert_source(store, s, origin, report)
         known = {r[0] for r in store.conn.execute("SELECT key FROM sources")}
+        mixture_keys = _mixture_keys(store) if batch.datasets else set()
         for d in batch.datasets:
+            if d.key in mixture_keys:
+                raise InputFileError(d.path, None, "id", f"dataset id {d.key!r} is already used by a mixture "
+                                     "dataset; choose another id")
             _write_dataset(store, d, origin, provider, known, report)
         for pf in batch.parameter_files:
             _write_parameter_file(store, pf, origin, provider, known, report)
+        if batch.mixtures or (sync and store.db["mixture_datasets"].exists()):
+            from saltbench.store import mixtures  # it builds on this module's helpers
+
+            for md in batch.mixtures:
+                mixtures.write_mixture(store, md, origin, provider, known, report)
+            if sync:
+                mixtures.remove_bundled_mixtures(store, {md.key for md in batch.mixtures}, report)
         if sync:
             keep = {d.key for d in batch.datasets}
             for pk, key in store.conn.execute(
@@ -333,6 +352,13 @@ def _write_batch(store: Store, batch: Batch, origin: str, provider: str, sync: b
     return report
 
 
+def _mixture_keys(store: Store) -> set[str]:
+    """Keys of the stored mixture datasets (none in a store from before migration 0005)."""
+    if not store.db["mixture_datasets"].exists():
+        return set()
+    return {r[0] for r in store.conn.execute("SELECT key FROM mixture_datasets")}
+
+
 def remove_dataset(store: Store, key: str, *, force: bool = False) -> list[str]:
     """Delete the user dataset ``key`` (its points with it) in one transaction; returns what was
     removed. Refuses, changing nothing, when a fitted parameter set was fitted to it or a
@@ -340,6 +366,12 @@ def remove_dataset(store: Store, key: str, *, force: bool = False) -> list[str]:
     reproducible)."""
     row = store.conn.execute("SELECT id, origin, content_hash FROM datasets WHERE key = ? "
                              "ORDER BY origin = 'user' DESC", (key,)).fetchone()
+    if row is None and _mixture_keys(store):
+        from saltbench.store.mixtures import remove_mixture
+
+        removed_mixture = remove_mixture(store, key, force=force)
+        if removed_mixture is not None:
+            return removed_mixture
     if row is None:
         raise UserError(f"no dataset {key!r} in the store (see 'saltbench data show ELECTROLYTE')")
     pk, origin, h = row

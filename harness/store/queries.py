@@ -17,7 +17,7 @@ from saltbench.store.connection import Store
 
 CONTENT_TABLES = ("sources", "ions", "electrolytes", "datasets", "points", "parameter_sets",
                   "parameter_values", "parameter_covariances", "measurement_sets", "readings",
-                  "reductions")
+                  "reductions", "mixture_datasets", "mixture_points", "mixture_point_ions")
 
 
 Row = dict[str, Any]

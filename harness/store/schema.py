@@ -180,6 +180,57 @@ INSERT INTO parameter_values_new (set_pk, target, target_kind, name, value, stde
 DROP TABLE parameter_values;
 ALTER TABLE parameter_values_new RENAME TO parameter_values
 """),
+    # Mixture datasets: one property at compositions of several salts. A point keeps the amounts
+    # its file gave (JSON, in the order of the dataset's 'columns') and, in mixture_point_ions,
+    # the molality of every ion of the system resolved from them.
+    ("0005_mixture_datasets", """
+CREATE TABLE mixture_datasets (
+    id INTEGER PRIMARY KEY,
+    key TEXT NOT NULL CHECK (length(key) > 0),
+    origin TEXT NOT NULL CHECK (origin IN ('bundled', 'user')),
+    provider TEXT NOT NULL,
+    system TEXT NOT NULL CHECK (length(system) > 0),
+    salts TEXT NOT NULL,
+    columns TEXT NOT NULL,
+    property TEXT NOT NULL CHECK (property IN ('gamma_pm', 'ln_gamma_pm', 'osmotic', 'water_activity')),
+    salt TEXT,
+    temperature_k REAL NOT NULL CHECK (temperature_k BETWEEN 273.15 AND 573.15),
+    source TEXT NOT NULL REFERENCES sources(key),
+    table_ref TEXT NOT NULL,
+    uncertainty REAL CHECK (uncertainty IS NULL OR uncertainty > 0),
+    typed TEXT NOT NULL CHECK (length(typed) > 0),
+    from_memory INTEGER NOT NULL CHECK (from_memory IN (0, 1)),
+    invented INTEGER NOT NULL CHECK (invented IN (0, 1)),
+    note TEXT NOT NULL DEFAULT '',
+    file TEXT NOT NULL,
+    content_hash TEXT NOT NULL,
+    n_points INTEGER NOT NULL CHECK (n_points > 0),
+    UNIQUE (origin, key),
+    CHECK ((property IN ('gamma_pm', 'ln_gamma_pm')) = (salt IS NOT NULL))
+);
+CREATE INDEX mixture_datasets_by_system ON mixture_datasets (system, property);
+CREATE TABLE mixture_points (
+    dataset_id INTEGER NOT NULL REFERENCES mixture_datasets(id) ON DELETE CASCADE,
+    seq INTEGER NOT NULL CHECK (seq >= 0),
+    amounts TEXT NOT NULL,
+    ionic_strength REAL NOT NULL CHECK (ionic_strength > 0),
+    value REAL NOT NULL,
+    value_printed REAL NOT NULL,
+    u_value REAL NOT NULL CHECK (u_value > 0),
+    u_printed REAL NOT NULL CHECK (u_printed > 0),
+    line INTEGER,
+    PRIMARY KEY (dataset_id, seq)
+);
+CREATE TABLE mixture_point_ions (
+    dataset_id INTEGER NOT NULL,
+    seq INTEGER NOT NULL,
+    position INTEGER NOT NULL CHECK (position >= 0),
+    ion TEXT NOT NULL REFERENCES ions(formula),
+    molality REAL NOT NULL CHECK (molality >= 0),
+    PRIMARY KEY (dataset_id, seq, position),
+    FOREIGN KEY (dataset_id, seq) REFERENCES mixture_points(dataset_id, seq) ON DELETE CASCADE
+)
+"""),
 ]
 
 SCHEMA_VERSION = len(MIGRATIONS)
