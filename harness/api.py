@@ -918,7 +918,7 @@ def read_solution(spec: str, *, temperature_k: float | None = None, density: str
 
 def _ordered_sets(session: Session, model, keys, chosen: Sequence[str]):
     """The sets to look ``keys`` up in for ``model``: those of ``chosen`` that belong to it, in
-    that order; else its published sets, those of the source that covers most keys first (one
+    that order, then its published sets, those of the source that covers most keys first (one
     source's binary and mixing values were fitted together), then the others by set id."""
     from saltbench.errors import UserError
     from saltbench.store import parameter_sets as ps
@@ -928,9 +928,8 @@ def _ordered_sets(session: Session, model, keys, chosen: Sequence[str]):
     unknown = [s for s in chosen if ps.set_model(store, s) is None]
     if unknown:
         raise UserError(f"no parameter set {unknown[0]!r} in the store ('saltbench params list' shows them)")
-    if chosen and mine:
-        return ps.model_sets(store, model.id, mine)
-    infos = ps.model_sets(store, model.id)
+    first_sets = ps.model_sets(store, model.id, mine) if mine else []
+    infos = [i for i in ps.model_sets(store, model.id) if i.set_id not in mine]
     by_source: dict[str, list] = {}
     for info in infos:
         by_source.setdefault(info.source, []).append(info)
@@ -938,7 +937,7 @@ def _ordered_sets(session: Session, model, keys, chosen: Sequence[str]):
              for src, group in by_source.items()}
     best = max(cover, key=lambda src: (cover[src], src), default=None)
     first = by_source.get(best, []) if best is not None and cover[best] else []
-    return first + [i for i in infos if i not in first]
+    return first_sets + first + [i for i in infos if i not in first]
 
 
 def solution_lookup(session: Session, chosen: Sequence[str], used: dict):
@@ -1114,3 +1113,116 @@ def check_data_and_mixtures(session: Session, names: Sequence[str] = ()):
         report.findings += part.findings
         report.summary += part.summary
     return report
+
+
+# -- mixture data: fit and compare -------------------------------------------------------------
+def mixture_data(session: Session, key_or_system: str):
+    """Every point of one mixture dataset (by key) or of a system's datasets, as one
+    :class:`saltbench.fitting.MixtureData` (ions in a common order), with the datasets' keys."""
+    from saltbench.chemistry.solution import Composition
+    from saltbench.fitting import MixtureData
+
+    parts = mixture_points(session, key_or_system)
+    ions: dict[str, Any] = {}
+    for p in parts:
+        for ion in p.composition.ions:
+            ions.setdefault(ion.name, ion)
+    names = list(ions)
+    rows, temps, quantities, values, uncs, labels = [], [], [], [], [], []
+    salts: dict[str, Any] = {}
+    for p in parts:
+        m = np.zeros((p.n, len(names)))
+        for j, name in enumerate(p.composition.names):
+            m[:, names.index(name)] = p.composition.molality[:, j]
+        rows.append(m)
+        temps.append(np.full(p.n, p.temperature_k))
+        quantities += [p.quantity] * p.n
+        values.append(p.values)
+        uncs.append(p.uncertainties)
+        labels += [p.key] * p.n
+        for salt in p.composition.salts:
+            salts.setdefault(salt.name, salt)
+    comp = Composition(tuple(ions.values()), np.vstack(rows), np.concatenate(temps),
+                       salts=tuple(salts.values()))
+    data = MixtureData(comp, quantities, np.concatenate(values), np.concatenate(uncs),
+                       np.array(labels, dtype=object))
+    return data, [p.key for p in parts]
+
+
+def compare_mixture(session: Session, key_or_system: str, settings=None, *, sets: Sequence[str] = (),
+                    missing: str = "error"):
+    """Each mixture model judged on a system's mixture data (see
+    :mod:`saltbench.comparison.mixtures`); returns a ``MixtureComparison``."""
+    from saltbench.comparison.mixtures import compare_mixtures
+    from saltbench.comparison.settings import CompareSettings
+
+    settings = settings or CompareSettings()
+    data, keys = mixture_data(session, key_or_system)
+    reg = session.registry
+    ids = list(settings.models) or [mid for mid in reg.models
+                                    if reg.model(mid).supports_composition(data.composition)]
+    models = [(reg.model(mid), reg.models[mid].plugin) for mid in ids]
+    used: dict = {}
+    lookup = solution_lookup(session, list(sets), used)
+    name = key_or_system if len(keys) > 1 or key_or_system not in keys else \
+        " + ".join(s.name for s in data.composition.salts)
+    out = compare_mixtures(name, data, models, lookup, settings, missing=missing)
+    memory = [s for s, info in used.items() if info.from_memory]
+    for o in out.outcomes:
+        o.published_from_memory = any(s in memory for s in (o.published_set or "").split(", "))
+    return out
+
+
+def fit_mixture_data(session: Session, key_or_system: str, model_id: str, *, free: Sequence[str] | None = None,
+                     sets: Sequence[str] = (), missing: str = "error"):
+    """Fit ``model_id``'s mixing terms (or the keys in ``free``) to a system's mixture data with
+    the other parameters held at the store's sets (the rules of ``predict --solution``)."""
+    from saltbench.comparison.solutions import resolve_values
+    from saltbench.errors import UserError
+    from saltbench.fitting import fit_mixture
+
+    data, keys = mixture_data(session, key_or_system)
+    model = session.registry.model(model_id)
+    if not model.supports_composition(data.composition):
+        raise UserError(f"model {model_id} does not take these mixtures (one salt at a time)")
+    used: dict = {}
+    res = resolve_values(model, data.composition, solution_lookup(session, list(sets), used), missing)  # type: ignore[arg-type]
+    if res.absent:
+        raise UserError(f"{model_id}: {res.refusal()}; give --sets, or --missing default")
+    freed = list(free) if free else None
+    held: dict[Any, float] = {k: v for k, v in res.values.items() if freed is None or str(k) not in freed}
+    if freed is None:
+        from saltbench.comparison.solutions import MIXING_KINDS
+
+        declared = model.keys_for(data.composition)
+        held = {k: v for k, v in held.items() if declared[k].owner_kind not in MIXING_KINDS}
+    result = fit_mixture(model, data, held=held, free=freed)
+    return result, res, keys
+
+
+def save_mixture_fit(session: Session, result, model_id: str, key_or_system: str, *,
+                     set_name: str | None = None, sets: Sequence[str] = ()) -> str:
+    """Save the free keys of a mixture fit (``fit_mixture_data``) as a fitted parameter set of
+    ion-group rows, found by ``--sets`` (or the published sets' lookup) like a published one."""
+    import hashlib
+
+    from saltbench.curation.parameters import ion_group
+    from saltbench.store.fitted import save_mixing_fit
+    from saltbench.store.mixtures import mixture_dataset_rows
+
+    free = [p for p in result.parameters if not p.get("fixed")]
+    values = []
+    for p in free:
+        name, _, owner = p["name"].partition("[")
+        values.append((name, "/".join(ion_group(owner.rstrip("]"))), float(p["value"]), p.get("stderr")))
+    hashes = [r.content_hash for r in mixture_dataset_rows(session.store, None)
+              if r.key == key_or_system or r.system == result.electrolyte]
+    digest = hashlib.sha256(repr((model_id, key_or_system, sorted(hashes), list(sets))).encode()).hexdigest()[:8]
+    slug = "".join(ch if ch.isalnum() else "-" for ch in result.electrolyte.lower()).strip("-")
+    set_id = set_name or f"fit-{model_id}-{'-'.join(x for x in slug.split('-') if x)}-{digest}"
+    names = [p["name"] for p in free]
+    cov = (names, [[float(x) for x in row] for row in result.covariance]) if names else None
+    return save_mixing_fit(session.store, set_id=set_id, model=model_id, values=values, covariance=cov,
+                           settings={"system": key_or_system, "sets": list(sets), "mixture": True},
+                           data_hashes=hashes, temperature_k=float(result.temperature_k),
+                           max_ionic_strength=float(max(result.molality)))

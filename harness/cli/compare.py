@@ -137,10 +137,16 @@ def build_settings(models: str, up_to, tol: str, folds, on: str, data_sel: str, 
 @click.option("--jobs", type=click.IntRange(min=1), default=None,
               help="Worker processes (default: the CPUs this process may use).")
 @click.option("--summary", is_flag=True, help="Only the recommendation for each electrolyte, and how many got one.")
+@click.option("--mixture", "mixture", metavar="SYSTEM",
+              help="Judge the models on a system's mixture data instead (e.g. 'HCl + NaCl', or a mixture "
+                   "dataset key): binary parameters from the stored sets, mixing terms refitted, ranges "
+                   "and --up-to in ionic strength.")
+@click.option("--sets", "sets", default="", metavar="IDS",
+              help="With --mixture: parameter sets to take binary values from first.")
 @format_option
 @click.pass_obj
 def compare(app, electrolytes, all_, models, up_to, tol, folds, on, data_sel, temperature_k, time_limit, jobs,
-            summary, fmt):
+            summary, mixture, sets, fmt):
     """Fit every model to each electrolyte's data and say which to trust, up to where.
 
     For each model: fitted parameters, residuals, held-out error (k-fold cross-validation over
@@ -155,6 +161,12 @@ def compare(app, electrolytes, all_, models, up_to, tol, folds, on, data_sel, te
     from saltbench.fitting.flags import DETERMINATION_KINDS, PUBLISHED_KINDS, FlagKind
 
     s = app.session()
+    if mixture is not None:
+        if electrolytes or all_:
+            raise UserError("give electrolytes or --mixture, not both")
+        settings = build_settings(models, up_to, tol, folds, on, data_sel, temperature_k, time_limit)
+        _compare_mixture(s, mixture, settings, [x for x in sets.split(",") if x], fmt)
+        return
     names = list(electrolytes)
     if all_:
         names = list(s.electrolytes().electrolyte)
@@ -211,4 +223,46 @@ def compare(app, electrolytes, all_, models, up_to, tol, folds, on, data_sel, te
         click.echo(wrap(f"-> {rec.statement}", indent="   "))
     click.echo("")
     click.echo(wrap(TABLE_LEGEND))
+    click.echo(wrap(CAUTION))
+
+
+def _compare_mixture(session, system: str, settings, sets: list[str], fmt: str) -> None:
+    from saltbench.api import compare_mixture
+    from saltbench.comparison.outcome import VerdictKind
+
+    comp = compare_mixture(session, system, settings, sets=sets)
+    records = comp.records()
+    if fmt == "json":
+        emit(records, fmt)
+        echo_caution(fmt, CAUTION)
+        return
+    if fmt == "csv":
+        emit([{**r, "flags": "; ".join(r["flags"])} for r in records], fmt, CSV_COLUMNS)
+        echo_caution(fmt, CAUTION)
+        return
+    rec = comp.recommendation
+    click.echo(wrap(f"Tolerance: |d ln gamma±| <= {settings.tol_ln_gamma:g}, |d phi| <= {settings.tol_phi:g}; "
+                    f"held-out error by {settings.folds_text} over ionic strength; T = "
+                    f"{settings.temperature_k:g} K. Ranges are ionic strengths in mol/kg."))
+    click.echo("")
+    click.echo(f"== {comp.system} (mixtures): {comp.n_points} points, up to I = {comp.max_ionic_strength:g} mol/kg")
+    rows = [{**r, "short_verdict": short_verdict(o).replace("lowest m", "lowest I"),
+             "heldout_rms_ln_gamma": heldout_cell(r)} for o, r in ((o, o.record()) for o in comp.outcomes)]
+    emit(rows, "table", TABLE_COLUMNS_SHORT, HEADERS)
+    for o in comp.outcomes:
+        if o.verdict and o.verdict.kind in (VerdictKind.FAILED, VerdictKind.NOT_RANKED):
+            click.echo(wrap(f"   {o.model}: {o.verdict.text}", indent="     "))
+        fitted = [p for p in (o.fit or {}).get("parameters", []) if not p.get("fixed")]
+        if fitted:
+            text = ", ".join(f"{p['name']} = {p['value']:.4g} ± {p['stderr']:.2g}" if p.get("stderr") is not None
+                             else f"{p['name']} = {p['value']:.4g}" for p in fitted)
+            click.echo(wrap(f"   {o.model}: fitted {text}; held values from {o.published_set}",
+                            indent="     "))
+    memory = sorted({o.model for o in comp.outcomes if o.published_from_memory})
+    if memory:
+        click.echo(wrap(f"   binary sets typed from memory behind: {', '.join(memory)} (verify before "
+                        "regulated use)", indent="     "))
+    click.echo(wrap(f"-> {rec.statement.replace('mol/kg', 'mol/kg of ionic strength', 1)}", indent="   "))
+    click.echo("")
+    click.echo(wrap(TABLE_LEGEND.replace("highest molality", "highest ionic strength")))
     click.echo(wrap(CAUTION))

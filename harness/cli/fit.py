@@ -8,7 +8,7 @@ from saltbench.cli.output import echo_caution, emit, fold, format_option
 
 
 @click.command()
-@click.argument("electrolytes", nargs=-1, required=True)
+@click.argument("electrolytes", nargs=-1)
 @click.option("--model", "model_id", required=True, help="Model id (see 'saltbench models').")
 @click.option("--up-to", "up_to", type=float, default=None, help="Highest molality to fit, mol/kg.")
 @click.option("--fix", "fix", multiple=True, metavar="NAME=VALUE", help="Hold a parameter at a value (repeatable).")
@@ -21,15 +21,34 @@ from saltbench.cli.output import echo_caution, emit, fold, format_option
 @click.option("--dh-constant", "dh_constant", default="current", show_default=True,
               help="Debye-Hückel A_phi to fit with: 'current' (water at the temperature), 'published' (the "
                    "one the model's published set for this salt was fitted with) or a value, e.g. 0.392.")
+@click.option("--mixture", "mixture", metavar="SYSTEM",
+              help="Fit to a system's mixture data instead (e.g. 'HCl + NaCl'): the mixing terms (theta, "
+                   "psi) by default, or the keys named with --free (e.g. 'theta[H+/Na+]'); the other "
+                   "parameters held at the stored sets.")
+@click.option("--sets", "sets", default="", metavar="IDS",
+              help="With --mixture: parameter sets to take the held values from first.")
 @format_option
 @click.pass_obj
 def fit(app, electrolytes, model_id, up_to, fix, free, data_sel, on, temperature_k, set_name, save, dh_constant,
-        fmt):
+        mixture, sets, fmt):
     """Fit MODEL's free parameters to the data of ELECTROLYTES (activity and osmotic jointly).
 
-    Several electrolytes give one joint fit in which per-ion parameters are shared by ion.
+    Several electrolytes give one joint fit in which per-ion parameters are shared by ion. With
+    --mixture, MODEL's mixing terms are fitted to mixture data with the binary parameters held.
     """
     from saltbench.api import fit as run
+    from saltbench.errors import UserError
+
+    if mixture is not None:
+        if electrolytes:
+            raise UserError("give electrolytes or --mixture, not both")
+        for value, name in ((fix, "--fix"), (up_to, "--up-to"), (data_sel, "--data"), (on, "--on")):
+            if value:
+                raise UserError(f"{name} does not apply with --mixture")
+        _fit_mixture(app, mixture, model_id, list(free), [x for x in sets.split(",") if x], set_name, save, fmt)
+        return
+    if not electrolytes:
+        raise UserError("name at least one electrolyte, or --mixture SYSTEM")
 
     datasets = [d.strip() for d in data_sel.split(",") if d.strip()] or None
     f = run(app.session(), electrolytes, model_id, up_to=up_to, fix=fix, free=free, datasets=datasets,
@@ -80,3 +99,49 @@ def fit(app, electrolytes, model_id, up_to, fix, free, data_sel, on, temperature
 def _f(x) -> str:
     return "-" if x is None else f"{x:.4g}"
 
+
+def _fit_mixture(app, system: str, model_id: str, free: list[str], sets: list[str], set_name, save: bool,
+                 fmt: str) -> None:
+    from saltbench.api import fit_mixture_data, save_mixture_fit
+
+    session = app.session()
+    result, resolved, keys = fit_mixture_data(session, system, model_id, free=free or None, sets=sets)
+    out = result.to_dict()
+    out["datasets"] = keys
+    out["held_from"] = list(resolved.sets)
+    out["parameter_set"] = (save_mixture_fit(session, result, model_id, system, set_name=set_name, sets=sets)
+                            if save else None)
+    if fmt == "json":
+        emit([], fmt, json_obj=out)
+        echo_caution(fmt)
+        return
+    rows = [{"name": p["name"], "value": p["value"], "stderr": p["stderr"], "unit": p["unit"]}
+            for p in out["parameters"] if not p["fixed"]]
+    if fmt == "csv":
+        emit(rows, fmt)
+        echo_caution(fmt)
+        return
+    res = out["residuals"]
+    click.echo(fold(f"{model_id} fitted to the mixtures {result.electrolyte} ({', '.join(keys)}): "
+                    f"{res['n_points']} points, {res['n_params']} free parameter(s), "
+                    f"{'converged' if out['converged'] else 'DID NOT CONVERGE'}; held values from "
+                    f"{', '.join(resolved.sets) or 'the model defaults'}", "  "))
+    emit(rows, "table")
+    click.echo("")
+    if len(rows) > 1:
+        corr = [{"": n, **{m: v for m, v in zip(out["correlation"]["names"], row)}}
+                for n, row in zip(out["correlation"]["names"], out["correlation"]["matrix"])]
+        click.echo("correlation:")
+        emit(corr, "table")
+        click.echo("")
+    lg, ph = res["ln_gamma"], res["osmotic"]
+    click.echo(fold(f"residuals: ln gamma± rms {_f(lg.get('rms'))} max {_f(lg.get('max_abs'))} "
+                    f"({lg.get('n', 0)} pts); phi rms {_f(ph.get('rms'))} max {_f(ph.get('max_abs'))} "
+                    f"({ph.get('n', 0)} pts); reduced chi-square {_f(res['chi2_reduced'])}; "
+                    f"I up to {max(result.molality):.4g} mol/kg", "  "))
+    for flag in out["flags"]:
+        click.echo(f"flag: {flag}")
+    if out["parameter_set"]:
+        click.echo(fold(f"saved as parameter set {out['parameter_set']} (use: saltbench predict --solution SPEC "
+                        f"--model {model_id} --sets {out['parameter_set']})", "  "))
+    echo_caution(fmt)

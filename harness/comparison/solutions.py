@@ -135,10 +135,11 @@ def resolve_values(model: SolutionModel, composition: Composition, lookup: Looku
         salt = pairs.get(key.owner) if len(key.owner) == 2 else None
         if salt is not None and model.supports(salt):
             p = next((q for q in model.parameters_for(salt) if q.name == p.name), p)
-        if p.fixed or p.owner_kind == "model":
-            # declared values: Pitzer's alphas and b, its beta2 outside 2-2 pairs, a model-wide
-            # constant
+        if p.owner_kind == "model":
+            values[key] = float(p.default)  # the model's own constant (Davies' b, b-dot's a)
             continue
+        if p.fixed:
+            continue  # declared values: Pitzer's alphas and b, its beta2 outside 2-2 pairs
         if p.owner_kind in MIXING_KINDS:
             values[key] = 0.0
             zero_mixing.append(str(key))

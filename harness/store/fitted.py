@@ -62,3 +62,42 @@ def save_fit(store: Store, result, *, set_id: str, settings: dict, data_hashes: 
                 "set_pk": pk, "names": json.dumps(names),
                 "matrix": json.dumps([[float(x) for x in row] for row in result.covariance])})
     return set_id
+
+
+def save_mixing_fit(store: Store, *, set_id: str, model: str, values: list[tuple[str, str, float, float | None]],
+                    covariance: tuple[list[str], list[list[float]]] | None, settings: dict,
+                    data_hashes: list[str], temperature_k: float, max_ionic_strength: float,
+                    note: str = "") -> str:
+    """Store the mixing terms of a fit to mixture data as a fitted parameter set: ``values`` are
+    (name, ion group as 'K+/Na+' or 'K+/Na+/Cl-', value, standard error), kept as ``ions`` rows
+    (the lookup of :func:`saltbench.store.parameter_sets.composition_values` finds them);
+    ``m_max`` of each row holds the highest ionic strength of the data. Returns the set id."""
+    existing = store.conn.execute("SELECT id, kind FROM parameter_sets WHERE set_id = ?", (set_id,)).fetchone()
+    if existing and existing[1] != "fitted":
+        raise UserError(f"parameter set {set_id!r} is a published set; choose another --name")
+    doc = {"values": values, "settings": settings}
+    row = {
+        "set_id": set_id, "kind": "fitted", "origin": "user", "provider": "saltbench fit --mixture",
+        "model": model, "source": None, "table_ref": "", "temperature_k": temperature_k, "a_phi": None,
+        "typed": f"fitted by saltbench {__version__}", "from_memory": 0, "note": note, "file": "",
+        "content_hash": hashlib.sha256(json.dumps(doc, sort_keys=True, default=str).encode()).hexdigest(),
+        "settings": json.dumps(settings, sort_keys=True, default=str),
+        "data_hashes": json.dumps(sorted(data_hashes)), "software_version": __version__,
+    }
+    with store.transaction():
+        if existing:
+            pk = existing[0]
+            store.conn.execute("DELETE FROM parameter_values WHERE set_pk = ?", (pk,))
+            store.conn.execute("DELETE FROM parameter_covariances WHERE set_pk = ?", (pk,))
+            store.db.table("parameter_sets").update(pk, row)
+        else:
+            pk = store.db.table("parameter_sets").insert(row).last_pk
+        store.db.table("parameter_values").insert_all([
+            {"set_pk": pk, "target": group, "target_kind": "ions", "name": name, "value": float(value),
+             "stderr": None if se is None else float(se), "m_max": float(max_ionic_strength)}
+            for name, group, value, se in values])
+        if covariance is not None and covariance[0]:
+            store.db.table("parameter_covariances").insert({
+                "set_pk": pk, "names": json.dumps(covariance[0]),
+                "matrix": json.dumps([[float(x) for x in r] for r in covariance[1]])})
+    return set_id
