@@ -26,9 +26,8 @@ from __future__ import annotations
 import numpy as np
 
 from saltbench.models import dh_terms as dh
+from saltbench.models.assemble import assemble
 from saltbench.models.contract import Computed, ParameterKey, Request, SolutionModel
-from saltbench.models.quantities import OSMOTIC, WATER_ACTIVITY, Quantity
-from saltbench.water.properties import MOLAR_MASS_WATER, water_activity
 
 #: The convention the single-ion values of these models rest on: each ion's value is the
 #: model's own ionic-strength form (Guggenheim, J. Phys. Chem. 33, 842 (1929)).
@@ -92,26 +91,7 @@ class IonicStrengthModel(SolutionModel):
                     d_ions[key] = d_ions.get(key, 0.0) + d
                     d_osm[key] = d_osm.get(key, 0.0) + np.broadcast_to(
                         self.pair_scale * m[:, ic] * m[:, ia] / total, shape)
-        values: dict[Quantity, np.ndarray] = {}
-        derivs: dict[Quantity, dict[ParameterKey, np.ndarray]] = {}
-        for q in request.quantities:
-            if q.kind == "ln_gamma":
-                j = comp.index(q.of)
-                values[q] = ln_ions[:, :, j]
-                derivs[q] = {k: d[:, :, j] for k, d in d_ions.items()}
-            elif q.kind == "ln_gamma_pm":
-                salt = comp.salt(q.of)
-                jc, ja = comp.index(salt.cation.name), comp.index(salt.anion.name)
-                fc, fa = salt.nu_cation / salt.nu, salt.nu_anion / salt.nu
-                values[q] = fc * ln_ions[:, :, jc] + fa * ln_ions[:, :, ja]
-                derivs[q] = {k: fc * d[:, :, jc] + fa * d[:, :, ja] for k, d in d_ions.items()}
-            elif q == OSMOTIC:
-                values[q], derivs[q] = osm, dict(d_osm)
-            elif q == WATER_ACTIVITY:
-                values[q] = water_activity(total, osm)
-                derivs[q] = {k: -MOLAR_MASS_WATER * total * values[q] * d
-                             for k, d in d_osm.items()}
-        return Computed(values, derivs)
+        return assemble(request, ln_ions, d_ions, osm, d_osm)
 
 
 def size_g(a_gamma: np.ndarray, s: np.ndarray, x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:

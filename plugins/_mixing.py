@@ -27,9 +27,8 @@ from __future__ import annotations
 import numpy as np
 
 from saltbench.chemistry.solution import Composition
+from saltbench.models.assemble import assemble
 from saltbench.models.contract import ActivityModel, Computed, ParameterKey, Request
-from saltbench.models.quantities import OSMOTIC, WATER_ACTIVITY, Quantity
-from saltbench.water.properties import MOLAR_MASS_WATER, water_activity
 
 #: What a mixture rule's compute_mixture returns: ln gamma (S, N, K) and its derivatives by
 #: key, phi (S, N) and its derivatives by key (phi None when the rule gives none).
@@ -65,27 +64,3 @@ def ions_by_sign(comp: Composition) -> tuple[list[int], list[int]]:
     return [k for k in range(z.size) if z[k] > 0], [k for k in range(z.size) if z[k] < 0]
 
 
-def assemble(request: Request, ln_ions: np.ndarray, d_ions: dict[ParameterKey, np.ndarray],
-             phi: np.ndarray | None, d_phi: dict[ParameterKey, np.ndarray]) -> Computed:
-    """The request's quantities from single-ion values (S, N, K) and phi (S, N)."""
-    comp = request.composition
-    total = comp.molality.sum(axis=1)
-    values: dict[Quantity, np.ndarray] = {}
-    derivs: dict[Quantity, dict[ParameterKey, np.ndarray]] = {}
-    for q in request.quantities:
-        if q.kind == "ln_gamma":
-            j = comp.index(q.of)
-            values[q] = ln_ions[:, :, j]
-            derivs[q] = {k: d[:, :, j] for k, d in d_ions.items()}
-        elif q.kind == "ln_gamma_pm":
-            salt = comp.salt(q.of)
-            jc, ja = comp.index(salt.cation.name), comp.index(salt.anion.name)
-            fc, fa = salt.nu_cation / salt.nu, salt.nu_anion / salt.nu
-            values[q] = fc * ln_ions[:, :, jc] + fa * ln_ions[:, :, ja]
-            derivs[q] = {k: fc * d[:, :, jc] + fa * d[:, :, ja] for k, d in d_ions.items()}
-        elif q == OSMOTIC and phi is not None:
-            values[q], derivs[q] = phi, dict(d_phi)
-        elif q == WATER_ACTIVITY and phi is not None:
-            values[q] = water_activity(total, phi)
-            derivs[q] = {k: -MOLAR_MASS_WATER * total * values[q] * d for k, d in d_phi.items()}
-    return Computed(values, derivs)

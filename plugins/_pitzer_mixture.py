@@ -36,10 +36,9 @@ from __future__ import annotations
 
 import numpy as np
 
+from saltbench.models.assemble import assemble
 from saltbench.models.contract import Computed, ParameterKey, Request
-from saltbench.models.quantities import OSMOTIC, WATER_ACTIVITY, Quantity
 from saltbench.plugins._etheta import etheta
-from saltbench.water.properties import MOLAR_MASS_WATER, water_activity
 
 _SERIES_BELOW = 1e-2  # x below which g, g' and their derivatives come from Taylor series
 _LINEAR_PAIR = ("beta0", "beta1", "beta2", "C_phi")
@@ -254,27 +253,7 @@ def compute_mixture(request: Request, default_alphas) -> Computed:
 
     d_ions, d_osm = _derivatives(request, comp, cations, anions, cat, an, pairs, s, i_safe,
                                  big_z, total_safe, b, a_phi)
-    values: dict[Quantity, np.ndarray] = {}
-    derivs: dict[Quantity, dict[ParameterKey, np.ndarray]] = {}
-    a_w = None
-    for q in request.quantities:
-        if q.kind == "ln_gamma":
-            j = comp.index(q.of)
-            values[q] = ln_ions[:, :, j]
-            derivs[q] = {key: d[:, :, j] for key, d in d_ions.items()}
-        elif q.kind == "ln_gamma_pm":
-            salt = comp.salt(q.of)
-            jc, ja = comp.index(salt.cation.name), comp.index(salt.anion.name)
-            fc, fa = salt.nu_cation / salt.nu, salt.nu_anion / salt.nu
-            values[q] = fc * ln_ions[:, :, jc] + fa * ln_ions[:, :, ja]
-            derivs[q] = {key: fc * d[:, :, jc] + fa * d[:, :, ja] for key, d in d_ions.items()}
-        elif q == OSMOTIC:
-            values[q], derivs[q] = osm, dict(d_osm)
-        elif q == WATER_ACTIVITY:
-            a_w = water_activity(total, osm) if a_w is None else a_w
-            values[q] = a_w
-            derivs[q] = {key: -MOLAR_MASS_WATER * total * a_w * d for key, d in d_osm.items()}
-    return Computed(values, derivs)
+    return assemble(request, ln_ions, d_ions, osm, d_osm)
 
 
 def _derivatives(request: Request, comp, cations, anions, cat, an, pairs: _Pairs, s, i_safe,

@@ -176,14 +176,7 @@ def compare(app, electrolytes, all_, models, up_to, tol, folds, on, data_sel, te
     comp = run(s, names, settings, jobs=jobs or default_jobs(), progress=True)
     for p in comp.plugin_problems:
         click.echo(f"Warning: {p}", err=True)
-    records = comp.records()
-    if fmt == "json":
-        emit(records, fmt)
-        echo_caution(fmt, CAUTION)
-        return
-    if fmt == "csv":
-        emit([{**r, "flags": "; ".join(r["flags"])} for r in records], fmt, CSV_COLUMNS)
-        echo_caution(fmt, CAUTION)
+    if _emit_records(comp.records(), fmt):
         return
     if summary:
         echo_summary(comp)
@@ -226,19 +219,22 @@ def compare(app, electrolytes, all_, models, up_to, tol, folds, on, data_sel, te
     click.echo(wrap(CAUTION))
 
 
+def _emit_records(records: list[dict], fmt: str) -> bool:
+    """JSON or CSV records with the caution; False (nothing written) for the table."""
+    if fmt == "table":
+        return False
+    emit(records if fmt == "json" else [{**r, "flags": "; ".join(r["flags"])} for r in records], fmt,
+         None if fmt == "json" else CSV_COLUMNS)
+    echo_caution(fmt, CAUTION)
+    return True
+
+
 def _compare_mixture(session, system: str, settings, sets: list[str], fmt: str) -> None:
     from saltbench.api import compare_mixture
     from saltbench.comparison.outcome import VerdictKind
 
     comp = compare_mixture(session, system, settings, sets=sets)
-    records = comp.records()
-    if fmt == "json":
-        emit(records, fmt)
-        echo_caution(fmt, CAUTION)
-        return
-    if fmt == "csv":
-        emit([{**r, "flags": "; ".join(r["flags"])} for r in records], fmt, CSV_COLUMNS)
-        echo_caution(fmt, CAUTION)
+    if _emit_records(comp.records(), fmt):
         return
     rec = comp.recommendation
     click.echo(wrap(f"Tolerance: |d ln gamma±| <= {settings.tol_ln_gamma:g}, |d phi| <= {settings.tol_phi:g}; "

@@ -75,6 +75,16 @@ def fit(app, electrolytes, model_id, up_to, fix, free, data_sel, on, temperature
     click.echo(f"{model.name} [{model.id}] fitted to {', '.join(names)}: {res['n_points']} points, "
                f"{res['n_params']} free parameter(s), {'converged' if out['converged'] else 'DID NOT CONVERGE'}")
     click.echo(f"Debye-Hückel A_phi = {dh.a_phi:.4f} ({dh.origin})")
+    _echo_fit(out, rows, f"AICc {_f(out['aicc'])}, BIC {_f(out['bic'])}")
+    if out["parameter_set"]:
+        click.echo(fold(f"saved as parameter set {out['parameter_set']} (use: saltbench predict {names[0]} "
+                        f"--model {model.id} --params {out['parameter_set']})", "  "))
+    echo_caution(fmt)
+
+
+def _echo_fit(out: dict, rows: list[dict], last: str) -> None:
+    """The parameter table, their correlation, the residuals and the flags."""
+    res = out["residuals"]
     emit(rows, "table")
     click.echo("")
     if out["correlation"]["names"]:
@@ -86,14 +96,9 @@ def fit(app, electrolytes, model_id, up_to, fix, free, data_sel, on, temperature
     lg, ph = res["ln_gamma"], res["osmotic"]
     click.echo(fold(f"residuals: ln gamma± rms {_f(lg.get('rms'))} max {_f(lg.get('max_abs'))} "
                     f"({lg.get('n', 0)} pts); phi rms {_f(ph.get('rms'))} max {_f(ph.get('max_abs'))} "
-                    f"({ph.get('n', 0)} pts); reduced chi-square {_f(res['chi2_reduced'])}; AICc "
-                    f"{_f(out['aicc'])}, BIC {_f(out['bic'])}", "  "))
+                    f"({ph.get('n', 0)} pts); reduced chi-square {_f(res['chi2_reduced'])}; {last}", "  "))
     for flag in out["flags"]:
         click.echo(f"flag: {flag}")
-    if out["parameter_set"]:
-        click.echo(fold(f"saved as parameter set {out['parameter_set']} (use: saltbench predict {names[0]} "
-                        f"--model {model.id} --params {out['parameter_set']})", "  "))
-    echo_caution(fmt)
 
 
 def _f(x) -> str:
@@ -126,21 +131,7 @@ def _fit_mixture(app, system: str, model_id: str, free: list[str], sets: list[st
                     f"{res['n_points']} points, {res['n_params']} free parameter(s), "
                     f"{'converged' if out['converged'] else 'DID NOT CONVERGE'}; held values from "
                     f"{', '.join(resolved.sets) or 'the model defaults'}", "  "))
-    emit(rows, "table")
-    click.echo("")
-    if len(rows) > 1:
-        corr = [{"": n, **{m: v for m, v in zip(out["correlation"]["names"], row)}}
-                for n, row in zip(out["correlation"]["names"], out["correlation"]["matrix"])]
-        click.echo("correlation:")
-        emit(corr, "table")
-        click.echo("")
-    lg, ph = res["ln_gamma"], res["osmotic"]
-    click.echo(fold(f"residuals: ln gamma± rms {_f(lg.get('rms'))} max {_f(lg.get('max_abs'))} "
-                    f"({lg.get('n', 0)} pts); phi rms {_f(ph.get('rms'))} max {_f(ph.get('max_abs'))} "
-                    f"({ph.get('n', 0)} pts); reduced chi-square {_f(res['chi2_reduced'])}; "
-                    f"I up to {max(result.molality):.4g} mol/kg", "  "))
-    for flag in out["flags"]:
-        click.echo(f"flag: {flag}")
+    _echo_fit(out, rows, f"I up to {max(result.molality):.4g} mol/kg")
     if out["parameter_set"]:
         click.echo(fold(f"saved as parameter set {out['parameter_set']} (use: saltbench predict --solution SPEC "
                         f"--model {model_id} --sets {out['parameter_set']})", "  "))

@@ -19,6 +19,18 @@ def fit_set_id(model: str, electrolytes: list[str], settings: dict, data_hashes:
     return f"fit-{model}-{slug}-{digest}"
 
 
+def _upsert(store: Store, existing: tuple | None, row: dict) -> int:
+    """The set's row written (its old values and covariance cleared when it is re-saved); its
+    primary key. Inside the caller's transaction."""
+    if existing:
+        pk = int(existing[0])
+        store.conn.execute("DELETE FROM parameter_values WHERE set_pk = ?", (pk,))
+        store.conn.execute("DELETE FROM parameter_covariances WHERE set_pk = ?", (pk,))
+        store.db.table("parameter_sets").update(pk, row)
+        return pk
+    return int(store.db.table("parameter_sets").insert(row).last_pk)  # type: ignore[arg-type]
+
+
 def save_fit(store: Store, result, *, set_id: str, settings: dict, data_hashes: list[str],
              electrolytes: list[str], temperature_k: float, note: str = "", a_phi: float | None = None) -> str:
     """Store a FitResult (single or joint) as a fitted parameter set; returns its id."""
@@ -40,13 +52,7 @@ def save_fit(store: Store, result, *, set_id: str, settings: dict, data_hashes: 
     }
     stderr = result.stderrs
     with store.transaction():
-        if existing:
-            pk = existing[0]
-            store.conn.execute("DELETE FROM parameter_values WHERE set_pk = ?", (pk,))
-            store.conn.execute("DELETE FROM parameter_covariances WHERE set_pk = ?", (pk,))
-            store.db.table("parameter_sets").update(pk, values)
-        else:
-            pk = store.db.table("parameter_sets").insert(values).last_pk
+        pk = _upsert(store, existing, values)
         rows = []
         for e in electrolytes:
             for name, gname in result.param_map[e].items():
@@ -85,13 +91,7 @@ def save_mixing_fit(store: Store, *, set_id: str, model: str, values: list[tuple
         "data_hashes": json.dumps(sorted(data_hashes)), "software_version": __version__,
     }
     with store.transaction():
-        if existing:
-            pk = existing[0]
-            store.conn.execute("DELETE FROM parameter_values WHERE set_pk = ?", (pk,))
-            store.conn.execute("DELETE FROM parameter_covariances WHERE set_pk = ?", (pk,))
-            store.db.table("parameter_sets").update(pk, row)
-        else:
-            pk = store.db.table("parameter_sets").insert(row).last_pk
+        pk = _upsert(store, existing, row)
         store.db.table("parameter_values").insert_all([
             {"set_pk": pk, "target": group, "target_kind": "ions", "name": name, "value": float(value),
              "stderr": None if se is None else float(se), "m_max": float(max_ionic_strength)}
