@@ -1247,12 +1247,15 @@ def make_mixture_report(session: Session, key_or_system: str, settings=None, *, 
 
     data, keys = mixture_data(session, key_or_system)
     comparison = compare_mixture(session, key_or_system, settings, sets=sets)
-    rows = {r.key: r for r in mixture_dataset_rows(session.store, None)}
+    rows: dict[str, Any] = {}
+    for r in mixture_dataset_rows(session.store, None):  # a user's dataset before a bundled one of its key
+        if r.key not in rows or r.origin == "user":
+            rows[r.key] = r
     held = []
     for o in comparison.outcomes:
         ids = [x for x in (o.published_set or "").split(", ") if x]
         for info in (ps.model_sets(session.store, o.model, ids) if ids else []):
             held.append(HeldSet(o.model, info.set_id, info.source, info.from_memory))
-    view = MixtureView(comparison, data, [rows[k] for k in keys if k in rows], held, list(sets))
+    view = MixtureView(comparison, data, [rows[k] for k in keys if k in rows], held, list(sets), key_or_system)
     return write_mixture_report(session, view, title=title, folder=Path(folder) if folder else None,
                                 command=command, argv=argv, created=created)

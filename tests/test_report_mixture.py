@@ -170,6 +170,18 @@ def test_a_rerun_from_the_manifest_agrees(mixture_report, run_main, tmp_path):
     assert "Results agree with the manifest." in stdout
 
 
+def test_one_dataset_by_its_key(mixture_store, run_main, tmp_path):
+    key = "hcl-nacl.gamma-hcl.kestrel-notebook-12"
+    out = tmp_path / "one"
+    code, stdout, err = run_main("report", "--mixture", key, "--models", "pitzer", "--out", str(out),
+                                 store=mixture_store)
+    assert code == 0, err
+    manifest = json.loads((out / "manifest.json").read_text(encoding="utf-8"))
+    assert manifest["command"]["mixture"] == key
+    assert [d["key"] for d in manifest["mixture"]["datasets"]] == [key]
+    assert f"{key} only" in (out / "report.md").read_text(encoding="utf-8").replace("\\", "")
+
+
 @pytest.mark.parametrize("args, needle", [
     (["--mixture", "KCl + NaCl"], "KCl"),
     (["NaCl", "--mixture", SYSTEM], "not both"),

@@ -115,9 +115,8 @@ def _scope(view: MixtureView, facts: ReportFacts) -> Section:
              f"({comp.n_points} points), judged up to {rec.target_molality:g} mol/kg"),  # type: ignore[attr-defined]
             ("Tolerance", tolerance_text(s)),
             ("Held-out error", f"{s.folds_text} over ionic strength"),
-            ("Datasets", "every stored mixture dataset of the system"
-             if len(view.dataset_rows) != 1 or view.dataset_rows[0].key != view.system
-             else view.dataset_rows[0].key),
+            ("Datasets", f"{view.asked} only" if view.one_dataset
+             else "every stored mixture dataset of the system"),
             ("Binary values held at", held),
             ("Models", ", ".join(order)),
         ]),

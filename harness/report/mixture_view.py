@@ -42,6 +42,12 @@ class MixtureView:
     dataset_rows: list  # saltbench.store.mixtures.MixtureDatasetRow
     held_sets: list[HeldSet] = field(default_factory=list)
     sets_asked: list[str] = field(default_factory=list)
+    asked: str = ""  # the SYSTEM as given: a system, or one mixture dataset's key
+
+    @property
+    def one_dataset(self) -> bool:
+        """Whether the report was asked for one mixture dataset (by its key), not a system."""
+        return [r.key for r in self.dataset_rows] == [self.asked]
 
     @property
     def system(self) -> str:

@@ -87,7 +87,7 @@ def write_mixture_report(session, view: MixtureView, *, title: str | None = None
                                   created=created, store_path=store_path, store_hash=store_hash,
                                   plugins=plugins, models=models, parameter_sets=held_set_rows(view),
                                   files=files)
-        manifest["command"]["mixture"] = system
+        manifest["command"]["mixture"] = view.asked or system
         manifest["command"]["sets"] = list(view.sets_asked)
         rec = view.recommendation
         manifest["mixture"] = clean({
