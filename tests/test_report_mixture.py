@@ -136,7 +136,7 @@ def test_invented_data_and_the_cautions_are_shown(mixture_report):
     assert "Single-ion activities" in md
     assert "Reproducing this report" in md
     html = (out / "report.html").read_text(encoding="utf-8")
-    assert "invented data" in html
+    assert '<span class="badge">invented</span>' in html
 
 
 def test_the_residual_figure_rests_on_the_fitted_models(mixture_store, run_main):
