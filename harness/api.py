@@ -494,8 +494,13 @@ def rerun_report(session: Session, manifest_path: str | os.PathLike[str], *,
     if folder is None:
         here = manifest_path.resolve().parent
         folder = here.parent / f"{here.name}-rerun"
-    result = make_report(session, old["command"]["electrolytes"], settings, title=old["title"],
-                         folder=folder, command=command, argv=argv, jobs=jobs)
+    if old["command"].get("mixture"):
+        result = make_mixture_report(session, old["command"]["mixture"], settings,
+                                     sets=old["command"].get("sets") or (), title=old["title"], folder=folder,
+                                     command=command, argv=argv)
+    else:
+        result = make_report(session, old["command"]["electrolytes"], settings, title=old["title"],
+                             folder=folder, command=command, argv=argv, jobs=jobs)
     result.agreement = check_agreement(old, result.manifest)
     return result
 
@@ -1226,3 +1231,31 @@ def save_mixture_fit(session: Session, result, model_id: str, key_or_system: str
                            settings={"system": key_or_system, "sets": list(sets), "mixture": True},
                            data_hashes=hashes, temperature_k=float(result.temperature_k),
                            max_ionic_strength=float(max(result.molality)))
+
+
+def make_mixture_report(session: Session, key_or_system: str, settings=None, *, sets: Sequence[str] = (),
+                        title: str | None = None, folder: str | os.PathLike[str] | None = None,
+                        command: str = "", argv: list[str] | None = None, created: str | None = None):
+    """Judge the models on a system's mixture data (:func:`compare_mixture`), then write every
+    report file into ``folder`` (default ``reports/<slug>``); returns a
+    :class:`saltbench.report.writer.ReportResult` whose ``comparison`` is the
+    ``MixtureComparison``. A system without mixture data is a UserError before anything is written."""
+    from saltbench.report.mixture_view import HeldSet, MixtureView
+    from saltbench.report.mixture_writer import write_mixture_report
+    from saltbench.store import parameter_sets as ps
+    from saltbench.store.mixtures import mixture_dataset_rows
+
+    data, keys = mixture_data(session, key_or_system)
+    comparison = compare_mixture(session, key_or_system, settings, sets=sets)
+    rows: dict[str, Any] = {}
+    for r in mixture_dataset_rows(session.store, None):  # a user's dataset before a bundled one of its key
+        if r.key not in rows or r.origin == "user":
+            rows[r.key] = r
+    held = []
+    for o in comparison.outcomes:
+        ids = [x for x in (o.published_set or "").split(", ") if x]
+        for info in (ps.model_sets(session.store, o.model, ids) if ids else []):
+            held.append(HeldSet(o.model, info.set_id, info.source, info.from_memory))
+    view = MixtureView(comparison, data, [rows[k] for k in keys if k in rows], held, list(sets), key_or_system)
+    return write_mixture_report(session, view, title=title, folder=Path(folder) if folder else None,
+                                command=command, argv=argv, created=created)

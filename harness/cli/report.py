@@ -13,7 +13,7 @@ from saltbench.cli.compare import build_settings, settings_options
 SETTING_PARAMS = ("models", "up_to", "tol", "folds", "on", "data_sel", "temperature_k", "title")
 
 
-def _command_line(app, electrolytes, settings, title, out_dir, from_manifest) -> str:
+def _command_line(app, electrolytes, settings, title, out_dir, from_manifest, mixture=None, sets=()) -> str:
     """The command as a user would type it to get this report again (options spelled out)."""
     args = ["saltbench"]
     if app.store_path:
@@ -27,6 +27,10 @@ def _command_line(app, electrolytes, settings, title, out_dir, from_manifest) ->
         args += ["--from", str(from_manifest)]
     else:
         args += list(electrolytes)
+        if mixture is not None:
+            args += ["--mixture", mixture]
+            if sets:
+                args += ["--sets", ",".join(sets)]
         if settings.models:
             args += ["--models", ",".join(settings.models)]
         if settings.up_to is not None:
@@ -53,9 +57,14 @@ def _command_line(app, electrolytes, settings, title, out_dir, from_manifest) ->
               "results still agree (default folder: the manifest's folder name + '-rerun').")
 @click.option("--jobs", type=click.IntRange(min=1), default=None,
               help="Worker processes (default: the CPUs this process may use).")
+@click.option("--mixture", "mixture", metavar="SYSTEM",
+              help="Report on a system's mixture data instead (e.g. 'HCl + NaCl', or a mixture dataset "
+                   "key), as 'compare --mixture' judges it: ranges and --up-to in ionic strength.")
+@click.option("--sets", "sets", default="", metavar="IDS",
+              help="With --mixture: parameter sets to take binary values from first.")
 @click.pass_context
 def report(ctx, electrolytes, models, up_to, tol, folds, on, data_sel, temperature_k, time_limit, out_dir, title,
-           from_manifest, jobs):
+           from_manifest, jobs, mixture, sets):
     """Compare models and write it up for a method-validation file, ready to sign.
 
     The report a lab files when it validates the activity correction of a method: HTML
@@ -65,7 +74,7 @@ def report(ctx, electrolytes, models, up_to, tol, folds, on, data_sel, temperatu
     The report states its limits. For dosing, safety limits or regulated measurements, verify
     every result under local codes and licensed practice.
     """
-    from saltbench.api import make_report, rerun_report
+    from saltbench.api import make_mixture_report, make_report, rerun_report
     from saltbench.comparison.runner import default_jobs
     from saltbench.errors import UserError
 
@@ -75,14 +84,24 @@ def report(ctx, electrolytes, models, up_to, tol, folds, on, data_sel, temperatu
     if from_manifest is not None:
         given = [p for p in SETTING_PARAMS
                  if ctx.get_parameter_source(p) is not click.core.ParameterSource.DEFAULT]
-        if electrolytes or given:
+        if electrolytes or given or mixture is not None:
             raise UserError("--from re-runs the manifest's own electrolytes and options; give no "
                             "ELECTROLYTE and no comparison option with it (only --out and --jobs)")
         if not from_manifest.is_file():
             raise UserError(f"--from {from_manifest}: no such file")
         command = _command_line(app, (), None, None, out_dir, from_manifest)
         result = rerun_report(s, from_manifest, folder=out_dir, jobs=jobs, command=command, argv=sys.argv)
+    elif mixture is not None:
+        if electrolytes:
+            raise UserError("give electrolytes or --mixture, not both")
+        settings = build_settings(models, up_to, tol, folds, on, data_sel, temperature_k, time_limit)
+        chosen = [x.strip() for x in sets.split(",") if x.strip()]
+        command = _command_line(app, (), settings, title, out_dir, None, mixture, chosen)
+        result = make_mixture_report(s, mixture, settings, sets=chosen, title=title, folder=out_dir,
+                                     command=command, argv=sys.argv)
     else:
+        if sets:
+            raise UserError("--sets goes with --mixture")
         if not electrolytes:
             raise UserError("name at least one electrolyte (or re-run one with --from MANIFEST)")
         settings = build_settings(models, up_to, tol, folds, on, data_sel, temperature_k, time_limit)
@@ -94,8 +113,12 @@ def report(ctx, electrolytes, models, up_to, tol, folds, on, data_sel, temperatu
     click.echo(f"Report written to {result.folder}:")
     for path in result.files:
         click.echo(f"  {path.relative_to(result.folder).as_posix()}")
-    for name, rec in result.comparison.recommendations.items():
-        click.echo(f"{name}: {rec.statement}")
+    if "mixture" in result.manifest:
+        mix = result.manifest["mixture"]
+        click.echo(f"{mix['system']}: {mix['recommendation']['statement']}")
+    else:
+        for name, rec in result.comparison.recommendations.items():
+            click.echo(f"{name}: {rec.statement}")
     click.echo("Caution: for dosing, safety limits or regulated measurements, verify the report's results "
                "under local codes and licensed practice.")
     if result.agreement is not None:

@@ -91,11 +91,15 @@ def build_document(comparison, facts: ReportFacts) -> Document:
         n += 1
     doc.sections.append(_cautions(comparison, n, s))
     doc.sections.append(_reproduce(facts, n + 1))
-    doc.sections.append(Section("sign-off", f"{n + 2} Review and sign-off", [
+    doc.sections.append(sign_off_section(n + 2))
+    return doc
+
+
+def sign_off_section(index: int) -> Section:
+    return Section("sign-off", f"{index} Review and sign-off", [
         Paragraph("To be completed by the laboratory. By signing, the reviewer confirms that the data, "
                   "tolerance and range suit the intended method; saltbench does not make that judgement."),
-        SignOff(["Prepared by", "Reviewed by"])]))
-    return doc
+        SignOff(["Prepared by", "Reviewed by"])])
 
 
 def _scope(comparison, facts: ReportFacts) -> Section:

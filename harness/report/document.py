@@ -44,7 +44,7 @@ class Table:
     columns: list[str]
     rows: list[list[str]]
     numeric: list[bool]  # right-align these columns
-    marks: list[str] = field(default_factory=list)  # per row: "" or "memory" / "recommended"
+    marks: list[str] = field(default_factory=list)  # per row: "" or "memory" / "recommended" / "invented"
     mono: list[bool] = field(default_factory=list)  # columns shown in a fixed-width font
 
 

@@ -57,6 +57,22 @@ SQRT_M_LABEL = r"$\sqrt{m}$ / (mol kg$^{-1}$)$^{1/2}$"
 
 
 @dataclass(frozen=True)
+class Abscissa:
+    """What the residual and validity figures run along: molality for one salt, ionic strength
+    for a family of mixtures (where :class:`~saltbench.report.residuals.Residuals` and the
+    outcomes' ranges hold ionic strengths in their molality fields)."""
+
+    name: str  # in captions: "molality", "ionic strength"
+    sqrt_label: str
+    log_label: str
+
+
+MOLALITY = Abscissa("molality", SQRT_M_LABEL, r"molality $m$ / (mol kg$^{-1}$), logarithmic")
+IONIC_STRENGTH = Abscissa("ionic strength", r"$\sqrt{I}$ / (mol kg$^{-1}$)$^{1/2}$",
+                          r"ionic strength $I$ / (mol kg$^{-1}$), logarithmic")
+
+
+@dataclass(frozen=True)
 class Style:
     colour: str
     line: object
@@ -217,7 +233,7 @@ def _band_limits(res: list[np.ndarray], tol: float) -> float:
 
 
 def residual_figure(name: str, outcomes, residuals: dict, settings, styles: dict[str, Style],
-                    key: str) -> FigureImage:
+                    key: str, axis: Abscissa = MOLALITY) -> FigureImage:
     """Data minus refitted model, for ln(gamma±) and phi, with the tolerance band shaded."""
     plt = _pyplot()
     with plt.rc_context(RC):
@@ -257,7 +273,7 @@ def residual_figure(name: str, outcomes, residuals: dict, settings, styles: dict
             ax.axhline(0, color="black", linewidth=0.7, zorder=1)
             ax.set_ylim(-lim, lim)
             ax.set_xlim(0, xmax * 1.03 if xmax else 1)
-            ax.set_xlabel(SQRT_M_LABEL)
+            ax.set_xlabel(axis.sqrt_label)
             ax.set_ylabel(ylabel)
             note = f"grey band: tolerance ±{tol:g}"
             if clipped:
@@ -270,13 +286,13 @@ def residual_figure(name: str, outcomes, residuals: dict, settings, styles: dict
             legend_below(fig, handles, labels)
         png = render_png(fig)
     return FigureImage(key, f"{name}: residuals (data minus model) of each refitted model against the "
-                       "square root of molality; the grey band is the tolerance. Residuals are on the "
+                       f"square root of {axis.name}; the grey band is the tolerance. Residuals are on the "
                        "fitted basis: ln gamma± and phi.",
                        f"Residual plot for {name} with tolerance band", png)
 
 
 def validity_figure(name: str, outcomes, data, target: float, styles: dict[str, Style],
-                    key: str) -> FigureImage:
+                    key: str, axis: Abscissa = MOLALITY) -> FigureImage:
     """Horizontal bars: the molality range within tolerance, with published (hatched) and with
     refitted parameters (solid), from the lowest data molality on a logarithmic axis."""
     from matplotlib.patches import Patch
@@ -313,16 +329,16 @@ def validity_figure(name: str, outcomes, data, target: float, styles: dict[str, 
         ax.set_ylim(-0.7, n - 0.2)
         ax.set_yticks(ticks, names)
         ax.grid(axis="y", visible=False)
-        ax.set_xlabel(r"molality $m$ / (mol kg$^{-1}$), logarithmic")
+        ax.set_xlabel(axis.log_label)
         ax.set_title(f"{name}: range within tolerance", loc="left")
         fig.legend(handles=[Patch(facecolor="#555555", edgecolor="#555555", label="refitted parameters"),
                            Patch(facecolor="white", edgecolor="#555555", hatch="////",
                                  label="published parameters")],
                   loc="outside lower center", ncol=2, frameon=False)
         png = render_png(fig)
-    return FigureImage(key, f"{name}: the molality up to which each model stays within tolerance, with "
+    return FigureImage(key, f"{name}: the {axis.name} up to which each model stays within tolerance, with "
                        "refitted parameters (solid bar, judged on held-out predictions) and with the "
-                       "published parameter set (hatched bar). The dashed line marks the molality the "
+                       f"published parameter set (hatched bar). The dashed line marks the {axis.name} the "
                        f"comparison was judged to ({target:g} mol/kg).",
                        f"Validity range chart for {name}", png)
 

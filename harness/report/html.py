@@ -127,7 +127,7 @@ stated; for regulated or safety-related use verify under local codes and license
 </html>
 """
 
-MARK_LABELS = {"memory": "from memory", "recommended": "recommended"}
+MARK_LABELS = {"memory": "from memory", "recommended": "recommended", "invented": "invented"}
 
 
 def render_html(doc: Document, version: str) -> str:

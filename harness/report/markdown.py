@@ -40,7 +40,7 @@ def escape(text: str, line_start: bool = True) -> str:
 
 
 def _table(t: Table) -> list[str]:
-    labels = {"memory": " (FROM MEMORY)", "recommended": " (recommended)"}
+    labels = {"memory": " (FROM MEMORY)", "recommended": " (recommended)", "invented": " (INVENTED)"}
     lines = [f"*{escape(t.caption, False)}*", ""]
     lines.append("| " + " | ".join(escape(c, False) or " " for c in t.columns) + " |")
     lines.append("|" + "|".join("---:" if n else ":---" for n in t.numeric) + "|")

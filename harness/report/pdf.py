@@ -98,7 +98,7 @@ class _Pages:
         size = 6.3
         budget = int(TEXT_W * 72 / (MONO_EM * size))
         ncol = len(t.columns)
-        labels = {"memory": " [FROM MEMORY]", "recommended": " [recommended]"}
+        labels = {"memory": " [FROM MEMORY]", "recommended": " [recommended]", "invented": " [INVENTED]"}
         rows = [list(r) for r in t.rows]
         for i, r in enumerate(rows):
             mark = t.marks[i] if t.marks else ""

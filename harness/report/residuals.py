@@ -53,3 +53,31 @@ def refit_residuals(comparison, registry, electrolytes: dict) -> dict[tuple[str,
             pred = np.where(kind == "osmotic", ev.osmotic, ev.ln_gamma_pm)
             out[(name, o.model)] = Residuals(m, kind, np.asarray(data.value, dtype=float) - pred)
     return out
+
+
+def mixture_residuals(comparison, data, registry) -> dict[tuple[str, str], Residuals]:
+    """``{(system, model id): Residuals}`` of a mixture comparison on ``data`` (the
+    :class:`saltbench.fitting.MixtureData` it was run on): each model evaluated at every
+    composition with its fitted values held (mixing terms as refitted, binary values as held),
+    on the fit's basis. ``Residuals.molality`` holds each point's ionic strength, the scan
+    coordinate of mixture data."""
+    from saltbench.errors import SaltbenchError
+    from saltbench.fitting.mixture_problem import build_mixture_problem
+    from saltbench.water.debye_huckel import debye_huckel_constants
+
+    dh = debye_huckel_constants(comparison.settings.temperature_k)
+    ionic = np.asarray(data.composition.ionic_strength, dtype=float)
+    kind = np.asarray(data.kind).astype(str)
+    out: dict[tuple[str, str], Residuals] = {}
+    for o in comparison.outcomes:
+        if o.error or not o.fit or o.model not in registry.models:
+            continue
+        values = {p["name"]: p["value"] for p in o.fit["parameters"] if p["value"] is not None}
+        try:
+            problem = build_mixture_problem(registry.models[o.model].model, data, held=values, free=(),
+                                            dh=dh, require_free=False)
+            pred = problem.predict(problem.theta0)
+        except SaltbenchError:
+            continue
+        out[(comparison.system, o.model)] = Residuals(ionic, kind, np.asarray(data.value, dtype=float) - pred)
+    return out

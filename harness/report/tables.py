@@ -97,3 +97,40 @@ TABLES = {
 def csv_tables(comparison) -> dict[str, str]:
     """``{file name: CSV text}`` for every result table."""
     return {name: to_csv(rows(comparison), cols) for name, (rows, cols) in TABLES.items()}
+
+
+# -- a mixture report (saltbench.report.mixture_view.MixtureView): results.csv, parameters.csv and
+# correlations.csv as above, their 'electrolyte' column holding the system and their ranges ionic
+# strengths; the datasets, recommendation and held sets in tables of their own.
+MIXTURE_DATASET_COLUMNS = ["system", "dataset", "source", "property", "n_points", "min_ionic_strength",
+                           "max_ionic_strength", "invented", "from_memory", "content_hash", "citation", "typed",
+                           "table_ref", "origin"]
+MIXTURE_RECOMMENDATION_COLUMNS = ["system", "target_ionic_strength", "recommended_model", "furthest_model",
+                                  "furthest_ionic_strength", "statement"]
+HELD_SET_COLUMNS = ["system", "model", "parameter_set", "source", "from_memory"]
+
+
+def mixture_dataset_rows(view) -> list[dict]:
+    return [{**d, "dataset": d["key"]} for d in view.datasets[view.system]]
+
+
+def mixture_recommendation_rows(view) -> list[dict]:
+    r = view.recommendation
+    return [{"system": view.system, "target_ionic_strength": r.target_molality, "recommended_model": r.model,
+             "furthest_model": r.furthest_model, "furthest_ionic_strength": r.furthest_molality,
+             "statement": view.statement}]
+
+
+def held_set_rows(view) -> list[dict]:
+    return [{"system": view.system, "model": h.model, "parameter_set": h.set_id, "source": h.source,
+             "from_memory": h.from_memory} for h in view.held_sets]
+
+
+def mixture_csv_tables(view) -> dict[str, str]:
+    """``{file name: CSV text}`` for every table of a mixture report."""
+    out = {name: to_csv(rows(view), cols) for name, (rows, cols) in TABLES.items()
+           if name in ("results.csv", "parameters.csv", "correlations.csv")}
+    out["datasets.csv"] = to_csv(mixture_dataset_rows(view), MIXTURE_DATASET_COLUMNS)
+    out["recommendations.csv"] = to_csv(mixture_recommendation_rows(view), MIXTURE_RECOMMENDATION_COLUMNS)
+    out["held_sets.csv"] = to_csv(held_set_rows(view), HELD_SET_COLUMNS)
+    return out

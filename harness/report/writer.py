@@ -20,6 +20,7 @@ import os
 import platform
 import shutil
 import tempfile
+from collections.abc import Callable
 from dataclasses import dataclass, field
 from datetime import UTC, datetime
 from pathlib import Path
@@ -120,6 +121,7 @@ def write_report(session, comparison, *, title: str | None = None, folder: Path 
     from saltbench.report.content import ReportFacts, build_document
     from saltbench.report.manifest import build_manifest
     from saltbench.report.residuals import refit_residuals
+    from saltbench.report.tables import csv_tables
 
     title = (title or "").strip() or default_title(list(comparison.outcomes))
     folder = (Path(folder) if folder else default_folder(title, list(comparison.outcomes))).resolve()
@@ -142,7 +144,23 @@ def write_report(session, comparison, *, title: str | None = None, folder: Path 
                         figures=figures, extra_sections=extra)
     doc = build_document(comparison, facts)
 
-    final = folder
+    def manifest_for(files: dict[str, str]) -> dict:
+        return build_manifest(comparison, title=title, electrolytes=list(comparison.outcomes),
+                              command=command, argv=list(argv or []), created=created,
+                              store_path=store_path, store_hash=store_hash, plugins=plugins, models=models,
+                              parameter_sets=_parameter_sets(session, comparison), files=files)
+
+    written, manifest = write_atomically(folder, lambda tmp: _write_files(tmp, doc, figures, csv_tables(comparison)),
+                                         manifest_for)
+    return ReportResult(folder, written, comparison, manifest, problems=list(comparison.plugin_problems))
+
+
+def write_atomically(final: Path, write_files: Callable[[Path], list[Path]],
+                     manifest_for: Callable[[dict[str, str]], dict]) -> tuple[list[Path], dict]:
+    """Write a report into ``final``: ``write_files(folder)`` writes every file but the manifest
+    into a fresh folder and returns their paths; ``manifest_for({relative path: SHA-256})`` gives
+    the manifest; then the whole folder is moved into place. Returns the files (under ``final``)
+    and the manifest."""
     if final.exists() and (not final.is_dir() or (any(final.iterdir()) and not (final / MANIFEST_NAME).exists())):
         raise UserError(f"{final} holds files that are not a saltbench report; choose a new or empty folder")
     try:
@@ -156,12 +174,9 @@ def write_report(session, comparison, *, title: str | None = None, folder: Path 
     except OSError as exc:
         raise UserError(f"cannot create the report folder {final}: {exc.strerror}") from None
     try:
-        written = _write_files(folder, doc, figures, comparison)
+        written = write_files(folder)
         files = {p.relative_to(folder).as_posix(): _sha256(p) for p in written}
-        manifest = build_manifest(comparison, title=title, electrolytes=list(comparison.outcomes),
-                                  command=command, argv=list(argv or []), created=created,
-                                  store_path=store_path, store_hash=store_hash, plugins=plugins, models=models,
-                                  parameter_sets=_parameter_sets(session, comparison), files=files)
+        manifest = manifest_for(files)
         man_path = inside(folder, MANIFEST_NAME)
         man_path.write_text(json.dumps(manifest, indent=2, ensure_ascii=False) + "\n", encoding="utf-8")
         written.append(man_path)
@@ -169,16 +184,15 @@ def write_report(session, comparison, *, title: str | None = None, folder: Path 
     except BaseException:
         shutil.rmtree(folder, ignore_errors=True)
         raise
-    written = [final / p.relative_to(folder) for p in written]
-    return ReportResult(final, written, comparison, manifest, problems=list(comparison.plugin_problems))
+    return [final / p.relative_to(folder) for p in written], manifest
 
 
-def _write_files(folder: Path, doc, figures, comparison) -> list[Path]:
+def _write_files(folder: Path, doc, figures, tables: dict[str, str]) -> list[Path]:
+    """Figures, CSV ``tables`` ({file name: text}), HTML, Markdown and PDF into ``folder``."""
     from saltbench import __version__
     from saltbench.report.html import render_html
     from saltbench.report.markdown import render_markdown
     from saltbench.report.pdf import write_pdf
-    from saltbench.report.tables import csv_tables
 
     written: list[Path] = []
     for figs in figures.values():
@@ -186,7 +200,7 @@ def _write_files(folder: Path, doc, figures, comparison) -> list[Path]:
             path = inside(folder / FIGURE_DIR, f"{f.key}.png")
             path.write_bytes(f.png)
             written.append(path)
-    for name, text in csv_tables(comparison).items():
+    for name, text in tables.items():
         path = inside(folder / TABLE_DIR, name)
         path.write_text(text, encoding="utf-8", newline="")
         written.append(path)
