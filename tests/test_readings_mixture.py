@@ -242,3 +242,39 @@ def test_extrapolate_without_readings_of_the_salt_alone_is_refused(run_main, see
     f = readings_file(tmp_path / "cell.csv", m_hcl[1:], m_nacl[1:], emf[1:], "# e_standard: extrapolate\n")
     code, _, err = run_main("readings", "add", str(bib), str(f), store=seeded_store)
     assert code == 2 and "field 'e_standard'" in err and "background_molality 0" in err
+
+
+EXAMPLE = Path(__file__).resolve().parents[1] / "refdata" / "examples" / "readings-kestrel-bay"
+SCRIPT = Path(__file__).resolve().parents[1] / "refdata" / "tools" / "make_mixture_readings_example.py"
+
+
+def test_the_invented_example_is_what_its_script_writes_and_reduces_back_to_its_rule(run_main, seeded_store) -> None:
+    import importlib.util
+
+    spec = importlib.util.spec_from_file_location("make_mixture_readings_example", SCRIPT)
+    assert spec is not None and spec.loader is not None
+    script = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(script)
+    f = EXAMPLE / script.NAME
+    assert f.read_text(encoding="utf-8") == script.text()
+    assert "INVENTED" in f.read_text(encoding="utf-8") and "INVENTED" in (EXAMPLE / "README.md").read_text()
+    rec = _add_and_reduce(run_main, seeded_store, EXAMPLE, key="readings-hcl-nacl-emf")
+    # E° from the readings of HCl alone, within 0.1 mV of the stated value
+    assert abs(rec["details"]["e_standard_v"] - E_AGCL) < 1e-4
+    mix = [p for p in rec["points"] if p["background_molality"] > 0]
+    m2 = np.array([p["background_molality"] for p in mix])
+    got = np.array([p["value"] for p in mix])
+    # the file's rule (Harned's rule, invented coefficient) within the noise: 0.02 mV is 4e-4 in
+    # ln gamma±, the extrapolated E° adds at most 0.002
+    assert np.max(np.abs(got - np.log(GAMMA_HCL_AT_1 * 10.0 ** (-script.ALPHA * m2)))) < 0.002 + 4 * 4e-4
+
+
+def test_the_documented_mixture_readings_file_reads_as_written() -> None:
+    from saltbench.curation.readings import read_readings
+
+    doc = (Path(__file__).resolve().parents[1] / "DEVELOPERS.md").read_text(encoding="utf-8")
+    section = doc.split("### Raw readings in a mixture", 1)[1]
+    block = section.split("```\n", 2)[1]
+    ms = read_readings("DEVELOPERS.md", block)
+    assert ms.method == "nernst-mixture-extrapolated-e0" and ms.settings["background"] == "NaCl"
+    assert ms.background_molality is not None and ms.background_molality.tolist() == [0.0, 0.1]
