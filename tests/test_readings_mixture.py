@@ -278,3 +278,16 @@ def test_the_documented_mixture_readings_file_reads_as_written() -> None:
     ms = read_readings("DEVELOPERS.md", block)
     assert ms.method == "nernst-mixture-extrapolated-e0" and ms.settings["background"] == "NaCl"
     assert ms.background_molality is not None and ms.background_molality.tolist() == [0.0, 0.1]
+
+
+def test_show_lists_the_background_molality_of_each_reading(run_main, seeded_store, bib, tmp_path) -> None:
+    m_hcl, m_nacl, emf = _mixture_series()
+    f = readings_file(tmp_path / "cell.csv", m_hcl[1:], m_nacl[1:], emf[1:], f"# e_standard: {E_AGCL} V\n")
+    code, _, err = run_main("readings", "add", str(bib), str(f), store=seeded_store)
+    assert code == 0, err
+    code, out, err = run_main("readings", "show", "hcl-nacl-cell", "--format", "json", store=seeded_store)
+    assert code == 0, err
+    doc = json.loads(out)
+    got = sorted((r["molality"], r["background_molality"]) for r in doc["readings"])
+    assert got == sorted(zip(m_hcl[1:].tolist(), m_nacl[1:].tolist()))
+    assert doc["extrapolation"] is None  # E° given and no readings of HCl alone

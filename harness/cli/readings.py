@@ -184,11 +184,15 @@ def show(app, key: str, plot_path: str | None, fmt: str) -> None:
         r = {"line": ms.lines[i], "molality": None if np.isnan(ms.molality[i]) else float(ms.molality[i])}
         if ms.kind == "electrode_calibration":
             r["activity"] = float(ms.activity[i])
+        if ms.background_molality is not None:
+            r["background_molality"] = float(ms.background_molality[i])
         r[ms.store_column] = float(ms.reading[i])
         r["u_" + ms.store_column] = float(ms.u_reading[i])
         rows.append(r)
     ext = None
-    if ms.kind == "emf":
+    # a mixture cell with E° given need not hold readings of its salt alone to extrapolate from
+    if ms.kind == "emf" and not (ms.background_molality is not None
+                                 and ms.settings.get("e_standard") is not None):
         ext = emf_extrapolation(ms)
         if plot_path:
             _plot(ext, key, plot_path)
