@@ -291,3 +291,39 @@ def test_show_lists_the_background_molality_of_each_reading(run_main, seeded_sto
     got = sorted((r["molality"], r["background_molality"]) for r in doc["readings"])
     assert got == sorted(zip(m_hcl[1:].tolist(), m_nacl[1:].tolist()))
     assert doc["extrapolation"] is None  # E° given and no readings of HCl alone
+
+
+def test_a_set_changed_between_one_salt_and_mixture_reduces_to_the_right_kind_of_dataset(
+        run_main, seeded_store, bib, tmp_path) -> None:
+    m_hcl, m_nacl, emf = _mixture_series()
+    mixed = readings_file(tmp_path / "cell.csv", m_hcl, m_nacl, emf, f"# e_standard: {E_AGCL} V\n")
+    _add_and_reduce(run_main, seeded_store, bib, mixed)
+    # the same id, now readings of HCl alone: a one-salt gamma± dataset replaces the mixture one
+    pure = cell_emf(HCL_M, np.zeros_like(HCL_M), HCL_GAMMA)
+    rows = "".join(f"{a!r},{e!r}\n" for a, e in zip(HCL_M.tolist(), pure.tolist()))
+    text = mixed.read_text().replace("# background: NaCl\n", "").split("molality,background_molality")[0]
+    one = write(tmp_path / "cell.csv", text + "molality,emf_v\n" + rows)
+    rec = _add_and_reduce(run_main, seeded_store, bib, one)
+    assert rec["dataset"] == "hcl-nacl-cell.gamma_pm"
+    with sqlite3.connect(seeded_store) as conn:
+        assert conn.execute("SELECT count(*) FROM mixture_datasets WHERE key LIKE 'hcl-nacl-cell%'").fetchone() == (0,)
+    # and back: the one-salt dataset goes, the mixture dataset returns
+    rec = _add_and_reduce(run_main, seeded_store, bib, readings_file(tmp_path / "cell.csv", m_hcl, m_nacl, emf,
+                                                                    f"# e_standard: {E_AGCL} V\n"))
+    assert rec["dataset"] == "hcl-nacl-cell.ln_gamma_pm"
+    code, out, err = run_main("readings", "list", "--format", "json", store=seeded_store)
+    [row] = [r for r in json.loads(out) if r["key"] == "hcl-nacl-cell"]
+    assert row["dataset"] == "hcl-nacl-cell.ln_gamma_pm" and row["status"] == "current"
+    with sqlite3.connect(seeded_store) as conn:
+        assert conn.execute("SELECT count(*) FROM datasets WHERE key = 'hcl-nacl-cell.gamma_pm'").fetchone() == (0,)
+
+
+def test_removing_the_reduced_mixture_dataset_leaves_the_set_not_reduced(run_main, seeded_store, bib, tmp_path) -> None:
+    m_hcl, m_nacl, emf = _mixture_series()
+    f = readings_file(tmp_path / "cell.csv", m_hcl, m_nacl, emf, f"# e_standard: {E_AGCL} V\n")
+    _add_and_reduce(run_main, seeded_store, bib, f)
+    code, _, err = run_main("data", "remove", "hcl-nacl-cell.ln_gamma_pm", store=seeded_store)
+    assert code == 0, err
+    code, out, err = run_main("readings", "list", "--format", "json", store=seeded_store)
+    [row] = [r for r in json.loads(out) if r["key"] == "hcl-nacl-cell"]
+    assert row["status"] == "not reduced" and row["dataset"] is None

@@ -261,6 +261,10 @@ def store_reduction(store: Store, ms: MeasurementSet, red: ReducedValues) -> str
                   "method": red.method.name,
                   "method_version": red.method.version, "input_hash": h_in,
                   "software_version": __version__, "result": result}
+        # a dataset deleted above takes its reductions row with it (ON DELETE CASCADE)
+        if prev is not None and store.conn.execute("SELECT 1 FROM reductions WHERE id = ?",
+                                                   (prev[0],)).fetchone() is None:
+            prev = None
         if prev is None:
             store.db.table("reductions").insert(values)
         else:

@@ -237,7 +237,7 @@ CREATE TABLE mixture_point_ions (
 ALTER TABLE readings ADD COLUMN background_molality REAL
     CHECK (background_molality IS NULL OR background_molality >= 0);
 ALTER TABLE reductions ADD COLUMN mixture_dataset_id INTEGER
-    REFERENCES mixture_datasets(id) ON DELETE SET NULL
+    REFERENCES mixture_datasets(id) ON DELETE CASCADE
 """),
 ]
 
