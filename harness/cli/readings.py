@@ -77,7 +77,13 @@ def reduce(app, keys: tuple[str, ...], all_: bool, method: str | None, fmt: str)
         rec: dict = {"set": key, "method": red.method.name, "method_version": red.method.version,
                "property": red.property, "dataset": dataset, "n_points": int(red.value.size),
                "note": red.note, "details": red.details, "cautions": list(red.cautions)}
-        if red.property is not None:
+        if red.background_molality is not None:  # a mixture cell: ln gamma± of the measured salt
+            rec["background"] = red.details.get("background")
+            rec["points"] = [{"molality": float(m), "background_molality": float(b),
+                              "value": float(v), "uncertainty": float(u)}
+                             for m, b, v, u in zip(red.molality, red.background_molality,
+                                                   red.value, red.u_value)]
+        elif red.property is not None:
             rec["points"] = [{"molality": float(m), "value": float(v), "uncertainty": float(u)}
                              for m, v, u in zip(red.molality, red.value, red.u_value)]
         out.append(rec)
@@ -90,6 +96,8 @@ def reduce(app, keys: tuple[str, ...], all_: bool, method: str | None, fmt: str)
         click.echo(f"  {rec['note']}")
         if "points" in rec and fmt == "table":
             click.echo("  " + table(rec["points"], headers={"molality": "m/(mol/kg)",
+                                                           "background_molality":
+                                                           f"m({rec.get('background')})/(mol/kg)",
                                                            "value": rec["property"]})
                        .replace("\n", "\n  "))
         elif "points" in rec:
@@ -176,11 +184,15 @@ def show(app, key: str, plot_path: str | None, fmt: str) -> None:
         r = {"line": ms.lines[i], "molality": None if np.isnan(ms.molality[i]) else float(ms.molality[i])}
         if ms.kind == "electrode_calibration":
             r["activity"] = float(ms.activity[i])
+        if ms.background_molality is not None:
+            r["background_molality"] = float(ms.background_molality[i])
         r[ms.store_column] = float(ms.reading[i])
         r["u_" + ms.store_column] = float(ms.u_reading[i])
         rows.append(r)
     ext = None
-    if ms.kind == "emf":
+    # a mixture cell with E° given need not hold readings of its salt alone to extrapolate from
+    if ms.kind == "emf" and not (ms.background_molality is not None
+                                 and ms.settings.get("e_standard") is not None):
         ext = emf_extrapolation(ms)
         if plot_path:
             _plot(ext, key, plot_path)

@@ -29,7 +29,7 @@ COMMON_FIELDS = {"kind", "electrolyte", "temperature", "source", "typed", "metho
                  "cation", "anion", "u_molality"}
 KIND_FIELDS = {
     "emf": {"cell", "electrons", "salt_per_reaction", "e_standard", "u_e_standard",
-            "extrapolation_up_to", "ion_size", "u_emf"},
+            "extrapolation_up_to", "ion_size", "u_emf", "background"},
     "electrode_calibration": {"ion", "u_emf"},
     "isopiestic": {"reference", "reference_model", "reference_params", "u_reference_molality",
                    "u_reference_osmotic"},
@@ -83,6 +83,14 @@ class MeasurementSet:
     lines: list[int]
     declared_ions: dict[str, Ion] = field(default_factory=dict)
     source_line: int | None = None
+    # an emf set in a mixture: the background salt's molality per reading (settings["background"]
+    # names the salt); None for readings of one electrolyte
+    background_molality: np.ndarray | None = None
+
+    @property
+    def method_kind(self) -> str:
+        """The kind the set's reduction methods belong to ('emf_mixture' for a mixture cell)."""
+        return "emf_mixture" if self.background_molality is not None else self.kind
 
     @property
     def from_memory(self) -> bool:
@@ -107,6 +115,8 @@ class MeasurementSet:
             "activity": col(self.activity), "reading": col(self.reading),
             "u_reading": col(self.u_reading),
         }
+        if self.background_molality is not None:  # only then: one-salt hashes stay as they were
+            doc["background_molality"] = col(self.background_molality)
         return hashlib.sha256(json.dumps(doc, sort_keys=True).encode()).hexdigest()
 
 
@@ -184,6 +194,27 @@ def _emf_settings(b: Block) -> dict[str, object]:
     return s
 
 
+def _background(b: Block, electrolyte: Electrolyte, declared: dict[str, Ion]) -> Electrolyte | None:
+    """The background salt of a mixture cell, which must share exactly one ion with the measured
+    salt; None for a cell of one electrolyte."""
+    f = b.header.get("background")
+    if f is None or not f.value:
+        return None
+    try:
+        bg = parse_formula(f.value, declared)
+    except ValueError as exc:
+        raise InputFileError(b.path, f.line, "background", str(exc)) from None
+    same_c, same_a = bg.cation.name == electrolyte.cation.name, bg.anion.name == electrolyte.anion.name
+    if same_c and same_a:
+        raise InputFileError(b.path, f.line, "background", f"{bg.name} is the measured salt itself")
+    if not (same_c or same_a):
+        raise InputFileError(b.path, f.line, "background", f"{bg.name} shares no ion with "
+                             f"{electrolyte.name}; the cell's electrodes respond to "
+                             f"{electrolyte.cation.name} and {electrolyte.anion.name}, so the "
+                             f"background must be a salt of one of them")
+    return bg
+
+
 def _isopiestic_settings(b: Block, declared: dict[str, Ion]) -> dict[str, object]:
     ref = b.require("reference")
     try:
@@ -214,8 +245,12 @@ def read_readings(path: str | Path, text: str | None = None) -> MeasurementSet:
     source = b.require("source")
     typed = b.typed(TYPED_FORMS)
 
+    background = None
     if kind == "emf":
         settings = _emf_settings(b)
+        background = _background(b, electrolyte, declared)
+        if background is not None:
+            settings["background"] = background.name
     elif kind == "isopiestic":
         settings = _isopiestic_settings(b, declared)
     elif kind == "electrode_calibration":
@@ -234,13 +269,14 @@ def read_readings(path: str | Path, text: str | None = None) -> MeasurementSet:
         settings = {"instrument": b.get("instrument", "") or ""}
 
     mf = b.header.get("method")
+    method_kind = "emf_mixture" if background is not None else kind
     name = mf.value if mf and mf.value else default_method(
-        kind, kind == "emf" and settings.get("e_standard") is not None)
+        method_kind, kind == "emf" and settings.get("e_standard") is not None)
     try:
-        method = method_for(kind, name)
+        method = method_for(method_kind, name)
     except UserError as exc:
         raise InputFileError(p, mf.line if mf else None, "method", str(exc)) from None
-    if method.name == "nernst-given-e0" and settings.get("e_standard") is None:
+    if method.name in ("nernst-given-e0", "nernst-mixture-given-e0") and settings.get("e_standard") is None:
         raise b.error("method", "nernst-given-e0 needs an e_standard value (in V or mV)")
 
     # -- the table -------------------------------------------------------------------------
@@ -259,6 +295,11 @@ def read_readings(path: str | Path, text: str | None = None) -> MeasurementSet:
     allowed_cols = {x_col, rcol, "u_molality", *u_cols}
     if kind == "electrode_calibration":
         allowed_cols.add("molality")
+    if background is not None:
+        if "background_molality" not in b.columns:
+            raise InputFileError(p, b.columns_line, None, "a cell with a background salt needs a "
+                                 f"'background_molality' column (found {', '.join(b.columns)})")
+        allowed_cols.add("background_molality")
     for c in b.columns:
         if c not in allowed_cols:
             raise InputFileError(p, b.columns_line, c, f"unknown column for {kind} readings "
@@ -280,15 +321,26 @@ def read_readings(path: str | Path, text: str | None = None) -> MeasurementSet:
     if not b.rows:
         raise InputFileError(p, b.columns_line, None, "the table has no rows")
 
-    xs, ms, ums, rs, urs, lines = [], [], [], [], [], []
-    seen: dict[float, int] = {}
+    xs, ms, ums, rs, urs, lines, bgs = [], [], [], [], [], [], []
+    seen: dict[float | tuple[float, float], int] = {}
     for n, row in b.rows:
         x = parse_float(p, n, x_col, row[x_col])
         if x <= 0:
             raise InputFileError(p, n, x_col, f"must be positive, found {row[x_col]}")
-        if x in seen:
-            raise InputFileError(p, n, x_col, f"duplicate {x_col} {row[x_col]} (also on line {seen[x]})")
-        seen[x] = n
+        if background is not None:
+            bg = parse_float(p, n, "background_molality", row["background_molality"])
+            if bg < 0:
+                raise InputFileError(p, n, "background_molality", f"must not be negative, found "
+                                     f"{row['background_molality']}")
+            bgs.append(bg)
+            if (x, bg) in seen:
+                raise InputFileError(p, n, x_col, f"duplicate composition {row[x_col]}, "
+                                     f"{row['background_molality']} (also on line {seen[x, bg]})")
+            seen[x, bg] = n
+        else:
+            if x in seen:
+                raise InputFileError(p, n, x_col, f"duplicate {x_col} {row[x_col]} (also on line {seen[x]})")
+            seen[x] = n
         m = x if x_col == "molality" else (
             parse_float(p, n, "molality", row["molality"]) if row.get("molality") else float("nan"))
         if not np.isnan(m) and m <= 0:
@@ -325,7 +377,11 @@ def read_readings(path: str | Path, text: str | None = None) -> MeasurementSet:
         urs.append(ur)
         lines.append(n)
 
-    order = np.argsort(np.array(xs))
+    if background is not None and settings.get("e_standard") is None and not any(v == 0 for v in bgs):
+        raise InputFileError(p, b.header["e_standard"].line if "e_standard" in b.header else None,
+                             "e_standard", "'extrapolate' needs readings of "
+                             f"{electrolyte.name} alone (background_molality 0); give E° instead")
+    order = np.lexsort((np.array(bgs), np.array(xs))) if background is not None else np.argsort(np.array(xs))
     take = lambda v: np.array(v, dtype=float)[order]
     key = b.get("id") or Path(p).name.removesuffix(".csv")
     activity = take(xs) if kind == "electrode_calibration" else np.full(len(xs), np.nan)
@@ -335,4 +391,5 @@ def read_readings(path: str | Path, text: str | None = None) -> MeasurementSet:
         note=b.get("note", "") or "", settings=settings, molality=take(ms), u_molality=take(ums),
         activity=activity, reading=take(rs), u_reading=take(urs), printed_unit=unit,
         lines=[lines[i] for i in order], declared_ions=declared, source_line=source.line,
+        background_molality=take(bgs) if background is not None else None,
     )

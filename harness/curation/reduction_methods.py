@@ -31,6 +31,15 @@ METHODS: dict[str, Method] = {m.name: m for m in (
     Method("nernst-extrapolated-e0", "1", "emf", "gamma_pm",
            "Nernst equation of a cell without liquid junction, standard EMF by extrapolation to "
            "infinite dilution with the extended Debye-Hückel form (Hitchcock)"),
+    # an emf file with a 'background' salt: gamma± of the measured salt in a mixture; the kind
+    # 'emf_mixture' keeps these out of the one-salt file's choices
+    Method("nernst-mixture-given-e0", "1", "emf_mixture", "ln_gamma_pm",
+           "Nernst equation of a cell without liquid junction in a mixture with a background salt "
+           "sharing one ion, standard EMF given"),
+    Method("nernst-mixture-extrapolated-e0", "1", "emf_mixture", "ln_gamma_pm",
+           "Nernst equation of a cell without liquid junction in a mixture with a background salt "
+           "sharing one ion, standard EMF extrapolated (Hitchcock) from the file's readings of the "
+           "measured salt alone"),
     Method("electrode-slope", "1", "electrode_calibration", None,
            "least-squares line E against log10 a; slope as a percentage of the Nernst slope"),
     Method("isopiestic-ratio", "1", "isopiestic", "osmotic",
@@ -49,6 +58,8 @@ DEFAULT_METHOD = {"electrode_calibration": "electrode-slope", "isopiestic": "iso
 def default_method(kind: str, e_standard_given: bool = False) -> str:
     if kind == "emf":
         return "nernst-given-e0" if e_standard_given else "nernst-extrapolated-e0"
+    if kind == "emf_mixture":
+        return "nernst-mixture-given-e0" if e_standard_given else "nernst-mixture-extrapolated-e0"
     return DEFAULT_METHOD[kind]
 
 

@@ -24,6 +24,7 @@ from saltbench.measurements.emf_cell import (
     extrapolate_standard_emf,
     gamma_from_emf,
 )
+from saltbench.measurements.emf_mixture import gamma_from_emf_mixture
 from saltbench.measurements.isopiestic import osmotic_from_isopiestic
 from saltbench.measurements.nernst import CALIBRATION_CAUTION, calibrate_electrode
 from saltbench.measurements.water_activity import (
@@ -47,6 +48,9 @@ class Reduction:
     details: dict[str, object] = field(default_factory=dict)  # JSON-able
     extrapolation: StandardEmf | None = None
     cautions: tuple[str, ...] = ()
+    # a mixture cell: the background salt's molality at each value (``molality`` is the measured
+    # salt's, ``value`` ln gamma± of it in the mixture, ``property`` 'ln_gamma_pm')
+    background_molality: np.ndarray | None = None
 
 
 def cell_of(ms: MeasurementSet) -> CellSpec:
@@ -59,6 +63,8 @@ def standard_emf_extrapolation(ms: MeasurementSet) -> StandardEmf:
     """E° of an EMF set by extrapolation over its readings up to ``extrapolation_up_to``."""
     if ms.kind != "emf":
         raise UserError(f"measurement set {ms.key} holds {ms.kind} readings, not cell EMFs")
+    if ms.background_molality is not None:
+        ms = _measured_salt_alone(ms)
     up_to = float(ms.settings.get("extrapolation_up_to") or 0.1)
     sel = ms.molality <= up_to * (1 + 1e-12)
     if sel.sum() < 4:
@@ -68,6 +74,59 @@ def standard_emf_extrapolation(ms: MeasurementSet) -> StandardEmf:
     return extrapolate_standard_emf(cell_of(ms), ms.molality[sel], ms.reading[sel],
                                     ms.temperature_k, u_emf=ms.u_reading[sel],
                                     ion_size=None if a is None else float(a))
+
+
+def _measured_salt_alone(ms: MeasurementSet) -> MeasurementSet:
+    """The readings of a mixture set with no background salt (background_molality 0)."""
+    from dataclasses import replace
+
+    assert ms.background_molality is not None
+    alone = ms.background_molality == 0
+    pick = lambda a: a[alone]
+    return replace(ms, molality=pick(ms.molality), u_molality=pick(ms.u_molality),
+                   activity=pick(ms.activity), reading=pick(ms.reading),
+                   u_reading=pick(ms.u_reading), lines=[n for n, a in zip(ms.lines, alone) if a],
+                   background_molality=None)
+
+
+def _emf_mixture(ms: MeasurementSet, method: Method) -> Reduction:
+    """ln gamma± of the measured salt in the mixture, eq. (2) of
+    :mod:`~saltbench.measurements.emf_mixture`; E° given, or extrapolated from the readings of the
+    measured salt alone."""
+    from saltbench.chemistry.electrolyte import parse_formula
+
+    assert ms.background_molality is not None
+    cell = cell_of(ms)
+    known = {**ms.declared_ions, ms.electrolyte.cation.formula: ms.electrolyte.cation,
+             ms.electrolyte.anion.formula: ms.electrolyte.anion}
+    background = parse_formula(str(ms.settings["background"]), known)
+    ext = None
+    if method.name == "nernst-mixture-given-e0":
+        e0 = ms.settings.get("e_standard")
+        if e0 is None:
+            raise UserError(f"measurement set {ms.key}: {method.name} needs e_standard in the file")
+        e0, u_e0 = float(e0), float(ms.settings.get("u_e_standard") or 0.0)
+        how = f"E° = {e0:.6f} V given (u = {u_e0:.2g} V)"
+    else:
+        if not np.any(ms.background_molality == 0):
+            raise UserError(f"measurement set {ms.key}: no readings of {ms.electrolyte.name} alone "
+                            "(background_molality 0) to extrapolate E° from; give e_standard")
+        ext = standard_emf_extrapolation(ms)
+        e0, u_e0 = ext.e_standard, ext.u_e_standard
+        how = (f"E° = {e0:.6f} V ± {u_e0:.2g} V extrapolated over {ext.molality.size} readings of "
+               f"{ms.electrolyte.name} alone up to {float(ext.molality.max()):g} mol/kg")
+    red = gamma_from_emf_mixture(cell, background, ms.molality, ms.background_molality, ms.reading,
+                                 e0, ms.temperature_k, u_emf=ms.u_reading, u_e_standard=u_e0,
+                                 u_molality=_u_molality(ms))
+    details: dict[str, object] = {"e_standard_v": e0, "u_e_standard_v": u_e0,
+                                  "u_ln_gamma_common": red.u_ln_gamma_common,
+                                  "cell": cell.description, "background": background.name}
+    if ext is not None:
+        details.update({"ion_size_angstrom": ext.ion_size, "slope_v_kg_per_mol": ext.slope,
+                        "residual_sd_v": ext.residual_sd, "chi2_reduced": ext.chi2_reduced})
+    return Reduction(method, "ln_gamma_pm", red.molality, red.ln_gamma_pm, red.u_ln_gamma_pm,
+                     f"{how}; background {background.name}, taken as exact; u(ln gamma±) includes "
+                     "the common u(E°)", details, ext, background_molality=ms.background_molality)
 
 
 def _u_molality(ms: MeasurementSet) -> np.ndarray:
@@ -136,7 +195,9 @@ def reduce_set(ms: MeasurementSet, method: str | None = None, *, reference=None,
                reference_osmotic: OsmoticFunction | None = None,
                reference_label: str = "") -> Reduction:
     """Reduce ``ms`` by ``method`` (default: the method the set names)."""
-    m = method_for(ms.kind, method or ms.method)
+    m = method_for(ms.method_kind, method or ms.method)
+    if ms.background_molality is not None:
+        return _emf_mixture(ms, m)
     if ms.kind == "emf":
         return _emf(ms, m)
     if ms.kind == "electrode_calibration":

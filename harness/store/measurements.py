@@ -114,10 +114,12 @@ def _write_set(store: Store, ms: MeasurementSet, report: IngestReport) -> None:
     def num(x: float) -> float | None:
         return None if not np.isfinite(x) else float(x)
 
+    bg = ms.background_molality
     store.db.table("readings").insert_all(
         {"set_id": pk, "seq": i, "molality": num(ms.molality[i]), "u_molality": num(ms.u_molality[i]),
          "activity": num(ms.activity[i]), col: float(ms.reading[i]),
-         "u_reading": float(ms.u_reading[i]), "printed_unit": ms.printed_unit, "line": ms.lines[i]}
+         "u_reading": float(ms.u_reading[i]), "printed_unit": ms.printed_unit, "line": ms.lines[i],
+         **({} if bg is None else {"background_molality": float(bg[i])})}
         for i in range(ms.reading.size))
 
 
@@ -146,13 +148,15 @@ def load_set(store: Store, key: str) -> MeasurementSet:
     (pk, key, kind, electrolyte, t, source, typed, method, version, note, settings, file) = row
     col = STORE_COLUMN[kind]
     rows = store.conn.execute(
-        f"SELECT molality, u_molality, activity, {col}, u_reading, printed_unit, line FROM readings "
-        "WHERE set_id = ? ORDER BY seq", (pk,)).fetchall()
+        f"SELECT molality, u_molality, activity, {col}, u_reading, printed_unit, line, "
+        "background_molality FROM readings WHERE set_id = ? ORDER BY seq", (pk,)).fetchall()
     arr = lambda i: np.array([np.nan if r[i] is None else r[i] for r in rows], dtype=float)
     e = queries.electrolyte(store, electrolyte)
+    settings_doc = json.loads(settings)
     return MeasurementSet(key, file, kind, e, float(t), source, typed, method, version, note,
-                          json.loads(settings), arr(0), arr(1), arr(2), arr(3), arr(4),
-                          rows[0][5] if rows else "", [r[6] for r in rows])
+                          settings_doc, arr(0), arr(1), arr(2), arr(3), arr(4),
+                          rows[0][5] if rows else "", [r[6] for r in rows],
+                          background_molality=arr(7) if settings_doc.get("background") else None)
 
 
 def all_keys(store: Store) -> list[str]:
@@ -173,10 +177,11 @@ def list_sets(store: Store) -> pd.DataFrame:
     SELECT m.key, m.kind, m.electrolyte, m.temperature_k, m.n_readings, m.source, m.method,
            m.method_version, m.from_memory, m.file, m.content_hash,
            r.method AS reduced_with, r.method_version AS reduced_version, r.input_hash,
-           d.key AS dataset
+           COALESCE(d.key, x.key) AS dataset
     FROM measurement_sets m
     LEFT JOIN reductions r ON r.set_id = m.id
     LEFT JOIN datasets d ON d.id = r.dataset_id
+    LEFT JOIN mixture_datasets x ON x.id = r.mixture_dataset_id
     ORDER BY m.electrolyte, m.kind, m.key
     """
     import pandas as pd
@@ -222,6 +227,9 @@ class ReducedValues:
     u_value: np.ndarray
     note: str
     details: dict[str, object]
+    # a mixture cell's reduction: the background salt's molality at each value (``molality`` is
+    # the measured salt's, ``value`` ln gamma± of it); the result is a mixture dataset
+    background_molality: np.ndarray | None = None
 
 
 def store_reduction(store: Store, ms: MeasurementSet, red: ReducedValues) -> str | None:
@@ -230,10 +238,16 @@ def store_reduction(store: Store, ms: MeasurementSet, red: ReducedValues) -> str
     h_in = store.conn.execute("SELECT content_hash FROM measurement_sets WHERE id = ?", (pk,)).fetchone()[0]
     result = json.dumps({"note": red.note, **red.details}, sort_keys=True, default=float)
     with store.transaction():
-        prev = store.conn.execute("SELECT id, dataset_id FROM reductions WHERE set_id = ?", (pk,)).fetchone()
-        dataset_id = None
+        prev = store.conn.execute("SELECT id, dataset_id, mixture_dataset_id FROM reductions "
+                                  "WHERE set_id = ?", (pk,)).fetchone()
+        dataset_id = mixture_id = None
         key = None
-        if red.property is not None:
+        if red.background_molality is not None:
+            if prev and prev[1] is not None:
+                store.conn.execute("DELETE FROM datasets WHERE id = ?", (prev[1],))
+            key = reduced_dataset_key(ms, "ln_gamma_pm")
+            mixture_id = _write_mixture_dataset(store, ms, red, key, prev[2] if prev else None)
+        elif red.property is not None:
             if not ms.source:
                 raise UserError(f"measurement set {ms.key} names no source; a reduced dataset must "
                                 "cite one (e.g. your lab notebook entry in a bibliography)")
@@ -241,9 +255,16 @@ def store_reduction(store: Store, ms: MeasurementSet, red: ReducedValues) -> str
             dataset_id = _write_dataset(store, ms, red, key, prev[1] if prev else None)
         elif prev and prev[1] is not None:
             store.conn.execute("DELETE FROM datasets WHERE id = ?", (prev[1],))
-        values = {"set_id": pk, "dataset_id": dataset_id, "method": red.method.name,
+        if red.background_molality is None and prev and prev[2] is not None:
+            store.conn.execute("DELETE FROM mixture_datasets WHERE id = ?", (prev[2],))
+        values = {"set_id": pk, "dataset_id": dataset_id, "mixture_dataset_id": mixture_id,
+                  "method": red.method.name,
                   "method_version": red.method.version, "input_hash": h_in,
                   "software_version": __version__, "result": result}
+        # a dataset deleted above takes its reductions row with it (ON DELETE CASCADE)
+        if prev is not None and store.conn.execute("SELECT 1 FROM reductions WHERE id = ?",
+                                                   (prev[0],)).fetchone() is None:
+            prev = None
         if prev is None:
             store.db.table("reductions").insert(values)
         else:
@@ -297,12 +318,63 @@ def _write_dataset(store: Store, ms: MeasurementSet, red: ReducedValues, key: st
     return dataset_id
 
 
+def _write_mixture_dataset(store: Store, ms: MeasurementSet, red: ReducedValues, key: str,
+                           previous_id: int | None) -> int:
+    """The reduction of a mixture cell as a mixture dataset: property ln_gamma_pm of the measured
+    salt in the system '<salt> + <background>', one point per reading, written as ingest writes
+    a mixture file (the same checks), inside the caller's transaction."""
+    from saltbench.chemistry.electrolyte import parse_formula as formula
+    from saltbench.curation.mixtures import MixtureDataset, system_ions, system_name
+    from saltbench.store.ingest import IngestReport
+    from saltbench.store.mixtures import write_mixture
+
+    assert red.background_molality is not None
+    if not ms.source:
+        raise UserError(f"measurement set {ms.key} names no source; a reduced dataset must cite one")
+    if np.any(red.u_value <= 0) or np.any(~np.isfinite(red.value)):
+        raise UserError(f"measurement set {ms.key}: the reduction gave a non-finite value or a zero "
+                        "uncertainty; check the readings and their uncertainties")
+    row = store.conn.execute("SELECT id FROM mixture_datasets WHERE origin = 'user' AND key = ?",
+                             (key,)).fetchone()
+    if row is not None and row[0] != previous_id:
+        raise UserError(f"a user mixture dataset with id {key!r} already exists and was not reduced "
+                        f"from measurement set {ms.key}; rename one of them")
+    known_ions = {**ms.declared_ions, ms.electrolyte.cation.formula: ms.electrolyte.cation,
+                  ms.electrolyte.anion.formula: ms.electrolyte.anion}
+    background = formula(str(ms.settings["background"]), known_ions)
+    salts = (ms.electrolyte, background)
+    ions = system_ions(salts)
+    amounts = np.column_stack([red.molality, red.background_molality])
+    molality = np.zeros((amounts.shape[0], len(ions)))
+    for j, salt in enumerate(salts):
+        for ion, nu in ((salt.cation, salt.nu_cation), (salt.anion, salt.nu_anion)):
+            molality[:, [i.formula for i in ions].index(ion.formula)] += nu * amounts[:, j]
+    value = np.asarray(red.value, dtype=float)
+    u = np.asarray(red.u_value, dtype=float)
+    md = MixtureDataset(
+        key=key, path=ms.path, system=system_name(salts), salts=salts, property="ln_gamma_pm",
+        salt=ms.electrolyte.name, temperature_k=ms.temperature_k, source=str(ms.source),
+        source_line=ms.source_line or 0, table=f"reduced from measurement set {ms.key}",
+        uncertainty=None, typed=_typed_for_dataset(ms, red.method),
+        note=f"reduction: {red.method.name} v{red.method.version} ({red.method.description}); {red.note}",
+        columns=(ms.electrolyte.name, background.name), amounts=amounts, ions=ions,
+        molality=molality, value_printed=value, u_printed=u, value=value, u_value=u,
+        lines=list(ms.lines))
+    known = {r[0] for r in store.conn.execute("SELECT key FROM sources")}
+    write_mixture(store, md, "user", PROVIDER, known, IngestReport())
+    got = store.conn.execute("SELECT id FROM mixture_datasets WHERE origin = 'user' AND key = ?",
+                             (key,)).fetchone()
+    return int(got[0])
+
+
 def reduction_of(store: Store, key: str) -> dict | None:
     """The stored reduction of set ``key``: method, version, dataset key and result details."""
     row = store.conn.execute(
-        "SELECT r.method, r.method_version, r.input_hash, r.software_version, r.result, d.key, "
-        "m.content_hash FROM reductions r JOIN measurement_sets m ON m.id = r.set_id "
-        "LEFT JOIN datasets d ON d.id = r.dataset_id WHERE m.key = ?", (key,)).fetchone()
+        "SELECT r.method, r.method_version, r.input_hash, r.software_version, r.result, "
+        "COALESCE(d.key, x.key), m.content_hash FROM reductions r "
+        "JOIN measurement_sets m ON m.id = r.set_id LEFT JOIN datasets d ON d.id = r.dataset_id "
+        "LEFT JOIN mixture_datasets x ON x.id = r.mixture_dataset_id WHERE m.key = ?",
+        (key,)).fetchone()
     if row is None:
         return None
     return {"method": row[0], "method_version": row[1], "software_version": row[3],

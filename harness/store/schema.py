@@ -231,6 +231,14 @@ CREATE TABLE mixture_point_ions (
     FOREIGN KEY (dataset_id, seq) REFERENCES mixture_points(dataset_id, seq) ON DELETE CASCADE
 )
 """),
+    # EMF readings of one salt in a background salt (H2 | HCl(m1), NaCl(m2) | AgCl | Ag): the
+    # background's molality per reading, and the mixture dataset such a set reduces to.
+    ("0006_mixture_readings", """
+ALTER TABLE readings ADD COLUMN background_molality REAL
+    CHECK (background_molality IS NULL OR background_molality >= 0);
+ALTER TABLE reductions ADD COLUMN mixture_dataset_id INTEGER
+    REFERENCES mixture_datasets(id) ON DELETE CASCADE
+"""),
 ]
 
 SCHEMA_VERSION = len(MIGRATIONS)
