@@ -34,7 +34,7 @@ import numpy as np
 from saltbench.chemistry.electrolyte import neutral_salt
 from saltbench.errors import ModelDomainError, ModelError, UserError
 from saltbench.fitting.mixture_data import MixtureData
-from saltbench.fitting.problem import GlobalParameter
+from saltbench.fitting.problem import GlobalParameter, parameter_layout
 from saltbench.models.contract import Computed, Conditions, Parameter, ParameterKey, Request, SolutionModel
 from saltbench.models.evaluate import compute
 from saltbench.water.debye_huckel import DebyeHuckel
@@ -56,19 +56,8 @@ class MixtureProblem:
         self.conditions = conditions
         self.keys = list(keys)
         self.params = params
-        free = [i for i, p in enumerate(params) if p.free]
-        linear = [i for i in free if params[i].linear]
-        self.names = [p.name for p in params]
-        self.theta0 = np.array([p.value for p in params], dtype=float)
-        self.free = np.array(free, dtype=int)
-        self.linear = np.array(linear, dtype=int)
-        self.nonlinear = np.array([i for i in free if not params[i].linear], dtype=int)
-        self.lower = np.array([p.lower for p in params], dtype=float)
-        self.upper = np.array([p.upper for p in params], dtype=float)
-        self.linear_lower = np.array([params[i].lower for i in linear], dtype=float)
-        self.linear_upper = np.array([params[i].upper for i in linear], dtype=float)
-        self.linear_bounded = any(math.isfinite(params[i].lower)
-                                  or math.isfinite(params[i].upper) for i in linear)
+        (self.names, self.theta0, self.free, self.linear, self.nonlinear, self.lower, self.upper,
+         self.linear_lower, self.linear_upper, self.linear_bounded) = parameter_layout(params)
         self.obs = data.value
         self.sigma = np.asarray(data.uncertainty, dtype=float)
         self.molality = data.ionic_strength  # the scan coordinate (see the module docstring)

@@ -58,6 +58,37 @@ class GlobalParameter(NamedTuple):
     value: float  # start value if free, held value if not
 
 
+class ParameterLayout(NamedTuple):
+    """The arrays a solver reads off a parameter list: names, start values, which are free and
+    of those which enter linearly, and the bounds (all, and of the free linear ones)."""
+
+    names: list[str]
+    theta0: np.ndarray
+    free: np.ndarray
+    linear: np.ndarray
+    nonlinear: np.ndarray
+    lower: np.ndarray
+    upper: np.ndarray
+    linear_lower: np.ndarray
+    linear_upper: np.ndarray
+    linear_bounded: bool
+
+
+def parameter_layout(params: Sequence[GlobalParameter]) -> ParameterLayout:
+    """The :class:`ParameterLayout` of ``params`` (one-salt and mixture problems alike)."""
+    # Plain lists first: these are a handful of entries, where numpy costs more per call.
+    free = [i for i, p in enumerate(params) if p.free]
+    linear = [i for i in free if params[i].linear]
+    return ParameterLayout(
+        [p.name for p in params], np.array([p.value for p in params], dtype=float),
+        np.array(free, dtype=int), np.array(linear, dtype=int),
+        np.array([i for i in free if not params[i].linear], dtype=int),
+        np.array([p.lower for p in params], dtype=float), np.array([p.upper for p in params], dtype=float),
+        np.array([params[i].lower for i in linear], dtype=float),
+        np.array([params[i].upper for i in linear], dtype=float),
+        any(math.isfinite(params[i].lower) or math.isfinite(params[i].upper) for i in linear))
+
+
 class _Jacobian(NamedTuple):
     """A model's derivatives on a block's ``union`` at one parameter vector."""
 
@@ -132,20 +163,8 @@ class FitProblem:
         model = self.model = salt_view(model)
         self.blocks = blocks
         self.params = params
-        # Plain lists first: these are a handful of entries, where numpy costs more per call.
-        free = [i for i, p in enumerate(params) if p.free]
-        linear = [i for i in free if params[i].linear]
-        self.names = [p.name for p in params]
-        self.theta0 = np.array([p.value for p in params], dtype=float)
-        self.free = np.array(free, dtype=int)
-        self.linear = np.array(linear, dtype=int)
-        self.nonlinear = np.array([i for i in free if not params[i].linear], dtype=int)
-        self.lower = np.array([p.lower for p in params], dtype=float)
-        self.upper = np.array([p.upper for p in params], dtype=float)
-        self.linear_lower = np.array([params[i].lower for i in linear], dtype=float)
-        self.linear_upper = np.array([params[i].upper for i in linear], dtype=float)
-        self.linear_bounded = any(math.isfinite(params[i].lower)
-                                  or math.isfinite(params[i].upper) for i in linear)
+        (self.names, self.theta0, self.free, self.linear, self.nonlinear, self.lower, self.upper,
+         self.linear_lower, self.linear_upper, self.linear_bounded) = parameter_layout(params)
         if len(blocks) == 1:
             d = blocks[0].data
             self.obs, self.sigma, self.molality = d.value, d.uncertainty, d.molality
