@@ -996,14 +996,19 @@ def predict_solution(session: Session, spec: str, model_ids: Sequence[str] = ("a
     assessment = assess_solution(composition, models, solution_lookup(session, list(sets), used),
                                  missing=missing,  # type: ignore[arg-type]
                                  minerals=table)
+    return SolutionPrediction(record, f, assessment, *_sets_used(session, used))
+
+
+def _sets_used(session: Session, used: dict) -> tuple[dict[str, str], list[str]]:
+    """For the sets a solution lookup used (set id -> SetInfo): each one's citation, and the ids
+    of those typed from memory."""
     from saltbench.store import parameter_sets as ps
 
     citations = {}
     for set_id in used:
         doc = ps.load_set(session.store, set_id) or {}
         citations[set_id] = str(doc.get("citation") or doc.get("source") or "")
-    return SolutionPrediction(record, f, assessment, citations,
-                              [s for s, info in used.items() if info.from_memory])
+    return citations, [s for s, info in used.items() if info.from_memory]
 
 
 @dataclass
@@ -1028,7 +1033,6 @@ def solubility(session: Session, mineral: str, model_ids: Sequence[str] = ("all"
     from saltbench.chemistry.solution import Composition
     from saltbench.comparison.solubility import saturation_molality
     from saltbench.curation.minerals import bundled_minerals
-    from saltbench.store import parameter_sets as ps
 
     table = bundled_minerals()
     target = table.find(mineral)
@@ -1041,23 +1045,18 @@ def solubility(session: Session, mineral: str, model_ids: Sequence[str] = ("all"
         # pure water: the mineral's own ions at zero
         background = Composition((first_ion,), np.zeros((1, 1)),
                                  np.array([temperature_k or target.temperature_k]))
-    probe = Composition(tuple(dict.fromkeys([*background.ions, *(i for i, _ in target.ions)])),
-                        np.ones((1, len(set([*background.ions, *(i for i, _ in target.ions)])))),
-                        background.temperature_k[:1])
+    # the models that take the background with the mineral's ions in it
+    ions = tuple(dict.fromkeys([*background.ions, *(i for i, _ in target.ions)]))
+    probe = Composition(ions, np.ones((1, len(ions))), background.temperature_k[:1])
     models = [m for m in _models_for(session, model_ids, probe)
               if list(model_ids) not in ([], ["all"]) or "ln_gamma" in m.computes]
     used: dict = {}
     lookup = solution_lookup(session, list(sets), used)
     results = [saturation_molality(m, background, target, lookup, missing=missing) for m in models]
-    citations = {}
-    for set_id in used:
-        doc = ps.load_set(session.store, set_id) or {}
-        citations[set_id] = str(doc.get("citation") or doc.get("source") or "")
     cautions = [SCALING_CAUTION] + ([NO_SPECIATION] if target.pairs_strongly else [])
     if record is not None:
         cautions += list(record.cautions)
-    return SolubilityRun(target, record, results, citations,
-                         [s for s, info in used.items() if info.from_memory], tuple(cautions))
+    return SolubilityRun(target, record, results, *_sets_used(session, used), tuple(cautions))
 
 # -- mixture datasets (issue 19, item 3) ------------------------------------------------------
 def mixture_datasets(session: Session, system: str | None = None):

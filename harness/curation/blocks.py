@@ -209,3 +209,27 @@ def parse_float(path: str, line: int | None, field_name: str, text: str) -> floa
     if value != value or value in (float("inf"), float("-inf")):
         raise InputFileError(path, line, field_name, f"not a finite number: {text!r}")
     return value
+
+
+def row_uncertainty(path: str, line: int, columns: list[str], row: dict[str, str],
+                    default: float | None) -> float:
+    """A row's standard uncertainty: its ``uncertainty`` cell when the table has one and it is
+    filled, else the header's ``default``; positive, or a FILE:LINE: field error."""
+    u = default
+    if "uncertainty" in columns and row["uncertainty"]:
+        u = parse_float(path, line, "uncertainty", row["uncertainty"])
+        if u <= 0:
+            raise InputFileError(path, line, "uncertainty", "must be positive")
+    if u is None:
+        raise InputFileError(path, line, "uncertainty", "empty, and no dataset uncertainty in the header")
+    return u
+
+
+def header_uncertainty(b: Block) -> float | None:
+    """The header's ``uncertainty`` (one for every row without its own), positive, or None."""
+    if not b.get("uncertainty"):
+        return None
+    u = parse_float(b.path, b.header["uncertainty"].line, "uncertainty", b.get("uncertainty") or "")
+    if u <= 0:
+        raise b.error("uncertainty", "must be positive")
+    return u

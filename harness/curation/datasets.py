@@ -18,7 +18,14 @@ import numpy as np
 from saltbench.chemistry.electrolyte import Electrolyte
 from saltbench.chemistry.ions import KNOWN_IONS, Ion, formula_mass
 from saltbench.curation import units
-from saltbench.curation.blocks import TYPED_FROM_SOURCE, Block, parse_block, parse_float
+from saltbench.curation.blocks import (
+    TYPED_FROM_SOURCE,
+    Block,
+    header_uncertainty,
+    parse_block,
+    parse_float,
+    row_uncertainty,
+)
 from saltbench.errors import InputFileError
 from saltbench.water.properties import water_state
 
@@ -163,11 +170,7 @@ def read_dataset(path: str | Path, text: str | None = None) -> Dataset:
     precision = parse_float(p, b.require("precision").line, "precision", b.get("precision") or "")
     if precision <= 0:
         raise b.error("precision", "must be positive (one unit of the last printed digit)")
-    uncertainty = None
-    if b.get("uncertainty"):
-        uncertainty = parse_float(p, b.header["uncertainty"].line, "uncertainty", b.get("uncertainty") or "")
-        if uncertainty <= 0:
-            raise b.error("uncertainty", "must be positive")
+    uncertainty = header_uncertainty(b)
     typed = b.typed(TYPED_FORMS)
 
     x_col = {"molality": "molality", "molarity": "molarity", "mole_fraction": "mole_fraction"}[scale]
@@ -207,13 +210,7 @@ def read_dataset(path: str | Path, text: str | None = None) -> Dataset:
                 raise InputFileError(p, n, "value", f"{prop.value} must be positive, found {row['value']}")
             if prop.value == "water_activity" and not (0 < v <= 1):
                 raise InputFileError(p, n, "value", f"water activity must lie in (0, 1], found {row['value']}")
-        u = uncertainty
-        if "uncertainty" in b.columns and row["uncertainty"]:
-            u = parse_float(p, n, "uncertainty", row["uncertainty"])
-            if u <= 0:
-                raise InputFileError(p, n, "uncertainty", "must be positive")
-        if u is None:
-            raise InputFileError(p, n, "uncertainty", "empty, and no dataset uncertainty in the header")
+        u = row_uncertainty(p, n, b.columns, row, uncertainty)
         prec = precision
         if "precision" in b.columns and row["precision"]:
             prec = parse_float(p, n, "precision", row["precision"])

@@ -25,7 +25,14 @@ from saltbench.chemistry.electrolyte import Electrolyte, parse_formula
 from saltbench.chemistry.ions import Ion
 from saltbench.chemistry.solution import Composition
 from saltbench.chemistry.species import parse_species
-from saltbench.curation.blocks import TYPED_FROM_SOURCE, Block, parse_block, parse_float
+from saltbench.curation.blocks import (
+    TYPED_FROM_SOURCE,
+    Block,
+    header_uncertainty,
+    parse_block,
+    parse_float,
+    row_uncertainty,
+)
 from saltbench.curation.mixture_points import LN_GAMMA_PM, OSMOTIC, WATER_ACTIVITY, MixturePoints
 from saltbench.errors import InputFileError
 
@@ -267,11 +274,7 @@ def read_mixture(path: str | Path, text: str | None = None) -> MixtureDataset:
     temperature_k = b.temperature_k()
     source = b.require("source")
     table = b.require("table").value
-    uncertainty = None
-    if b.get("uncertainty"):
-        uncertainty = parse_float(p, b.header["uncertainty"].line, "uncertainty", b.get("uncertainty") or "")
-        if uncertainty <= 0:
-            raise b.error("uncertainty", "must be positive")
+    uncertainty = header_uncertainty(b)
     typed = b.typed(TYPED_FORMS)
     keys, species, matrix = _amount_columns(b, salts)
     if uncertainty is None and "uncertainty" not in b.columns:
@@ -307,13 +310,7 @@ def read_mixture(path: str | Path, text: str | None = None) -> MixtureDataset:
         seen[sig] = n
         v = parse_float(p, n, "value", row["value"])
         _check_value(p, n, kind, v, row["value"])
-        u = uncertainty
-        if "uncertainty" in b.columns and row["uncertainty"]:
-            u = parse_float(p, n, "uncertainty", row["uncertainty"])
-            if u <= 0:
-                raise InputFileError(p, n, "uncertainty", "must be positive")
-        if u is None:
-            raise InputFileError(p, n, "uncertainty", "empty, and no dataset uncertainty in the header")
+        u = row_uncertainty(p, n, b.columns, row, uncertainty)
         amounts.append(a)
         values.append(v)
         us.append(u)

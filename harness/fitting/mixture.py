@@ -17,7 +17,6 @@ scan coordinate). Likewise ``CrossValidation.molality`` and the trial limits of 
 
 from __future__ import annotations
 
-import math
 from collections.abc import Iterable, Mapping
 from dataclasses import dataclass, field
 from typing import Any, Literal
@@ -28,7 +27,7 @@ from saltbench.fitting.least_squares import solve
 from saltbench.fitting.mixture_data import MixtureData
 from saltbench.fitting.mixture_problem import KeyLike, build_mixture_problem
 from saltbench.fitting.result import FitResult, build_result
-from saltbench.fitting.validity import limit_reason, scan, tolerances
+from saltbench.fitting.validity import json_number, json_trials, limit_reason, scan, tolerances
 from saltbench.models.contract import SolutionModel
 from saltbench.water.debye_huckel import DebyeHuckel
 
@@ -85,17 +84,13 @@ class MixtureValidityRange:
     trials: list[dict[str, Any]] = field(default_factory=list, repr=False)
 
     def to_dict(self) -> dict[str, Any]:
-        def num(x: float | None) -> float | None:
-            return None if x is None or not math.isfinite(x) else float(x)
-
+        num = json_number
         return {"max_ionic_strength": num(self.max_ionic_strength),
                 "limited_by": self.limited_by,
                 "first_failing_ionic_strength": num(self.first_failing_ionic_strength),
                 "tolerance": dict(self.tolerance), "mode": self.mode,
                 "highest_data_ionic_strength": num(self.highest_data_ionic_strength),
-                "flags": texts(self.flags),
-                "trials": [{k: (num(v) if isinstance(v, float) else v) for k, v in t.items()}
-                           for t in self.trials]}
+                "flags": texts(self.flags), "trials": json_trials(self.trials)}
 
 
 def mixture_validity(model: SolutionModel, data: MixtureData, *,

@@ -71,6 +71,16 @@ def sparse_stretches(molality: np.ndarray) -> list[tuple[float, float]]:
     return out
 
 
+def json_number(x: float | None) -> float | None:
+    """A float for JSON: None for a missing or non-finite value."""
+    return None if x is None or not math.isfinite(x) else float(x)
+
+
+def json_trials(trials: list[dict[str, Any]]) -> list[dict[str, Any]]:
+    """A validity scan's trials for JSON, their non-finite floats as None."""
+    return [{k: (json_number(v) if isinstance(v, float) else v) for k, v in t.items()} for t in trials]
+
+
 @dataclass(frozen=True)
 class ValidityRange:
     max_molality: float | None  # mol/kg; None when no point is valid
@@ -84,18 +94,14 @@ class ValidityRange:
     trials: list[dict[str, Any]] = field(default_factory=list, repr=False)
 
     def to_dict(self) -> dict[str, Any]:
-        def num(x: float | None) -> float | None:
-            return None if x is None or not math.isfinite(x) else float(x)
-
+        num = json_number
         return {"max_molality": num(self.max_molality),
                 "max_ionic_strength": num(self.max_ionic_strength),
                 "limited_by": self.limited_by,
                 "first_failing_molality": num(self.first_failing_molality),
                 "tolerance": dict(self.tolerance), "mode": self.mode,
                 "highest_data_molality": num(self.highest_data_molality),
-                "flags": texts(self.flags),
-                "trials": [{k: (num(v) if isinstance(v, float) else v) for k, v in t.items()}
-                           for t in self.trials]}
+                "flags": texts(self.flags), "trials": json_trials(self.trials)}
 
 
 Tolerance = Mapping[str, float]  # by fitted property (saltbench.fitting.properties)

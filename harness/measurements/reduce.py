@@ -102,11 +102,7 @@ def _emf_mixture(ms: MeasurementSet, method: Method) -> Reduction:
     background = parse_formula(str(ms.settings["background"]), known)
     ext = None
     if method.name == "nernst-mixture-given-e0":
-        e0 = ms.settings.get("e_standard")
-        if e0 is None:
-            raise UserError(f"measurement set {ms.key}: {method.name} needs e_standard in the file")
-        e0, u_e0 = float(e0), float(ms.settings.get("u_e_standard") or 0.0)
-        how = f"E° = {e0:.6f} V given (u = {u_e0:.2g} V)"
+        e0, u_e0, how = _given_e0(ms, method)
     else:
         if not np.any(ms.background_molality == 0):
             raise UserError(f"measurement set {ms.key}: no readings of {ms.electrolyte.name} alone "
@@ -129,6 +125,15 @@ def _emf_mixture(ms: MeasurementSet, method: Method) -> Reduction:
                      "the common u(E°)", details, ext, background_molality=ms.background_molality)
 
 
+def _given_e0(ms: MeasurementSet, method: Method) -> tuple[float, float, str]:
+    """E° and its uncertainty as the readings file gives them, and how to say so."""
+    e0 = ms.settings.get("e_standard")
+    if e0 is None:
+        raise UserError(f"measurement set {ms.key}: {method.name} needs e_standard in the file")
+    e0, u_e0 = float(e0), float(ms.settings.get("u_e_standard") or 0.0)
+    return e0, u_e0, f"E° = {e0:.6f} V given (u = {u_e0:.2g} V)"
+
+
 def _u_molality(ms: MeasurementSet) -> np.ndarray:
     return np.nan_to_num(ms.u_molality, nan=0.0)
 
@@ -137,11 +142,7 @@ def _emf(ms: MeasurementSet, method: Method) -> Reduction:
     cell = cell_of(ms)
     ext = None
     if method.name == "nernst-given-e0":
-        e0 = ms.settings.get("e_standard")
-        if e0 is None:
-            raise UserError(f"measurement set {ms.key}: nernst-given-e0 needs e_standard in the file")
-        e0, u_e0 = float(e0), float(ms.settings.get("u_e_standard") or 0.0)
-        how = f"E° = {e0:.6f} V given (u = {u_e0:.2g} V)"
+        e0, u_e0, how = _given_e0(ms, method)
     else:
         ext = standard_emf_extrapolation(ms)
         e0, u_e0 = ext.e_standard, ext.u_e_standard
