@@ -1128,6 +1128,7 @@ def mixture_data(session: Session, key_or_system: str, *, on: Sequence[str] = ()
     from saltbench.chemistry.solution import Composition
     from saltbench.curation.mixture_points import select_mixture_points
     from saltbench.fitting import MixtureData
+    from saltbench.models.quantities import Quantity
 
     parts = select_mixture_points(mixture_points(session, key_or_system), key_or_system,
                                   on=tuple(on), datasets=tuple(datasets))
@@ -1144,7 +1145,7 @@ def mixture_data(session: Session, key_or_system: str, *, on: Sequence[str] = ()
             m[:, names.index(name)] = p.composition.molality[:, j]
         rows.append(m)
         temps.append(np.full(p.n, p.temperature_k))
-        quantities += [p.quantity] * p.n
+        quantities += [Quantity(*p.quantity)] * p.n
         values.append(p.values)
         uncs.append(p.uncertainties)
         labels += [p.key] * p.n
