@@ -49,7 +49,8 @@ def a_phi_of_state(w: WaterState) -> float:
     """A_phi of the module docstring for one water state."""
     from scipy import constants as c
 
-    bjerrum = c.e**2 / (4.0 * math.pi * c.epsilon_0 * w.permittivity * c.k * w.temperature_k)
+    kt = c.k * w.temperature_k
+    bjerrum = c.e**2 / (4.0 * math.pi * c.epsilon_0 * w.permittivity * kt)
     return (1.0 / 3.0) * math.sqrt(2.0 * math.pi * c.N_A * w.density) * bjerrum**1.5
 
 
