@@ -1553,6 +1553,9 @@ def electrode_samples(session: Session, cal: ElectrodeCalibration, *,
     others: dict[str, Any] = {}
     out = []
     for row in es.of_role("sample"):
+        if row.ionic_strength is not None:
+            out.append(_sample_at_ionic_strength(session, cal, row, extra, candidates, others))
+            continue
         notes: list[str] = []
         salts, act = _row_activity(session, es, row, cal.convention, cal.model_id, (), "error")
         levels = {j.name: _activity_of(act.result, j.name) for j in es.interferents} if act else {}
@@ -1590,6 +1593,73 @@ def electrode_samples(session: Session, cal: ElectrodeCalibration, *,
         out.append(ElectrodeSample(row.line, row.label, [(e.name, m_) for e, m_ in salts], levels,
                                    res, conc, i_s, notes))
     return out
+
+
+#: Conventions whose gamma_i depends only on the ionic strength and the ion itself, so that a
+#: sample known only by its ionic strength can be put on them.
+IONIC_STRENGTH_ONLY = ("davies", "debye-huckel", "extended-debye-huckel", "truesdell-jones",
+                       "bates-guggenheim")
+
+
+def _gamma_at_ionic_strength(session: Session, es, ionic_strength: float, temperature_k: float,
+                             convention: str) -> float:
+    """gamma_i of the primary ion at ``ionic_strength`` under a convention that depends on I alone
+    (evaluated in a solution of the primary salt at that ionic strength)."""
+    from saltbench.errors import UserError
+
+    if convention not in IONIC_STRENGTH_ONLY:
+        raise UserError(f"the {convention} convention needs the sample's salts, not its ionic "
+                        f"strength alone (conventions of I alone: {', '.join(IONIC_STRENGTH_ONLY)})")
+    salt = es.primary_salt
+    x = ionic_strength / float(salt.ionic_strength(1.0))
+    act = ion_activity(session, [(salt, x)], convention, temperature_k)
+    return float(np.asarray(act.result.gamma(es.ion.name)).reshape(-1)[0])
+
+
+def _sample_at_ionic_strength(session: Session, cal: ElectrodeCalibration, row, extra, candidates,
+                              others) -> ElectrodeSample:
+    """A sample known only by its ionic strength: its activity (interferents uncorrected) and
+    m_i = a_i / gamma_i(I) on each convention of I alone."""
+    from saltbench.errors import SaltbenchError
+    from saltbench.measurements.electrode_sample import combine, sample_activity
+
+    es = cal.set
+    notes = ["known by its ionic strength only"]
+    if es.interferents:
+        notes.append("its interferent levels are not known: their interference is not corrected")
+    res = sample_activity(cal.fit, row.emf, row.u_emf, selectivity=extra,
+                          temperature_k=row.temperature_k, u_temperature_k=es.u_temperature_k)
+    conc = None
+    if res.activity is not None:
+        try:
+            gamma = _gamma_at_ionic_strength(session, es, row.ionic_strength, row.temperature_k,
+                                             cal.convention)
+        except SaltbenchError as exc:
+            notes.append(str(exc))
+        else:
+            by_model = {cal.convention_label: res.activity / gamma}
+            refused: dict[str, str] = {}
+            for c in candidates:
+                if c == cal.convention:
+                    continue
+                try:
+                    if c not in others:
+                        others[c] = electrode_calibrate(session, es, c)
+                    rc = sample_activity(others[c].fit, row.emf, row.u_emf, selectivity=extra,
+                                         temperature_k=row.temperature_k)
+                    if rc.activity is None:
+                        refused[c] = "no activity on this calibration"
+                        continue
+                    by_model[others[c].convention_label] = rc.activity / _gamma_at_ionic_strength(
+                        session, es, row.ionic_strength, row.temperature_k, c)
+                except SaltbenchError as exc:
+                    refused[c] = str(exc)
+            conc = combine(res, res.activity / gamma, gamma, by_model, refused)
+            salt = es.primary_salt
+            nu = salt.nu_cation if es.ion.name == salt.cation.name else salt.nu_anion
+            if conc.molality / nu * float(salt.ionic_strength(1.0)) > row.ionic_strength:
+                notes.append("the primary salt alone would exceed the stated ionic strength")
+    return ElectrodeSample(row.line, row.label, [], {}, res, conc, row.ionic_strength, notes)
 
 
 @dataclass

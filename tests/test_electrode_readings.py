@@ -221,3 +221,32 @@ def test_samples_with_budget_and_flags(run_cli, seeded_store):
     # the fen pool sample holds more chloride interference than nitrate: flagged
     assert any("Cl- contributes" in f for f in doc["samples"][2]["flags"])
     assert any("Numerical reduction only" in c for c in doc["cautions"])
+
+
+def test_sample_known_by_its_ionic_strength(tmp_path, seeded_store):
+    # Davies' gamma_i depends on I and z_i alone (Davies, Ion Association, 1962): a sample given
+    # by its ionic strength gets m_i = a_i / gamma_i(I), gamma_i as 'ion-activity' gives it for
+    # NaNO3 at that ionic strength; SIT depends on the counter-ions and is refused.
+    from saltbench.api import Session, electrode_calibrate, electrode_samples, ion_activity, parse_salts
+
+    rows = ("standard,,NaNO3=1e-4,,420.1\nstandard,,NaNO3=1e-3,,363.0\nstandard,,NaNO3=1e-2,,306.2\n"
+            "sample,s1,,0.125,400.0\n")
+    path = _file(tmp_path, rows, HEAD.replace("role,label,solution,emf_mv",
+                                              "role,label,solution,ionic_strength,emf_mv"))
+    s = Session(seeded_store)
+    cal = electrode_calibrate(s, str(path), "davies")
+    (sample,) = electrode_samples(s, cal, candidates=("davies", "sit"))
+    gamma = ion_activity(s, parse_salts(s, ["NaNO3=0.125"]), "davies").result.gamma("NO3-")
+    assert sample.concentration.gamma == pytest.approx(float(gamma), rel=1e-12)
+    assert sample.concentration.molality == pytest.approx(sample.activity.activity / float(gamma), rel=1e-12)
+    assert "needs the sample's salts" in sample.concentration.refused["sit"]
+    assert any("interference is not corrected" in n for n in sample.notes)
+
+
+def test_ionic_strength_only_on_samples_without_salts(tmp_path):
+    head = HEAD.replace("role,label,solution,emf_mv", "role,label,solution,ionic_strength,emf_mv")
+    rows = "".join(r.rsplit(",", 1)[0] + ",0.1," + r.rsplit(",", 1)[1] + "\n" for r in GOOD_ROWS.splitlines())
+    path = _file(tmp_path, rows, head)
+    with pytest.raises(InputFileError) as err:
+        read_electrode_readings(path)
+    assert str(err.value).startswith(f"{path}:13: field 'ionic_strength': only a sample whose salts")

@@ -67,7 +67,8 @@ class ElectrodeRow:
     temperature_k: float
     ph: float | None = None  # a buffer's certificate value
     u_ph: float | None = None
-    ionic_strength: float | None = None  # a buffer's, from its certificate (mol/kg)
+    # a buffer's, from its certificate, or a sample's as measured (adjuster included), mol/kg
+    ionic_strength: float | None = None
 
 
 @dataclass(frozen=True)
@@ -234,7 +235,7 @@ def read_electrode_readings(path: str | Path, text: str | None = None) -> Electr
     u_col = f"u_{ecol}"
     wanted = {"role", ecol}
     allowed = wanted | {u_col, "label", "temperature"} | (
-        {"solution"} if kind == "electrode" else {"ph", "u_ph", "ionic_strength"})
+        {"solution", "ionic_strength"} if kind == "electrode" else {"ph", "u_ph", "ionic_strength"})
     for c in b.columns:
         if c not in allowed:
             raise InputFileError(p, b.columns_line, c, f"unknown column for {kind} readings "
@@ -285,7 +286,15 @@ def read_electrode_readings(path: str | Path, text: str | None = None) -> Electr
             if role == "separate" and not any(_has_ion(salts, i) for i in interferents):
                 raise InputFileError(p, n, "solution", "a separate solution must hold one of the "
                                      "interferents named in the header")
-            rows.append(ElectrodeRow(n, role, label, salts, emf, float(u), t_row))
+            i_s = None
+            if row.get("ionic_strength"):
+                if role != "sample" or salts:
+                    raise InputFileError(p, n, "ionic_strength", "only a sample whose salts are not "
+                                         "given may state its ionic strength instead")
+                i_s = parse_float(p, n, "ionic_strength", row["ionic_strength"])
+                if i_s <= 0:
+                    raise InputFileError(p, n, "ionic_strength", "must be positive (mol/kg)")
+            rows.append(ElectrodeRow(n, role, label, salts, emf, float(u), t_row, ionic_strength=i_s))
         else:
             ph = u_ph = i_s = None
             if role == "buffer":

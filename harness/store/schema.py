@@ -275,10 +275,11 @@ CREATE TABLE electrode_rows (
     temperature_k REAL NOT NULL CHECK (temperature_k BETWEEN 273.15 AND 573.15),
     ph REAL CHECK (ph IS NULL OR (ph > 0 AND ph < 14)),
     u_ph REAL CHECK (u_ph IS NULL OR u_ph >= 0),
-    ionic_strength REAL CHECK (ionic_strength IS NULL OR (ionic_strength >= 0 AND ionic_strength <= 0.1)),
+    ionic_strength REAL CHECK (ionic_strength IS NULL OR ionic_strength >= 0),
     line INTEGER,
     PRIMARY KEY (set_id, seq),
-    CHECK (role != 'buffer' OR ph IS NOT NULL)
+    CHECK (role != 'buffer' OR ph IS NOT NULL),
+    CHECK (role != 'buffer' OR ionic_strength IS NULL OR ionic_strength <= 0.1)
 )
 """),
 ]
