@@ -1356,10 +1356,16 @@ def _row_activity(session: Session, es, row, convention: str, model_id: str | No
     return salts, ion_activity(session, salts, convention, row.temperature_k, **kw)
 
 
-def _activity_of(result, ion: str) -> float:
-    if ion not in result.molalities:
+def _activity_of(result, ion: str, salts: Sequence[tuple[Any, float]] = ()) -> float:
+    """a of ``ion`` in a convention's result: 0 when the solution (``salts``, or the result's
+    own ions) does not hold it; an ion it holds but the convention gives no value for is refused
+    (e.g. NO3- under Bates-Guggenheim, which assigns Cl- only)."""
+    present = ({n for e, _ in salts for n in (e.cation.name, e.anion.name)} if salts
+               else set(result.molalities))
+    if ion not in present:
         return 0.0
-    return float(np.asarray(result.activity(ion)).reshape(-1)[0])
+    gamma = float(np.asarray(result.gamma(ion)).reshape(-1)[0])
+    return float(np.asarray(result.molalities[ion]).reshape(-1)[0]) * gamma
 
 
 def _standards(session: Session, es, convention: str, model_id: str | None, sets: Sequence[str],
@@ -1388,12 +1394,12 @@ def _standards(session: Session, es, convention: str, model_id: str | None, sets
                        f"{convention} form is commonly held to work")
         marks += [f"line {row.line}: {w}" for w in why]
         ion = es.ion.name
-        m_i = float(np.asarray(r.molalities[ion]).reshape(-1)[0]) if ion in r.molalities else 0.0
-        a_i = _activity_of(r, ion) if m_i > 0 else 0.0
+        a_i = _activity_of(r, ion, salts)
+        m_i = float(np.asarray(r.molalities[ion]).reshape(-1)[0]) if a_i > 0 else 0.0
         out[row.role].append(StandardActivity(
             row.line, row.role, row.label, [(e.name, m) for e, m in salts], i_now, m_i,
             a_i / m_i if m_i > 0 else float("nan"), a_i,
-            {j.name: _activity_of(r, j.name) for j in es.interferents}, row.emf, row.u_emf))
+            {j.name: _activity_of(r, j.name, salts) for j in es.interferents}, row.emf, row.u_emf))
     return out, label, sources, notes, marks
 
 
@@ -1558,7 +1564,7 @@ def electrode_samples(session: Session, cal: ElectrodeCalibration, *,
             continue
         notes: list[str] = []
         salts, act = _row_activity(session, es, row, cal.convention, cal.model_id, (), "error")
-        levels = {j.name: _activity_of(act.result, j.name) for j in es.interferents} if act else {}
+        levels = {j.name: _activity_of(act.result, j.name, salts) for j in es.interferents} if act else {}
         res = sample_activity(cal.fit, row.emf, row.u_emf, interferents=levels, selectivity=extra,
                               temperature_k=row.temperature_k, u_temperature_k=es.u_temperature_k)
         conc = None
@@ -1576,7 +1582,8 @@ def electrode_samples(session: Session, cal: ElectrodeCalibration, *,
                         others[c] = electrode_calibrate(session, es, c)
                     oc = others[c]
                     _, act_c = _row_activity(session, es, row, c, None, (), "error")
-                    lv = {j.name: _activity_of(act_c.result, j.name) for j in es.interferents} if act_c else {}
+                    lv = ({j.name: _activity_of(act_c.result, j.name, salts) for j in es.interferents}
+                          if act_c else {})
                     rc = sample_activity(oc.fit, row.emf, row.u_emf, interferents=lv, selectivity=extra,
                                          temperature_k=row.temperature_k)
                     if rc.activity is None:

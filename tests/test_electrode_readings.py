@@ -250,3 +250,14 @@ def test_ionic_strength_only_on_samples_without_salts(tmp_path):
     with pytest.raises(InputFileError) as err:
         read_electrode_readings(path)
     assert str(err.value).startswith(f"{path}:13: field 'ionic_strength': only a sample whose salts")
+
+
+def test_a_convention_without_a_value_for_the_primary_ion_is_refused(tmp_path, seeded_store):
+    # Bates-Guggenheim assigns gamma(Cl-) only (Bates and Guggenheim 1960): a nitrate electrode's
+    # standards cannot be put on it, and the message says so instead of failing in the fit.
+    from saltbench.api import Session, electrode_calibrate
+    from saltbench.errors import UserError
+
+    with pytest.raises(UserError, match="no single-ion value for NO3- under the Bates-Guggenheim"):
+        electrode_calibrate(Session(seeded_store), str(_file(tmp_path, head=HEAD.replace(
+            "# background: Na2SO4=0.04\n", ""))), "bates-guggenheim")

@@ -1,7 +1,9 @@
 """The electrode response fit, its detection limit, selectivity methods, a sample's activity and the
 pH calibration, checked against the Nernst slope from CODATA constants, the Nikolsky-Eisenman
 equation and the IUPAC formulas written out here, independently of saltbench, and against
-synthetic calibrations made from stated parameters plus noise."""
+synthetic calibrations made from stated parameters plus noise. No worked example from an IUPAC
+recommendation or a text on ion-selective electrodes was read for this work: the method checks
+are against the IUPAC expressions themselves, written out here."""
 
 from __future__ import annotations
 

@@ -9,7 +9,9 @@ against the original before use in a regulated method).
       log10 K_ij = (E_j - E_i) z_i F / (R T ln10) + log10(a_i / a_j^(z_i/z_j))         (1)
 
   i.e. (E_j - E_i) / S + log10(a_i / a_j^(z_i/z_j)) with S the slope, Nernstian by default. The
-  recommendation warns that the value is biased when either ion's response is not Nernstian;
+  recommendation warns that the value is biased when either ion's response is not Nernstian
+  (a slope more than 5 % from Nernstian is noted with the value; the 5 % is common practice, no
+  source);
   with the electrode's fitted slope S in place of the Nernstian one, and E_i read off the fitted
   linear response at any a_i, eq. (1) gives K_ij = 10^((E_j - E0)/S) / a_j^(z_i/z_j).
 - Fixed-interference method (FIM): standards of varying a_i in a constant background a_j of the
