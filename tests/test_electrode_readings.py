@@ -261,3 +261,11 @@ def test_a_convention_without_a_value_for_the_primary_ion_is_refused(tmp_path, s
     with pytest.raises(UserError, match="no single-ion value for NO3- under the Bates-Guggenheim"):
         electrode_calibrate(Session(seeded_store), str(_file(tmp_path, head=HEAD.replace(
             "# background: Na2SO4=0.04\n", ""))), "bates-guggenheim")
+
+
+def test_cli_error_is_one_line_with_exit_status_2(tmp_path, run_main, seeded_store):
+    path = _file(tmp_path, GOOD_ROWS.replace("NaNO3=1e-2", "NaNO3=1e-2 mol/kg;NaCl=2 mg/L"))
+    code, out, err = run_main("electrode", "calibrate", str(path), store=seeded_store)
+    assert code == 2 and out == ""
+    assert err.strip().count("\n") == 0
+    assert err.startswith(f"Error: {path}:15: field 'solution': ") and "give every amount in one unit" in err
