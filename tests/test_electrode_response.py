@@ -118,6 +118,18 @@ def test_detection_limit_is_the_iupac_intersection_fixed_interference():
     assert "K(SO4-2) not fitted" in " ".join(fit.notes)
 
 
+def test_plot_curve_follows_the_equation():
+    # The plotted curve is eq. (1) at the lowest standard's interferent levels, written out here.
+    data, s = _synthetic(3, noise=0.0)
+    data = ResponseData(data.activity, ne_emf(0.15, s, data.activity, 5e-3, data.interferents["Cl-"], 3e-6),
+                        np.full(data.activity.size, 1e-4), -1, T25, data.interferents,
+                        data.interferent_charges)
+    fit = fit_response(data)
+    a, e = fit.curve(50)
+    assert a[0] == pytest.approx(1e-8) and a[-1] == pytest.approx(0.1)
+    assert e == pytest.approx(ne_emf(0.15, s, a, 5e-3, 0.0, 3e-6), abs=1e-7)
+
+
 def test_no_detection_limit_without_an_asymptote():
     s = nernst_slope(T25, 1)
     a = np.logspace(-4, -1, 7)

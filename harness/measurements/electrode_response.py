@@ -160,6 +160,17 @@ class ResponseFit:
         return self.e0 + self.slope * np.log10(a + b)
 
 
+    def curve(self, points: int = 200) -> tuple[np.ndarray, np.ndarray]:
+        """(a_i, E) of the fitted response for a calibration plot: from a decade below the lower
+        of the lowest standard and the detection limit to the highest standard, at the
+        interferent levels of the lowest standard (those of the detection limit)."""
+        low = float(np.min(self.data.activity))
+        if self.detection_limit is not None:
+            low = min(low, self.detection_limit)
+        a = np.logspace(math.log10(low) - 1.0, math.log10(float(np.max(self.data.activity))), points)
+        return a, self.predict(a, {k: np.full(points, v) for k, v in self.lod_levels.items()})
+
+
 def _background(names, values, data: ResponseData, levels) -> np.ndarray | float:
     b: np.ndarray | float = 0.0
     for n, v in zip(names, values):
