@@ -1270,3 +1270,441 @@ def make_mixture_report(session: Session, key_or_system: str, settings=None, *, 
     view = MixtureView(comparison, data, [rows[k] for k in keys if k in rows], held, list(sets), key_or_system)
     return write_mixture_report(session, view, title=title, folder=Path(folder) if folder else None,
                                 command=command, argv=argv, created=created)
+
+
+# -- electrode calibrations ---------------------------------------------------------------------
+#: Conventions a calibration's standards may be put on (those of :func:`ion_activity`).
+ELECTRODE_CONVENTIONS = CONVENTIONS
+#: The candidate conventions whose spread makes the activity-coefficient part of a sample's
+#: concentration budget, when none are named.
+ELECTRODE_CANDIDATES = ("davies", "extended-debye-huckel", "sit")
+
+
+@dataclass
+class StandardActivity:
+    """One calibration row (a standard, or a separate solution of interferents) on a convention:
+    its whole composition (background included), ionic strength, and the primary ion's and the
+    interferents' single-ion activities."""
+
+    line: int
+    role: str
+    label: str
+    salts: list[tuple[str, float]]  # salt, mol/kg
+    ionic_strength: float
+    molality: float  # of the primary ion, mol/kg (0 in a separate solution)
+    gamma: float  # of the primary ion (NaN in a separate solution)
+    activity: float  # a_i
+    interferents: dict[str, float]  # a_j of each declared interferent
+    emf: float  # V
+    u_emf: float  # V
+
+    @property
+    def px(self) -> float:
+        return float(-np.log10(self.activity)) if self.activity > 0 else float("nan")
+
+
+@dataclass
+class ElectrodeCalibration:
+    """An ion-selective electrode calibration: the set as read, its standards' activities on
+    ``convention`` (with ``caveat``), the Nikolsky-Eisenman fit (``fit``:
+    :class:`saltbench.measurements.electrode_response.ResponseFit`) and every selectivity
+    coefficient (:class:`saltbench.measurements.electrode_selectivity.Selectivity`), fitted,
+    by the fixed-interference and by the separate-solution method."""
+
+    set: Any  # saltbench.curation.electrode_readings.ElectrodeSet
+    convention: str  # as asked: a convention name, or "model"
+    convention_label: str  # as the results name it (e.g. "Davies", "Pitzer")
+    model_id: str | None
+    standards: list[StandardActivity]
+    separate: list[StandardActivity]
+    fit: Any  # ResponseFit
+    selectivity: list[Any]  # Selectivity
+    sources: list[str]
+    notes: list[str]
+    extrapolation: list[str]
+    caveat: str
+    cautions: list[str]
+
+
+def electrode_set(session: Session, key_or_file: Any):
+    """An electrode or pH-buffer set: read from ``key_or_file`` when it is a file (not stored; its
+    citation key is not checked), else the stored set of that id (an ElectrodeSet passes through)."""
+    from saltbench.curation.electrode_readings import ElectrodeSet, read_electrode_readings
+    from saltbench.store.electrode import load_set
+
+    if isinstance(key_or_file, ElectrodeSet):
+        return key_or_file
+    try:
+        is_file = Path(key_or_file).is_file()
+    except OSError:
+        is_file = False
+    if is_file or key_or_file.lower().endswith(".csv"):
+        return read_electrode_readings(key_or_file)
+    return load_set(session.store, key_or_file)
+
+
+def electrode_sets(session: Session) -> list[dict]:
+    """One record per stored electrode or pH-buffer set."""
+    from saltbench.store.electrode import list_sets
+
+    return list_sets(session.store)
+
+
+def _row_activity(session: Session, es, row, convention: str, model_id: str | None,
+                  sets: Sequence[str], missing: str, extra: Sequence[tuple[Any, float]] = ()):
+    """The row's composition (with ``extra`` salts added) and its IonActivity on the convention."""
+    comp: dict[str, list] = {}
+    for e, m in (*es.composition(row), *extra):
+        if e.name in comp:
+            comp[e.name][1] += m
+        else:
+            comp[e.name] = [e, m]
+    salts = [(e, float(m)) for e, m in comp.values() if m > 0]
+    if not salts:
+        return salts, None
+    kw: dict[str, Any] = {"missing": missing}
+    if convention == "model":
+        kw.update(model_id=model_id, sets=list(sets))
+    return salts, ion_activity(session, salts, convention, row.temperature_k, **kw)
+
+
+def _activity_of(result, ion: str, salts: Sequence[tuple[Any, float]] = ()) -> float:
+    """a of ``ion`` in a convention's result: 0 when the solution (``salts``, or the result's
+    own ions) does not hold it; an ion it holds but the convention gives no value for is refused
+    (e.g. NO3- under Bates-Guggenheim, which assigns Cl- only)."""
+    present = ({n for e, _ in salts for n in (e.cation.name, e.anion.name)} if salts
+               else set(result.molalities))
+    if ion not in present:
+        return 0.0
+    gamma = float(np.asarray(result.gamma(ion)).reshape(-1)[0])
+    return float(np.asarray(result.molalities[ion]).reshape(-1)[0]) * gamma
+
+
+def _standards(session: Session, es, convention: str, model_id: str | None, sets: Sequence[str],
+               missing: str):
+    from saltbench.measurements.conventions import CONVENTION_MAX_I
+
+    out: dict[str, list[StandardActivity]] = {"standard": [], "separate": []}
+    sources: list[str] = []
+    notes: list[str] = []
+    marks: list[str] = []
+    label = convention
+    i_max = CONVENTION_MAX_I.get(convention)
+    for row in es.rows:
+        if row.role not in out:
+            continue
+        salts, act = _row_activity(session, es, row, convention, model_id, sets, missing)
+        assert act is not None  # a standard holds the primary ion; a separate solution an interferent
+        r = act.result
+        label = r.convention
+        sources += [s for s in act.sources if s not in sources]
+        notes += [n for n in act.notes if n not in notes]
+        i_now = float(np.asarray(r.ionic_strength).reshape(-1)[0])
+        why = list(act.extrapolation)
+        if i_max is not None and i_now > i_max * (1 + 1e-9):
+            why.append(f"I = {i_now:.4g} mol/kg is beyond the {i_max:g} mol/kg to which the "
+                       f"{convention} form is commonly held to work")
+        marks += [f"line {row.line}: {w}" for w in why]
+        ion = es.ion.name
+        a_i = _activity_of(r, ion, salts)
+        m_i = float(np.asarray(r.molalities[ion]).reshape(-1)[0]) if a_i > 0 else 0.0
+        out[row.role].append(StandardActivity(
+            row.line, row.role, row.label, [(e.name, m) for e, m in salts], i_now, m_i,
+            a_i / m_i if m_i > 0 else float("nan"), a_i,
+            {j.name: _activity_of(r, j.name, salts) for j in es.interferents}, row.emf, row.u_emf))
+    return out, label, sources, notes, marks
+
+
+def _response_data(es, rows: Sequence[StandardActivity], interferents: Sequence[str] | None = None):
+    from saltbench.measurements.electrode_response import ResponseData
+
+    names = [j.name for j in es.interferents] if interferents is None else list(interferents)
+    return ResponseData(
+        np.array([r.activity for r in rows]), np.array([r.emf for r in rows]),
+        np.array([r.u_emf for r in rows]), es.ion.charge, es.temperature_k,
+        {n: np.array([r.interferents[n] for r in rows]) for n in names},
+        {j.name: j.charge for j in es.interferents if j.name in names})
+
+
+def _fixed_interference(es, standards: list[StandardActivity]) -> tuple[list, list[str]]:
+    """FIM coefficients: for each interferent, each series of at least 4 standards holding it at
+    one molality (of the salt that carries it), fitted on its own with the interference lumped
+    into the low-level term."""
+    from saltbench.errors import SaltbenchError
+    from saltbench.measurements.electrode_response import fit_response
+    from saltbench.measurements.electrode_selectivity import fixed_interference
+
+    out, notes = [], []
+    for j in es.interferents:
+        series: dict[tuple, list[StandardActivity]] = {}
+        for r in standards:
+            if r.interferents[j.name] <= 0:
+                continue
+            key = tuple(sorted((n, m) for n, m in r.salts
+                               if j.name in _ions_of(n) and es.ion.name not in _ions_of(n)))
+            series.setdefault(key, []).append(r)
+        for key, rows in series.items():
+            if len(rows) < 4:
+                notes.append(f"fixed-interference series of {j.name} ({_salts_text(key)}) has "
+                             f"{len(rows)} standards; at least 4 are needed")
+                continue
+            try:
+                sub = fit_response(_response_data(es, rows, interferents=[]))
+            except SaltbenchError as exc:
+                notes.append(f"fixed-interference series of {j.name}: {exc}")
+                continue
+            if sub.detection_limit is None or not sub.a0_resolved:
+                notes.append(f"fixed-interference series of {j.name} ({_salts_text(key)}): no "
+                             "low-activity asymptote in its standards")
+                continue
+            a_j = float(np.median([r.interferents[j.name] for r in rows]))
+            assert sub.u_detection_limit is not None
+            out.append(fixed_interference(sub.detection_limit, sub.u_detection_limit, a_j,
+                                          es.ion.charge, j.charge, j.name))
+    return out, notes
+
+
+def _ions_of(salt: str) -> tuple[str, str]:
+    from saltbench.chemistry.electrolyte import parse_formula
+
+    e = parse_formula(salt)
+    return e.cation.name, e.anion.name
+
+
+def _salts_text(salts) -> str:
+    return ", ".join(f"{n} {m:g} mol/kg" for n, m in salts) or "background only"
+
+
+def electrode_calibrate(session: Session, key_or_file: Any, convention: str = "davies", *,
+                        model_id: str | None = None, sets: Sequence[str] = (),
+                        missing: str = "error") -> ElectrodeCalibration:
+    """Put a calibration's standards on ``convention`` (any of :data:`ELECTRODE_CONVENTIONS`;
+    ``"model"`` with ``model_id``: that model's single-ion form, parameters from the store, as
+    :func:`ion_activity`), fit the Nikolsky-Eisenman response, and give the selectivity
+    coefficients by every method the readings allow."""
+    from saltbench.errors import UserError
+    from saltbench.measurements.conventions import SINGLE_ION_CAVEAT
+    from saltbench.measurements.electrode_response import fit_response
+    from saltbench.measurements.electrode_selectivity import FITTED, Selectivity, separate_solution_from_fit
+    from saltbench.measurements.nernst import CALIBRATION_CAUTION
+
+    es = electrode_set(session, key_or_file)
+    if es.kind != "electrode":
+        raise UserError(f"{es.key} is a {es.kind} set: calibrate it with 'saltbench electrode ph'")
+    rows, label, sources, notes, marks = _standards(session, es, convention, model_id, sets, missing)
+    fit = fit_response(_response_data(es, rows["standard"]))
+    selectivity: list[Any] = []
+    for j in fit.fitted_interferents:
+        k = fit.selectivity(j)
+        u_log = fit.u(f"log10_K({j})")
+        selectivity.append(Selectivity(j, FITTED, k, k * float(np.log(10.0)) * u_log, None))
+    fim, fim_notes = _fixed_interference(es, rows["standard"])
+    selectivity += fim
+    notes += fim_notes
+    for r in rows["separate"]:
+        present = [j for j in es.interferents if r.interferents[j.name] > 0]
+        if len(present) != 1:
+            notes.append(f"line {r.line}: a separate solution must hold exactly one interferent "
+                         f"for the separate-solution method (it holds {len(present)})")
+            continue
+        j = present[0]
+        selectivity.append(separate_solution_from_fit(fit, r.emf, r.u_emf, r.interferents[j.name],
+                                                      j.charge, j.name))
+    return ElectrodeCalibration(es, convention, label, model_id, rows["standard"], rows["separate"],
+                                fit, selectivity, sources, notes, marks, SINGLE_ION_CAVEAT,
+                                [CALIBRATION_CAUTION])
+
+
+@dataclass
+class ElectrodeSample:
+    """One sample's result: its primary-ion activity (``activity``:
+    :class:`saltbench.measurements.electrode_sample.SampleActivity`, with budget and flags) and,
+    when its composition or the background is known, its molality (``concentration``:
+    :class:`saltbench.measurements.electrode_sample.Concentration`)."""
+
+    line: int
+    label: str
+    salts: list[tuple[str, float]]  # the known part of its composition (background included)
+    interferents: dict[str, float]  # a_j on the calibration's convention
+    activity: Any
+    concentration: Any | None
+    ionic_strength: float | None
+    notes: list[str]
+
+
+def _solve_molality(session: Session, es, row, a_i: float, convention: str, model_id, sets,
+                    missing) -> tuple[float, float, float]:
+    """The primary ion's molality m with m gamma_i(m) = a_i, the primary salt added to the
+    sample's known composition (fixed-point iteration; gamma_i varies slowly with m)."""
+    from saltbench.errors import UserError
+
+    salt = es.primary_salt
+    nu = salt.nu_cation if es.ion.name == salt.cation.name else salt.nu_anion
+    m = a_i
+    for _ in range(100):
+        _, act = _row_activity(session, es, row, convention, model_id, sets, missing,
+                               extra=[(salt, m / nu)])
+        gamma = float(np.asarray(act.result.gamma(es.ion.name)).reshape(-1)[0])
+        new = a_i / gamma
+        if abs(new - m) <= 1e-12 * new:
+            i_now = float(np.asarray(act.result.ionic_strength).reshape(-1)[0])
+            return new, gamma, i_now
+        m = new
+    raise UserError("the sample's molality did not settle (activity coefficient iteration)")
+
+
+def electrode_samples(session: Session, cal: ElectrodeCalibration, *,
+                      candidates: Sequence[str] = ELECTRODE_CANDIDATES) -> list[ElectrodeSample]:
+    """Every sample of ``cal``'s set: its activity on the calibration's convention and, when the
+    sample's composition (or the background) is known, its molality, with the spread over the
+    ``candidates`` conventions (each recalibrated and re-solved) in the budget."""
+    from saltbench.errors import SaltbenchError
+    from saltbench.measurements.electrode_sample import combine, sample_activity
+
+    es = cal.set
+    extra_k: dict[str, list[float]] = {}
+    for s in cal.selectivity:
+        if s.interferent not in cal.fit.fitted_interferents:
+            extra_k.setdefault(s.interferent, []).append(s.log10_coefficient)
+    # K of an interferent the fit did not give: the mean log10 K of its other methods
+    extra = {j: float(10.0 ** np.mean(v)) for j, v in extra_k.items()}
+    others: dict[str, Any] = {}
+    out = []
+    for row in es.of_role("sample"):
+        if row.ionic_strength is not None:
+            out.append(_sample_at_ionic_strength(session, cal, row, extra, candidates, others))
+            continue
+        notes: list[str] = []
+        salts, act = _row_activity(session, es, row, cal.convention, cal.model_id, (), "error")
+        levels = {j.name: _activity_of(act.result, j.name, salts) for j in es.interferents} if act else {}
+        res = sample_activity(cal.fit, row.emf, row.u_emf, interferents=levels, selectivity=extra,
+                              temperature_k=row.temperature_k, u_temperature_k=es.u_temperature_k)
+        conc = None
+        i_s = None
+        if res.activity is not None and salts:
+            m, gamma, i_s = _solve_molality(session, es, row, res.activity, cal.convention,
+                                            cal.model_id, (), "error")
+            by_model: dict[str, float] = {cal.convention_label: m}
+            refused: dict[str, str] = {}
+            for c in candidates:
+                if c == cal.convention and cal.model_id is None:
+                    continue
+                try:
+                    if c not in others:
+                        others[c] = electrode_calibrate(session, es, c)
+                    oc = others[c]
+                    _, act_c = _row_activity(session, es, row, c, None, (), "error")
+                    lv = ({j.name: _activity_of(act_c.result, j.name, salts) for j in es.interferents}
+                          if act_c else {})
+                    rc = sample_activity(oc.fit, row.emf, row.u_emf, interferents=lv, selectivity=extra,
+                                         temperature_k=row.temperature_k)
+                    if rc.activity is None:
+                        refused[c] = "no activity on this calibration"
+                        continue
+                    by_model[oc.convention_label] = _solve_molality(session, es, row, rc.activity, c,
+                                                                    None, (), "error")[0]
+                except SaltbenchError as exc:
+                    refused[c] = str(exc)
+            conc = combine(res, m, gamma, by_model, refused)
+        elif res.activity is not None:
+            notes.append("no composition and no background: the activity only (give the sample's "
+                         "other components, or the adjuster as the header's background)")
+        out.append(ElectrodeSample(row.line, row.label, [(e.name, m_) for e, m_ in salts], levels,
+                                   res, conc, i_s, notes))
+    return out
+
+
+#: Conventions whose gamma_i depends only on the ionic strength and the ion itself, so that a
+#: sample known only by its ionic strength can be put on them.
+IONIC_STRENGTH_ONLY = ("davies", "debye-huckel", "extended-debye-huckel", "truesdell-jones",
+                       "bates-guggenheim")
+
+
+def _gamma_at_ionic_strength(session: Session, es, ionic_strength: float, temperature_k: float,
+                             convention: str) -> float:
+    """gamma_i of the primary ion at ``ionic_strength`` under a convention that depends on I alone
+    (evaluated in a solution of the primary salt at that ionic strength)."""
+    from saltbench.errors import UserError
+
+    if convention not in IONIC_STRENGTH_ONLY:
+        raise UserError(f"the {convention} convention needs the sample's salts, not its ionic "
+                        f"strength alone (conventions of I alone: {', '.join(IONIC_STRENGTH_ONLY)})")
+    salt = es.primary_salt
+    x = ionic_strength / float(salt.ionic_strength(1.0))
+    act = ion_activity(session, [(salt, x)], convention, temperature_k)
+    return float(np.asarray(act.result.gamma(es.ion.name)).reshape(-1)[0])
+
+
+def _sample_at_ionic_strength(session: Session, cal: ElectrodeCalibration, row, extra, candidates,
+                              others) -> ElectrodeSample:
+    """A sample known only by its ionic strength: its activity (interferents uncorrected) and
+    m_i = a_i / gamma_i(I) on each convention of I alone."""
+    from saltbench.errors import SaltbenchError
+    from saltbench.measurements.electrode_sample import combine, sample_activity
+
+    es = cal.set
+    notes = ["known by its ionic strength only"]
+    if es.interferents:
+        notes.append("its interferent levels are not known: their interference is not corrected")
+    res = sample_activity(cal.fit, row.emf, row.u_emf, selectivity=extra,
+                          temperature_k=row.temperature_k, u_temperature_k=es.u_temperature_k)
+    conc = None
+    if res.activity is not None:
+        try:
+            gamma = _gamma_at_ionic_strength(session, es, row.ionic_strength, row.temperature_k,
+                                             cal.convention)
+        except SaltbenchError as exc:
+            notes.append(str(exc))
+        else:
+            by_model = {cal.convention_label: res.activity / gamma}
+            refused: dict[str, str] = {}
+            for c in candidates:
+                if c == cal.convention:
+                    continue
+                try:
+                    if c not in others:
+                        others[c] = electrode_calibrate(session, es, c)
+                    rc = sample_activity(others[c].fit, row.emf, row.u_emf, selectivity=extra,
+                                         temperature_k=row.temperature_k)
+                    if rc.activity is None:
+                        refused[c] = "no activity on this calibration"
+                        continue
+                    by_model[others[c].convention_label] = rc.activity / _gamma_at_ionic_strength(
+                        session, es, row.ionic_strength, row.temperature_k, c)
+                except SaltbenchError as exc:
+                    refused[c] = str(exc)
+            conc = combine(res, res.activity / gamma, gamma, by_model, refused)
+            salt = es.primary_salt
+            nu = salt.nu_cation if es.ion.name == salt.cation.name else salt.nu_anion
+            if conc.molality / nu * float(salt.ionic_strength(1.0)) > row.ionic_strength:
+                notes.append("the primary salt alone would exceed the stated ionic strength")
+    return ElectrodeSample(row.line, row.label, [], {}, res, conc, row.ionic_strength, notes)
+
+
+@dataclass
+class PhCalibrationRun:
+    """A pH calibration (``calibration``: :class:`saltbench.measurements.ph_calibration.PhCalibration`)
+    and each sample's pH (``samples``: (line, label, SamplePh))."""
+
+    set: Any
+    calibration: Any
+    buffers: list[tuple[int, str]]  # (line, label) of each buffer, in the calibration's order
+    samples: list[tuple[int, str, Any]]
+
+
+def ph_calibrate(session: Session, key_or_file: Any) -> PhCalibrationRun:
+    """Two- or multi-point pH calibration with the set's certified buffers, and its samples."""
+    from saltbench.errors import UserError
+    from saltbench.measurements.ph_calibration import calibrate_ph, sample_ph
+
+    es = electrode_set(session, key_or_file)
+    if es.kind != "ph_buffers":
+        raise UserError(f"{es.key} is an {es.kind} set: calibrate it with 'saltbench electrode calibrate'")
+    buffers = es.of_role("buffer")
+    cal = calibrate_ph(np.array([b.ph for b in buffers]), np.array([b.emf for b in buffers]),
+                       np.array([b.u_emf for b in buffers]), np.array([b.u_ph for b in buffers]),
+                       es.temperature_k)
+    samples = [(r.line, r.label, sample_ph(cal, r.emf, r.u_emf, temperature_k=r.temperature_k,
+                                           u_temperature_k=es.u_temperature_k))
+               for r in es.of_role("sample")]
+    return PhCalibrationRun(es, cal, [(b.line, b.label) for b in buffers], samples)

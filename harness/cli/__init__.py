@@ -29,9 +29,10 @@ COMMANDS = {
     "ion-activity": "saltbench.cli.ion_activity:ion_activity",
     "convert": "saltbench.cli.convert:convert",
     "solubility": "saltbench.cli.solubility:solubility",
+    "electrode": "saltbench.cli.electrode:electrode",
 }
 HELP_ORDER = ["compare", "fit", "predict", "report", "data", "params", "readings", "convert", "ion-activity",
-              "solubility", "models", "plugins", "new-model"]
+              "electrode", "solubility", "models", "plugins", "new-model"]
 
 
 class LazyGroup(click.Group):

@@ -21,10 +21,11 @@ from saltbench import __version__
 from saltbench.chemistry.electrolyte import parse_formula
 from saltbench.curation.bibliography import read_bibliography
 from saltbench.curation.blocks import read_text
+from saltbench.curation.electrode_readings import ElectrodeSet, electrode_kind, read_electrode_readings
 from saltbench.curation.readings import STORE_COLUMN, MeasurementSet, read_readings
 from saltbench.curation.reduction_methods import METHODS, Method
 from saltbench.errors import InputFileError, UserError
-from saltbench.store import queries
+from saltbench.store import electrode, queries
 from saltbench.store.connection import Store
 from saltbench.store.ingest import (
     IngestReport,
@@ -41,16 +42,25 @@ if TYPE_CHECKING:
 PROVIDER = "readings"
 
 
-def parse_readings_files(paths: Sequence[str | os.PathLike[str]]) -> tuple[list, list[MeasurementSet]]:
+def parse_readings_files(paths: Sequence[str | os.PathLike[str]]
+                         ) -> tuple[list, list[MeasurementSet | ElectrodeSet]]:
     """Bibliographies and readings files (or folders of them), all parsed and validated before
-    any store access."""
-    sources, sets = [], []
+    any store access. Electrode and pH-buffer files (``kind: electrode``/``ph_buffers``) come
+    back as :class:`ElectrodeSet`."""
+    sources: list = []
+    sets: list[MeasurementSet | ElectrodeSet] = []
     keys: dict[str, str] = {}
     for path in expand_paths(paths):
         text = read_text(path)
         kind = file_kind(path, text)
         if kind == "bibliography":
             sources.extend(read_bibliography(path))
+        elif kind == "readings" and electrode_kind(text):
+            es = read_electrode_readings(path, text=text)
+            if es.key in keys:
+                raise InputFileError(path, None, "id", f"set id {es.key!r} is also used by {keys[es.key]}")
+            keys[es.key] = str(path)
+            sets.append(es)
         elif kind == "readings":
             ms = read_readings(path, text=text)
             if ms.key in keys:
@@ -132,6 +142,10 @@ def add_readings(store: Store, paths: Sequence[str | os.PathLike[str]]) -> Inges
             _upsert_source(store, s, "user", report)
         known = {r[0] for r in store.conn.execute("SELECT key FROM sources")}
         for ms in sets:
+            if isinstance(ms, ElectrodeSet):
+                electrode.check_source(ms, known)
+                electrode.write_set(store, ms, report)
+                continue
             _check_references(store, ms, known)
             _write_set(store, ms, report)
     return report

@@ -239,6 +239,49 @@ ALTER TABLE readings ADD COLUMN background_molality REAL
 ALTER TABLE reductions ADD COLUMN mixture_dataset_id INTEGER
     REFERENCES mixture_datasets(id) ON DELETE CASCADE
 """),
+    # Electrode calibrations (ion-selective: standards in a background, separate solutions of
+    # interferents, samples) and pH calibrations with certified buffers: one set per file, its
+    # rows in SI with each row's own salts (JSON, mol/kg) beside the set's background.
+    ("0007_electrode_readings", """
+CREATE TABLE electrode_sets (
+    id INTEGER PRIMARY KEY,
+    key TEXT NOT NULL UNIQUE CHECK (length(key) > 0),
+    kind TEXT NOT NULL CHECK (kind IN ('electrode', 'ph_buffers')),
+    ion TEXT,
+    interferents TEXT NOT NULL DEFAULT '[]',
+    background TEXT NOT NULL DEFAULT '[]',
+    background_text TEXT NOT NULL DEFAULT '',
+    temperature_k REAL NOT NULL CHECK (temperature_k BETWEEN 273.15 AND 573.15),
+    u_temperature_k REAL NOT NULL DEFAULT 0 CHECK (u_temperature_k >= 0),
+    reference_electrode TEXT NOT NULL CHECK (length(reference_electrode) > 0),
+    electrode TEXT NOT NULL DEFAULT '',
+    source TEXT NOT NULL REFERENCES sources(key),
+    typed TEXT NOT NULL CHECK (length(typed) > 0),
+    from_memory INTEGER NOT NULL CHECK (from_memory IN (0, 1)),
+    note TEXT NOT NULL DEFAULT '',
+    file TEXT NOT NULL,
+    content_hash TEXT NOT NULL,
+    n_rows INTEGER NOT NULL CHECK (n_rows > 0),
+    CHECK ((kind = 'electrode') = (ion IS NOT NULL))
+);
+CREATE TABLE electrode_rows (
+    set_id INTEGER NOT NULL REFERENCES electrode_sets(id) ON DELETE CASCADE,
+    seq INTEGER NOT NULL,
+    role TEXT NOT NULL CHECK (role IN ('standard', 'separate', 'sample', 'buffer')),
+    label TEXT NOT NULL DEFAULT '',
+    salts TEXT NOT NULL DEFAULT '[]',
+    emf_v REAL NOT NULL CHECK (abs(emf_v) < 5.0),
+    u_emf_v REAL NOT NULL CHECK (u_emf_v > 0),
+    temperature_k REAL NOT NULL CHECK (temperature_k BETWEEN 273.15 AND 573.15),
+    ph REAL CHECK (ph IS NULL OR (ph > 0 AND ph < 14)),
+    u_ph REAL CHECK (u_ph IS NULL OR u_ph >= 0),
+    ionic_strength REAL CHECK (ionic_strength IS NULL OR ionic_strength >= 0),
+    line INTEGER,
+    PRIMARY KEY (set_id, seq),
+    CHECK (role != 'buffer' OR ph IS NOT NULL),
+    CHECK (role != 'buffer' OR ionic_strength IS NULL OR ionic_strength <= 0.1)
+)
+"""),
 ]
 
 SCHEMA_VERSION = len(MIGRATIONS)
