@@ -1120,13 +1120,18 @@ def check_data_and_mixtures(session: Session, names: Sequence[str] = ()):
 
 
 # -- mixture data: fit and compare -------------------------------------------------------------
-def mixture_data(session: Session, key_or_system: str):
+def mixture_data(session: Session, key_or_system: str, *, on: Sequence[str] = (), datasets: Sequence[str] = ()):
     """Every point of one mixture dataset (by key) or of a system's datasets, as one
-    :class:`saltbench.fitting.MixtureData` (ions in a common order), with the datasets' keys."""
+    :class:`saltbench.fitting.MixtureData` (ions in a common order), with the datasets' keys;
+    ``on`` and ``datasets`` choose among them as for one salt
+    (:func:`saltbench.curation.mixture_points.select_mixture_points`)."""
     from saltbench.chemistry.solution import Composition
+    from saltbench.curation.mixture_points import select_mixture_points
     from saltbench.fitting import MixtureData
+    from saltbench.models.quantities import Quantity
 
-    parts = mixture_points(session, key_or_system)
+    parts = select_mixture_points(mixture_points(session, key_or_system), key_or_system,
+                                  on=tuple(on), datasets=tuple(datasets))
     ions: dict[str, Any] = {}
     for p in parts:
         for ion in p.composition.ions:
@@ -1140,7 +1145,7 @@ def mixture_data(session: Session, key_or_system: str):
             m[:, names.index(name)] = p.composition.molality[:, j]
         rows.append(m)
         temps.append(np.full(p.n, p.temperature_k))
-        quantities += [p.quantity] * p.n
+        quantities += [Quantity(*p.quantity)] * p.n
         values.append(p.values)
         uncs.append(p.uncertainties)
         labels += [p.key] * p.n
@@ -1161,7 +1166,7 @@ def compare_mixture(session: Session, key_or_system: str, settings=None, *, sets
     from saltbench.comparison.settings import CompareSettings
 
     settings = settings or CompareSettings()
-    data, keys = mixture_data(session, key_or_system)
+    data, keys = mixture_data(session, key_or_system, on=settings.on, datasets=settings.datasets)
     reg = session.registry
     ids = list(settings.models) or [mid for mid in reg.models
                                     if reg.model(mid).supports_composition(data.composition)]
@@ -1178,14 +1183,16 @@ def compare_mixture(session: Session, key_or_system: str, settings=None, *, sets
 
 
 def fit_mixture_data(session: Session, key_or_system: str, model_id: str, *, free: Sequence[str] | None = None,
-                     sets: Sequence[str] = (), missing: str = "error"):
-    """Fit ``model_id``'s mixing terms (or the keys in ``free``) to a system's mixture data with
-    the other parameters held at the store's sets (the rules of ``predict --solution``)."""
+                     sets: Sequence[str] = (), missing: str = "error", on: Sequence[str] = (),
+                     datasets: Sequence[str] = ()):
+    """Fit ``model_id``'s mixing terms (or the keys in ``free``) to a system's mixture data (those
+    ``on`` and ``datasets`` choose, see :func:`mixture_data`) with the other parameters held at
+    the store's sets (the rules of ``predict --solution``)."""
     from saltbench.comparison.solutions import resolve_values
     from saltbench.errors import UserError
     from saltbench.fitting import fit_mixture
 
-    data, keys = mixture_data(session, key_or_system)
+    data, keys = mixture_data(session, key_or_system, on=on, datasets=datasets)
     model = session.registry.model(model_id)
     if not model.supports_composition(data.composition):
         raise UserError(f"model {model_id} does not take these mixtures (one salt at a time)")
@@ -1205,9 +1212,12 @@ def fit_mixture_data(session: Session, key_or_system: str, model_id: str, *, fre
 
 
 def save_mixture_fit(session: Session, result, model_id: str, key_or_system: str, *,
-                     set_name: str | None = None, sets: Sequence[str] = ()) -> str:
+                     set_name: str | None = None, sets: Sequence[str] = (),
+                     keys: Sequence[str] | None = None) -> str:
     """Save the free keys of a mixture fit (``fit_mixture_data``) as a fitted parameter set of
-    ion-group rows, found by ``--sets`` (or the published sets' lookup) like a published one."""
+    ion-group rows, found by ``--sets`` (or the published sets' lookup) like a published one;
+    ``keys`` are the datasets the fit used (``fit_mixture_data``'s third value; default: every
+    dataset of the system)."""
     import hashlib
 
     from saltbench.curation.parameters import ion_group
@@ -1220,7 +1230,7 @@ def save_mixture_fit(session: Session, result, model_id: str, key_or_system: str
         name, _, owner = p["name"].partition("[")
         values.append((name, "/".join(ion_group(owner.rstrip("]"))), float(p["value"]), p.get("stderr")))
     hashes = [r.content_hash for r in mixture_dataset_rows(session.store, None)
-              if r.key == key_or_system or r.system == result.electrolyte]
+              if (r.key in keys if keys is not None else (r.key == key_or_system or r.system == result.electrolyte))]
     digest = hashlib.sha256(repr((model_id, key_or_system, sorted(hashes), list(sets))).encode()).hexdigest()[:8]
     slug = "".join(ch if ch.isalnum() else "-" for ch in result.electrolyte.lower()).strip("-")
     set_id = set_name or f"fit-{model_id}-{'-'.join(x for x in slug.split('-') if x)}-{digest}"
@@ -1239,12 +1249,14 @@ def make_mixture_report(session: Session, key_or_system: str, settings=None, *, 
     report file into ``folder`` (default ``reports/<slug>``); returns a
     :class:`saltbench.report.writer.ReportResult` whose ``comparison`` is the
     ``MixtureComparison``. A system without mixture data is a UserError before anything is written."""
+    from saltbench.comparison.settings import CompareSettings
     from saltbench.report.mixture_view import HeldSet, MixtureView
     from saltbench.report.mixture_writer import write_mixture_report
     from saltbench.store import parameter_sets as ps
     from saltbench.store.mixtures import mixture_dataset_rows
 
-    data, keys = mixture_data(session, key_or_system)
+    settings = settings or CompareSettings()
+    data, keys = mixture_data(session, key_or_system, on=settings.on, datasets=settings.datasets)
     comparison = compare_mixture(session, key_or_system, settings, sets=sets)
     rows: dict[str, Any] = {}
     for r in mixture_dataset_rows(session.store, None):  # a user's dataset before a bundled one of its key

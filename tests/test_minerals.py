@@ -33,18 +33,46 @@ def table():
 
 # -- the bundled table ---------------------------------------------------------------------------------
 def test_bundled_table_cites_the_handbook(table):
-    assert table.source == "crc-ksp-87"
-    assert "CRC Handbook of Chemistry and Physics" in table.citation and "87th ed." in table.citation
-    assert table.typed.startswith("transcribed from the CRC Handbook")
-    assert table.temperature_k == pytest.approx(298.15)
-    assert len(table.minerals) == 15
+    handbook = table.tables[0]
+    assert handbook.source == "crc-ksp-87"
+    assert "CRC Handbook of Chemistry and Physics" in handbook.citation and "87th ed." in handbook.citation
+    assert handbook.typed.startswith("transcribed from the CRC Handbook")
+    assert handbook.temperature_k == pytest.approx(298.15)
+    assert len(handbook.minerals) == 15
     # names as printed; mineral names only where the copy gives them
     assert table.find("gypsum").name == "calcium sulfate dihydrate"
     assert table.find("anhydrite").formula == "CaSO4"
-    assert table.find("CaCO3").mineral == ""  # not called calcite: the table does not say which polymorph
+    assert handbook.find("CaCO3").mineral == ""  # not called calcite: the table does not say which polymorph
     assert table.find("barium sulfate").label == "barium sulfate"
-    with pytest.raises(UserError, match="no solubility product for 'halite'"):
-        table.find("halite")
+    with pytest.raises(UserError, match="no solubility product for 'mirabilite'"):
+        table.find("mirabilite")
+
+
+def test_minerals_the_handbook_lacks_are_typed_from_memory_and_named_apart(table):
+    others = table.tables[1:]
+    assert {t.source for t in others} == {"harvie-moller-weare-1984", "plummer-busenberg-1982"}
+    assert all(t.typed.startswith("from memory of") for t in others)
+    # log10 K from memory of Harvie, Moller and Weare (1984), mu°/RT: halite 1.570, sylvite 0.900;
+    # Plummer and Busenberg (1982): calcite -8.480, aragonite -8.336
+    for name, log_k in [("halite", 1.570), ("sylvite", 0.900), ("calcite", -8.480), ("aragonite", -8.336)]:
+        assert table.find(name).log10_ksp == pytest.approx(log_k, abs=1e-4)
+    # aragonite is the less stable polymorph at 25 °C: the more soluble one (common practice, no source)
+    assert table.find("aragonite").log10_ksp > table.find("calcite").log10_ksp
+    # CaCO3 is three rows now: a formula alone does not choose among them
+    with pytest.raises(UserError, match="CaCO3 is more than one mineral here: calcium carbonate .crc-ksp-87.; "
+                                        "calcite .*; aragonite"):
+        table.find("CaCO3")
+    assert table.find("NaCl").mineral == "halite"  # unique formulas still find their row
+
+
+def test_a_name_in_two_tables_is_refused(tmp_path):
+    from saltbench.curation.minerals import MineralCatalogue
+
+    a, b = tmp_path / "a.csv", tmp_path / "b.csv"
+    a.write_text(HEAD + "sodium chloride,halite,NaCl,Na+,1,Cl-,1,0,37.15,1.5700\n", encoding="utf-8")
+    b.write_text(HEAD + "sodium chloride,,NaCl,Na+,1,Cl-,1,0,37.15,1.5700\n", encoding="utf-8")
+    with pytest.raises(InputFileError, match=r"b\.csv:7: field 'name': sodium chloride is also in .*a\.csv:7"):
+        MineralCatalogue((read_mineral_file(a), read_mineral_file(b)))
 
 
 def test_bundled_values_are_the_printed_ones(table):

@@ -67,3 +67,37 @@ def test_mixture_mistakes_are_one_line_errors(mixture_store, run_main):
         code, out, err = run_main(*args, store=mixture_store)
         assert code == 2, (args, err)
         assert needle in err and len(err.strip().splitlines()) == 1, err
+
+
+def test_data_and_on_choose_among_a_systems_datasets(mixture_store, run_main, tmp_path):
+    # a second, biased series of the same system (every gamma± 3 % high: a systematic error of
+    # the kind --data exists to leave out; common practice, no source)
+    original = EXAMPLES / "hcl-nacl.gamma-hcl.kestrel-notebook-12.csv"
+    lines = original.read_text(encoding="utf-8").splitlines()
+    body = lines.index("m(HCl),m(NaCl),value")
+    biased = lines[:body + 1] + [",".join([*row.split(",")[:2], f"{float(row.split(',')[2]) * 1.03:.4f}"])
+                                 for row in lines[body + 1:] if row]
+    path = tmp_path / "hcl-nacl.gamma-hcl.biased.csv"
+    path.write_text("\n".join(biased) + "\n", encoding="utf-8")
+    code, out, err = run_main("data", "add", str(path), store=mixture_store)
+    assert code == 0, err
+
+    def theta(*extra):
+        code, out, err = run_main("fit", "--mixture", "HCl + NaCl", "--model", "pitzer", "--no-save",
+                                  "--format", "json", *extra, store=mixture_store)
+        assert code == 0, err
+        return {p["name"]: p["value"] for p in json.loads(out)["parameters"]}["theta[H+/Na+]"]
+
+    chosen = theta("--data", "hcl-nacl.gamma-hcl.kestrel-notebook-12")
+    assert chosen != pytest.approx(theta(), abs=1e-3)  # the pooled fit feels the biased series
+    code, out, err = run_main("compare", "--mixture", "HCl + NaCl", "--models", "pitzer", "--format", "json",
+                              "--data", "hcl-nacl.gamma-hcl.kestrel-notebook-12", store=mixture_store)
+    assert code == 0, err
+    pitzer = json.loads(out)[0]
+    assert pitzer["n_points"] == 30 and pitzer["heldout_rms_ln_gamma"] < 0.004
+    for args, needle in ((["--on", "osmotic"], "no mixture data of HCl + NaCl left after --on osmotic"),
+                         (["--data", "nope"], "no mixture dataset, source or origin 'nope'")):
+        for command in (["compare", "--mixture", "HCl + NaCl"],
+                        ["fit", "--mixture", "HCl + NaCl", "--model", "pitzer", "--no-save"]):
+            code, out, err = run_main(*command, *args, store=mixture_store)
+            assert code == 2 and needle in err and len(err.strip().splitlines()) == 1, err

@@ -74,3 +74,23 @@ def test_mineral_names_and_the_cli(seeded_store, run_main):
     assert "screening estimates" in err
     code, out, err = run_main("solubility", "unobtainium", store=seeded_store)
     assert code == 2 and "no solubility product" in err and len(err.strip().splitlines()) == 1
+
+
+@pytest.mark.parametrize(("mineral", "handbook", "tolerance"), [
+    # Solubility at 25 °C (from memory of the CRC Handbook, "Aqueous Solubility of Inorganic
+    # Compounds"): NaCl 26.45 mass % (6.15 mol/kg), KCl 26.2 mass % (4.77 mol/kg). The log K are
+    # from memory of Harvie, Moller and Weare (1984), whose own NaCl and KCl parameters differ
+    # slightly from Pitzer and Mayorga's used here: within 2 %.
+    ("halite", 6.15, 0.02),
+    ("sylvite", 4.77, 0.02),
+])
+def test_halite_and_sylvite_in_water_with_pitzer(session, mineral, handbook, tolerance):
+    result = _by_model(solubility(session, mineral, ["pitzer"]))["pitzer"]
+    assert result.molality_at_saturation == pytest.approx(handbook, rel=tolerance)
+
+
+def test_halite_is_salted_out_by_a_chloride_background(session):
+    # the common-ion effect (common practice, no source): MgCl2 lowers NaCl's solubility
+    water = _by_model(solubility(session, "halite", ["pitzer"]))["pitzer"].molality_at_saturation
+    brine = _by_model(solubility(session, "halite", ["pitzer"], spec="MgCl2=1.0"))["pitzer"]
+    assert brine.molality_at_saturation < water - 1.0

@@ -42,10 +42,11 @@ def fit(app, electrolytes, model_id, up_to, fix, free, data_sel, on, temperature
     if mixture is not None:
         if electrolytes:
             raise UserError("give electrolytes or --mixture, not both")
-        for value, name in ((fix, "--fix"), (up_to, "--up-to"), (data_sel, "--data"), (on, "--on")):
+        for value, name in ((fix, "--fix"), (up_to, "--up-to")):
             if value:
                 raise UserError(f"{name} does not apply with --mixture")
-        _fit_mixture(app, mixture, model_id, list(free), [x for x in sets.split(",") if x], set_name, save, fmt)
+        _fit_mixture(app, mixture, model_id, list(free), [x for x in sets.split(",") if x], set_name, save, fmt,
+                     on=on, datasets=[d.strip() for d in data_sel.split(",") if d.strip()])
         return
     if not electrolytes:
         raise UserError("name at least one electrolyte, or --mixture SYSTEM")
@@ -106,15 +107,18 @@ def _f(x) -> str:
 
 
 def _fit_mixture(app, system: str, model_id: str, free: list[str], sets: list[str], set_name, save: bool,
-                 fmt: str) -> None:
+                 fmt: str, *, on: str | None, datasets: list[str]) -> None:
     from saltbench.api import fit_mixture_data, save_mixture_fit
+    from saltbench.fitting.selection import parse_on
 
     session = app.session()
-    result, resolved, keys = fit_mixture_data(session, system, model_id, free=free or None, sets=sets)
+    result, resolved, keys = fit_mixture_data(session, system, model_id, free=free or None, sets=sets,
+                                              on=parse_on(on) if on else (), datasets=datasets)
     out = result.to_dict()
     out["datasets"] = keys
     out["held_from"] = list(resolved.sets)
-    out["parameter_set"] = (save_mixture_fit(session, result, model_id, system, set_name=set_name, sets=sets)
+    out["parameter_set"] = (save_mixture_fit(session, result, model_id, system, set_name=set_name, sets=sets,
+                                                    keys=keys)
                             if save else None)
     if fmt == "json":
         emit([], fmt, json_obj=out)

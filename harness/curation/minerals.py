@@ -1,8 +1,11 @@
 """Solubility-product files (format in DEVELOPERS.md, "Solubility products"): one table, one
 source, one temperature, a row per mineral.
 
-The bundled file is ``refdata/minerals/ksp-crc-87.csv``, written by
-``refdata/tools/transcribe_ksp.py``; its citation is in ``minerals.sources.txt`` beside it.
+The bundled tables are every ``refdata/minerals/*.csv``: the handbook's
+``ksp-crc-87.csv``, written by ``refdata/tools/transcribe_ksp.py``, first, then the few minerals
+it lacks, typed from memory of the papers named in each file (``ksp-*-remembered.csv``); their
+citations are in ``minerals.sources.txt`` beside them. :class:`MineralCatalogue` looks a mineral
+up across them.
 """
 
 from __future__ import annotations
@@ -25,7 +28,7 @@ COLUMNS = ["name", "mineral", "formula", "cation", "nu_cation", "anion", "nu_ani
            "log10_ksp"]
 #: log10_ksp must equal log10(ksp) to its four printed decimals (half a unit of the last one).
 LOG_TOLERANCE = 0.5e-4 + 1e-12
-BUNDLED = "ksp-crc-87.csv"
+BUNDLED = "ksp-crc-87.csv"  # the transcribed handbook table; read before the others
 #: Mineral names a user types for compounds of one common solid form at 25 °C (common practice,
 #: no source). Not aliased: CaCO3 (calcite or aragonite: the table does not say) and MgCO3 (its
 #: printed Ksp is far above magnesite's, so it is not that mineral).
@@ -46,6 +49,7 @@ class MineralTable:
     typed: str
     note: str
     minerals: tuple[Mineral, ...]
+    lines: tuple[int, ...] = ()  # each mineral's line in the file
 
     def find(self, name: str) -> Mineral:
         """A mineral by its mineral name, its table name, its formula (case-insensitive) or a
@@ -95,6 +99,7 @@ def read_mineral_file(path: str | Path, sources: dict[str, str] | None = None,
     temperature_k = b.temperature_k()
     typed = b.typed(TYPED_FROM_SOURCE).value
     minerals: list[Mineral] = []
+    lines: list[int] = []
     seen: dict[str, int] = {}
     for n, row in b.rows:
         name = row["name"]
@@ -124,10 +129,11 @@ def read_mineral_file(path: str | Path, sources: dict[str, str] | None = None,
                                  f"({math.log10(ksp):.4f})")
         minerals.append(Mineral(name, row["mineral"], row["formula"], (cation, anion), water,
                                 math.log10(ksp), temperature_k, citation))
+        lines.append(n)
     if not minerals:
         raise InputFileError(p, b.columns_line, None, "the table has no rows")
     return MineralTable(p, source.value, citation, b.require("table").value, temperature_k, typed,
-                        b.get("note", "") or "", tuple(minerals))
+                        b.get("note", "") or "", tuple(minerals), tuple(lines))
 
 
 def _check_formula(path: str, line: int, formula: str, cation: tuple[Ion, int], anion: tuple[Ion, int],
@@ -149,8 +155,48 @@ def _check_formula(path: str, line: int, formula: str, cation: tuple[Ion, int], 
                              f"{anion[1]} {anion[0].name}")
 
 
-def bundled_minerals() -> MineralTable:
-    """The bundled table of solubility products (CRC Handbook, 87th ed.), citation resolved."""
+@dataclass(frozen=True)
+class MineralCatalogue:
+    """Several solubility-product tables read together; a mineral's name is unique across them."""
+
+    tables: tuple[MineralTable, ...]
+
+    def __post_init__(self) -> None:
+        seen: dict[str, str] = {}
+        for table in self.tables:
+            for m, line in zip(table.minerals, table.lines or [None] * len(table.minerals)):
+                for key in {m.name.lower(), m.mineral.lower()} - {""}:
+                    if key in seen:
+                        raise InputFileError(table.path, line, "name", f"{key} is also in {seen[key]}")
+                    seen[key] = f"{table.path}:{line}"
+
+    @property
+    def minerals(self) -> tuple[Mineral, ...]:
+        return tuple(m for t in self.tables for m in t.minerals)
+
+    def find(self, name: str) -> Mineral:
+        """A mineral by its mineral name or table name (unique across the tables), a mineral
+        name of :data:`ALIASES`, or its formula where only one table row has that formula."""
+        key = name.strip().lower()
+        key = ALIASES.get(key, key).lower()
+        for m in self.minerals:
+            if key in (m.mineral.lower(), m.name.lower()):
+                return m
+        by_formula = [(m, t.source) for t in self.tables for m in t.minerals if m.formula.lower() == key]
+        if len(by_formula) == 1:
+            return by_formula[0][0]
+        if by_formula:
+            names = "; ".join(f"{m.label} ({source})" for m, source in by_formula)
+            raise UserError(f"{name} is more than one mineral here: {names}; name the one you mean")
+        known = ", ".join(m.label for m in self.minerals)
+        sources = ", ".join(t.source for t in self.tables)
+        raise UserError(f"no solubility product for {name!r} in {sources} (known: {known})")
+
+
+def bundled_minerals() -> MineralCatalogue:
+    """The bundled solubility products: the CRC Handbook's table (87th ed.) and the minerals it
+    lacks, typed from memory of their papers; citations resolved."""
     root = Path(str(resources.files("saltbench.refdata"))) / "minerals"
     sources = {s.key: s.citation() for s in read_bibliography(root / "minerals.sources.txt")}
-    return read_mineral_file(root / BUNDLED, sources)
+    others = sorted(p for p in root.glob("*.csv") if p.name != BUNDLED)
+    return MineralCatalogue(tuple(read_mineral_file(p, sources) for p in [root / BUNDLED, *others]))

@@ -82,3 +82,33 @@ class MixturePoints:
                 and np.array_equal(a.molality, b.molality) and np.array_equal(self.values, other.values)
                 and np.array_equal(self.uncertainties, other.uncertainties)
                 and np.array_equal(a.temperature_k, b.temperature_k))
+
+
+#: the comparison's property names (``--on``; saltbench.fitting.selection) for each quantity kind
+PROPERTY_OF_KIND = {LN_GAMMA_PM: "gamma_pm", OSMOTIC: "osmotic", WATER_ACTIVITY: "water_activity"}
+
+
+def select_mixture_points(parts: list[MixturePoints], system: str, *, on: tuple[str, ...] | list[str] = (),
+                          datasets: tuple[str, ...] | list[str] = ()) -> list[MixturePoints]:
+    """The datasets of ``parts`` whose property is in ``on`` (``gamma_pm``, ``osmotic``,
+    ``water_activity``; empty: all) and whose key, source key or origin is in ``datasets``
+    (empty: all), as ``--on`` and ``--data`` choose for one salt. A ``datasets`` name that
+    matches none of them, or a choice that leaves nothing, is a UserError."""
+    from saltbench.errors import UserError
+
+    chosen = list(parts)
+    if datasets:
+        wanted = set(datasets)
+        known = {v for p in parts for v in (p.key, p.source, p.origin)}
+        unknown = sorted(wanted - known)
+        if unknown:
+            raise UserError(f"--data: no mixture dataset, source or origin {unknown[0]!r} for {system}")
+        chosen = [p for p in chosen if wanted & {p.key, p.source, p.origin}]
+    if on:
+        chosen = [p for p in chosen if PROPERTY_OF_KIND[p.quantity[0]] in on]
+    if not chosen:
+        shown = [{"gamma_pm": "gamma"}.get(x, x) for x in on]
+        given = ", ".join(x for x in (f"--on {','.join(shown)}" if on else "",
+                                      f"--data {','.join(datasets)}" if datasets else "") if x)
+        raise UserError(f"no mixture data of {system} left after {given}")
+    return chosen

@@ -77,15 +77,13 @@ def water_activity_from_osmotic(electrolyte: Electrolyte, molality: np.ndarray |
 
 
 def saturation_pressure(temperature_k: float) -> float:
-    """Vapour pressure of pure water in Pa at ``temperature_k`` (IAPWS-IF97 via ``iapws``)."""
-    from iapws.iapws97 import _PSat_T
-
+    """Vapour pressure of pure water in Pa at ``temperature_k`` (IAPWS-IF97 via ``iapws``), within
+    the temperatures saltbench takes."""
     from saltbench.water.properties import check_temperature
+    from saltbench.water.properties import saturation_pressure as p_sat
 
     check_temperature(float(temperature_k))
-    if temperature_k > 647.096:
-        raise UserError("no saturation pressure above the critical temperature of water")
-    return float(_PSat_T(float(temperature_k))) * 1e6
+    return p_sat(temperature_k)
 
 
 def osmotic_from_vapour_pressure(electrolyte: Electrolyte, molality: np.ndarray | float,

@@ -76,4 +76,9 @@ def register_report_sections(context: PluginContext) -> list[Any]:
     per report; the sections appear in plugin load order after the per-electrolyte sections and
     before the limits and cautions. A section whose ``render`` raises is replaced by a note
     saying so, and the report is still written.
+
+    A section that also has ``render_mixture(comparison)`` appears in mixture reports
+    (``report --mixture``) too, in the same place, given the
+    :class:`saltbench.comparison.mixtures.MixtureComparison`; sections without it are left out
+    of them, so a section written for one-salt comparisons never sees a mixture's.
     """

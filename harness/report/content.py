@@ -75,6 +75,16 @@ def verdict_rows(comparison) -> tuple[list[list[str]], list[list[str]], list[str
     return verdicts, errors, marks
 
 
+def add_plugin_sections(doc: Document, facts: ReportFacts, n: int) -> int:
+    """Append the plugins' sections (``facts.extra_sections``) numbered from ``n``; the next number."""
+    for plugin, title, text in facts.extra_sections:
+        paragraphs = [Paragraph(p.strip()) for p in text.split("\n\n") if p.strip()]
+        doc.sections.append(Section(f"plugin-{n}", f"{n} {title}",
+                                    [*paragraphs, Paragraph(f"(Section contributed by plugin {plugin}.)")]))
+        n += 1
+    return n
+
+
 def build_document(comparison, facts: ReportFacts) -> Document:
     s = comparison.settings
     doc = Document(facts.title, f"saltbench {facts.software_version} · generated {facts.created}",
@@ -83,12 +93,7 @@ def build_document(comparison, facts: ReportFacts) -> Document:
     doc.sections.append(_findings(comparison))
     for i, name in enumerate(comparison.outcomes, start=3):
         doc.sections.append(_electrolyte(comparison, facts, name, i))
-    n = len(comparison.outcomes) + 3
-    for plugin, title, text in facts.extra_sections:
-        paragraphs = [Paragraph(p.strip()) for p in text.split("\n\n") if p.strip()]
-        doc.sections.append(Section(f"plugin-{n}", f"{n} {title}",
-                                    [*paragraphs, Paragraph(f"(Section contributed by plugin {plugin}.)")]))
-        n += 1
+    n = add_plugin_sections(doc, facts, len(comparison.outcomes) + 3)
     doc.sections.append(_cautions(comparison, n, s))
     doc.sections.append(_reproduce(facts, n + 1))
     doc.sections.append(sign_off_section(n + 2))

@@ -16,6 +16,7 @@ from saltbench.report.content import (
     _flag_blocks,
     _heldout_table,
     _reproduce,
+    add_plugin_sections,
     sign_off_section,
     tolerance_text,
 )
@@ -48,9 +49,10 @@ def build_mixture_document(view: MixtureView, facts: ReportFacts) -> Document:
     doc.sections.append(_findings(view))
     doc.sections.append(_mixing_terms(view))
     doc.sections.append(_along_ionic_strength(view, facts))
-    doc.sections.append(_cautions(view, 5))
-    doc.sections.append(_reproduce(facts, 6))
-    doc.sections.append(sign_off_section(7))
+    n = add_plugin_sections(doc, facts, 5)
+    doc.sections.append(_cautions(view, n))
+    doc.sections.append(_reproduce(facts, n + 1))
+    doc.sections.append(sign_off_section(n + 2))
     return doc
 
 

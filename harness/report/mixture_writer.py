@@ -25,6 +25,7 @@ from saltbench.report.writer import (
     ReportResult,
     _write_files,
     default_folder,
+    plugin_sections,
     time_stamp,
     write_atomically,
 )
@@ -79,7 +80,8 @@ def write_mixture_report(session, view: MixtureView, *, title: str | None = None
     facts = ReportFacts(title=title, created=created, command=command, software_version=__version__,
                         python=platform.python_version(), platform=platform.platform(),
                         store_path=store_path, store_hash=store_hash, manifest_name=MANIFEST_NAME,
-                        plugins=plugins, models=models, figures=figures)
+                        plugins=plugins, models=models, figures=figures,
+                        extra_sections=plugin_sections(reg, view.comparison, "render_mixture"))
     doc = build_mixture_document(view, facts)
 
     def manifest_for(files: dict[str, str]) -> dict:

@@ -96,13 +96,18 @@ def _parameter_sets(session, comparison) -> list[dict]:
     return out
 
 
-def _plugin_sections(reg, comparison) -> list[tuple[str, str, str]]:
-    """Sections from ``register_report_sections``; a failing one becomes a visible note."""
+def plugin_sections(reg, comparison, method: str = "render") -> list[tuple[str, str, str]]:
+    """Sections from ``register_report_sections``: each section's ``method`` (``render`` for a
+    one-salt report, ``render_mixture`` for a mixture report; a section without it is left out
+    of that kind of report) called with ``comparison``; a failing one becomes a visible note."""
     out = []
     for rec, section in reg.call_list_hook("register_report_sections"):
+        render = getattr(section, method, None)
+        if not callable(render):
+            continue
         title = str(getattr(section, "title", "") or f"Section from plugin {rec.name}")
         try:
-            text = str(section.render(comparison))
+            text = str(render(comparison))
         except Exception as exc:  # a plugin's bug must not stop the report
             text = f"This section could not be produced: {type(exc).__name__}: {exc}"
         out.append((rec.name, title, text))
@@ -135,7 +140,7 @@ def write_report(session, comparison, *, title: str | None = None, folder: Path 
     store_path = str(session.store.path) if session.store.path else "(in memory)"
     store_hash = session.content_hash()
     figures = _figures(comparison, residuals)
-    extra = _plugin_sections(reg, comparison)
+    extra = plugin_sections(reg, comparison)
     facts = ReportFacts(title=title, created=created, command=command, software_version=__version__,
                         python=platform.python_version(), platform=platform.platform(),
                         store_path=store_path, store_hash=store_hash, manifest_name=MANIFEST_NAME,

@@ -13,8 +13,9 @@ from saltbench.water.properties import (
     water_activity,
     water_state,
 )
+from saltbench.water.thermal_slopes import DebyeHuckelSlopes, debye_huckel_slopes
 
 __all__ = [
-    "DebyeHuckel", "debye_huckel_constants", "with_a_phi",
+    "DebyeHuckel", "debye_huckel_constants", "with_a_phi", "DebyeHuckelSlopes", "debye_huckel_slopes",
     "MOLAR_MASS_WATER", "water_activity", "T_MAX", "T_MIN", "WaterState", "water_state",
 ]

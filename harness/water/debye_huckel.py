@@ -14,7 +14,7 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass, replace
 
-from saltbench.water.properties import water_state
+from saltbench.water.properties import WaterState, water_state
 
 
 @dataclass(frozen=True)
@@ -45,15 +45,21 @@ class DebyeHuckel:
         return self.b_gamma * 1e-10
 
 
+def a_phi_of_state(w: WaterState) -> float:
+    """A_phi of the module docstring for one water state."""
+    from scipy import constants as c
+
+    bjerrum = c.e**2 / (4.0 * math.pi * c.epsilon_0 * w.permittivity * c.k * w.temperature_k)
+    return (1.0 / 3.0) * math.sqrt(2.0 * math.pi * c.N_A * w.density) * bjerrum**1.5
+
+
 def _constants(temperature_k: float, pressure_pa: float | None) -> DebyeHuckel:
     from scipy import constants as c
 
     w = water_state(temperature_k, pressure_pa)
     kt = c.k * w.temperature_k
-    bjerrum = c.e**2 / (4.0 * math.pi * c.epsilon_0 * w.permittivity * kt)
-    a_phi = (1.0 / 3.0) * math.sqrt(2.0 * math.pi * c.N_A * w.density) * bjerrum**1.5
     b_gamma = math.sqrt(2.0 * c.N_A * c.e**2 * w.density / (c.epsilon_0 * w.permittivity * kt))
-    return DebyeHuckel(w.temperature_k, w.pressure_pa, a_phi, b_gamma, w.density, w.permittivity)
+    return DebyeHuckel(w.temperature_k, w.pressure_pa, a_phi_of_state(w), b_gamma, w.density, w.permittivity)
 
 
 def debye_huckel_constants(

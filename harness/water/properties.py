@@ -69,14 +69,25 @@ def _state(temperature_k: float, pressure_pa: float | None) -> WaterState:
 
 
 def _fresh_state(temperature_k: float, pressure_pa: float | None) -> WaterState:
-    from iapws import IAPWS95  # heavy import kept out of module import time
+    check_temperature(temperature_k)
+    return liquid_state(temperature_k, pressure_pa)
+
+
+def saturation_pressure(temperature_k: float) -> float:
+    """Saturation vapour pressure of water in Pa (IAPWS-IF97 region 4, through ``iapws``)."""
     from iapws.iapws97 import _PSat_T
 
-    check_temperature(temperature_k)
+    return float(_PSat_T(float(temperature_k))) * 1e6
+
+
+def liquid_pressure(temperature_k: float, pressure_pa: float | None) -> float:
+    """The pressure used for liquid water at ``temperature_k``: ``pressure_pa``, or 101325 Pa,
+    or just above saturation above the normal boiling point. A given pressure below saturation
+    is a UserError."""
     p = P_STANDARD if pressure_pa is None else float(pressure_pa)
     if temperature_k > 373.0:
         # Keep the liquid: below saturation the state would be steam.
-        p_sat = _PSat_T(temperature_k) * 1e6
+        p_sat = saturation_pressure(temperature_k)
         if pressure_pa is None:
             p = max(p, p_sat * 1.0001)
         elif p < p_sat:
@@ -84,6 +95,15 @@ def _fresh_state(temperature_k: float, pressure_pa: float | None) -> WaterState:
                 f"pressure {p:g} Pa is below the saturation pressure {p_sat:.6g} Pa at "
                 f"{temperature_k:g} K: water would not be liquid"
             )
+    return p
+
+
+def liquid_state(temperature_k: float, pressure_pa: float | None) -> WaterState:
+    """Density and permittivity from IAPWS-95 and R8-97 without the range check of
+    :func:`water_state` (a caller differencing in T may step just outside it)."""
+    from iapws import IAPWS95  # heavy import kept out of module import time
+
+    p = liquid_pressure(temperature_k, pressure_pa)
     state = IAPWS95(T=float(temperature_k), P=p / 1e6)
     if state.rho is None or state.epsilon is None:
         raise UserError(f"no liquid-water state at {temperature_k:g} K and {p:g} Pa")
