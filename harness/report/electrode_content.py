@@ -50,7 +50,6 @@ class ElectrodeView:
     model_id: str | None
     sets: list[str]
     candidates: list[str]
-    citations: dict[str, str] = field(default_factory=dict)  # source key -> citation
 
 
 def _mv(x: float | None, digits: int = 5) -> str:
@@ -88,7 +87,7 @@ def _scope(view: ElectrodeView) -> Section:
         what = (f"pH, {len(item.ph.buffers)} buffers" if item.ph is not None
                 else f"{es.ion.name}, {len(item.calibration.standards)} standards")
         rows.append([es.key, what, f"{es.temperature_k:g} K", es.electrode or DASH, es.reference_electrode or DASH,
-                     view.citations.get(es.source, es.source), es.typed])
+                     es.source, es.typed])
         marks.append("invented" if es.invented else "memory" if es.from_memory else "")
     conv = view.convention + (f" ({view.model_id})" if view.model_id else "")
     blocks: list = [
@@ -149,7 +148,8 @@ def _ise_section(item: ElectrodeItem, facts: ReportFacts, n: int) -> Section:
     sec.children.append(Section(f"electrode-plot-{n}", f"{n}.1 Calibration plot",
                                 [Figure(f.key, f.caption, f.alt, f.png) for f in img]
                                 or [Paragraph("Figure not available.")]))
-    sec.children.append(Section(f"electrode-standards-{n}", f"{n}.2 Standards on the {cal.convention_label} convention", [
+    heading = f"{n}.2 Standards on the {cal.convention_label} convention"
+    sec.children.append(Section(f"electrode-standards-{n}", heading, [
         Table(f"standards-{n}", "Standards: composition (mol/kg, background included), ionic strength I (mol/kg), "
               "the primary ion's molality m, activity coefficient γ, activity a and pX, the measured potential "
               "and its residual from the fitted response",

@@ -52,11 +52,14 @@ def records(view: ElectrodeView) -> dict[str, list[dict]]:
         key = item.key
         if item.ph is not None:
             c = item.ph.calibration
+            u_e0, u_s = (math.sqrt(max(float(c.covariance[i, i]), 0.0)) for i in (0, 1))
             cals.append({"set": key, "kind": "ph", "ion": "H+", "convention": "bates-guggenheim",
-                         "e0_v": _f(c.e0), "slope_v_per_decade": _f(c.slope), "slope_percent_nernstian":
-                         _f(c.slope_percent), "nernst_slope_v": _f(c.nernst_slope), "chi2": _f(c.chi2),
-                         "dof": c.dof, "detection_limit_activity": None, "linear_range_low": None,
-                         "linear_range_high": None})
+                         "e0_v": _f(c.e0), "u_e0_v": u_e0, "slope_v_per_decade": _f(c.slope),
+                         "u_slope_v_per_decade": u_s, "slope_percent_nernstian": _f(c.slope_percent),
+                         "u_slope_percent_nernstian": 100.0 * u_s / abs(c.nernst_slope),
+                         "nernst_slope_v": _f(c.nernst_slope), "chi2": _f(c.chi2), "dof": c.dof,
+                         "detection_limit_activity": None, "u_detection_limit_activity": None,
+                         "linear_range_low": None, "linear_range_high": None})
             for line, label, s in item.ph.samples:
                 samples.append({"set": key, "line": line, "label": label, "emf_v": _f(s.emf), "activity": None,
                                 "u_activity": None, "ph": _f(s.ph), "u_ph": _f(s.u_ph), "molality": None,
@@ -67,9 +70,11 @@ def records(view: ElectrodeView) -> dict[str, list[dict]]:
         cal, fit = item.calibration, item.calibration.fit
         rng = fit.linear_range
         cals.append({"set": key, "kind": "electrode", "ion": cal.set.ion.name, "convention": cal.convention_label,
-                     "e0_v": _f(fit.e0), "slope_v_per_decade": _f(fit.slope),
-                     "slope_percent_nernstian": _f(fit.slope_percent), "nernst_slope_v": _f(fit.nernst_slope),
+                     "e0_v": _f(fit.e0), "u_e0_v": _f(fit.u("e0")), "slope_v_per_decade": _f(fit.slope),
+                     "u_slope_v_per_decade": _f(fit.u("slope")), "slope_percent_nernstian": _f(fit.slope_percent),
+                     "u_slope_percent_nernstian": _f(fit.u_slope_percent), "nernst_slope_v": _f(fit.nernst_slope),
                      "chi2": _f(fit.chi2), "dof": fit.dof, "detection_limit_activity": _f(fit.detection_limit),
+                     "u_detection_limit_activity": _f(fit.u_detection_limit),
                      "linear_range_low": _f(rng.low) if rng else None,
                      "linear_range_high": _f(rng.high) if rng else None})
         for s, r in zip(cal.standards, fit.residuals):
@@ -101,7 +106,8 @@ def _figures(view: ElectrodeView) -> dict[str, list]:
     out = {}
     for i, item in enumerate(view.items, start=1):
         stem = f"{slug(item.key) or 'set'}-{i}.calibration"
-        out[item.key] = [ph_figure(item.ph, stem) if item.ph is not None else calibration_figure(item.calibration, stem)]
+        out[item.key] = [ph_figure(item.ph, stem) if item.ph is not None
+                         else calibration_figure(item.calibration, stem)]
     return out
 
 
