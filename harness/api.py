@@ -490,10 +490,20 @@ def rerun_report(session: Session, manifest_path: str | os.PathLike[str], *,
 
     manifest_path = Path(manifest_path)
     old = load_manifest(manifest_path)
-    settings = settings_from(old)
     if folder is None:
         here = manifest_path.resolve().parent
         folder = here.parent / f"{here.name}-rerun"
+    if old["command"].get("electrode"):
+        from saltbench.report.electrode_writer import electrode_agreement
+
+        c = old["command"]
+        result = make_electrode_report(session, c["electrode"], c.get("convention") or "davies",
+                                       model_id=c.get("model"), parameter_sets=c.get("sets") or (),
+                                       candidates=c.get("candidates") or ELECTRODE_CANDIDATES,
+                                       title=old["title"], folder=folder, command=command, argv=argv)
+        result.agreement = electrode_agreement(old, result.manifest)
+        return result
+    settings = settings_from(old)
     if old["command"].get("mixture"):
         result = make_mixture_report(session, old["command"]["mixture"], settings,
                                      sets=old["command"].get("sets") or (), title=old["title"], folder=folder,
@@ -1708,3 +1718,36 @@ def ph_calibrate(session: Session, key_or_file: Any) -> PhCalibrationRun:
                                            u_temperature_k=es.u_temperature_k))
                for r in es.of_role("sample")]
     return PhCalibrationRun(es, cal, [(b.line, b.label) for b in buffers], samples)
+
+
+
+def make_electrode_report(session: Session, sets: Sequence[Any], convention: str = "davies", *,
+                          model_id: str | None = None, parameter_sets: Sequence[str] = (),
+                          candidates: Sequence[str] = ELECTRODE_CANDIDATES, missing: str = "error",
+                          title: str | None = None, folder: str | os.PathLike[str] | None = None,
+                          command: str = "", argv: list[str] | None = None, created: str | None = None):
+    """Calibrate every electrode set of ``sets`` (stored ids or files; pH-buffer sets by
+    :func:`ph_calibrate`, the others by :func:`electrode_calibrate` on ``convention`` with their
+    samples), then write the electrode-validation report into ``folder`` (default
+    ``reports/<slug>``); returns a :class:`saltbench.report.writer.ReportResult` whose
+    ``comparison`` is the :class:`saltbench.report.electrode_content.ElectrodeView`. Nothing is
+    written when a set cannot be calibrated."""
+    from saltbench.errors import UserError
+    from saltbench.report.electrode_content import ElectrodeItem, ElectrodeView
+    from saltbench.report.electrode_writer import write_electrode_report
+
+    if not sets:
+        raise UserError("name at least one electrode or pH-buffer set")
+    items = []
+    for key in sets:
+        es = electrode_set(session, key)
+        if es.kind == "ph_buffers":
+            items.append(ElectrodeItem(ph=ph_calibrate(session, es)))
+        else:
+            cal = electrode_calibrate(session, es, convention, model_id=model_id, sets=parameter_sets,
+                                      missing=missing)
+            items.append(ElectrodeItem(calibration=cal,
+                                       samples=electrode_samples(session, cal, candidates=candidates)))
+    view = ElectrodeView(items, convention, model_id, list(parameter_sets), list(candidates))
+    return write_electrode_report(session, view, title=title, folder=Path(folder) if folder else None,
+                                  command=command, argv=argv, created=created)

@@ -11,6 +11,11 @@ import click
 from saltbench.cli.compare import build_settings, settings_options
 
 SETTING_PARAMS = ("models", "up_to", "tol", "folds", "on", "data_sel", "temperature_k", "title")
+ELECTRODE_PARAMS = ("convention", "model_id", "candidates")
+#: the conventions of 'saltbench electrode calibrate' (and ion-activity)
+ELECTRODE_CONVENTIONS = ("davies", "extended-debye-huckel", "truesdell-jones", "sit", "debye-huckel",
+                         "macinnes", "bates-guggenheim", "model")
+ELECTRODE_CANDIDATES = ("davies", "extended-debye-huckel", "sit")
 
 
 def _command_line(app, electrolytes, settings, title, out_dir, from_manifest, mixture=None, sets=()) -> str:
@@ -46,6 +51,28 @@ def _command_line(app, electrolytes, settings, title, out_dir, from_manifest, mi
     return shlex.join(args)
 
 
+def _electrode_command_line(app, sets, convention, model_id, chosen, candidates, title, out_dir) -> str:
+    args = ["saltbench"]
+    if app.store_path:
+        args += ["--store", str(app.store_path)]
+    for p in app.plugin_files:
+        args += ["--plugin", str(p)]
+    args.append("report")
+    for key in sets:
+        args += ["--electrode", str(key)]
+    args += ["--convention", convention]
+    if model_id:
+        args += ["--model", model_id]
+    if chosen:
+        args += ["--sets", ",".join(chosen)]
+    args += ["--candidates", ",".join(candidates)]
+    if title:
+        args += ["--title", title]
+    if out_dir:
+        args += ["--out", str(out_dir)]
+    return shlex.join(args)
+
+
 @click.command()
 @click.argument("electrolytes", nargs=-1)
 @settings_options
@@ -61,10 +88,22 @@ def _command_line(app, electrolytes, settings, title, out_dir, from_manifest, mi
               help="Report on a system's mixture data instead (e.g. 'HCl + NaCl', or a mixture dataset "
                    "key), as 'compare --mixture' judges it: ranges and --up-to in ionic strength.")
 @click.option("--sets", "sets", default="", metavar="IDS",
-              help="With --mixture: parameter sets to take binary values from first.")
+              help="With --mixture: parameter sets to take binary values from first; with --electrode "
+                   "--convention model: sets to take the model's values from first.")
+@click.option("--electrode", "electrode_sets", multiple=True, metavar="SET",
+              help="Write an electrode-validation report instead: a stored electrode or pH-buffer set, or a "
+                   "readings file (repeatable): calibration plot, response fit, linear range, detection "
+                   "limit, selectivity and samples with their uncertainty.")
+@click.option("--convention", type=click.Choice(ELECTRODE_CONVENTIONS, case_sensitive=False), default="davies",
+              show_default=True, help="With --electrode: how the standards' single-ion activities are "
+                                      "assigned (as in 'saltbench ion-activity').")
+@click.option("--model", "model_id", metavar="ID",
+              help="With --electrode --convention model: the model whose single-ion form is used.")
+@click.option("--candidates", default=",".join(ELECTRODE_CANDIDATES), show_default=True, metavar="NAMES",
+              help="With --electrode: conventions whose spread enters each sample's budget.")
 @click.pass_context
 def report(ctx, electrolytes, models, up_to, tol, folds, on, data_sel, temperature_k, time_limit, out_dir, title,
-           from_manifest, jobs, mixture, sets):
+           from_manifest, jobs, mixture, sets, electrode_sets, convention, model_id, candidates):
     """Compare models and write it up for a method-validation file, ready to sign.
 
     The report a lab files when it validates the activity correction of a method: HTML
@@ -74,23 +113,36 @@ def report(ctx, electrolytes, models, up_to, tol, folds, on, data_sel, temperatu
     The report states its limits. For dosing, safety limits or regulated measurements, verify
     every result under local codes and licensed practice.
     """
-    from saltbench.api import make_mixture_report, make_report, rerun_report
+    from saltbench.api import make_electrode_report, make_mixture_report, make_report, rerun_report
     from saltbench.comparison.runner import default_jobs
     from saltbench.errors import UserError
 
     app = ctx.obj
     s = app.session()
     jobs = jobs or default_jobs()
+    electrode_given = [p for p in ELECTRODE_PARAMS
+                       if ctx.get_parameter_source(p) is not click.core.ParameterSource.DEFAULT]
+    if electrode_given and not electrode_sets:
+        raise UserError(f"--{electrode_given[0].replace('_id', '')} goes with --electrode")
     if from_manifest is not None:
         given = [p for p in SETTING_PARAMS
                  if ctx.get_parameter_source(p) is not click.core.ParameterSource.DEFAULT]
-        if electrolytes or given or mixture is not None:
+        if electrolytes or given or mixture is not None or electrode_sets:
             raise UserError("--from re-runs the manifest's own electrolytes and options; give no "
                             "ELECTROLYTE and no comparison option with it (only --out and --jobs)")
         if not from_manifest.is_file():
             raise UserError(f"--from {from_manifest}: no such file")
         command = _command_line(app, (), None, None, out_dir, from_manifest)
         result = rerun_report(s, from_manifest, folder=out_dir, jobs=jobs, command=command, argv=sys.argv)
+    elif electrode_sets:
+        if electrolytes or mixture is not None:
+            raise UserError("--electrode writes a report of its own: give no electrolyte and no --mixture with it")
+        chosen = [x.strip() for x in sets.split(",") if x.strip()]
+        cands = [x.strip() for x in candidates.split(",") if x.strip()]
+        command = _electrode_command_line(app, electrode_sets, convention, model_id, chosen, cands, title, out_dir)
+        result = make_electrode_report(s, list(electrode_sets), convention.lower(), model_id=model_id,
+                                       parameter_sets=chosen, candidates=cands, title=title, folder=out_dir,
+                                       command=command, argv=sys.argv)
     elif mixture is not None:
         if electrolytes:
             raise UserError("give electrolytes or --mixture, not both")
@@ -101,7 +153,7 @@ def report(ctx, electrolytes, models, up_to, tol, folds, on, data_sel, temperatu
                                      command=command, argv=sys.argv)
     else:
         if sets:
-            raise UserError("--sets goes with --mixture")
+            raise UserError("--sets goes with --mixture or --electrode")
         if not electrolytes:
             raise UserError("name at least one electrolyte (or re-run one with --from MANIFEST)")
         settings = build_settings(models, up_to, tol, folds, on, data_sel, temperature_k, time_limit)
@@ -113,7 +165,11 @@ def report(ctx, electrolytes, models, up_to, tol, folds, on, data_sel, temperatu
     click.echo(f"Report written to {result.folder}:")
     for path in result.files:
         click.echo(f"  {path.relative_to(result.folder).as_posix()}")
-    if "mixture" in result.manifest:
+    if "electrode" in result.manifest["command"]:
+        for rec in result.manifest["results"]["electrode"]["calibrations"]:
+            click.echo(f"{rec['set']}: slope {rec['slope_percent_nernstian']:.1f} % of Nernstian "
+                       f"({rec['convention']} convention)")
+    elif "mixture" in result.manifest:
         mix = result.manifest["mixture"]
         click.echo(f"{mix['system']}: {mix['recommendation']['statement']}")
     else:
