@@ -63,15 +63,65 @@ def etheta(z_i: float, z_j: float, ionic_strength: np.ndarray, a_phi: np.ndarray
     if z_i == z_j:
         zero = np.zeros(np.broadcast(i, a_phi).shape)
         return zero, zero.copy()
-    z_i, z_j = sorted((z_i, z_j))  # the same sums in the same order: exactly symmetric
+    et, etp = etheta_of_types(((z_i, z_j),), i, a_phi)
+    return et[0], etp[0]
+
+
+def etheta_of_types(types, ionic_strength: np.ndarray, a_phi
+                    ) -> tuple[np.ndarray, np.ndarray]:
+    """Etheta and Etheta' (T, N) for each pair of unequal charges (z_i, z_j) of ``types`` (T),
+    at each ionic strength (N,); ``a_phi`` a number or (N,).
+
+    The cost is one sqrt, one log and one exp shared by all, and one exp per distinct product
+    z_i z_j: x = z_i z_j 6 A_phi sqrt(I), so ln x and x^C4 are those of 6 A_phi sqrt(I) shifted
+    and scaled by constants. J and J' are eq. 47 and its exact derivative, as
+    :func:`j_and_derivative` gives them (the same values to rounding).
+    """
+    i = np.asarray(ionic_strength, dtype=float)
     pos = i > 0.0
-    safe = np.where(pos, i, 1.0)
-    base = 6.0 * np.asarray(a_phi, dtype=float) * np.sqrt(safe)
-    zz = [z_i * z_j, z_i * z_i, z_j * z_j]
-    x = np.stack(np.broadcast_arrays(*(c * base for c in zz)))
-    j, dj = j_and_derivative(x)
-    zij = z_i * z_j
-    et = zij / (4.0 * safe) * (j[0] - 0.5 * j[1] - 0.5 * j[2])
-    xdj = x * dj
-    etp = -et / safe + zij / (8.0 * safe * safe) * (xdj[0] - 0.5 * xdj[1] - 0.5 * xdj[2])
-    return np.where(pos, et, 0.0), np.where(pos, etp, 0.0)
+    everywhere = bool(pos.all())
+    safe = i if everywhere else np.where(pos, i, 1.0)
+    base = np.sqrt(safe)
+    base *= 6.0 * np.asarray(a_phi, dtype=float)
+    log_base = np.log(base)
+    base_c4 = np.exp(C4 * log_base)  # (6 A_phi sqrt I)^C4
+    minus_c2_log = -C2 * log_base
+    # J(x) and x J'(x) once per distinct product of charges
+    j_of: dict[float, tuple[np.ndarray, np.ndarray]] = {}
+    for zi, zj in types:
+        for zz in (zi * zj, zi * zi, zj * zj):
+            zz = float(zz)
+            if zz in j_of:
+                continue
+            xc4 = base_c4 * zz**C4
+            q = np.exp(minus_c2_log - C3 * xc4)
+            q *= C1 * zz**-C2  # C1 x^-C2 exp(-C3 x^C4)
+            d = q + 4.0
+            x = base * zz
+            j = x / d
+            xdj = (C3 * C4) * xc4
+            xdj += 1.0 + C2
+            xdj *= q
+            xdj += 4.0
+            xdj *= x
+            xdj /= d * d
+            j_of[zz] = (j, xdj)
+    inv = 1.0 / safe
+    et = np.empty((len(types), i.size))
+    etp = np.empty((len(types), i.size))
+    for t, (zi, zj) in enumerate(types):
+        zi, zj = sorted((float(zi), float(zj)))  # the same sums in the same order: symmetric
+        zij = zi * zj
+        (j_ij, xdj_ij), (j_ii, xdj_ii), (j_jj, xdj_jj) = (j_of[zi * zj], j_of[zi * zi],
+                                                         j_of[zj * zj])
+        e = (j_ij - 0.5 * j_ii - 0.5 * j_jj) * inv
+        e *= zij / 4.0
+        et[t] = e
+        ep = (xdj_ij - 0.5 * xdj_ii - 0.5 * xdj_jj) * (inv * inv)
+        ep *= zij / 8.0
+        ep -= e * inv
+        etp[t] = ep
+    if not everywhere:
+        et[:, ~pos] = 0.0
+        etp[:, ~pos] = 0.0
+    return et, etp
