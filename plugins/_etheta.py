@@ -77,50 +77,49 @@ def etheta_of_types(types, ionic_strength: np.ndarray, a_phi
     and scaled by constants. J and J' are eq. 47 and its exact derivative, as
     :func:`j_and_derivative` gives them (the same values to rounding).
     """
+    # each pair in one order: the same sums in the same order for (z_i, z_j) and (z_j, z_i)
+    types = [tuple(sorted((float(zi), float(zj)))) for zi, zj in types]
     i = np.asarray(ionic_strength, dtype=float)
     pos = i > 0.0
     everywhere = bool(pos.all())
     safe = i if everywhere else np.where(pos, i, 1.0)
     base = np.sqrt(safe)
-    base *= 6.0 * np.asarray(a_phi, dtype=float)
+    base *= 6.0 * np.asarray(a_phi, dtype=float)  # x / (z_i z_j)
     log_base = np.log(base)
-    base_c4 = np.exp(C4 * log_base)  # (6 A_phi sqrt I)^C4
-    minus_c2_log = -C2 * log_base
-    # J(x) and x J'(x) once per distinct product of charges
-    j_of: dict[float, tuple[np.ndarray, np.ndarray]] = {}
-    for zi, zj in types:
-        for zz in (zi * zj, zi * zi, zj * zj):
-            zz = float(zz)
-            if zz in j_of:
-                continue
-            xc4 = base_c4 * zz**C4
-            q = np.exp(minus_c2_log - C3 * xc4)
-            q *= C1 * zz**-C2  # C1 x^-C2 exp(-C3 x^C4)
-            d = q + 4.0
-            x = base * zz
-            j = x / d
-            xdj = (C3 * C4) * xc4
-            xdj += 1.0 + C2
-            xdj *= q
-            xdj += 4.0
-            xdj *= x
-            xdj /= d * d
-            j_of[zz] = (j, xdj)
-    inv = 1.0 / safe
-    et = np.empty((len(types), i.size))
-    etp = np.empty((len(types), i.size))
+    base_c4 = np.multiply(log_base, C4)
+    np.exp(base_c4, out=base_c4)  # (x / z_i z_j)^C4
+    log_base *= -C2
+    # J(x) / (z_i z_j) and x J'(x) / (z_i z_j) once per distinct product of charges, as rows
+    products = list(dict.fromkeys(float(zz) for zi, zj in types
+                                  for zz in (zi * zj, zi * zi, zj * zj)))
+    j_rows = np.empty((len(products), i.size))
+    xdj_rows = np.empty((len(products), i.size))
+    for row, zz in enumerate(products):
+        u = base_c4 * (C3 * zz**C4)  # C3 x^C4
+        q = np.subtract(log_base, u)
+        np.exp(q, out=q)
+        q *= C1 * zz**-C2  # C1 x^-C2 exp(-C3 x^C4)
+        r = q + 4.0
+        np.divide(1.0, r, out=r)  # 1 / (4 + q)
+        j = np.multiply(base, r, out=j_rows[row])  # J / zz = (x / zz) / (4 + q)
+        u *= C4
+        u += 1.0 + C2
+        u *= q
+        u += 4.0
+        u *= r
+        np.multiply(u, j, out=xdj_rows[row])  # x J' / zz = (x / zz) (4 + q(1 + C2 + C4 C3 x^C4)) / (4 + q)^2
+    # Etheta = (z_i z_j / 4I) [J(x_ij) - J(x_ii)/2 - J(x_jj)/2], and the same of x J' / 8I^2
+    weights = np.zeros((len(types), len(products)))
     for t, (zi, zj) in enumerate(types):
-        zi, zj = sorted((float(zi), float(zj)))  # the same sums in the same order: symmetric
         zij = zi * zj
-        (j_ij, xdj_ij), (j_ii, xdj_ii), (j_jj, xdj_jj) = (j_of[zi * zj], j_of[zi * zi],
-                                                         j_of[zj * zj])
-        e = (j_ij - 0.5 * j_ii - 0.5 * j_jj) * inv
-        e *= zij / 4.0
-        et[t] = e
-        ep = (xdj_ij - 0.5 * xdj_ii - 0.5 * xdj_jj) * (inv * inv)
-        ep *= zij / 8.0
-        ep -= e * inv
-        etp[t] = ep
+        for zz, c in ((zi * zj, 1.0), (zi * zi, -0.5), (zj * zj, -0.5)):
+            weights[t, products.index(zz)] += zij * c * zz
+    inv = 1.0 / safe
+    et = weights @ j_rows
+    et *= 0.25 * inv
+    etp = weights @ xdj_rows
+    etp *= 0.125 * inv * inv
+    etp -= et * inv
     if not everywhere:
         et[:, ~pos] = 0.0
         etp[:, ~pos] = 0.0

@@ -45,7 +45,7 @@ from saltbench.plugins._etheta import etheta
 
 _SERIES_BELOW = 1e-2  # x below which g, g' and their derivatives come from Taylor series
 _PAIR_NAMES = ("beta0", "beta1", "beta2", "C_phi", "alpha1", "alpha2")
-_ROW_CHUNK = 4096  # rows per block of the product of coefficients and features (see _contract)
+_ROW_CHUNK = 8192  # rows per block of the product of coefficients and features (see _contract)
 
 
 # -- what the ions fix: the layout ----------------------------------------------------------------
@@ -71,6 +71,7 @@ class _Layout:
     q_of: np.ndarray  # (K, K) position of m_j m_k among the products (-1 on the diagonal)
     types: tuple[tuple[float, float], ...]  # distinct charge pairs of unlike-charged like pairs
     like_type: np.ndarray  # (L,) index into ``types``, -1 for equal charges
+    z_and_one: np.ndarray  # (2, K): |z| and 1, for Z and sum m in one product
 
     @property
     def n_pairs(self) -> int:
@@ -96,7 +97,7 @@ def _layout(names: tuple[str, ...], charges: np.ndarray, default_alphas) -> _Lay
     pa = np.array([a for _, a in pairs], dtype=np.intp)
     keys = [ParameterKey(name, (names[c], names[a])) for name in _PAIR_NAMES for c, a in pairs]
     like, triplets, types, like_type = [], [], [], []
-    for side, other, first in ((cat, an, True), (an, cat, False)):
+    for side in (cat, an):
         for p in range(len(side)):
             for q in range(p + 1, len(side)):
                 j, jj = side[p], side[q]
@@ -125,7 +126,7 @@ def _layout(names: tuple[str, ...], charges: np.ndarray, default_alphas) -> _Lay
     out = _Layout(k, z, cat, an, pc, pa, 1.0 / (2.0 * np.sqrt(z[pc] * -z[pa])), default,
                   np.array(like, dtype=np.intp).reshape(-1, 2),
                   np.array(triplets, dtype=np.intp).reshape(-1, 3), tuple(keys), qj, qk, q_of,
-                  tuple(types), np.array(like_type, dtype=np.intp))
+                  tuple(types), np.array(like_type, dtype=np.intp), np.stack([np.abs(z), np.ones(k)]))
     _LAYOUTS[key] = out
     if len(_LAYOUTS) > _LAYOUTS_KEPT:
         _LAYOUTS.popitem(last=False)
@@ -133,22 +134,28 @@ def _layout(names: tuple[str, ...], charges: np.ndarray, default_alphas) -> _Lay
 
 
 # -- functions of the ionic strength ---------------------------------------------------------------
-def _g_terms(x: np.ndarray, slopes: bool = False) -> tuple[np.ndarray, ...]:
+def _g_terms(x: np.ndarray, slopes: bool = False, two_over_x2: np.ndarray | None = None
+             ) -> tuple[np.ndarray, ...]:
     """(e^-x, g, g') elementwise, and (dg/dx, dg'/dx) after them when ``slopes``; Taylor series
-    where x < 0.01 (the closed forms lose digits to cancellation there)."""
+    where x < 0.01 (the closed forms lose digits to cancellation there). ``two_over_x2`` may
+    give 2/x^2 where the caller has it cheaper.
+
+    g' = e^-x - g: -2 [1 - (1 + x + x^2/2) e^-x] / x^2 is g's numerator less x^2 e^-x.
+    """
     e = np.exp(-x)
-    small = x < _SERIES_BELOW
-    any_small = bool(small.any())
+    any_small = bool(x.min(initial=np.inf) < _SERIES_BELOW)
+    small = x < _SERIES_BELOW if any_small else None
     xs = np.where(small, 1.0, x) if any_small else x
     es = np.where(small, np.exp(-1.0), e) if any_small else e
-    inv2 = 2.0 / (xs * xs)
-    one_x = 1.0 + xs
-    g = 1.0 - one_x * es
-    g *= inv2
-    gp = one_x + 0.5 * xs * xs
-    gp *= es
-    gp -= 1.0
-    gp *= inv2  # -2 [1 - (1 + x + x^2/2) e^-x] / x^2
+    g = 1.0 + xs
+    g *= es
+    np.subtract(1.0, g, out=g)
+    if two_over_x2 is None or any_small:
+        g /= xs * xs
+        g *= 2.0  # 2 [1 - (1 + x) e^-x] / x^2
+    else:
+        g *= two_over_x2
+    gp = es - g
     out = [e, g, gp]
     if slopes:
         dg = 2.0 * es / xs - 2.0 * g / xs
@@ -165,7 +172,7 @@ def _g_terms(x: np.ndarray, slopes: bool = False) -> tuple[np.ndarray, ...]:
 
 
 class _Alphas:
-    """The functions of x = alpha sqrt(I) of one request, computed once per distinct alpha.
+    """The functions of x = alpha sqrt(I), computed once per distinct alpha.
 
     ``slot[s, p, k]`` says which row of ``e``, ``g``, ``gp`` (U, N) holds the function of
     pair p's alpha(k+1) in set s. When alpha is one number per set and pair (the usual case)
@@ -173,28 +180,32 @@ class _Alphas:
     gives alpha a value per row, each set, pair and k has its own row.
     """
 
-    def __init__(self, alpha: np.ndarray, s: np.ndarray) -> None:
+    def __init__(self, alpha: np.ndarray) -> None:
         n_sets, rows, n_pairs, _ = alpha.shape
-        self.s = s
         if rows == 1:
             unique, where = np.unique(alpha[:, 0], return_inverse=True)
             self.slot = where.reshape(n_sets, n_pairs, 2)
-            self.x = unique[:, None] * s[None, :]
+            self.values = unique[:, None]  # (U, 1)
         else:
             self.slot = np.arange(n_sets * n_pairs * 2).reshape(n_sets, n_pairs, 2)
-            self.x = (alpha * s[None, :, None, None]).transpose(0, 2, 3, 1).reshape(-1, s.size)
-        self.e, self.g, self.gp = _g_terms(self.x)
-        self._slopes: tuple[np.ndarray, np.ndarray] | None = None
+            self.values = alpha.transpose(0, 2, 3, 1).reshape(-1, rows)  # (U, N)
+        self.n = self.values.shape[0]
 
-    @property
-    def n(self) -> int:
-        return self.x.shape[0]
+    def x(self, s: np.ndarray, lo: int = 0, hi: int | None = None) -> np.ndarray:
+        """alpha sqrt(I) (U, n) for the rows lo:hi, whose sqrt(I) is ``s``."""
+        per_row = self.values.shape[1] != 1
+        return (self.values[:, lo:hi] if per_row else self.values) * s
 
-    def slopes(self) -> tuple[np.ndarray, np.ndarray]:
-        """(dg/dx, dg'/dx) (U, N), for the alpha derivatives only."""
-        if self._slopes is None:
-            self._slopes = _g_terms(self.x, slopes=True)[3:]  # type: ignore[assignment]
-        return self._slopes  # type: ignore[return-value]
+    def block(self, s: np.ndarray, inv_i: np.ndarray, lo: int, hi: int
+              ) -> tuple[np.ndarray, ...]:
+        """(e, g, g') (U, n) for the rows lo:hi, whose sqrt(I) and 1/I are ``s``, ``inv_i``."""
+        per_row = self.values.shape[1] != 1
+        alpha = self.values[:, lo:hi] if per_row else self.values
+        return _g_terms(alpha * s, two_over_x2=(2.0 / (alpha * alpha)) * inv_i)
+
+    def terms(self, s: np.ndarray, slopes: bool = False) -> tuple[np.ndarray, ...]:
+        """(e, g, g') (U, N), and the slopes after them, for all rows (the derivatives)."""
+        return _g_terms(self.x(s), slopes)
 
 
 # -- the evaluation ---------------------------------------------------------------------------------
@@ -209,66 +220,77 @@ def _gather(request: Request, keys: tuple[ParameterKey, ...]) -> np.ndarray:
     return out
 
 
-def _weights(lay: _Layout, vals: np.ndarray, alpha_slot: np.ndarray, n_alpha: int
-             ) -> np.ndarray:
-    """The coefficient matrix (S, R, n_out, n_features) of :func:`_features`, from parameter
-    values (S, R, keys) (R = 1, or N for values per row).
+@dataclass(frozen=True)
+class _Weights:
+    """The coefficients of one request, (S, R, outputs, features) (R = 1, or N for values per
+    row): ``ln`` maps all features (m, m g_u, m Etheta_t, m Z, then the products m_j m_k,
+    j < k) to the part of each ion's ln gamma linear in them; ``pairs`` maps the products to
+    the sums over pairs that the functions of I weight: per alpha function u the sum of
+    m_c m_a beta (B' in F, B^phi in phi), per charge type t the sum of m_j m_k over its like
+    pairs (Etheta', Etheta + I Etheta'), sum m_j m_k (beta0 or theta), sum m_c m_a C, then
+    (with triplets) K rows of psi's part of ln gamma alone (for phi, by Euler's theorem)."""
 
-    Outputs: K partial ln gamma (the part linear in the features), then per alpha function u
-    the sum over pairs of m_c m_a beta (for B' and B^phi), per charge type the sum of m_j m_k
-    over its like pairs (Etheta, Etheta'), sum m_j m_k (beta0 or theta), sum m_c m_a C, and
-    (with triplets) K rows of psi's part of ln gamma alone, for phi.
-    """
-    k, n_pairs, n_types = lay.k, lay.n_pairs, len(lay.types)
+    ln: np.ndarray
+    pairs: np.ndarray
+    n_alpha: int
+    n_types: int
+
+
+def _weights(lay: _Layout, vals: np.ndarray, alphas: _Alphas) -> _Weights:
+    """The coefficient matrices of :class:`_Weights` from parameter values (S, R, keys)."""
+    k, n_pairs, n_types, n_alpha = lay.k, lay.n_pairs, len(lay.types), alphas.n
     n_sets, rows = vals.shape[:2]
     n_lin = (2 + n_alpha + n_types) * k
-    o_beta, o_type = k, k + n_alpha
+    o_type = n_alpha
     o_zero = o_type + n_types
-    o_c = o_zero + 1
-    o_psi = o_c + 1
-    n_out = o_psi + (k if len(lay.triplets) else 0)
-    w = np.zeros((n_sets, rows, n_out, n_lin + len(lay.qj)))
+    o_r = o_zero + 1
+    n_q = len(lay.qj)
+    ln = np.zeros((n_sets, rows, k, n_lin + n_q))
+    pairs = np.zeros((n_sets, rows, o_r + k, n_q))
     pc, pa = lay.pc, lay.pa
+    q_pair = lay.q_of[pc, pa]
     beta0 = vals[:, :, :n_pairs]
     c_mx = vals[:, :, 3 * n_pairs:4 * n_pairs] * lay.c_scale
     theta = vals[:, :, 6 * n_pairs:6 * n_pairs + len(lay.like)]
     psi = vals[:, :, 6 * n_pairs + len(lay.like):]
     lj, lk = lay.like[:, 0], lay.like[:, 1]
-    # ln gamma, block 0 (times m): 2 beta0 of each pair and 2 theta of each like pair
+    # block 0 (times m): 2 beta0 of each pair and 2 theta of each like pair
     for rows_, cols, v in ((pc, pa, beta0), (pa, pc, beta0), (lj, lk, theta), (lk, lj, theta)):
-        w[:, :, rows_, cols] = 2.0 * v
+        ln[:, :, rows_, cols] = 2.0 * v
     # blocks 1..U (times g_u m): 2 beta1 or beta2 of each pair, in the block of its alpha
     for s in range(n_sets):
         for kk in (0, 1):
-            beta = 2.0 * vals[s, :, (1 + kk) * n_pairs:(2 + kk) * n_pairs]
-            off = k * (1 + alpha_slot[s, :, kk])
-            w[s, :, pc, off + pa] += beta.T
-            w[s, :, pa, off + pc] += beta.T
-            # sum over pairs of m_c m_a beta, by alpha function (B' in F and B^phi in phi)
-            w[s, :, o_beta + alpha_slot[s, :, kk], n_lin + lay.q_of[pc, pa]] += beta.T / 2.0
+            beta = vals[s, :, (1 + kk) * n_pairs:(2 + kk) * n_pairs].T  # (P, R)
+            off = k * (1 + alphas.slot[s, :, kk])
+            ln[s, :, pc, off + pa] += 2.0 * beta
+            ln[s, :, pa, off + pc] += 2.0 * beta
+            pairs[s, :, alphas.slot[s, :, kk], q_pair] += beta
     # blocks of the charge types (times Etheta_t m): 2 for each of their like pairs
     for t in range(n_types):
         mine = lay.like_type == t
         tj, tk = lj[mine], lk[mine]
         off = k * (1 + n_alpha + t)
-        w[:, :, tj, off + tk] = 2.0
-        w[:, :, tk, off + tj] = 2.0
-        w[:, :, o_type + t, n_lin + lay.q_of[tj, tk]] = 1.0
+        ln[:, :, tj, off + tk] = 2.0
+        ln[:, :, tk, off + tj] = 2.0
+        pairs[:, :, o_type + t, lay.q_of[tj, tk]] = 1.0
     # last block (times Z m): C of each pair
     off = k * (1 + n_alpha + n_types)
-    w[:, :, pc, off + pa] = c_mx
-    w[:, :, pa, off + pc] = c_mx
-    # the products: psi's part of ln gamma (d/dm_i of sum psi m m m), beta0 + theta, and C
+    ln[:, :, pc, off + pa] = c_mx
+    ln[:, :, pa, off + pc] = c_mx
+    # the products: |z_i| C (|z_i| sum m_c m_a C) and psi's part of ln gamma (d/dm_i of
+    # sum psi m m m); the rows r_i of phi get |z_i| C and a third of psi's part
+    z_abs = np.abs(lay.z)[:, None]
+    ln[:, :, :, n_lin + q_pair] = z_abs * c_mx[:, :, None, :]
+    pairs[:, :, o_r:, q_pair] = z_abs * c_mx[:, :, None, :]
     tri = lay.triplets
     for i, (a, b) in ((0, (1, 2)), (1, (0, 2)), (2, (0, 1))):
-        # one triplet per member and product: no entry is written twice
-        cols = n_lin + lay.q_of[tri[:, a], tri[:, b]]
-        w[:, :, tri[:, i], cols] = psi
-        w[:, :, o_psi + tri[:, i], cols] = psi
-    w[:, :, o_zero, n_lin + lay.q_of[pc, pa]] = beta0
-    w[:, :, o_zero, n_lin + lay.q_of[lj, lk]] = theta
-    w[:, :, o_c, n_lin + lay.q_of[pc, pa]] = c_mx
-    return w
+        # within one statement each entry is one triplet's (the member and the other two)
+        cols = lay.q_of[tri[:, a], tri[:, b]]
+        ln[:, :, tri[:, i], n_lin + cols] += psi
+        pairs[:, :, o_r + tri[:, i], cols] += psi / 3.0
+    pairs[:, :, o_zero, q_pair] = beta0
+    pairs[:, :, o_zero, lay.q_of[lj, lk]] = theta
+    return _Weights(ln, pairs, n_alpha, n_types)
 
 
 def _features(lay: _Layout, mt: np.ndarray, scales: list[np.ndarray]) -> np.ndarray:
@@ -287,22 +309,97 @@ def _features(lay: _Layout, mt: np.ndarray, scales: list[np.ndarray]) -> np.ndar
     return x
 
 
-def _contract(w: np.ndarray, lay: _Layout, mt: np.ndarray, scales: list[np.ndarray]
-              ) -> np.ndarray:
-    """sum_f w[s, r, o, f] features[f, n] -> (S, n_out, N), in blocks of rows so that the
-    features of a block stay in the cache (R = N: each row its own coefficients)."""
-    n = mt.shape[1]
-    out = np.empty((w.shape[0], w.shape[2], n))
-    per_row = w.shape[1] != 1
-    w0 = None if per_row else np.ascontiguousarray(w[:, 0])
-    for lo in range(0, n, _ROW_CHUNK):
-        hi = min(n, lo + _ROW_CHUNK)
-        x = _features(lay, mt[:, lo:hi], [f[lo:hi] for f in scales])
-        if per_row:
-            out[:, :, lo:hi] = np.einsum("snof,fn->son", w[:, lo:hi], x)
-        else:
-            np.matmul(w0, x, out=out[:, :, lo:hi])
-    return out
+def _apply(w: np.ndarray, x: np.ndarray, lo: int, hi: int) -> np.ndarray:
+    """sum_f w[s, r, o, f] x[f, n] -> (S, O, n) for the rows lo:hi (x holds those rows)."""
+    if w.shape[1] == 1:
+        return np.matmul(w[:, 0], x)
+    return np.einsum("snof,fn->son", w[:, lo:hi], x)
+
+
+def _rows(a: np.ndarray, lo: int, hi: int) -> np.ndarray:
+    """Rows lo:hi of a per-row array (last axis N), or the array itself when it has one."""
+    return a if a.shape[-1] == 1 else a[..., lo:hi]
+
+
+class _Mixture:
+    """One request's evaluation, rows in blocks of _ROW_CHUNK: every intermediate array of a
+    block stays in the processor's cache, where numpy's elementwise operations run several
+    times faster than on arrays of 100 000 rows."""
+
+    def __init__(self, request: Request, lay: _Layout, alphas: _Alphas, w: _Weights) -> None:
+        comp = request.composition
+        self.lay, self.alphas, self.w = lay, alphas, w
+        self.i = comp.ionic_strength
+        self.mt = np.ascontiguousarray(comp.molality.T)  # (K, N)
+        cond = request.conditions
+        self.a_phi = cond.a_phi  # (N,)
+        # Etheta's A_phi: one number when the rows share their conditions
+        self.a_phi_et = float(cond.dh[0].a_phi) if len(cond.dh) == 1 else None
+        self.b = request.value(ParameterKey("b"))  # (S, 1) or (S, N)
+        self.n_sets = request.n_sets
+
+    def run(self) -> tuple[np.ndarray, np.ndarray]:
+        """ln gamma (S, K, N) and phi (S, N)."""
+        n = self.mt.shape[1]
+        ln = np.empty((self.n_sets, self.lay.k, n))
+        phi = np.empty((self.n_sets, n))
+        step = max(256, _ROW_CHUNK // self.n_sets)
+        for lo in range(0, n, step):
+            hi = min(n, lo + step)
+            self._block(lo, hi, ln[:, :, lo:hi], phi[:, lo:hi])
+        return ln, phi
+
+    def _block(self, lo: int, hi: int, ln_out: np.ndarray, phi_out: np.ndarray) -> None:
+        lay, w = self.lay, self.w
+        k, n_alpha, n_types = lay.k, w.n_alpha, w.n_types
+        mt = self.mt[:, lo:hi]
+        i = self.i[lo:hi]
+        i_safe = i if i.min(initial=1.0) > 0.0 else np.where(i > 0.0, i, 1.0)
+        inv_i = 1.0 / i_safe
+        s = np.sqrt(i)
+        a_phi = self.a_phi[lo:hi]
+        big_z, total = lay.z_and_one @ mt
+        e, g, gp = self.alphas.block(s, inv_i, lo, hi)  # (U, n)
+        et = np.empty((n_types, hi - lo))
+        etp = np.empty((n_types, hi - lo))
+        a_et = a_phi if self.a_phi_et is None else self.a_phi_et
+        for t, (z1, z2) in enumerate(lay.types):
+            et[t], etp[t] = etheta(z1, z2, i, a_et)
+        x = _features(lay, mt, [*g, *et, big_z])
+        n_lin = (2 + n_alpha + n_types) * k
+        sums = _apply(w.pairs, x[n_lin:], lo, hi)  # (S, O, n)
+        # F = -A_phi [s/(1 + b s) + (2/b) ln(1 + b s)] + sum m_c m_a B' + sum m_j m_k Etheta'
+        b = _rows(self.b, lo, hi)
+        bs = b * s
+        s_bs = bs + 1.0
+        np.divide(s, s_bs, out=s_bs)
+        f = np.log1p(bs)
+        f *= 2.0 / b
+        f += s_bs
+        f *= -a_phi
+        gp *= inv_i
+        for u in range(n_alpha):
+            f += sums[:, u] * gp[u]
+        for t in range(n_types):
+            f += sums[:, n_alpha + t] * etp[t]
+        # ln gamma_i = (the features' part)_i + z_i^2 F
+        ln_out[...] = _apply(w.ln, x, lo, hi)
+        ln_out += (lay.z * lay.z)[:, None] * f[:, None, :]
+        # sum_i m_i (phi - 1) / 2 = -A_phi I^1.5/(1 + b s) + sum m_c m_a (B^phi + Z C)
+        #      + sum m_j m_k (theta + Etheta + I Etheta') + sum psi m m m
+        ex = phi_out
+        np.multiply(s_bs, -a_phi * i, out=ex)
+        ex += sums[:, n_alpha + n_types]
+        for u in range(n_alpha):
+            ex += sums[:, u] * e[u]
+        for t in range(n_types):
+            et[t] += i * etp[t]
+            ex += sums[:, n_alpha + t] * et[t]
+        r = sums[:, n_alpha + n_types + 1:]
+        r *= mt
+        ex += r.sum(axis=1)
+        ex *= 2.0 / (total if total.min(initial=1.0) > 0.0 else np.where(total > 0.0, total, 1.0))
+        ex += 1.0
 
 
 def compute_mixture(request: Request, default_alphas) -> Computed:
@@ -312,93 +409,44 @@ def compute_mixture(request: Request, default_alphas) -> Computed:
     ``default_alphas(z_cation, |z_anion|) -> (alpha1, alpha2)`` gives a pair's alphas where its
     parameters are 0.
 
-    The sums over ions are one product of a coefficient matrix (from the parameter values) with
-    features of each row (m, m g_u, m Etheta_t, m Z and the products m_j m_k), whose outputs the
-    functions of I then weight: see :func:`_weights`.
+    The sums over ions are products of coefficient matrices (from the parameter values,
+    :func:`_weights`) with features of each row (m, m g_u, m Etheta_t, m Z and the products
+    m_j m_k), whose outputs the functions of I then weight (:class:`_Mixture`).
     """
     comp = request.composition
     lay = _layout(comp.names, comp.charges, default_alphas)
-    m = comp.molality
-    k, n = lay.k, comp.n
     n_sets = request.n_sets
-    i = comp.ionic_strength
-    pos = i > 0.0
-    i_safe = i if pos.all() else np.where(pos, i, 1.0)
-    inv_i = 1.0 / i_safe
-    s = np.sqrt(i)
-    mt = np.ascontiguousarray(m.T)
-    big_z = np.abs(lay.z) @ mt
-    total = mt.sum(axis=0)
-    total_safe = np.where(total > 0.0, total, 1.0)
-    cond = request.conditions
-    a_phi = cond.a_phi  # (N,)
-    a_phi_one = float(cond.dh[0].a_phi) if len(cond.dh) == 1 else a_phi
-    b = request.value(ParameterKey("b"))  # (S, 1) or (S, N)
-
     vals = _gather(request, lay.keys)  # (S, R, keys)
     n_pairs = lay.n_pairs
     alpha = vals[:, :, 4 * n_pairs:6 * n_pairs].reshape(n_sets, -1, 2, n_pairs).swapaxes(2, 3)
     alpha = np.where(alpha == 0.0, lay.default_alpha, alpha)  # 0: the charge-type value
-    per_row_alpha = vals.shape[1] != 1 and bool((alpha != alpha[:, :1]).any())
-    alphas = _Alphas(alpha if per_row_alpha else alpha[:, :1], s)
-    n_types = len(lay.types)
-    et = np.zeros((n_types, n))
-    etp = np.zeros((n_types, n))
-    for t, (z1, z2) in enumerate(lay.types):
-        et[t], etp[t] = etheta(z1, z2, i, a_phi_one)
-
-    w = _weights(lay, vals, alphas.slot, alphas.n)
-    out = _contract(w, lay, mt, [*alphas.g, *et, big_z])
-    o_beta, o_type = k, k + alphas.n
-    o_zero = o_type + n_types
-    q_c = out[:, o_zero + 1]  # sum m_c m_a C  (S, N)
-    q_beta = out[:, o_beta:o_type]  # (S, U, N)
-    q_type = out[:, o_type:o_zero]  # (S, T, N)
-
-    # F = -A_phi [s/(1 + b s) + (2/b) ln(1 + b s)] + sum m_c m_a B' + sum m_j m_k Etheta'
-    bs = b * s
-    one_bs = 1.0 + bs
-    s_bs = s / one_bs
-    f = np.log1p(bs)
-    f *= 2.0 / b
-    f += s_bs
-    f *= -a_phi
-    f = f + np.einsum("sun,un->sn", q_beta, alphas.gp) * inv_i
-    if n_types:
-        f += np.einsum("stn,tn->sn", q_type, etp)
-    # ln gamma_i = lin_i + z_i^2 F + |z_i| sum m_c m_a C
-    ln_t = out[:, :k]
-    ln_t += (lay.z * lay.z)[:, None] * f[:, None, :]
-    ln_t += np.abs(lay.z)[:, None] * q_c[:, None, :]
-    # phi: sum_i m_i (phi - 1) / 2 = -A_phi I^1.5/(1 + b s) + sum m_c m_a (B^phi + Z C)
-    #      + sum m_j m_k (theta + Etheta + I Etheta') + sum psi m m m
-    excess = (-a_phi * i) * s_bs
-    excess = excess + out[:, o_zero]
-    excess += np.einsum("sun,un->sn", q_beta, alphas.e)
-    excess += big_z * q_c
-    if n_types:
-        excess += np.einsum("stn,tn->sn", q_type, et + i * etp)
-    if len(lay.triplets):
-        # sum psi m_j m_k m_l = (1/3) sum_i m_i (psi's part of ln gamma_i) (Euler: degree 3)
-        excess += np.einsum("skn,kn->sn", out[:, o_zero + 2:], mt) / 3.0
-    osm = excess
-    osm *= 2.0 / total_safe
-    osm += 1.0
-    ln_ions = ln_t.transpose(0, 2, 1)  # (S, N, K)
-
-    d_ions, d_osm = _derivatives(request, comp, lay, alphas, s, i_safe, big_z, total_safe, b,
-                                 a_phi)
-    return assemble(request, ln_ions, d_ions, np.broadcast_to(osm, (n_sets, n)), d_osm)
+    per_row_alpha = alpha.shape[1] != 1 and bool((alpha != alpha[:, :1]).any())
+    alphas = _Alphas(alpha if per_row_alpha else alpha[:, :1])
+    mixture = _Mixture(request, lay, alphas, _weights(lay, vals, alphas))
+    ln, phi = mixture.run()
+    d_ions, d_osm = _derivatives(request, comp, lay, alphas, mixture)
+    return assemble(request, ln.transpose(0, 2, 1), d_ions, phi, d_osm)
 
 
-
-
-def _derivatives(request: Request, comp, lay: _Layout, alphas: _Alphas, s, i_safe, big_z, total,
-                 b, a_phi):
+def _derivatives(request: Request, comp, lay: _Layout, alphas: _Alphas, mixture: _Mixture):
     """d ln gamma (S, N, K) and d phi (S, N) for each key of ``request.wrt``."""
     if not request.wrt:
         return {}, {}
     m = comp.molality
+    i = mixture.i
+    i_safe = np.where(i > 0.0, i, 1.0)
+    s = np.sqrt(i)
+    big_z = m @ np.abs(lay.z)
+    total = m.sum(axis=1)
+    total = np.where(total > 0.0, total, 1.0)
+    b, a_phi = mixture.b, mixture.a_phi
+    terms: list[tuple[np.ndarray, ...]] = []
+
+    def g_terms() -> tuple[np.ndarray, ...]:  # (e, g, g', dg, dg') for all rows, when needed
+        if not terms:
+            terms.append(alphas.terms(s, slopes=True))
+        return terms[0]
+
     z = comp.charges
     z2 = z**2
     names = comp.names
@@ -430,7 +478,8 @@ def _derivatives(request: Request, comp, lay: _Layout, alphas: _Alphas, s, i_saf
                     gx, gpx, ex = np.ones(n), np.zeros(n), np.ones(n)
                 else:
                     slot = alphas.slot[:, p, 0 if name == "beta1" else 1]  # (S,)
-                    gx, gpx, ex = alphas.g[slot], alphas.gp[slot] / i_safe, alphas.e[slot]
+                    e_, g_, gp_ = g_terms()[:3]
+                    gx, gpx, ex = g_[slot], gp_[slot] / i_safe, e_[slot]
                 d += (mm * gpx)[..., None] * z2
                 d[:, :, jc] += 2.0 * ma * gx
                 d[:, :, ja] += 2.0 * mc * gx
@@ -445,8 +494,7 @@ def _derivatives(request: Request, comp, lay: _Layout, alphas: _Alphas, s, i_saf
                 which = 1 if name == "alpha1" else 2
                 beta = request.value(ParameterKey(f"beta{which}", owner))  # (S, 1) or (S, N)
                 slot = alphas.slot[:, p, which - 1]
-                dg, dgp = (t[slot] for t in alphas.slopes())
-                e = alphas.e[slot]
+                e, _, _, dg, dgp = (t[slot] for t in g_terms())
                 d += (mm * beta * dgp * s / i_safe)[..., None] * z2
                 d[:, :, jc] += 2.0 * ma * beta * dg * s
                 d[:, :, ja] += 2.0 * mc * beta * dg * s
