@@ -343,7 +343,7 @@ class _Mixture:
         n = self.mt.shape[1]
         ln = np.empty((self.n_sets, self.lay.k, n))
         phi = np.empty((self.n_sets, n))
-        step = max(256, _ROW_CHUNK // self.n_sets)
+        step = max(1, _ROW_CHUNK // self.n_sets)
         for lo in range(0, n, step):
             hi = min(n, lo + step)
             self._block(lo, hi, ln[:, :, lo:hi], phi[:, lo:hi])
