@@ -53,7 +53,7 @@ def j_and_derivative(x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     return np.where(pos, j, 0.0), np.where(pos, dj, 0.0)
 
 
-def etheta(z_i: float, z_j: float, ionic_strength: np.ndarray, a_phi: np.ndarray
+def etheta(z_i: float, z_j: float, ionic_strength: np.ndarray, a_phi: np.ndarray | float
            ) -> tuple[np.ndarray, np.ndarray]:
     """(Etheta_ij, Etheta'_ij) for charges ``z_i``, ``z_j`` (same sign) at each ionic strength.
 
@@ -67,7 +67,7 @@ def etheta(z_i: float, z_j: float, ionic_strength: np.ndarray, a_phi: np.ndarray
     return et[0], etp[0]
 
 
-def etheta_of_types(types, ionic_strength: np.ndarray, a_phi
+def etheta_of_types(types, ionic_strength: np.ndarray, a_phi: np.ndarray | float
                     ) -> tuple[np.ndarray, np.ndarray]:
     """Etheta and Etheta' (T, N) for each pair of unequal charges (z_i, z_j) of ``types`` (T),
     at each ionic strength (N,); ``a_phi`` a number or (N,).

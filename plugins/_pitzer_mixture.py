@@ -96,7 +96,10 @@ def _layout(names: tuple[str, ...], charges: np.ndarray, default_alphas) -> _Lay
     pc = np.array([c for c, _ in pairs], dtype=np.intp)
     pa = np.array([a for _, a in pairs], dtype=np.intp)
     keys = [ParameterKey(name, (names[c], names[a])) for name in _PAIR_NAMES for c, a in pairs]
-    like, triplets, types, like_type = [], [], [], []
+    like: list[tuple[int, int]] = []
+    triplets: list[tuple[int, int, int]] = []
+    types: list[tuple[float, float]] = []
+    like_type: list[int] = []
     for side in (cat, an):
         for p in range(len(side)):
             for q in range(p + 1, len(side)):
@@ -104,7 +107,8 @@ def _layout(names: tuple[str, ...], charges: np.ndarray, default_alphas) -> _Lay
                 like.append((j, jj))
                 keys.append(ParameterKey("theta", (names[j], names[jj])))
                 if z[j] != z[jj]:
-                    zz = tuple(sorted((abs(float(z[j])), abs(float(z[jj])))))
+                    lo_z, hi_z = sorted((abs(float(z[j])), abs(float(z[jj]))))
+                    zz = (lo_z, hi_z)
                     if zz not in types:
                         types.append(zz)
                     like_type.append(types.index(zz))
@@ -115,7 +119,7 @@ def _layout(names: tuple[str, ...], charges: np.ndarray, default_alphas) -> _Lay
             for q in range(p + 1, len(side)):
                 j, jj = side[p], side[q]
                 for o in other:
-                    triplets.append((j, jj, o))
+                    triplets.append((int(j), int(jj), int(o)))
                     keys.append(ParameterKey("psi", (names[j], names[jj], names[o]) if first
                                              else (names[o], names[j], names[jj])))
     qj, qk = np.triu_indices(k, 1)
@@ -126,7 +130,8 @@ def _layout(names: tuple[str, ...], charges: np.ndarray, default_alphas) -> _Lay
     out = _Layout(k, z, cat, an, pc, pa, 1.0 / (2.0 * np.sqrt(z[pc] * -z[pa])), default,
                   np.array(like, dtype=np.intp).reshape(-1, 2),
                   np.array(triplets, dtype=np.intp).reshape(-1, 3), tuple(keys), qj, qk, q_of,
-                  tuple(types), np.array(like_type, dtype=np.intp), np.stack([np.abs(z), np.ones(k)]))
+                  tuple(types), np.array(like_type, dtype=np.intp),
+                  np.stack([np.abs(z), np.ones(k)]))
     _LAYOUTS[key] = out
     if len(_LAYOUTS) > _LAYOUTS_KEPT:
         _LAYOUTS.popitem(last=False)
@@ -144,9 +149,9 @@ def _g_terms(x: np.ndarray, slopes: bool = False, two_over_x2: np.ndarray | None
     """
     e = np.exp(-x)
     any_small = bool(x.min(initial=np.inf) < _SERIES_BELOW)
-    small = x < _SERIES_BELOW if any_small else None
-    xs = np.where(small, 1.0, x) if any_small else x
-    es = np.where(small, np.exp(-1.0), e) if any_small else e
+    small: np.ndarray = x < _SERIES_BELOW if any_small else np.zeros((), dtype=bool)
+    xs: np.ndarray = np.where(small, 1.0, x) if any_small else x
+    es: np.ndarray = np.where(small, np.exp(-1.0), e) if any_small else e
     g = 1.0 + xs
     g *= es
     np.subtract(1.0, g, out=g)
@@ -156,7 +161,7 @@ def _g_terms(x: np.ndarray, slopes: bool = False, two_over_x2: np.ndarray | None
     else:
         g *= two_over_x2
     gp = es - g
-    out = [e, g, gp]
+    out: list[np.ndarray] = [e, g, gp]
     if slopes:
         dg = 2.0 * es / xs - 2.0 * g / xs
         dgp = -es - 2.0 * gp / xs
