@@ -314,11 +314,12 @@ def _features(lay: _Layout, mt: np.ndarray, scales: list[np.ndarray]) -> np.ndar
     return x
 
 
-def _apply(w: np.ndarray, x: np.ndarray, lo: int, hi: int) -> np.ndarray:
+def _apply(w: np.ndarray, x: np.ndarray, lo: int, hi: int, out: np.ndarray | None = None
+           ) -> np.ndarray:
     """sum_f w[s, r, o, f] x[f, n] -> (S, O, n) for the rows lo:hi (x holds those rows)."""
     if w.shape[1] == 1:
-        return np.matmul(w[:, 0], x)
-    return np.einsum("snof,fn->son", w[:, lo:hi], x)
+        return np.matmul(w[:, 0], x, out=out)
+    return np.einsum("snof,fn->son", w[:, lo:hi], x, out=out)
 
 
 def _rows(a: np.ndarray, lo: int, hi: int) -> np.ndarray:
@@ -388,7 +389,7 @@ class _Mixture:
         for t in range(n_types):
             f += sums[:, n_alpha + t] * etp[t]
         # ln gamma_i = (the features' part)_i + z_i^2 F
-        ln_out[...] = _apply(w.ln, x, lo, hi)
+        _apply(w.ln, x, lo, hi, out=ln_out)
         ln_out += (lay.z * lay.z)[:, None] * f[:, None, :]
         # sum_i m_i (phi - 1) / 2 = -A_phi I^1.5/(1 + b s) + sum m_c m_a (B^phi + Z C)
         #      + sum m_j m_k (theta + Etheta + I Etheta') + sum psi m m m
