@@ -53,7 +53,7 @@ def j_and_derivative(x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     return np.where(pos, j, 0.0), np.where(pos, dj, 0.0)
 
 
-def etheta(z_i: float, z_j: float, ionic_strength: np.ndarray, a_phi: np.ndarray
+def etheta(z_i: float, z_j: float, ionic_strength: np.ndarray, a_phi: np.ndarray | float
            ) -> tuple[np.ndarray, np.ndarray]:
     """(Etheta_ij, Etheta'_ij) for charges ``z_i``, ``z_j`` (same sign) at each ionic strength.
 
@@ -63,15 +63,64 @@ def etheta(z_i: float, z_j: float, ionic_strength: np.ndarray, a_phi: np.ndarray
     if z_i == z_j:
         zero = np.zeros(np.broadcast(i, a_phi).shape)
         return zero, zero.copy()
-    z_i, z_j = sorted((z_i, z_j))  # the same sums in the same order: exactly symmetric
+    et, etp = etheta_of_types(((z_i, z_j),), i, a_phi)
+    return et[0], etp[0]
+
+
+def etheta_of_types(types, ionic_strength: np.ndarray, a_phi: np.ndarray | float
+                    ) -> tuple[np.ndarray, np.ndarray]:
+    """Etheta and Etheta' (T, N) for each pair of unequal charges (z_i, z_j) of ``types`` (T),
+    at each ionic strength (N,); ``a_phi`` a number or (N,).
+
+    The cost is one sqrt, one log and one exp shared by all, and one exp per distinct product
+    z_i z_j: x = z_i z_j 6 A_phi sqrt(I), so ln x and x^C4 are those of 6 A_phi sqrt(I) shifted
+    and scaled by constants. J and J' are eq. 47 and its exact derivative, as
+    :func:`j_and_derivative` gives them (the same values to rounding).
+    """
+    # each pair in one order: the same sums in the same order for (z_i, z_j) and (z_j, z_i)
+    types = [tuple(sorted((float(zi), float(zj)))) for zi, zj in types]
+    i = np.asarray(ionic_strength, dtype=float)
     pos = i > 0.0
-    safe = np.where(pos, i, 1.0)
-    base = 6.0 * np.asarray(a_phi, dtype=float) * np.sqrt(safe)
-    zz = [z_i * z_j, z_i * z_i, z_j * z_j]
-    x = np.stack(np.broadcast_arrays(*(c * base for c in zz)))
-    j, dj = j_and_derivative(x)
-    zij = z_i * z_j
-    et = zij / (4.0 * safe) * (j[0] - 0.5 * j[1] - 0.5 * j[2])
-    xdj = x * dj
-    etp = -et / safe + zij / (8.0 * safe * safe) * (xdj[0] - 0.5 * xdj[1] - 0.5 * xdj[2])
-    return np.where(pos, et, 0.0), np.where(pos, etp, 0.0)
+    everywhere = bool(pos.all())
+    safe = i if everywhere else np.where(pos, i, 1.0)
+    base = np.sqrt(safe)
+    base *= 6.0 * np.asarray(a_phi, dtype=float)  # x / (z_i z_j)
+    log_base = np.log(base)
+    base_c4 = np.multiply(log_base, C4)
+    np.exp(base_c4, out=base_c4)  # (x / z_i z_j)^C4
+    log_base *= -C2
+    # J(x) / (z_i z_j) and x J'(x) / (z_i z_j) once per distinct product of charges, as rows
+    products = list(dict.fromkeys(float(zz) for zi, zj in types
+                                  for zz in (zi * zj, zi * zi, zj * zj)))
+    j_rows = np.empty((len(products), i.size))
+    xdj_rows = np.empty((len(products), i.size))
+    for row, zz in enumerate(products):
+        u = base_c4 * (C3 * zz**C4)  # C3 x^C4
+        q = np.subtract(log_base, u)
+        np.exp(q, out=q)
+        q *= C1 * zz**-C2  # C1 x^-C2 exp(-C3 x^C4)
+        r = q + 4.0
+        np.divide(1.0, r, out=r)  # 1 / (4 + q)
+        j = np.multiply(base, r, out=j_rows[row])  # J / zz = (x / zz) / (4 + q)
+        u *= C4
+        u += 1.0 + C2
+        u *= q
+        u += 4.0
+        u *= r
+        np.multiply(u, j, out=xdj_rows[row])  # x J' / zz = (x / zz) (4 + q(1 + C2 + C4 C3 x^C4)) / (4 + q)^2
+    # Etheta = (z_i z_j / 4I) [J(x_ij) - J(x_ii)/2 - J(x_jj)/2], and the same of x J' / 8I^2
+    weights = np.zeros((len(types), len(products)))
+    for t, (zi, zj) in enumerate(types):
+        zij = zi * zj
+        for zz, c in ((zi * zj, 1.0), (zi * zi, -0.5), (zj * zj, -0.5)):
+            weights[t, products.index(zz)] += zij * c * zz
+    inv = 1.0 / safe
+    et = weights @ j_rows
+    et *= 0.25 * inv
+    etp = weights @ xdj_rows
+    etp *= 0.125 * inv * inv
+    etp -= et * inv
+    if not everywhere:
+        et[:, ~pos] = 0.0
+        etp[:, ~pos] = 0.0
+    return et, etp

@@ -34,6 +34,9 @@ For one cation and one anion the equations are those of one salt (Pitzer 1991, c
 
 from __future__ import annotations
 
+from collections import OrderedDict
+from dataclasses import dataclass
+
 import numpy as np
 
 from saltbench.models.assemble import assemble
@@ -41,122 +44,368 @@ from saltbench.models.contract import Computed, ParameterKey, Request
 from saltbench.plugins._etheta import etheta
 
 _SERIES_BELOW = 1e-2  # x below which g, g' and their derivatives come from Taylor series
-_LINEAR_PAIR = ("beta0", "beta1", "beta2", "C_phi")
+_PAIR_NAMES = ("beta0", "beta1", "beta2", "C_phi", "alpha1", "alpha2")
+_ROW_CHUNK = 8192  # rows per block of the product of coefficients and features (see _contract)
 
 
-def _g_terms(x: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
-    """(e^-x, g, g', dg/dx, dg'/dx) elementwise; Taylor series where x < 0.01 (the closed forms
-    lose digits to cancellation there)."""
-    e = np.exp(-x)
-    small = x < _SERIES_BELOW
-    xs = np.where(small, 1.0, x)
-    es = np.where(small, np.exp(-1.0), e)
-    g = 2.0 * (1.0 - (1.0 + xs) * es) / (xs * xs)
-    gp = -2.0 * (1.0 - (1.0 + xs + 0.5 * xs * xs) * es) / (xs * xs)
-    dg = 2.0 * es / xs - 2.0 * g / xs
-    dgp = -es - 2.0 * gp / xs
-    if np.any(small):
-        # g = 1 - 2x/3 + x^2/4 - x^3/15 + x^4/72; g' = -x/3 + x^2/4 - x^3/10 + x^4/36
-        g = np.where(small, 1.0 + x * (-2.0 / 3.0 + x * (0.25 + x * (-1.0 / 15.0 + x / 72.0))), g)
-        gp = np.where(small, x * (-1.0 / 3.0 + x * (0.25 + x * (-0.1 + x / 36.0))), gp)
-        dg = np.where(small, -2.0 / 3.0 + x * (0.5 + x * (-0.2 + x / 18.0)), dg)
-        dgp = np.where(small, -1.0 / 3.0 + x * (0.5 + x * (-0.3 + x / 9.0)), dgp)
-    return e, g, gp, dg, dgp
+# -- what the ions fix: the layout ----------------------------------------------------------------
+@dataclass(frozen=True)
+class _Layout:
+    """Everything of a mixture evaluation that depends only on the ions (their names, charges
+    and order), not on parameter values: the keys read, in one order, and where each value
+    goes. Made once per ion list (:func:`_layout`); values change between calls (a fit)."""
+
+    k: int
+    z: np.ndarray  # (K,)
+    cat: np.ndarray  # composition columns of the cations
+    an: np.ndarray  # ... of the anions
+    pc: np.ndarray  # (P,) cation column of each cation-anion pair
+    pa: np.ndarray  # (P,) anion column
+    c_scale: np.ndarray  # (P,) 1 / (2 sqrt|z_c z_a|): C = C_phi c_scale
+    default_alpha: np.ndarray  # (P, 2) alpha1, alpha2 where a pair's values are 0
+    like: np.ndarray  # (L, 2) columns of the like-charged pairs (theta), each pair once
+    triplets: np.ndarray  # (R, 3) columns of the triplets (psi): two like ions, one other
+    keys: tuple[ParameterKey, ...]  # pair keys by name then pair, theta keys, psi keys
+    qj: np.ndarray  # (Q,) first column of each product m_j m_k, j < k
+    qk: np.ndarray  # (Q,) second column
+    q_of: np.ndarray  # (K, K) position of m_j m_k among the products (-1 on the diagonal)
+    types: tuple[tuple[float, float], ...]  # distinct charge pairs of unlike-charged like pairs
+    like_type: np.ndarray  # (L,) index into ``types``, -1 for equal charges
+    z_and_one: np.ndarray  # (2, K): |z| and 1, for Z and sum m in one product
+
+    @property
+    def n_pairs(self) -> int:
+        return len(self.pc)
 
 
-def _rows(request: Request, keys: list[ParameterKey]) -> int:
-    """N when any of ``keys`` varies by row (a temperature form), else 1."""
-    n = request.composition.n
-    return n if any(request.value(k).shape[1] != 1 for k in keys) else 1
+_LAYOUTS: OrderedDict = OrderedDict()
+_LAYOUTS_KEPT = 32
 
 
-def _gather(request: Request, keys: list[ParameterKey], rows: int) -> np.ndarray:
-    """The values of ``keys`` stacked on a last axis: (S, rows, len(keys))."""
-    out = np.empty((request.n_sets, rows, len(keys)))
-    for j, key in enumerate(keys):
-        out[:, :, j] = np.broadcast_to(request.value(key), out.shape[:2])
+def _layout(names: tuple[str, ...], charges: np.ndarray, default_alphas) -> _Layout:
+    """The layout of ``names`` (cached on the names, the charges and ``default_alphas``)."""
+    key = (names, tuple(float(c) for c in charges), default_alphas)
+    hit = _LAYOUTS.get(key)
+    if hit is not None:
+        _LAYOUTS.move_to_end(key)
+        return hit
+    z = np.asarray(charges, dtype=float)
+    k = len(names)
+    cat, an = np.flatnonzero(z > 0), np.flatnonzero(z < 0)
+    pairs = [(c, a) for c in cat for a in an]
+    pc = np.array([c for c, _ in pairs], dtype=np.intp)
+    pa = np.array([a for _, a in pairs], dtype=np.intp)
+    keys = [ParameterKey(name, (names[c], names[a])) for name in _PAIR_NAMES for c, a in pairs]
+    like: list[tuple[int, int]] = []
+    triplets: list[tuple[int, int, int]] = []
+    types: list[tuple[float, float]] = []
+    like_type: list[int] = []
+    for side in (cat, an):
+        for p in range(len(side)):
+            for q in range(p + 1, len(side)):
+                j, jj = side[p], side[q]
+                like.append((j, jj))
+                keys.append(ParameterKey("theta", (names[j], names[jj])))
+                if z[j] != z[jj]:
+                    lo_z, hi_z = sorted((abs(float(z[j])), abs(float(z[jj]))))
+                    zz = (lo_z, hi_z)
+                    if zz not in types:
+                        types.append(zz)
+                    like_type.append(types.index(zz))
+                else:
+                    like_type.append(-1)
+    for side, other, first in ((cat, an, True), (an, cat, False)):
+        for p in range(len(side)):
+            for q in range(p + 1, len(side)):
+                j, jj = side[p], side[q]
+                for o in other:
+                    triplets.append((int(j), int(jj), int(o)))
+                    keys.append(ParameterKey("psi", (names[j], names[jj], names[o]) if first
+                                             else (names[o], names[j], names[jj])))
+    qj, qk = np.triu_indices(k, 1)
+    q_of = np.full((k, k), -1, dtype=np.intp)
+    q_of[qj, qk] = q_of[qk, qj] = np.arange(len(qj))
+    default = np.array([default_alphas(int(z[c]), int(-z[a])) for c, a in pairs],
+                       dtype=float).reshape(len(pairs), 2)
+    out = _Layout(k, z, cat, an, pc, pa, 1.0 / (2.0 * np.sqrt(z[pc] * -z[pa])), default,
+                  np.array(like, dtype=np.intp).reshape(-1, 2),
+                  np.array(triplets, dtype=np.intp).reshape(-1, 3), tuple(keys), qj, qk, q_of,
+                  tuple(types), np.array(like_type, dtype=np.intp),
+                  np.stack([np.abs(z), np.ones(k)]))
+    _LAYOUTS[key] = out
+    if len(_LAYOUTS) > _LAYOUTS_KEPT:
+        _LAYOUTS.popitem(last=False)
     return out
 
 
-def _apply(w: np.ndarray, p: np.ndarray) -> np.ndarray:
-    """sum_m w[n, m] p[s, n, k, m] -> (S, N, K): a matrix product when p is the same for every
-    row (its axis 1 of length 1), elementwise otherwise."""
-    if p.shape[1] == 1:
-        s, k, m = p.shape[0], p.shape[2], p.shape[3]
-        # one contiguous (N, M) x (M, S K) product (numpy hands a strided batch to slow loops)
-        flat = np.ascontiguousarray(w) @ np.ascontiguousarray(p[:, 0].reshape(s * k, m).T)
-        return flat.reshape(w.shape[0], s, k).transpose(1, 0, 2)
-    return np.einsum("nm,snkm->snk", w, p)
+# -- functions of the ionic strength ---------------------------------------------------------------
+def _g_terms(x: np.ndarray, slopes: bool = False, two_over_x2: np.ndarray | None = None
+             ) -> tuple[np.ndarray, ...]:
+    """(e^-x, g, g') elementwise, and (dg/dx, dg'/dx) after them when ``slopes``; Taylor series
+    where x < 0.01 (the closed forms lose digits to cancellation there). ``two_over_x2`` may
+    give 2/x^2 where the caller has it cheaper.
+
+    g' = e^-x - g: -2 [1 - (1 + x + x^2/2) e^-x] / x^2 is g's numerator less x^2 e^-x.
+    """
+    e = np.exp(-x)
+    any_small = bool(x.min(initial=np.inf) < _SERIES_BELOW)
+    small: np.ndarray = x < _SERIES_BELOW if any_small else np.zeros((), dtype=bool)
+    xs: np.ndarray = np.where(small, 1.0, x) if any_small else x
+    es: np.ndarray = np.where(small, np.exp(-1.0), e) if any_small else e
+    g = 1.0 + xs
+    g *= es
+    np.subtract(1.0, g, out=g)
+    if two_over_x2 is None or any_small:
+        g /= xs * xs
+        g *= 2.0  # 2 [1 - (1 + x) e^-x] / x^2
+    else:
+        g *= two_over_x2
+    gp = es - g
+    out: list[np.ndarray] = [e, g, gp]
+    if slopes:
+        dg = 2.0 * es / xs - 2.0 * g / xs
+        dgp = -es - 2.0 * gp / xs
+        out += [dg, dgp]
+    if any_small:
+        # g = 1 - 2x/3 + x^2/4 - x^3/15 + x^4/72; g' = -x/3 + x^2/4 - x^3/10 + x^4/36
+        series = [1.0 + x * (-2.0 / 3.0 + x * (0.25 + x * (-1.0 / 15.0 + x / 72.0))),
+                  x * (-1.0 / 3.0 + x * (0.25 + x * (-0.1 + x / 36.0))),
+                  -2.0 / 3.0 + x * (0.5 + x * (-0.2 + x / 18.0)),
+                  -1.0 / 3.0 + x * (0.5 + x * (-0.3 + x / 9.0))]
+        out[1:] = [np.where(small, ser, v) for ser, v in zip(series, out[1:])]
+    return tuple(out)
 
 
-def _dot(w: np.ndarray, p: np.ndarray) -> np.ndarray:
-    """sum_m w[n, m] p[s, n, m] -> (S, N), as :func:`_apply`."""
-    return _apply(w, p[:, :, None, :])[:, :, 0]
+class _Alphas:
+    """The functions of x = alpha sqrt(I), computed once per distinct alpha.
+
+    ``slot[s, p, k]`` says which row of ``e``, ``g``, ``gp`` (U, N) holds the function of
+    pair p's alpha(k+1) in set s. When alpha is one number per set and pair (the usual case)
+    the rows are the distinct values (2.0, 1.4 and 12 in practice); when a temperature form
+    gives alpha a value per row, each set, pair and k has its own row.
+    """
+
+    def __init__(self, alpha: np.ndarray) -> None:
+        n_sets, rows, n_pairs, _ = alpha.shape
+        if rows == 1:
+            unique, where = np.unique(alpha[:, 0], return_inverse=True)
+            self.slot = where.reshape(n_sets, n_pairs, 2)
+            self.values = unique[:, None]  # (U, 1)
+        else:
+            self.slot = np.arange(n_sets * n_pairs * 2).reshape(n_sets, n_pairs, 2)
+            self.values = alpha.transpose(0, 2, 3, 1).reshape(-1, rows)  # (U, N)
+        self.n = self.values.shape[0]
+
+    def x(self, s: np.ndarray, lo: int = 0, hi: int | None = None) -> np.ndarray:
+        """alpha sqrt(I) (U, n) for the rows lo:hi, whose sqrt(I) is ``s``."""
+        per_row = self.values.shape[1] != 1
+        return (self.values[:, lo:hi] if per_row else self.values) * s
+
+    def block(self, s: np.ndarray, inv_i: np.ndarray, lo: int, hi: int
+              ) -> tuple[np.ndarray, ...]:
+        """(e, g, g') (U, n) for the rows lo:hi, whose sqrt(I) and 1/I are ``s``, ``inv_i``."""
+        per_row = self.values.shape[1] != 1
+        alpha = self.values[:, lo:hi] if per_row else self.values
+        return _g_terms(alpha * s, two_over_x2=(2.0 / (alpha * alpha)) * inv_i)
+
+    def terms(self, s: np.ndarray, slopes: bool = False) -> tuple[np.ndarray, ...]:
+        """(e, g, g') (U, N), and the slopes after them, for all rows (the derivatives)."""
+        return _g_terms(self.x(s), slopes)
 
 
-class _Pairs:
-    """Per cation-anion pair values (S, Np, Kc, Ka) (Np = 1 unless they vary by row) and the
-    functions of alpha sqrt(I) (S or 1, N, Kc, Ka) of one request."""
-
-    def __init__(self, request: Request, cations: list[str], anions: list[str],
-                 alphas: dict[str, np.ndarray], s: np.ndarray) -> None:
-        kc, ka = len(cations), len(anions)
-        names = (*_LINEAR_PAIR, "alpha1", "alpha2")
-        keys = [ParameterKey(name, (c, a)) for name in names for c in cations for a in anions]
-        rows = _rows(request, keys)
-        flat = _gather(request, keys, rows).reshape(request.n_sets, rows, len(names), kc, ka)
-        self.values = {name: flat[:, :, j] for j, name in enumerate(names)}
-        self.terms = {}
-        for k in (1, 2):
-            name = f"alpha{k}"
-            # 0 stands for the charge-type default (see Pitzer.alphas_for)
-            alpha = np.where(self.values[name] == 0.0, alphas[name], self.values[name])
-            self.values[name] = alpha
-            if alpha.shape[:2] == (1, 1):
-                # one alpha per pair for all rows and sets: one function of sqrt(I) per distinct
-                # value (2.0, 1.4, 12 in practice), gathered to the pairs
-                unique, where = np.unique(alpha[0, 0], return_inverse=True)
-                terms = _g_terms(unique[:, None] * s[None, :])  # each (U, N)
-                idx = where.reshape(kc, ka)
-                self.terms[k] = tuple(part.T[None, :, idx] for part in terms)
-            else:
-                self.terms[k] = _g_terms(alpha * s[None, :, None, None])
+# -- the evaluation ---------------------------------------------------------------------------------
+def _gather(request: Request, keys: tuple[ParameterKey, ...]) -> np.ndarray:
+    """The values of ``keys`` stacked on a last axis: (S, 1, len(keys)), or (S, N, len(keys))
+    when any of them varies by row (a temperature form)."""
+    got = [request.value(key) for key in keys]
+    rows = max((v.shape[1] for v in got), default=1)
+    out = np.empty((request.n_sets, rows, len(keys)))
+    for j, v in enumerate(got):
+        out[:, :, j] = v
+    return out
 
 
-def _like(request: Request, names: list[str], charges: np.ndarray, others: list[str],
-          cation_side: bool, i: np.ndarray, a_phi: np.ndarray, cache: dict):
-    """theta (S, Np, K', K'), Etheta and Etheta' (N, K', K') of the like-charged ions ``names``
-    and psi (S, Np, K', K', K_other) of their triplets with ``others`` (zero on the diagonals)."""
-    kk, ko = len(names), len(others)
-    n_sets = request.n_sets
-    pairs = [(p, q) for p in range(kk) for q in range(p + 1, kk)]
-    t_keys = [ParameterKey("theta", (names[p], names[q])) for p, q in pairs]
-    p_keys = [ParameterKey("psi", (names[p], names[q], o) if cation_side
-                           else (o, names[p], names[q])) for p, q in pairs for o in others]
-    rows = _rows(request, t_keys + p_keys)
-    theta = np.zeros((n_sets, rows, kk, kk))
-    psi = np.zeros((n_sets, rows, kk, kk, ko))
-    n = request.composition.n
-    et = np.zeros((n, kk, kk))
-    etp = np.zeros((n, kk, kk))
-    if pairs:
-        tv = _gather(request, t_keys, rows)
-        pv = _gather(request, p_keys, rows).reshape(n_sets, rows, len(pairs), ko)
-        for j, (p, q) in enumerate(pairs):
-            theta[:, :, p, q] = theta[:, :, q, p] = tv[:, :, j]
-            psi[:, :, p, q] = psi[:, :, q, p] = pv[:, :, j]
-            if charges[p] != charges[q]:
-                zz = tuple(sorted((float(charges[p]), float(charges[q]))))
-                if zz not in cache:  # one evaluation per pair of charges, for both signs
-                    cache[zz] = etheta(zz[0], zz[1], i, a_phi)
-                et[:, p, q] = et[:, q, p] = cache[zz][0]
-                etp[:, p, q] = etp[:, q, p] = cache[zz][1]
-    return theta, et, etp, psi
+@dataclass(frozen=True)
+class _Weights:
+    """The coefficients of one request, (S, R, outputs, features) (R = 1, or N for values per
+    row): ``ln`` maps all features (m, m g_u, m Etheta_t, m Z, then the products m_j m_k,
+    j < k) to the part of each ion's ln gamma linear in them; ``pairs`` maps the products to
+    the sums over pairs that the functions of I weight: per alpha function u the sum of
+    m_c m_a beta (B' in F, B^phi in phi), per charge type t the sum of m_j m_k over its like
+    pairs (Etheta', Etheta + I Etheta'), sum m_j m_k (beta0 or theta), sum m_c m_a C, then
+    (with triplets) K rows of psi's part of ln gamma alone (for phi, by Euler's theorem)."""
+
+    ln: np.ndarray
+    pairs: np.ndarray
+    n_alpha: int
+    n_types: int
 
 
-def _outer(x: np.ndarray, y: np.ndarray) -> np.ndarray:
-    """x[n, i] y[n, j] flattened to (N, I*J)."""
-    return (x[:, :, None] * y[:, None, :]).reshape(x.shape[0], -1)
+def _weights(lay: _Layout, vals: np.ndarray, alphas: _Alphas) -> _Weights:
+    """The coefficient matrices of :class:`_Weights` from parameter values (S, R, keys)."""
+    k, n_pairs, n_types, n_alpha = lay.k, lay.n_pairs, len(lay.types), alphas.n
+    n_sets, rows = vals.shape[:2]
+    n_lin = (2 + n_alpha + n_types) * k
+    o_type = n_alpha
+    o_zero = o_type + n_types
+    o_r = o_zero + 1
+    n_q = len(lay.qj)
+    ln = np.zeros((n_sets, rows, k, n_lin + n_q))
+    pairs = np.zeros((n_sets, rows, o_r + k, n_q))
+    pc, pa = lay.pc, lay.pa
+    q_pair = lay.q_of[pc, pa]
+    beta0 = vals[:, :, :n_pairs]
+    c_mx = vals[:, :, 3 * n_pairs:4 * n_pairs] * lay.c_scale
+    theta = vals[:, :, 6 * n_pairs:6 * n_pairs + len(lay.like)]
+    psi = vals[:, :, 6 * n_pairs + len(lay.like):]
+    lj, lk = lay.like[:, 0], lay.like[:, 1]
+    # block 0 (times m): 2 beta0 of each pair and 2 theta of each like pair
+    for rows_, cols, v in ((pc, pa, beta0), (pa, pc, beta0), (lj, lk, theta), (lk, lj, theta)):
+        ln[:, :, rows_, cols] = 2.0 * v
+    # blocks 1..U (times g_u m): 2 beta1 or beta2 of each pair, in the block of its alpha
+    for s in range(n_sets):
+        for kk in (0, 1):
+            beta = vals[s, :, (1 + kk) * n_pairs:(2 + kk) * n_pairs].T  # (P, R)
+            off = k * (1 + alphas.slot[s, :, kk])
+            ln[s, :, pc, off + pa] += 2.0 * beta
+            ln[s, :, pa, off + pc] += 2.0 * beta
+            pairs[s, :, alphas.slot[s, :, kk], q_pair] += beta
+    # blocks of the charge types (times Etheta_t m): 2 for each of their like pairs
+    for t in range(n_types):
+        mine = lay.like_type == t
+        tj, tk = lj[mine], lk[mine]
+        off = k * (1 + n_alpha + t)
+        ln[:, :, tj, off + tk] = 2.0
+        ln[:, :, tk, off + tj] = 2.0
+        pairs[:, :, o_type + t, lay.q_of[tj, tk]] = 1.0
+    # last block (times Z m): C of each pair
+    off = k * (1 + n_alpha + n_types)
+    ln[:, :, pc, off + pa] = c_mx
+    ln[:, :, pa, off + pc] = c_mx
+    # the products: |z_i| C (|z_i| sum m_c m_a C) and psi's part of ln gamma (d/dm_i of
+    # sum psi m m m); the rows r_i of phi get |z_i| C and a third of psi's part
+    z_abs = np.abs(lay.z)[:, None]
+    ln[:, :, :, n_lin + q_pair] = z_abs * c_mx[:, :, None, :]
+    pairs[:, :, o_r:, q_pair] = z_abs * c_mx[:, :, None, :]
+    tri = lay.triplets
+    for i, (a, b) in ((0, (1, 2)), (1, (0, 2)), (2, (0, 1))):
+        # within one statement each entry is one triplet's (the member and the other two)
+        cols = lay.q_of[tri[:, a], tri[:, b]]
+        ln[:, :, tri[:, i], n_lin + cols] += psi
+        pairs[:, :, o_r + tri[:, i], cols] += psi / 3.0
+    pairs[:, :, o_zero, q_pair] = beta0
+    pairs[:, :, o_zero, lay.q_of[lj, lk]] = theta
+    return _Weights(ln, pairs, n_alpha, n_types)
+
+
+def _features(lay: _Layout, mt: np.ndarray, scales: list[np.ndarray]) -> np.ndarray:
+    """(n_features, n) for molalities ``mt`` (K, n): m, then m times each of ``scales`` (each
+    (n,): the alpha functions g_u, the Etheta of each charge type, Z), then m_j m_k (j < k)."""
+    k = lay.k
+    n = mt.shape[1]
+    x = np.empty(((1 + len(scales)) * k + len(lay.qj), n))
+    x[:k] = mt
+    for j, f in enumerate(scales):
+        np.multiply(mt, f, out=x[(1 + j) * k:(2 + j) * k])
+    off = (1 + len(scales)) * k
+    for j in range(k - 1):
+        np.multiply(mt[j + 1:], mt[j], out=x[off:off + k - 1 - j])
+        off += k - 1 - j
+    return x
+
+
+def _apply(w: np.ndarray, x: np.ndarray, lo: int, hi: int, out: np.ndarray | None = None
+           ) -> np.ndarray:
+    """sum_f w[s, r, o, f] x[f, n] -> (S, O, n) for the rows lo:hi (x holds those rows)."""
+    if w.shape[1] == 1:
+        return np.matmul(w[:, 0], x, out=out)
+    return np.einsum("snof,fn->son", w[:, lo:hi], x, out=out)
+
+
+def _rows(a: np.ndarray, lo: int, hi: int) -> np.ndarray:
+    """Rows lo:hi of a per-row array (last axis N), or the array itself when it has one."""
+    return a if a.shape[-1] == 1 else a[..., lo:hi]
+
+
+class _Mixture:
+    """One request's evaluation, rows in blocks of _ROW_CHUNK: every intermediate array of a
+    block stays in the processor's cache, where numpy's elementwise operations run several
+    times faster than on arrays of 100 000 rows."""
+
+    def __init__(self, request: Request, lay: _Layout, alphas: _Alphas, w: _Weights) -> None:
+        comp = request.composition
+        self.lay, self.alphas, self.w = lay, alphas, w
+        self.i = comp.ionic_strength
+        self.mt = np.ascontiguousarray(comp.molality.T)  # (K, N)
+        cond = request.conditions
+        self.a_phi = cond.a_phi  # (N,)
+        # Etheta's A_phi: one number when the rows share their conditions
+        self.a_phi_et = float(cond.dh[0].a_phi) if len(cond.dh) == 1 else None
+        self.b = request.value(ParameterKey("b"))  # (S, 1) or (S, N)
+        self.n_sets = request.n_sets
+
+    def run(self) -> tuple[np.ndarray, np.ndarray]:
+        """ln gamma (S, K, N) and phi (S, N)."""
+        n = self.mt.shape[1]
+        ln = np.empty((self.n_sets, self.lay.k, n))
+        phi = np.empty((self.n_sets, n))
+        step = max(1, _ROW_CHUNK // self.n_sets)
+        for lo in range(0, n, step):
+            hi = min(n, lo + step)
+            self._block(lo, hi, ln[:, :, lo:hi], phi[:, lo:hi])
+        return ln, phi
+
+    def _block(self, lo: int, hi: int, ln_out: np.ndarray, phi_out: np.ndarray) -> None:
+        lay, w = self.lay, self.w
+        k, n_alpha, n_types = lay.k, w.n_alpha, w.n_types
+        mt = self.mt[:, lo:hi]
+        i = self.i[lo:hi]
+        i_safe = i if i.min(initial=1.0) > 0.0 else np.where(i > 0.0, i, 1.0)
+        inv_i = 1.0 / i_safe
+        s = np.sqrt(i)
+        a_phi = self.a_phi[lo:hi]
+        big_z, total = lay.z_and_one @ mt
+        e, g, gp = self.alphas.block(s, inv_i, lo, hi)  # (U, n)
+        et = np.empty((n_types, hi - lo))
+        etp = np.empty((n_types, hi - lo))
+        a_et = a_phi if self.a_phi_et is None else self.a_phi_et
+        for t, (z1, z2) in enumerate(lay.types):
+            et[t], etp[t] = etheta(z1, z2, i, a_et)
+        x = _features(lay, mt, [*g, *et, big_z])
+        n_lin = (2 + n_alpha + n_types) * k
+        sums = _apply(w.pairs, x[n_lin:], lo, hi)  # (S, O, n)
+        # F = -A_phi [s/(1 + b s) + (2/b) ln(1 + b s)] + sum m_c m_a B' + sum m_j m_k Etheta'
+        b = _rows(self.b, lo, hi)
+        bs = b * s
+        s_bs = bs + 1.0
+        np.divide(s, s_bs, out=s_bs)
+        f = np.log1p(bs)
+        f *= 2.0 / b
+        f += s_bs
+        f *= -a_phi
+        gp *= inv_i
+        for u in range(n_alpha):
+            f += sums[:, u] * gp[u]
+        for t in range(n_types):
+            f += sums[:, n_alpha + t] * etp[t]
+        # ln gamma_i = (the features' part)_i + z_i^2 F
+        _apply(w.ln, x, lo, hi, out=ln_out)
+        ln_out += (lay.z * lay.z)[:, None] * f[:, None, :]
+        # sum_i m_i (phi - 1) / 2 = -A_phi I^1.5/(1 + b s) + sum m_c m_a (B^phi + Z C)
+        #      + sum m_j m_k (theta + Etheta + I Etheta') + sum psi m m m
+        ex = phi_out
+        np.multiply(s_bs, -a_phi * i, out=ex)
+        ex += sums[:, n_alpha + n_types]
+        for u in range(n_alpha):
+            ex += sums[:, u] * e[u]
+        for t in range(n_types):
+            et[t] += i * etp[t]
+            ex += sums[:, n_alpha + t] * et[t]
+        r = sums[:, n_alpha + n_types + 1:]
+        r *= mt
+        ex += r.sum(axis=1)
+        ex *= 2.0 / (total if total.min(initial=1.0) > 0.0 else np.where(total > 0.0, total, 1.0))
+        ex += 1.0
 
 
 def compute_mixture(request: Request, default_alphas) -> Computed:
@@ -165,111 +414,57 @@ def compute_mixture(request: Request, default_alphas) -> Computed:
 
     ``default_alphas(z_cation, |z_anion|) -> (alpha1, alpha2)`` gives a pair's alphas where its
     parameters are 0.
+
+    The sums over ions are products of coefficient matrices (from the parameter values,
+    :func:`_weights`) with features of each row (m, m g_u, m Etheta_t, m Z and the products
+    m_j m_k), whose outputs the functions of I then weight (:class:`_Mixture`).
     """
     comp = request.composition
-    m = comp.molality
-    z = comp.charges
-    n, k_ions = m.shape
+    lay = _layout(comp.names, comp.charges, default_alphas)
     n_sets = request.n_sets
-    cat = np.flatnonzero(z > 0)
-    an = np.flatnonzero(z < 0)
-    cations = [comp.names[j] for j in cat]
-    anions = [comp.names[j] for j in an]
-    kc, ka = len(cat), len(an)
-    zc, za = z[cat], -z[an]
-    mc, ma = m[:, cat], m[:, an]
-    i = comp.ionic_strength
-    pos = i > 0.0
-    i_safe = np.where(pos, i, 1.0)
-    s = np.sqrt(i)
-    big_z = m @ np.abs(z)
-    total = m.sum(axis=1)
-    total_safe = np.where(total > 0.0, total, 1.0)
-    a_phi = request.conditions.a_phi  # (N,)
-    b = np.broadcast_to(request.value(ParameterKey("b")), (n_sets, n))
-
-    defaults = np.array([[default_alphas(int(c), int(a)) for a in za] for c in zc]).reshape(
-        kc, ka, 2)
-    alphas = {"alpha1": defaults[:, :, 0], "alpha2": defaults[:, :, 1]}
-    pairs = _Pairs(request, cations, anions, alphas, s)
-    pv = pairs.values
-    e1, g1, gp1 = pairs.terms[1][:3]
-    e2, g2, gp2 = pairs.terms[2][:3]
-    mca = mc[:, :, None] * ma[:, None, :]  # (N, Kc, Ka)
-    mca_flat = mca.reshape(n, -1)
-    # the parts of B, B' and B^phi that vary with I, summed over the pairs where weighted
-    b_phi = pv["beta1"] * e1 + pv["beta2"] * e2  # + beta0
-    b_mx = pv["beta1"] * g1 + pv["beta2"] * g2  # + beta0
-    b_prime_sum = ((pv["beta1"] * gp1 + pv["beta2"] * gp2) * mca).reshape(
-        b_mx.shape[0], n, -1).sum(axis=-1) / i_safe
-    c_scale = 1.0 / (2.0 * np.sqrt(np.outer(zc, za)))  # (Kc, Ka)
-    c_mx = pv["C_phi"] * c_scale  # (S, Np, Kc, Ka)
-    beta0 = pv["beta0"]
-
-    cache: dict = {}
-    th_c, et_c, etp_c, psi_c = _like(request, cations, zc, anions, True, i, a_phi, cache)
-    th_a, et_a, etp_a, psi_a = _like(request, anions, za, cations, False, i, a_phi, cache)
-
-    # F and the Debye-Hückel parts
-    one_bs = 1.0 + b * s
-    f = (-a_phi * (s / one_bs + (2.0 / b) * np.log1p(b * s)) + b_prime_sum
-         + 0.5 * np.einsum("nc,nd,ncd->n", mc, mc, etp_c)
-         + 0.5 * np.einsum("na,nb,nab->n", ma, ma, etp_a))
-    c_sum = _dot(mca_flat, c_mx.reshape(c_mx.shape[0], c_mx.shape[1], -1))  # (S, N)
-    zc_ = big_z[None, :, None]
-
-    # cations: sum_a m_a (2 B_Ma + Z C_Ma) + 2 sum_c m_c Phi_Mc + psi terms + |z_M| sum C
-    ln_c = (zc**2 * f[:, :, None]
-            + 2.0 * (b_mx * ma[None, :, None, :]).sum(axis=-1)
-            + _apply(ma, 2.0 * beta0) + zc_ * _apply(ma, c_mx)
-            + 2.0 * _apply(mc, th_c) + 2.0 * np.einsum("nd,ncd->nc", mc, et_c)[None]
-            + _apply(mca_flat, psi_c.reshape(*psi_c.shape[:3], -1))
-            + 0.5 * _apply(_outer(ma, ma), psi_a.transpose(0, 1, 4, 2, 3).reshape(
-                *psi_a.shape[:2], kc, -1))
-            + zc * c_sum[:, :, None])
-    ln_a = (za**2 * f[:, :, None]
-            + 2.0 * (b_mx * mc[None, :, :, None]).sum(axis=-2)
-            + _apply(mc, 2.0 * beta0.swapaxes(-1, -2)) + zc_ * _apply(mc, c_mx.swapaxes(-1, -2))
-            + 2.0 * _apply(ma, th_a) + 2.0 * np.einsum("nb,nab->na", ma, et_a)[None]
-            + _apply(_outer(ma, mc), psi_a.reshape(*psi_a.shape[:3], -1))
-            + 0.5 * _apply(_outer(mc, mc), psi_c.transpose(0, 1, 4, 2, 3).reshape(
-                *psi_c.shape[:2], ka, -1))
-            + za * c_sum[:, :, None])
-    ln_ions = np.empty((n_sets, n, k_ions))
-    ln_ions[:, :, cat] = ln_c
-    ln_ions[:, :, an] = ln_a
-
-    mcc, maa = _outer(mc, mc), _outer(ma, ma)
-    excess = (-a_phi * i * s / one_bs
-              + (b_phi * mca).reshape(b_phi.shape[0], n, -1).sum(axis=-1)
-              + _dot(mca_flat, beta0.reshape(*beta0.shape[:2], -1)) + big_z * c_sum
-              + 0.5 * _dot(mcc, th_c.reshape(*th_c.shape[:2], -1))
-              + 0.5 * (mcc * (et_c + i[:, None, None] * etp_c).reshape(n, -1)).sum(axis=-1)
-              + 0.5 * _dot(_outer(mcc, ma), psi_c.reshape(*psi_c.shape[:2], -1))
-              + 0.5 * _dot(maa, th_a.reshape(*th_a.shape[:2], -1))
-              + 0.5 * (maa * (et_a + i[:, None, None] * etp_a).reshape(n, -1)).sum(axis=-1)
-              + 0.5 * _dot(_outer(maa, mc), psi_a.reshape(*psi_a.shape[:2], -1)))
-    osm = 1.0 + 2.0 * np.broadcast_to(excess, (n_sets, n)) / total_safe
-
-    d_ions, d_osm = _derivatives(request, comp, cations, anions, cat, an, pairs, s, i_safe,
-                                 big_z, total_safe, b, a_phi)
-    return assemble(request, ln_ions, d_ions, osm, d_osm)
+    vals = _gather(request, lay.keys)  # (S, R, keys)
+    n_pairs = lay.n_pairs
+    alpha = vals[:, :, 4 * n_pairs:6 * n_pairs].reshape(n_sets, -1, 2, n_pairs).swapaxes(2, 3)
+    alpha = np.where(alpha == 0.0, lay.default_alpha, alpha)  # 0: the charge-type value
+    per_row_alpha = alpha.shape[1] != 1 and bool((alpha != alpha[:, :1]).any())
+    alphas = _Alphas(alpha if per_row_alpha else alpha[:, :1])
+    mixture = _Mixture(request, lay, alphas, _weights(lay, vals, alphas))
+    ln, phi = mixture.run()
+    d_ions, d_osm = _derivatives(request, comp, lay, alphas, mixture)
+    return assemble(request, ln.transpose(0, 2, 1), d_ions, phi, d_osm)
 
 
-def _derivatives(request: Request, comp, cations, anions, cat, an, pairs: _Pairs, s, i_safe,
-                 big_z, total, b, a_phi):
+def _derivatives(request: Request, comp, lay: _Layout, alphas: _Alphas, mixture: _Mixture):
     """d ln gamma (S, N, K) and d phi (S, N) for each key of ``request.wrt``."""
+    if not request.wrt:
+        return {}, {}
     m = comp.molality
+    i = mixture.i
+    i_safe = np.where(i > 0.0, i, 1.0)
+    s = np.sqrt(i)
+    big_z = m @ np.abs(lay.z)
+    total = m.sum(axis=1)
+    total = np.where(total > 0.0, total, 1.0)
+    b, a_phi = mixture.b, mixture.a_phi
+    terms: list[tuple[np.ndarray, ...]] = []
+
+    def g_terms() -> tuple[np.ndarray, ...]:  # (e, g, g', dg, dg') for all rows, when needed
+        if not terms:
+            terms.append(alphas.terms(s, slopes=True))
+        return terms[0]
+
     z = comp.charges
     z2 = z**2
+    names = comp.names
     n_sets, n = request.n_sets, comp.n
     shape = (n_sets, n)
     d_ions: dict[ParameterKey, np.ndarray] = {}
     d_osm: dict[ParameterKey, np.ndarray] = {}
     two_over_total = 2.0 / total
+    pair_of = {(names[c], names[a]): p for p, (c, a) in enumerate(zip(lay.pc, lay.pa))}
     for key in request.wrt:
         name, owner = key.name, key.owner
-        d = np.zeros((n_sets, n, len(comp.names)))
+        d = np.zeros((n_sets, n, len(names)))
         if name == "b" and not owner:
             one_bs = 1.0 + b * s
             log_bs = np.log1p(b * s)
@@ -279,33 +474,33 @@ def _derivatives(request: Request, comp, cations, anions, cat, an, pairs: _Pairs
             d_ions[key] = d
             d_osm[key] = two_over_total * a_phi * i_safe * s * s / (one_bs * one_bs)
             continue
-        if len(owner) == 2 and owner[0] in cations and owner[1] in anions:
-            ci, ai = cations.index(owner[0]), anions.index(owner[1])
-            jc, ja = cat[ci], an[ai]
+        p = pair_of.get(owner) if len(owner) == 2 else None
+        if p is not None:
+            jc, ja = lay.pc[p], lay.pa[p]
             mc, ma = m[:, jc], m[:, ja]
             mm = mc * ma
             if name in ("beta0", "beta1", "beta2"):
                 if name == "beta0":
                     gx, gpx, ex = np.ones(n), np.zeros(n), np.ones(n)
                 else:
-                    terms = pairs.terms[1 if name == "beta1" else 2]
-                    gx = terms[1][:, :, ci, ai]
-                    gpx = terms[2][:, :, ci, ai] / i_safe
-                    ex = terms[0][:, :, ci, ai]
+                    slot = alphas.slot[:, p, 0 if name == "beta1" else 1]  # (S,)
+                    e_, g_, gp_ = g_terms()[:3]
+                    gx, gpx, ex = g_[slot], gp_[slot] / i_safe, e_[slot]
                 d += (mm * gpx)[..., None] * z2
                 d[:, :, jc] += 2.0 * ma * gx
                 d[:, :, ja] += 2.0 * mc * gx
                 d_osm[key] = np.broadcast_to(two_over_total * mm * ex, shape)
             elif name == "C_phi":
-                k = 1.0 / (2.0 * np.sqrt(z[jc] * -z[ja]))
+                k = lay.c_scale[p]
                 d += (mm * k)[None, :, None] * np.abs(z)
                 d[:, :, jc] += big_z * ma * k
                 d[:, :, ja] += big_z * mc * k
                 d_osm[key] = np.broadcast_to(two_over_total * mm * big_z * k, shape)
             elif name in ("alpha1", "alpha2"):
                 which = 1 if name == "alpha1" else 2
-                beta = pairs.values[f"beta{which}"][:, :, ci, ai]
-                e, _, _, dg, dgp = (t[:, :, ci, ai] for t in pairs.terms[which])
+                beta = request.value(ParameterKey(f"beta{which}", owner))  # (S, 1) or (S, N)
+                slot = alphas.slot[:, p, which - 1]
+                e, _, _, dg, dgp = (t[slot] for t in g_terms())
                 d += (mm * beta * dgp * s / i_safe)[..., None] * z2
                 d[:, :, jc] += 2.0 * ma * beta * dg * s
                 d[:, :, ja] += 2.0 * mc * beta * dg * s
@@ -317,8 +512,8 @@ def _derivatives(request: Request, comp, cations, anions, cat, an, pairs: _Pairs
         if name in ("theta", "psi") and len(owner) in (2, 3):
             cols = [comp.index(o) for o in owner]
             mols = [m[:, j] for j in cols]
-            for p, j in enumerate(cols):
-                others = [mols[q] for q in range(len(cols)) if q != p]
+            for q, j in enumerate(cols):
+                others = [mols[r] for r in range(len(cols)) if r != q]
                 prod = others[0] if len(others) == 1 else others[0] * others[1]
                 d[:, :, j] += (2.0 if name == "theta" else 1.0) * prod
             d_ions[key] = d
