@@ -93,7 +93,8 @@ class CrossValidation:
     def max_abs_phi(self) -> float | None:
         return self._stat("osmotic", "max")
 
-    def to_dict(self) -> dict[str, Any]:
+    def to_dict(self, points: bool = True) -> dict[str, Any]:
+        """A JSON-ready summary; ``points=False`` leaves out the per-point list."""
         def num(x: float | None) -> float | None:
             return None if x is None or not np.isfinite(x) else float(x)
 
@@ -104,10 +105,11 @@ class CrossValidation:
                                       "n": int(np.sum(self.kind == "ln_gamma"))},
                          "osmotic": {"rms": num(self.rms_phi), "max_abs": num(self.max_abs_phi),
                                      "n": int(np.sum(self.kind == "osmotic"))}},
-            "points": [{"molality": float(m), "kind": str(k), "observed": float(o),
-                        "predicted": num(p), "fold": int(f)}
-                       for m, k, o, p, f in zip(self.molality, self.kind, self.observed,
-                                                self.prediction, self.fold)],
+            **({"points": [{"molality": float(m), "kind": str(k), "observed": float(o),
+                            "predicted": num(p), "fold": int(f)}
+                           for m, k, o, p, f in zip(self.molality, self.kind, self.observed,
+                                                    self.prediction, self.fold)]}
+               if points else {}),
             "flags": texts(self.flags),
             **({"folds_run": self.folds_run}
                if self.folds_run is not None and self.folds_run < self.folds else {}),

@@ -59,14 +59,15 @@ class MaskedLinear:
         """The weighted least-squares fit to the points picked by the boolean ``mask``, equal to
         ``least_squares.solve(problem.subset(mask))``; None where that would report a failure."""
         p = self.problem
+        rows = np.flatnonzero(mask)  # the same values as a boolean index, gathered faster
         try:
-            lin = solve_weighted(p, self.weighted[mask], self.rhs[mask], projection=False)
+            lin = solve_weighted(p, self.weighted[rows], self.rhs[rows], projection=False)
         except _FAILURES:
             return None
         theta = p.theta0.copy()
         theta[p.linear] = lin.x
-        pred = self.offset[mask] + self.design[mask] @ theta[p.linear]
-        resid = (p.obs[mask] - pred) / p.sigma[mask]
+        pred = self.offset[rows] + self.design[rows] @ theta[p.linear]
+        resid = (p.obs[rows] - pred) / p.sigma[rows]
         # A sum is finite only if every term is (see least_squares._Projection.set_point).
         if not math.isfinite(np.add.reduce(resid)):
             return None

@@ -48,6 +48,7 @@ from saltbench.fitting.properties import per_point
 from saltbench.fitting.protocol import Problem
 from saltbench.fitting.result import FitResult, fit_flags
 from saltbench.models.contract import SolutionModel
+from saltbench.models.salt_view import unwrapped
 from saltbench.water.debye_huckel import DebyeHuckel
 
 #: A fit judged on its own points needs this many more points than free parameters.
@@ -249,7 +250,7 @@ def _same_fit(full_fit: tuple[FitProblem, FitResult] | None, sub: Problem) -> bo
     if full_fit is None or not isinstance(sub, FitProblem):
         return False
     other = full_fit[0]
-    return (other.model is sub.model and other.n == sub.n
+    return (unwrapped(other.model) is unwrapped(sub.model) and other.n == sub.n
             and len(other.blocks) == len(sub.blocks)
             and all(a.ctx == b.ctx for a, b in zip(other.blocks, sub.blocks))
             and bool(np.array_equal(other.molality, sub.molality))
