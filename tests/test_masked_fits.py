@@ -117,3 +117,33 @@ def test_a_model_failing_on_the_root_points_takes_the_general_path():
     assert MaskedLinear.of(problem) is None
     cv = cross_validate(LinearNaNAbove2(), NACL, data)
     assert any(f.kind is FlagKind.FOLD_UNSOLVED for f in cv.flags)
+
+
+@pytest.mark.parametrize("judge", ["fit", "heldout"])
+def test_a_mixture_scan_equals_the_general_path(monkeypatch, judge):
+    # SIT's eps of HCl + NaCl fitted to Pitzer-generated points (tests/test_fit_mixture.py):
+    # its misfit grows with ionic strength, so the scan both passes and fails trial limits.
+    from test_fit_mixture import SIT_DH, SIT_FREE, pitzer_data
+
+    from saltbench.fitting.mixture import cross_validate_mixture, mixture_validity
+    from saltbench.fitting.mixture_problem import build_mixture_problem
+    from saltbench.models.quantities import ln_gamma_pm
+    from saltbench.plugins.sit import SIT
+
+    data, _, _, _ = pitzer_data(0, noise=False, psi=-0.03)
+    data = data.subset(np.array([q == ln_gamma_pm("HCl") for q in data.quantities]))
+    problem = build_mixture_problem(SIT(), data, free=SIT_FREE, dh=SIT_DH)
+    assert MaskedLinear.of(problem.subset(problem.molality <= 2.0)) is not None
+
+    def run():
+        return (mixture_validity(SIT(), data, free=SIT_FREE, dh=SIT_DH, tolerance_ln_gamma=0.003,
+                                 judge=judge),
+                cross_validate_mixture(SIT(), data, free=SIT_FREE, dh=SIT_DH, folds=4))
+
+    fast, fast_cv = run()
+    with monkeypatch.context() as mp:
+        _general_path(mp)
+        slow, slow_cv = run()
+    assert fast.to_dict() == slow.to_dict()
+    assert fast.max_ionic_strength is not None and fast.max_ionic_strength < 3.0
+    assert np.array_equal(fast_cv.prediction, slow_cv.prediction)
