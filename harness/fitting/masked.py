@@ -59,7 +59,7 @@ class MaskedLinear:
         """The weighted least-squares fit to the points picked by the boolean ``mask``, equal to
         ``least_squares.solve(problem.subset(mask))``; None where that would report a failure."""
         p = self.problem
-        rows = np.flatnonzero(mask)  # the same values as a boolean index, gathered faster
+        rows = np.asarray(mask).nonzero()[0]  # the same values as a boolean index, gathered faster
         try:
             lin = solve_weighted(p, self.weighted[rows], self.rhs[rows], projection=False)
         except _FAILURES:

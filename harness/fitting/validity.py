@@ -269,7 +269,9 @@ def _fit_scan(problem: Problem, tol: Tolerance,
     trials: list[dict[str, Any]] = []
     m = problem.molality
     k = problem.k
-    grid = [float(L) for L in np.unique(m) if int((m <= L).sum()) >= k + MIN_DOF]
+    limits = np.unique(m)
+    below = np.searchsorted(np.sort(m), limits, side="right")  # points with m <= each limit
+    grid = [L for L, n in zip(limits.tolist(), below.tolist()) if n >= k + MIN_DOF]
     if not grid:
         flags.append(flag(FlagKind.TOO_FEW_TO_JUDGE, n_points=problem.n, n_params=k))
         return None, None, flags, trials
@@ -282,19 +284,21 @@ def _fit_scan(problem: Problem, tol: Tolerance,
     def outcome(sel: np.ndarray) -> tuple[bool, np.ndarray, np.ndarray, list[Flag], np.ndarray | None]:
         """Whether the fit to the points of ``sel`` solved, its residuals, their kinds, its
         flags and its full parameter vector."""
-        if masked is not None and not (start == [] and full_fit is not None and bool(sel.all())
-                                       and _same_fit(full_fit, problem)):
-            sol = masked.solve(sel)
+        if start == [] and full_fit is not None and bool(sel.all()) and _same_fit(full_fit, problem):
+            # The top trial is often the caller's own fit of all the data (same points and
+            # start, as problem.subset(sel) would have): reuse it.
+            result = full_fit[1]
+        else:
+            sol = None if masked is None else masked.solve(sel)
             if sol is not None:
                 assert sol.prediction is not None  # a masked solve either solves or says None
                 fl = fit_flags(problem, sol, int(np.count_nonzero(sel)))
                 solved = not any(f.kind in FAILED_FIT_KINDS for f in fl)
                 return solved, problem.obs[sel] - sol.prediction, problem.kind[sel], fl, sol.theta
-        sub = problem.subset(sel)
-        trial = sub.with_start(start[-1]) if start else sub
-        # The top trial is often the caller's own fit of all the data (same start): reuse it.
-        result = full_fit[1] if full_fit is not None and _same_fit(full_fit, trial) \
-            else run(trial)
+            sub = problem.subset(sel)
+            trial = sub.with_start(start[-1]) if start else sub
+            result = full_fit[1] if full_fit is not None and _same_fit(full_fit, trial) \
+                else run(trial)
         solved = result.ok and bool(np.all(np.isfinite(result.prediction)))
         return (solved, result.residual, result.kind, result.flags,
                 problem.theta_from(result.values) if solved else None)
