@@ -227,6 +227,21 @@ class BDot(MixtureRuleModel):
         da_ln, da_phi = dh.size_term_d_a(ctx.dh.a_gamma, e.zz, ctx.dh.b_gamma_per_angstrom, i, x)
         return {"a": da_ln, "b_dot": LN10 * i}, {"a": da_phi, "b_dot": LN10 * i / 2.0}
 
+    def values_and_jacobian(self, m, params, ctx):
+        """ln gamma±, phi and the derivatives in ``ctx.wrt`` (all without it) from one pass over
+        the shared terms, by the expressions of the three functions above: a fit asks for all
+        three at each step, and for the design in b-dot only its (cheap) column."""
+        e, i, s, x, lin = self._parts(m, params, ctx)
+        ln_g = dh.size_term(ctx.dh.a_gamma, e.zz, s, x) + lin * i
+        phi = 1.0 + dh.size_term_osmotic(ctx.dh.a_gamma, e.zz, s, x) + lin * i / 2.0
+        d_ln, d_phi = {}, {}
+        if ctx.wrt is None or "a" in ctx.wrt:
+            d_ln["a"], d_phi["a"] = dh.size_term_d_a(ctx.dh.a_gamma, e.zz,
+                                                     ctx.dh.b_gamma_per_angstrom, i, x)
+        if ctx.wrt is None or "b_dot" in ctx.wrt:
+            d_ln["b_dot"], d_phi["b_dot"] = LN10 * i, LN10 * i / 2.0
+        return ln_g, phi, d_ln, d_phi
+
     def mixing_rule_defect(self, composition, values, dh):
         # With one å the size term is an ionic-strength model; b-dot I adds ln 10 b-dot I_k to
         # d ln gamma±_j/d m_k of every salt, so the defect between salts j and k is

@@ -69,8 +69,7 @@ def assess(model, plugin: str, e: Electrolyte, data: FitData, published: Publish
             solved = bool(np.all(np.isfinite(result.prediction)))
             cv = cross_validate_problem(problem, settings.folds,
                                         start=problem.theta_from(result.values) if solved else None)
-            held = cv.to_dict()
-            held.pop("points", None)
+            held = cv.to_dict(points=False)
             out.heldout = held
         else:
             pred = result.prediction

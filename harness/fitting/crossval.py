@@ -21,6 +21,7 @@ from saltbench.errors import ModelDomainError, ModelError, UserError
 from saltbench.fitting.data import FitData
 from saltbench.fitting.flags import Flag, FlagKind, flag, texts
 from saltbench.fitting.least_squares import solve
+from saltbench.fitting.masked import MaskedLinear
 from saltbench.fitting.problem import build_problem
 from saltbench.fitting.properties import per_point
 from saltbench.fitting.protocol import Problem
@@ -92,7 +93,8 @@ class CrossValidation:
     def max_abs_phi(self) -> float | None:
         return self._stat("osmotic", "max")
 
-    def to_dict(self) -> dict[str, Any]:
+    def to_dict(self, points: bool = True) -> dict[str, Any]:
+        """A JSON-ready summary; ``points=False`` leaves out the per-point list."""
         def num(x: float | None) -> float | None:
             return None if x is None or not np.isfinite(x) else float(x)
 
@@ -103,10 +105,11 @@ class CrossValidation:
                                       "n": int(np.sum(self.kind == "ln_gamma"))},
                          "osmotic": {"rms": num(self.rms_phi), "max_abs": num(self.max_abs_phi),
                                      "n": int(np.sum(self.kind == "osmotic"))}},
-            "points": [{"molality": float(m), "kind": str(k), "observed": float(o),
-                        "predicted": num(p), "fold": int(f)}
-                       for m, k, o, p, f in zip(self.molality, self.kind, self.observed,
-                                                self.prediction, self.fold)],
+            **({"points": [{"molality": float(m), "kind": str(k), "observed": float(o),
+                            "predicted": num(p), "fold": int(f)}
+                           for m, k, o, p, f in zip(self.molality, self.kind, self.observed,
+                                                    self.prediction, self.fold)]}
+               if points else {}),
             "flags": texts(self.flags),
             **({"folds_run": self.folds_run}
                if self.folds_run is not None and self.folds_run < self.folds else {}),
@@ -130,23 +133,33 @@ def cross_validate_problem(problem: Problem, folds: int | str = 5,
     if not isinstance(folds, int | np.integer):
         raise UserError(f"folds must be a whole number or 'loo', got {folds!r}")
     labels = fold_labels(problem.molality, int(folds), scheme)
-    seeded = problem if start is None else problem.with_start(start)
-    if start is None and problem.k:
+    # Every free parameter linear: each fold is a solve of the rows of one design, and a start
+    # changes none of them (the start of a linear parameter is not used).
+    masked = MaskedLinear.of(problem)
+    seeded = problem if start is None or masked is not None else problem.with_start(start)
+    if start is None and problem.k and masked is None:
         full = solve(problem)
         if full.prediction is not None:
             seeded = problem.with_start(full.theta)
+    held_out = labels[None, :] == np.arange(int(folds))[:, None]  # folds x points
+    # Without a stop all folds are solved together; with one, only those that are run.
+    stacked = masked.solve_all(~held_out) if masked is not None and stop_outside is None else None
     pred = np.full(n, np.nan)
     flags: list[Flag] = []
     theta = None
     folds_run = 0
     for f in range(int(folds)):
         folds_run = f + 1
-        held = labels == f
-        train = seeded.subset(~held)
-        sol = solve(train)
+        held = held_out[f]
+        sol = None
+        if masked is not None:
+            sol = stacked[f] if stacked is not None else masked.solve(~held)
+        if sol is None:  # the general path (also for a masked solve that met a failure)
+            sol = solve(seeded.subset(~held))
         which = {"fold": f + 1, "folds": folds}
-        if train.n <= train.k:
-            flags.append(flag(FlagKind.FOLD_TOO_FEW, **which, n_points=train.n, n_params=train.k))
+        n_train = n - int(np.count_nonzero(held))
+        if n_train <= problem.k:
+            flags.append(flag(FlagKind.FOLD_TOO_FEW, **which, n_points=n_train, n_params=problem.k))
         if sol.prediction is None:
             flags.append(flag(FlagKind.FOLD_UNSOLVED, **which,
                               reason=str(sol.flags[-1]) if sol.flags else sol.message))
@@ -157,7 +170,8 @@ def cross_validate_problem(problem: Problem, folds: int | str = 5,
             flags.append(flag(FlagKind.FOLD_NOT_CONVERGED, **which, detail=sol.message))
         theta = sol.theta
         try:
-            pred[held] = seeded.subset(held).predict(sol.theta)
+            pred[held] = masked.predict(held, sol.theta) if masked is not None \
+                else seeded.subset(held).predict(sol.theta)
         except (ModelError, ModelDomainError) as exc:
             flags.append(flag(FlagKind.FOLD_HELDOUT_ERROR, **which, detail=str(exc)))
         if stop_outside is not None:

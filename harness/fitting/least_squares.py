@@ -103,6 +103,10 @@ class Solution:
     weighted_residual: np.ndarray | None = None  # (y - prediction) / u, when known
 
 
+#: The solver's message for a problem whose free parameters all enter linearly.
+LINEAR_MESSAGE = "all free parameters are linear: solved by linear least squares"
+
+
 class _Abort(Exception):
     pass
 
@@ -187,9 +191,17 @@ def solve_linear(problem: Problem, offset: np.ndarray, design: np.ndarray, *,
     Without, the basis is not needed and one decomposition of the scaled design gives the
     solution and, later, the covariance.
     """
-    idx = problem.linear
     a = design / problem.sigma[:, None]
     rhs = (problem.obs - offset) / problem.sigma
+    return solve_weighted(problem, a, rhs, projection=projection)
+
+
+def solve_weighted(problem: Problem, a: np.ndarray, rhs: np.ndarray, *,
+                   projection: bool = True) -> LinearSolution:
+    """:func:`solve_linear` on the weighted design ``a`` (design / u) and right-hand side
+    ``rhs`` ((y - offset) / u) of any rows of ``problem``'s points: the bounds and indices of
+    the free linear parameters are ``problem``'s (those of a subset of its points too)."""
+    idx = problem.linear
     svd = None
     if projection:
         x = np.linalg.lstsq(a, rhs, rcond=None)[0]
@@ -393,8 +405,7 @@ def solve(problem: Problem, *, max_evaluations: int | None = None,
         if p.nonlinear.size == 0:
             proj.set_point(np.zeros(0))
             theta = proj.theta
-            message = ("all free parameters are linear: solved by linear least squares"
-                       if p.k else "no free parameters: evaluated only")
+            message = LINEAR_MESSAGE if p.k else "no free parameters: evaluated only"
         else:
             from scipy.optimize import least_squares
 

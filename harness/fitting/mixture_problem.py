@@ -225,6 +225,17 @@ class MixtureProblem:
         assert self._last is not None and self._last[0] == t0.tobytes()
         return self._last[1], design
 
+    def shared_design(self) -> tuple[np.ndarray, np.ndarray] | None:
+        """Where every free parameter enters linearly: the offset and design of this problem's
+        points (as :meth:`linear_design` gives them), read from its root's, which is built once
+        and kept. None when a free parameter is nonlinear or none is free, or when the root
+        cannot give it (the model fails at one of its points)."""
+        if self.nonlinear.size or not self.linear.size:
+            return None
+        t0 = self.theta0.copy()
+        t0[self.linear] = 0.0
+        return self._shared_design(t0)
+
     def _shared_design(self, t0: np.ndarray) -> tuple[np.ndarray, np.ndarray] | None:
         root, rows = self._root, self._rows
         if rows is None:

@@ -567,6 +567,17 @@ class FitProblem:
         return [None if q is None else (q[0][rows], None if q[1] is None else q[1][rows])
                 for q in parts]
 
+    def shared_design(self) -> tuple[np.ndarray, np.ndarray] | None:
+        """Where every free parameter enters linearly: the offset and design of this problem's
+        points (as :meth:`linear_design` gives them), read from its root's, which is built once
+        and kept. None when a free parameter is nonlinear or none is free, or when the root
+        cannot give it (the model fails at one of its points)."""
+        if self.nonlinear.size or not self.linear.size:
+            return None
+        t0 = self.theta0.copy()
+        t0[self.linear] = 0.0
+        return self._shared_design(t0)
+
     def _shared_design(self, t0: np.ndarray) -> tuple[np.ndarray, np.ndarray] | None:
         """The design of every free parameter linear, built once on the root problem and read
         by each problem made from it by subset() (the folds of a cross-validation, the trial

@@ -205,6 +205,34 @@ def _covariance(jac: np.ndarray, names: list[str], svd: ScaledSVD | None = None
     return cov, cond, flags
 
 
+def _flags_and_covariance(p: Problem, solution: Solution, n: int,
+                          free_names: list[str] | None = None
+                          ) -> tuple[list[Flag], np.ndarray, float]:
+    """The flags of a solved problem of ``n`` points (the solver's, too few points, the
+    covariance's, parameters at a bound), its unscaled covariance and condition number."""
+    k = p.k
+    flags = list(solution.flags)
+    if n - k <= 0:
+        flags.append(flag(FlagKind.TOO_FEW_POINTS, n_points=n, n_params=k))
+    if solution.jacobian is not None:
+        if free_names is None:
+            free_names = [p.names[i] for i in p.free.tolist()]
+        cov, cond, more = _covariance(solution.jacobian, free_names, solution.jacobian_svd)
+        flags.extend(more)
+    else:
+        cov, cond = np.full((k, k), np.nan), math.nan
+    for g, side in sorted(solution.at_bound.items()):
+        bound = p.params[g].lower if side == "lower" else p.params[g].upper
+        flags.append(flag(FlagKind.AT_BOUND, name=p.names[g], side=side, bound=bound))
+    return flags, cov, cond
+
+
+def fit_flags(problem: Problem, solution: Solution, n_points: int) -> list[Flag]:
+    """The flags :func:`build_result` gives ``solution``, a fit of ``problem``'s parameters to
+    ``n_points`` points (all of them, or the subset a masked solve fitted), in the same order."""
+    return _flags_and_covariance(problem, solution, n_points)[0]
+
+
 def build_result(problem: Problem, solution: Solution, *,
                  covariance_scaling: str = "birge") -> FitResult:
     """Statistics, covariance and flags of a solved problem."""
@@ -214,21 +242,14 @@ def build_result(problem: Problem, solution: Solution, *,
     n, k = p.n, p.k
     free = p.free.tolist()
     free_names = [p.names[i] for i in free]
-    flags = list(solution.flags)
+    flags, cov, cond = _flags_and_covariance(p, solution, n, free_names)
     dof = n - k
-    if dof <= 0:
-        flags.append(flag(FlagKind.TOO_FEW_POINTS, n_points=n, n_params=k))
     pred = solution.prediction if solution.prediction is not None else np.full(n, np.nan)
     weighted = solution.weighted_residual  # the solver's, when it has them (with its prediction)
     if weighted is None:
         weighted = (p.obs - pred) / p.sigma
     chi2 = float(weighted @ weighted)
     chi2_red = chi2 / dof if dof > 0 else math.nan
-    if solution.jacobian is not None:
-        cov, cond, more = _covariance(solution.jacobian, free_names, solution.jacobian_svd)
-        flags.extend(more)
-    else:
-        cov, cond = np.full((k, k), np.nan), math.nan
     if covariance_scaling == "birge":
         scale = max(1.0, chi2_red) if math.isfinite(chi2_red) else 1.0
     elif covariance_scaling == "always":
@@ -239,9 +260,6 @@ def build_result(problem: Problem, solution: Solution, *,
         cov = cov * scale
     # sqrt(max(var, 0)), NaN kept: the same numbers as numpy's, without its per-call cost
     sd_list = [math.sqrt(v) if not v < 0.0 else 0.0 for v in cov.diagonal().tolist()]
-    for g, side in sorted(solution.at_bound.items()):
-        bound = p.params[g].lower if side == "lower" else p.params[g].upper
-        flags.append(flag(FlagKind.AT_BOUND, name=p.names[g], side=side, bound=bound))
 
     stderr_of = dict(zip(free, sd_list))
     units = {q.name: q.unit for q in p.model.parameters}

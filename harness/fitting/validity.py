@@ -41,12 +41,14 @@ from saltbench.chemistry.electrolyte import Electrolyte
 from saltbench.errors import ModelDomainError, ModelError
 from saltbench.fitting.crossval import CrossValidation, cross_validate_problem
 from saltbench.fitting.data import FitData
-from saltbench.fitting.flags import Flag, FlagKind, flag, texts
+from saltbench.fitting.flags import FAILED_FIT_KINDS, Flag, FlagKind, flag, texts
+from saltbench.fitting.masked import MaskedLinear
 from saltbench.fitting.problem import FitProblem, build_problem
 from saltbench.fitting.properties import per_point
 from saltbench.fitting.protocol import Problem
-from saltbench.fitting.result import FitResult
+from saltbench.fitting.result import FitResult, fit_flags
 from saltbench.models.contract import SolutionModel
+from saltbench.models.salt_view import unwrapped
 from saltbench.water.debye_huckel import DebyeHuckel
 
 #: A fit judged on its own points needs this many more points than free parameters.
@@ -248,7 +250,7 @@ def _same_fit(full_fit: tuple[FitProblem, FitResult] | None, sub: Problem) -> bo
     if full_fit is None or not isinstance(sub, FitProblem):
         return False
     other = full_fit[0]
-    return (other.model is sub.model and other.n == sub.n
+    return (unwrapped(other.model) is unwrapped(sub.model) and other.n == sub.n
             and len(other.blocks) == len(sub.blocks)
             and all(a.ctx == b.ctx for a, b in zip(other.blocks, sub.blocks))
             and bool(np.array_equal(other.molality, sub.molality))
@@ -267,32 +269,53 @@ def _fit_scan(problem: Problem, tol: Tolerance,
     trials: list[dict[str, Any]] = []
     m = problem.molality
     k = problem.k
-    grid = [float(L) for L in np.unique(m) if int((m <= L).sum()) >= k + MIN_DOF]
+    limits = np.unique(m)
+    below = np.searchsorted(np.sort(m), limits, side="right")  # points with m <= each limit
+    grid = [L for L, n in zip(limits.tolist(), below.tolist()) if n >= k + MIN_DOF]
     if not grid:
         flags.append(flag(FlagKind.TOO_FEW_TO_JUDGE, n_points=problem.n, n_params=k))
         return None, None, flags, trials
     cache: dict[int, bool] = {}
     start: list[np.ndarray] = []
+    # Every free parameter linear: a trial is a solve of the rows of one design (no problem,
+    # solver or result of its own), with the flags its result would carry.
+    masked = MaskedLinear.of(problem)
+
+    def outcome(sel: np.ndarray) -> tuple[bool, np.ndarray, np.ndarray, list[Flag], np.ndarray | None]:
+        """Whether the fit to the points of ``sel`` solved, its residuals, their kinds, its
+        flags and its full parameter vector."""
+        if start == [] and full_fit is not None and bool(sel.all()) and _same_fit(full_fit, problem):
+            # The top trial is often the caller's own fit of all the data (same points and
+            # start, as problem.subset(sel) would have): reuse it.
+            result = full_fit[1]
+        else:
+            sol = None if masked is None else masked.solve(sel)
+            if sol is not None:
+                assert sol.prediction is not None  # a masked solve either solves or says None
+                fl = fit_flags(problem, sol, int(np.count_nonzero(sel)))
+                solved = not any(f.kind in FAILED_FIT_KINDS for f in fl)
+                return solved, problem.obs[sel] - sol.prediction, problem.kind[sel], fl, sol.theta
+            sub = problem.subset(sel)
+            trial = sub.with_start(start[-1]) if start else sub
+            result = full_fit[1] if full_fit is not None and _same_fit(full_fit, trial) \
+                else run(trial)
+        solved = result.ok and bool(np.all(np.isfinite(result.prediction)))
+        return (solved, result.residual, result.kind, result.flags,
+                problem.theta_from(result.values) if solved else None)
 
     def passes(i: int) -> bool:
         if i in cache:
             return cache[i]
         L = grid[i]
-        sub = problem.subset(m <= L)
-        trial = sub.with_start(start[-1]) if start else sub
-        # The top trial is often the caller's own fit of all the data (same start): reuse it.
-        result = full_fit[1] if full_fit is not None and _same_fit(full_fit, trial) \
-            else run(trial)
-        solved = result.ok and bool(np.all(np.isfinite(result.prediction)))
-        if solved:
-            start.append(problem.theta_from(result.values))
-        resid = result.residual
-        ok = solved and bool(_within(resid, result.kind, tol).all())
+        solved, resid, kind, trial_flags, theta = outcome(m <= L)
+        if solved and theta is not None:
+            start.append(theta)
+        ok = solved and bool(_within(resid, kind, tol).all())
         cache[i] = ok
-        trials.append({"limit": L, "passed": ok, **_worst_by_kind(resid, result.kind, True, tol),
-                       "flags": texts(result.flags)})
-        if not solved and result.flags:
-            flags.append(flag(FlagKind.TRIAL_FAILED, limit=L, detail=str(result.flags[0])))
+        trials.append({"limit": L, "passed": ok, **_worst_by_kind(resid, kind, True, tol),
+                       "flags": texts(trial_flags)})
+        if not solved and trial_flags:
+            flags.append(flag(FlagKind.TRIAL_FAILED, limit=L, detail=str(trial_flags[0])))
         return ok
 
     last_ok, first_fail = _search(grid, passes)

@@ -33,6 +33,12 @@ def salt_view(model: SolutionModel) -> ActivityModel:
     return SaltView(model)
 
 
+def unwrapped(model: SolutionModel) -> SolutionModel:
+    """The model a :func:`salt_view` shows (``model`` itself when it is not a view): two views
+    made of one model are the same model."""
+    return model.model if isinstance(model, SaltView) else model
+
+
 class SaltView(ActivityModel):
     """One-salt calls answered by the wrapped model's ``compute``."""
 
