@@ -109,10 +109,14 @@ def test_gibbs_helmholtz_the_enthalpy_integrates_back_to_the_gibbs_energy(form) 
     p = liquid_pressure(t2, None)
     params_at = FORMS[form]
     for i in range(m.size):
-        integral, _ = quad(lambda t: thermal_properties(PITZER, e, m[i:i + 1], params_at, temperature_k=t,
-                                                        pressure_pa=p).relative_enthalpy[0] / t ** 2,
-                           t1, t2, epsabs=1e-12, epsrel=1e-9, limit=20)
-        direct = -R * (_g(PITZER, e, m[i:i + 1], params_at, t2, p) - _g(PITZER, e, m[i:i + 1], params_at, t1, p))
+        one = m[i:i + 1]
+
+        def integrand(t: float, one: np.ndarray = one) -> float:
+            return thermal_properties(PITZER, e, one, params_at, temperature_k=t,
+                                      pressure_pa=p).relative_enthalpy[0] / t ** 2
+
+        integral, _ = quad(integrand, t1, t2, epsabs=1e-12, epsrel=1e-9, limit=20)
+        direct = -R * (_g(PITZER, e, one, params_at, t2, p) - _g(PITZER, e, one, params_at, t1, p))
         assert integral == pytest.approx(direct[0], rel=1e-6, abs=1e-9)
 
 
