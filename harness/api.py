@@ -68,7 +68,9 @@ class Session:
         """Load user files; a folder stands for its bibliographies (``*.sources.txt``,
         ``sources.txt``) and datasets or parameter files (``*.csv``)."""
         return ingest(self.store, expand_paths(paths), origin="user", provider="user",
-                      check_parameters=lambda pf: check_parameter_file(pf, self.registry))
+                      # the plugins are loaded only for a file with coefficient columns to check
+                      check_parameters=lambda pf: check_parameter_file(
+                          pf, self.registry if pf.coefficient_columns else None))
 
     def remove(self, key: str, force: bool = False) -> list[str]:
         """Remove one of your own datasets (see :func:`saltbench.store.ingest.remove_dataset`)."""
