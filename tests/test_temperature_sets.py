@@ -273,3 +273,23 @@ def test_the_migration_adds_forms_to_a_store_of_before(tmp_path) -> None:
         assert store.conn.execute("SELECT COUNT(*) FROM parameter_coefficients").fetchone()[0] == 0
     finally:
         store.close()
+
+
+def test_a_solution_beyond_the_range_of_a_form_is_marked(run_main, thermal_store) -> None:
+    code, out, err = run_main("predict", "--solution", "NaCl=1", "--model", "pitzer", "--sets", "fennwick-thermal",
+                              "--temperature", "353.15", "--format", "json", store=thermal_store)
+    assert code == 0, err
+    sol = json.loads(out)[0]
+    assert sol["extrapolated"]
+    assert sol["extrapolation"] == ["T = 353.15 K, outside 273.15-333.15 K, the range of fennwick-thermal's "
+                                    "temperature form"]
+
+
+def test_compare_judges_a_set_with_a_form_by_its_range() -> None:
+    from saltbench.comparison.assess import PublishedInput
+
+    p = PublishedInput("fennwick-thermal", {}, None, False, 298.15, (273.15, 333.15))
+    assert not p.basis(320.0).off_temperature and p.basis(340.0).off_temperature
+    # a published A_phi belongs to the set's own temperature only (water.basis)
+    q = PublishedInput("fennwick-thermal", {}, 0.392, False, 298.15, (273.15, 333.15))
+    assert q.basis(298.15).dh.a_phi == 0.392 and q.basis(320.0).dh.a_phi != 0.392
