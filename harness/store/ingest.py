@@ -288,10 +288,14 @@ def _write_parameter_file(store: Store, pf: ParameterFile, origin: str, provider
         "a_phi": pf.a_phi, "typed": pf.typed, "from_memory": int(pf.from_memory), "note": pf.note,
         "file": Path(pf.path).name if origin == "bundled" else pf.path, "content_hash": h,
         "settings": "{}", "data_hashes": "[]", "software_version": __version__,
-        "temperature_form": pf.temperature_form,
-        "t_min_k": pf.temperature_range_k[0] if pf.temperature_range_k else None,
-        "t_max_k": pf.temperature_range_k[1] if pf.temperature_range_k else None,
     }
+    # the form's columns (0008) are written only where there is a form, or one to clear on an
+    # update, so a set without one writes what it wrote before forms existed
+    if pf.temperature_form is not None or (row is not None and "temperature_form" in
+                                           store.db.table("parameter_sets").columns_dict):
+        values.update({"temperature_form": pf.temperature_form,
+                       "t_min_k": pf.temperature_range_k[0] if pf.temperature_range_k else None,
+                       "t_max_k": pf.temperature_range_k[1] if pf.temperature_range_k else None})
     pk = upsert_parent(store, "parameter_sets", row[0] if row else None, values, "parameter_values", "set_pk",
                        report, label)
     store.db.table("parameter_values").insert_all(
