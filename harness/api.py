@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import os
 from collections.abc import Sequence
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from functools import cached_property
 from pathlib import Path
 from typing import TYPE_CHECKING, Any, cast
@@ -61,12 +61,16 @@ class Session:
 
     # -- data ---------------------------------------------------------------------------------
     def refresh_bundled(self, force: bool = False) -> IngestReport | None:
-        return sync_bundled(self.store, self.plugin_data_files(), force=force)
+        return sync_bundled(self.store, self.plugin_data_files(), force=force,
+                            check_parameters=check_parameter_file)
 
     def add(self, paths: Sequence[str | os.PathLike[str]]) -> IngestReport:
         """Load user files; a folder stands for its bibliographies (``*.sources.txt``,
         ``sources.txt``) and datasets or parameter files (``*.csv``)."""
-        return ingest(self.store, expand_paths(paths), origin="user", provider="user")
+        return ingest(self.store, expand_paths(paths), origin="user", provider="user",
+                      # the plugins are loaded only for a file with coefficient columns to check
+                      check_parameters=lambda pf: check_parameter_file(
+                          pf, self.registry if pf.coefficient_columns else None))
 
     def remove(self, key: str, force: bool = False) -> list[str]:
         """Remove one of your own datasets (see :func:`saltbench.store.ingest.remove_dataset`)."""
@@ -88,6 +92,40 @@ class Session:
 
     def content_hash(self) -> str:
         return queries.content_hash(self.store)
+
+
+def check_parameter_file(pf, registry=None) -> None:
+    """What the file reader cannot check of a parameter file with a temperature form: the form's
+    name and coefficients (``saltbench.models.temperature``) and, given the plugin ``registry``
+    and a model it knows, that every coefficient column belongs to one of the model's
+    parameters. Raises :class:`InputFileError` naming the file, line and field."""
+    from saltbench.errors import InputFileError
+    from saltbench.models.temperature import coefficient_problem
+
+    if pf.temperature_form is None:
+        return
+    problem = coefficient_problem(pf.temperature_form, [k for _, k in pf.coefficient_columns])
+    if problem is not None:
+        bad = next((f"{n}.{k}" for n, k in pf.coefficient_columns
+                    if coefficient_problem(pf.temperature_form, [k]) is not None), None)
+        if bad is None or coefficient_problem(pf.temperature_form, []) is not None:
+            raise InputFileError(pf.path, pf.form_line, "temperature_form", problem)
+        raise InputFileError(pf.path, pf.columns_line, bad, problem)
+    from saltbench.models.temperature import form
+
+    reference = form(pf.temperature_form).reference_k
+    if abs(reference - pf.temperature_k) >= 0.01:
+        raise InputFileError(pf.path, pf.form_line, "temperature_form", f"form {pf.temperature_form} "
+                             f"expands about {reference:g} K, but the set's temperature is "
+                             f"{pf.temperature_k:g} K (the plain columns hold the values at the reference)")
+    if registry is None or not pf.coefficient_columns or pf.model not in registry.models:
+        return
+    model = registry.model(pf.model)
+    names = {p.name for p in model.parameters} | {p.ion_key for p in model.parameters if p.ion_key}
+    for name, k in pf.coefficient_columns:
+        if name not in names:
+            raise InputFileError(pf.path, pf.columns_line, f"{name}.{k}",
+                                 f"model {model.id} has no parameter {name!r}")
 
 
 def plugin_registry(plugin_files: Sequence[str | os.PathLike[str]] = (), disabled: Sequence[str] = ()):
@@ -123,14 +161,53 @@ def check_data(session: Session, electrolytes: Sequence[str] = ()):
     return report
 
 
-def resolve_parameters(session: Session, model, electrolyte, choice: str = "auto"):
+def temperature_rank(params, temperature_k: float | Sequence[float] | np.ndarray | None) -> int:
+    """Where a set stands at ``temperature_k`` (every one of them, for several), lower first:
+    0 values given at that very temperature; 1 a temperature form whose fitted range holds it;
+    2 a form used outside its range (an extrapolation along the authors' temperature
+    dependence); 3 values of another temperature, used unchanged. None: 0 for every set."""
+    from saltbench.water.basis import SAME_TEMPERATURE_K
+
+    if temperature_k is None:
+        return 0
+    t = np.atleast_1d(np.asarray(temperature_k, dtype=float))
+    if params.temperature_range_k is not None:
+        low, high = params.temperature_range_k
+        return 1 if bool(np.all((t >= low - SAME_TEMPERATURE_K) & (t <= high + SAME_TEMPERATURE_K))) else 2
+    return 0 if bool(np.all(np.abs(t - params.temperature_k) < SAME_TEMPERATURE_K)) else 3
+
+
+def preferred_sets(found: Sequence, temperature_k: float | None) -> list:
+    """The published sets of a model for one salt in the order they are chosen at
+    ``temperature_k`` (None: as stored, by set id): by :func:`temperature_rank`, then by set id.
+    So at 25 °C a set of 25 °C values comes before a set whose form covers 25 °C, and at 75 °C a
+    form covering 75 °C before a set of 25 °C values used unchanged."""
+    return sorted(found, key=lambda p: temperature_rank(p, temperature_k))
+
+
+def params_at(params, temperature_k: float):
+    """``params`` with each value at ``temperature_k`` through its set's temperature form
+    (unchanged for a set without one)."""
+    from dataclasses import replace
+
+    from saltbench.models.temperature import values_at
+
+    if getattr(params, "temperature_form", None) is None or not params.coefficients:
+        return params
+    return replace(params, values=values_at(params.temperature_form, params.values, params.coefficients,
+                                            temperature_k))
+
+
+def resolve_parameters(session: Session, model, electrolyte, choice: str = "auto",
+                       temperature_k: float | None = None):
     """Parameters for ``model`` and ``electrolyte``: ``auto`` (published if any, else defaults),
-    ``published`` (first published set), ``defaults``, or a parameter-set id."""
+    ``published`` (the first published set by :func:`preferred_sets` at ``temperature_k``),
+    ``defaults``, or a parameter-set id. Values are as stored (see :func:`params_at`)."""
     from saltbench.errors import UserError
     from saltbench.store import parameter_sets as ps
 
     if choice in ("auto", "published"):
-        found = ps.published(session.store, model, electrolyte)
+        found = preferred_sets(ps.published(session.store, model, electrolyte), temperature_k)
         if found:
             return found[0]
         if choice == "published":
@@ -185,13 +262,24 @@ def export_parameter_set(session: Session, set_id: str, folder: str | os.PathLik
     text = format_parameter_file(set_id=set_id, model=doc["model"], source=source, table=doc["table_ref"],
                                  temperature_k=doc["temperature_k"], a_phi=doc["a_phi"], typed=typed,
                                  note=doc["note"], target_kind=kinds.pop(),
-                                 rows=[(t, v, m) for t, (v, m) in rows.items()])
+                                 rows=[(t, v, m) for t, (v, m) in rows.items()],
+                                 temperature_form=doc.get("temperature_form"),
+                                 temperature_range_k=tuple(doc["temperature_range_k"])  # type: ignore[arg-type]
+                                 if doc.get("temperature_range_k") else None,
+                                 coefficients=_coefficients_by_target(doc.get("coefficients", [])))
     written = [out / f"{set_id}.params.csv"]
     written[0].write_text(text, encoding="utf-8")
     if entry:
         written.append(out / f"{set_id}.sources.txt")
         written[1].write_text(entry, encoding="utf-8")
     return written
+
+
+def _coefficients_by_target(rows: Sequence[dict]) -> dict[str, dict[str, dict[str, float]]]:
+    out: dict[str, dict[str, dict[str, float]]] = {}
+    for r in rows:
+        out.setdefault(r["target"], {}).setdefault(r["name"], {})[r["coefficient"]] = r["value"]
+    return out
 
 
 def parameter_sets(session: Session) -> pd.DataFrame:
@@ -215,7 +303,8 @@ def parameter_basis(params, temperature_k: float = 298.15, constant: str | float
 
     set_t = None if params.kind == "defaults" else params.temperature_k
     return evaluation_basis(temperature_k, set_id=params.set_id, set_a_phi=params.a_phi,
-                            set_temperature_k=set_t, constant=constant)
+                            set_temperature_k=set_t, constant=constant,
+                            set_temperature_range_k=getattr(params, "temperature_range_k", None))
 
 
 def eval_context(model, electrolyte, params, temperature_k: float = 298.15, own_constant: bool = True):
@@ -254,9 +343,16 @@ def extrapolation_reasons(model, electrolyte, params, m: np.ndarray, basis) -> l
             why.append(f"above the highest molality the set was fitted to ({params.m_max:g} mol/kg)")
         if claim is not None and x > claim * (1 + 1e-9):
             why.append(f"beyond the range {model.id}'s authors claim ({claim:g} mol/kg)")
-        if basis.off_temperature:
+        if basis.off_temperature and basis.set_temperature_range_k is not None:
+            low, high = basis.set_temperature_range_k
+            why.append(f"at {t:g} K, outside {low:g}-{high:g} K, the range of the set's "
+                       "temperature form")
+        elif basis.off_temperature:
             why.append(f"at {t:g} K, the set holds values for {basis.set_temperature_k:g} K")
-        elif span is not None and not model.validity.covers_temperature(t):
+        elif (span is not None and basis.set_temperature_range_k is None
+              and not model.validity.covers_temperature(t)):
+            # a set with a temperature form speaks for its own range: the model's claimed
+            # temperatures are those of its authors' one-temperature parameters
             why.append(f"at {t:g} K, outside the {span[0]:g}-{span[1]:g} K its authors claim")
         out.append(why)
     return out
@@ -275,13 +371,14 @@ def predict(session: Session, electrolyte: str, model_id: str, molality, params_
     model = session.registry.model(model_id)
     check_supported(model, e)
     m = np.atleast_1d(np.asarray(molality, float))
-    params = resolve_parameters(session, model, e, params_choice)
+    params = resolve_parameters(session, model, e, params_choice, temperature_k)
     if params.kind == "defaults" and params_choice == "auto" and model.free_parameters(e):
         raise UserError(f"no parameter set of {model.id} for {e.name}: fit one with 'saltbench fit {e.name} "
                         f"--model {model.id}', or name a stored set with --params SET ('saltbench params "
                         f"--model {model.id}' lists them); --params defaults uses the model's defaults knowingly")
     basis = parameter_basis(params, temperature_k, constant)
     ctx = make_context(e, dh=basis.dh)
+    params = params_at(params, temperature_k)
     with plugin_output_to_stderr():
         ev = evaluate(model, e, m, params.values, ctx=ctx)
     unc = None
@@ -292,6 +389,49 @@ def predict(session: Session, electrolyte: str, model_id: str, molality, params_
         unc = propagate(model, e, m, params={**model.defaults(e), **params.values},
                         covariance=np.array(matrix), names=names, dh=ctx.dh)
     return Prediction(e, model, params, basis, ev, unc, extrapolation_reasons(model, e, params, m, basis))
+
+
+@dataclass
+class ThermalPrediction:
+    """One model's thermal properties of one salt (``saltbench.models.thermal``) with the
+    prediction at the same molalities and temperature, its extrapolation marks included."""
+
+    prediction: Prediction
+    thermal: Any  # saltbench.models.thermal.ThermalProperties
+    #: why the thermal values stand on less than the activity values do ('' none)
+    caution: str
+
+
+def predict_thermal(session: Session, electrolyte: str, model_id: str, molality, params_choice: str = "auto",
+                    temperature_k: float = 298.15) -> ThermalPrediction:
+    """L_phi, C_p,phi - C°_p,2, d ln gamma±/dT and the partial molar relative enthalpies of salt
+    and water from one model with one parameter set, by the temperature derivatives of its excess
+    Gibbs energy (:func:`saltbench.models.thermal.thermal_properties`): the set's parameters at
+    each temperature of the stencil through its temperature form, the Debye-Hückel constants of
+    water at each (never a published A_phi of one temperature)."""
+    from saltbench.models.discovery import plugin_output_to_stderr
+    from saltbench.models.thermal import thermal_properties
+
+    p = predict(session, electrolyte, model_id, molality, params_choice, temperature_k, "current")
+    stored = resolve_parameters(session, p.model, p.electrolyte, params_choice, temperature_k) \
+        if p.params.kind != "defaults" else p.params
+    base = {**p.model.defaults(p.electrolyte), **stored.values}
+
+    def values_at(t: float) -> dict[str, float]:
+        return params_at(replace(stored, values=base), t).values
+
+    with plugin_output_to_stderr():
+        thermal = thermal_properties(p.model, p.electrolyte, p.evaluation.molality, values_at,
+                                     temperature_k=temperature_k)
+    caution = ""
+    if stored.temperature_form is None and p.model.free_parameters(p.electrolyte):
+        caution = (f"parameter set {stored.set_id} gives no temperature dependence of its parameters, so "
+                   "these thermal values carry only the Debye-Hückel part of the model and not the "
+                   "salt's own; use a set with a temperature form")
+    elif stored.temperature_form is not None and all(len(c) <= 1 for c in stored.coefficients.values()):
+        caution = (f"parameter set {stored.set_id} gives first temperature derivatives only, so the heat "
+                   "capacity misses the second derivatives of the parameters")
+    return ThermalPrediction(p, thermal, caution)
 
 
 @dataclass
@@ -444,11 +584,15 @@ def compare(session: Session, electrolytes, settings=None, *, jobs: int = 1, cur
             raise UserError(f"none of the chosen models can be judged on {e.name} ({e.charge_label}) alone"
                             + (f": {', '.join(per_ion)} need several salts sharing an ion (fit them jointly "
                                f"with 'saltbench fit {e.name} OTHER... --model ID')" if per_ion else ""))
-        published = {}
+        published: dict[str, PublishedInput | None] = {}
         for mid in supported:
-            found = ps.published(session.store, reg.model(mid), e)
-            published[mid] = (PublishedInput(found[0].set_id, found[0].values, found[0].a_phi,
-                                             found[0].from_memory, found[0].temperature_k) if found else None)
+            found = preferred_sets(ps.published(session.store, reg.model(mid), e), settings.temperature_k)
+            if found:
+                p = params_at(found[0], settings.temperature_k)
+                published[mid] = PublishedInput(p.set_id, p.values, p.a_phi, p.from_memory, p.temperature_k,
+                                                p.temperature_range_k)
+            else:
+                published[mid] = None
         top = float(sel.data.molality.max())
         target = min(settings.up_to, top) if settings.up_to else top
         tasks.append(ElectrolyteTask(e, sel.data, sel.datasets, published, supported, target))
@@ -843,7 +987,8 @@ def _model_ion_activity(session: Session, salts, model_id: str | None, temperatu
     if missing not in ("error", "default"):
         raise UserError("missing must be 'error' or 'default' with the convention 'model'")
     used: dict = {}
-    res = resolve_values(model, comp, solution_lookup(session, list(sets), used), missing)  # type: ignore[arg-type]
+    res = resolve_values(model, comp, solution_lookup(session, list(sets), used, comp.temperature_k),
+                         missing)  # type: ignore[arg-type]
     if res.absent:
         raise UserError(f"{model_id}: {res.refusal()}; give --sets, or --missing default to take "
                         "the model's defaults knowingly")
@@ -931,10 +1076,12 @@ def read_solution(spec: str, *, temperature_k: float | None = None, density: str
     return record.closed_with(close_with) if close_with else record
 
 
-def _ordered_sets(session: Session, model, keys, chosen: Sequence[str]):
+def _ordered_sets(session: Session, model, keys, chosen: Sequence[str], temperature_k=None):
     """The sets to look ``keys`` up in for ``model``: those of ``chosen`` that belong to it, in
     that order, then its published sets, those of the source that covers most keys first (one
-    source's binary and mixing values were fitted together), then the others by set id."""
+    source's binary and mixing values were fitted together; among sources that cover as many,
+    the one whose sets stand best at the solutions' temperatures, :func:`temperature_rank`),
+    then the others by that rank and set id."""
     from saltbench.errors import UserError
     from saltbench.store import parameter_sets as ps
 
@@ -950,22 +1097,28 @@ def _ordered_sets(session: Session, model, keys, chosen: Sequence[str]):
         by_source.setdefault(info.source, []).append(info)
     cover = {src: len(ps.composition_values(store, model.id, [i.set_id for i in group], keys).values)
              for src, group in by_source.items()}
-    best = max(cover, key=lambda src: (cover[src], src), default=None)
+    rank = {src: min(temperature_rank(i, temperature_k) for i in group) for src, group in by_source.items()}
+    best = max(cover, key=lambda src: (cover[src], -rank[src], src), default=None)
     first = by_source.get(best, []) if best is not None and cover[best] else []
-    return first_sets + first + [i for i in infos if i not in first]
+    rest = sorted((i for i in infos if i not in first), key=lambda i: temperature_rank(i, temperature_k))
+    return first_sets + first + rest
 
 
-def solution_lookup(session: Session, chosen: Sequence[str], used: dict):
+def solution_lookup(session: Session, chosen: Sequence[str], used: dict, temperature_k=298.15):
+    """``lookup(model, keys)`` over the store's sets (``chosen`` first), ordered for the
+    solutions' temperatures ``temperature_k`` (K, one or one per solution)."""
     from saltbench.comparison.solutions import Lookup
     from saltbench.store import parameter_sets as ps
 
     def lookup(model, keys):
-        infos = _ordered_sets(session, model, keys, chosen)
+        infos = _ordered_sets(session, model, keys, chosen, temperature_k)
         found = ps.composition_values(session.store, model.id, [i.set_id for i in infos], keys)
         used.update({i.set_id: i for i in infos if i.set_id in found.set_of.values()})
         fitted = {(i.set_id, salt): m for i in infos for salt, m in i.m_max.items()}
         return Lookup(dict(found.values), dict(found.set_of), list(found.missing), fitted,
-                      {i.set_id: i.temperature_k for i in infos})
+                      {i.set_id: i.temperature_k for i in infos}, dict(found.coefficients),
+                      {i.set_id: (i.temperature_form, i.temperature_range_k) for i in infos
+                       if i.temperature_form is not None and i.temperature_range_k is not None})
     return lookup
 
 
@@ -1003,7 +1156,8 @@ def predict_solution(session: Session, spec: str, model_ids: Sequence[str] = ("a
 
         table = bundled_minerals().minerals
     used: dict = {}
-    assessment = assess_solution(composition, models, solution_lookup(session, list(sets), used),
+    assessment = assess_solution(composition, models,
+                                 solution_lookup(session, list(sets), used, composition.temperature_k),
                                  missing=missing,  # type: ignore[arg-type]
                                  minerals=table)
     return SolutionPrediction(record, f, assessment, *_sets_used(session, used))
@@ -1061,7 +1215,7 @@ def solubility(session: Session, mineral: str, model_ids: Sequence[str] = ("all"
     models = [m for m in _models_for(session, model_ids, probe)
               if list(model_ids) not in ([], ["all"]) or "ln_gamma" in m.computes]
     used: dict = {}
-    lookup = solution_lookup(session, list(sets), used)
+    lookup = solution_lookup(session, list(sets), used, background.temperature_k)
     results = [saturation_molality(m, background, target, lookup, missing=missing) for m in models]
     cautions = [SCALING_CAUTION] + ([NO_SPECIATION] if target.pairs_strongly else [])
     if record is not None:
@@ -1182,7 +1336,7 @@ def compare_mixture(session: Session, key_or_system: str, settings=None, *, sets
                                     if reg.model(mid).supports_composition(data.composition)]
     models = [(reg.model(mid), reg.models[mid].plugin) for mid in ids]
     used: dict = {}
-    lookup = solution_lookup(session, list(sets), used)
+    lookup = solution_lookup(session, list(sets), used, data.composition.temperature_k)
     name = key_or_system if len(keys) > 1 or key_or_system not in keys else \
         " + ".join(s.name for s in data.composition.salts)
     out = compare_mixtures(name, data, models, lookup, settings, missing=missing)
@@ -1207,7 +1361,8 @@ def fit_mixture_data(session: Session, key_or_system: str, model_id: str, *, fre
     if not model.supports_composition(data.composition):
         raise UserError(f"model {model_id} does not take these mixtures (one salt at a time)")
     used: dict = {}
-    res = resolve_values(model, data.composition, solution_lookup(session, list(sets), used), missing)  # type: ignore[arg-type]
+    res = resolve_values(model, data.composition,
+                         solution_lookup(session, list(sets), used, data.composition.temperature_k), missing)  # type: ignore[arg-type]
     if res.absent:
         raise UserError(f"{model_id}: {res.refusal()}; give --sets, or --missing default")
     freed = list(free) if free else None

@@ -44,12 +44,18 @@ def test_a_fitted_set_marks_molalities_outside_its_data(run_main, seeded_store) 
 
 
 def test_another_temperature_is_marked_and_uses_todays_constant(run_main, seeded_store) -> None:
-    at25, _ = _json(run_main, seeded_store, "predict", "NaCl", "--model", "pitzer", "--m", "1")
-    at75, err = _json(run_main, seeded_store, "predict", "NaCl", "--model", "pitzer", "--m", "1",
+    # LiCl: no bundled set gives its temperature dependence, so its 25 °C values are used unchanged
+    at25, _ = _json(run_main, seeded_store, "predict", "LiCl", "--model", "pitzer", "--m", "1")
+    at75, err = _json(run_main, seeded_store, "predict", "LiCl", "--model", "pitzer", "--m", "1",
                       "--temperature", "348.15")
     assert at25[0]["extrapolated"] is False
     assert at75[0]["extrapolated"] is True and "holds values for 298.15 K" in at75[0]["extrapolation"][0]
     assert at75[0]["gamma_pm"] != at25[0]["gamma_pm"]
+    # NaCl: the first temperature derivatives of silvester-pitzer-1977 carry it, beyond their range
+    nacl, _ = _json(run_main, seeded_store, "predict", "NaCl", "--model", "pitzer", "--m", "1",
+                    "--temperature", "348.15")
+    assert nacl[0]["extrapolation"] == ["at 348.15 K, outside 273.15-323.15 K, the range of the set's "
+                                        "temperature form"]
 
 
 def test_a_convention_beyond_its_ionic_strength_is_marked(run_main, seeded_store) -> None:
@@ -119,6 +125,15 @@ molality,value
     code, _, err = run_main("data", "add", str(bib), str(data), store=seeded_store)
     assert code == 0, err
     rows, _ = _json(run_main, seeded_store, "compare", "NaCl", "--models", "pitzer", "--temperature", "323.15",
+                    "--jobs", "1")
+    # at 50 °C the set whose temperature form covers 50 °C is judged, on its own ground
+    assert rows[0]["published_set"] == "silvester-pitzer-1977"
+    assert not any(f.startswith("published: silvester-pitzer-1977") for f in rows[0]["flags"])
+    # LiCl has no set with a form: its 25 °C values are judged at 50 °C unchanged, and it says so
+    licl = write(tmp_path / "licl50.csv", data.read_text(encoding="utf-8").replace("NaCl", "LiCl"))
+    code, _, err = run_main("data", "add", str(bib), str(licl), store=seeded_store)
+    assert code == 0, err
+    rows, _ = _json(run_main, seeded_store, "compare", "LiCl", "--models", "pitzer", "--temperature", "323.15",
                     "--jobs", "1")
     flags = rows[0]["flags"]
     assert any(f.startswith("published: pitzer-mayorga-1973 holds values for 298.15 K") for f in flags)

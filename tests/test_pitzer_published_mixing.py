@@ -143,8 +143,13 @@ def test_pure_hcl_through_the_mixture_sets_is_the_handbook_value(store):
 def test_adding_the_sets_leaves_the_one_salt_choices_alone(store):
     # predict and compare take the first published set holding a salt: for the salts of the
     # golden outputs that stays Pitzer-Mayorga (the new sets hold CaSO4 and groups of ions only)
+    # (the temperature derivatives of silvester-pitzer-1977 hold NaCl too, but at 25 °C a set of
+    # 25 °C values comes first: saltbench.api.preferred_sets)
+    from saltbench.api import preferred_sets
+
     for formula, expected in (("NaCl", "pitzer-mayorga-1973"), ("CaCl2", "pitzer-mayorga-1973"),
                               ("MgSO4", "pitzer-mayorga-1974")):
-        assert [r.set_id for r in published(store, MODEL, parse_formula(formula))] == [expected]
+        found = [r.set_id for r in preferred_sets(published(store, MODEL, parse_formula(formula)), 298.15)]
+        assert found == [expected] + (["silvester-pitzer-1977"] if formula == "NaCl" else [])
     assert [r.set_id for r in published(store, MODEL, parse_formula("CaSO4"))] == [
         "harvie-moller-weare-1984-binary"]

@@ -62,6 +62,10 @@ WORDING = {
         {"set_id": "set-1", "set_temperature": 298.15, "temperature": 310.0, "constant": "A_phi of water"},
         "published: set-1 holds values for 298.15 K; judged at 310 K with them unchanged (A_phi of water): an "
         "extrapolation in temperature"),
+    FlagKind.PUBLISHED_TEMPERATURE_RANGE: (
+        {"set_id": "set-1", "low": 273.15, "high": 323.15, "temperature": 348.15},
+        "published: set-1's temperature form covers 273.15-323.15 K; judged at 348.15 K: an "
+        "extrapolation in temperature"),
     FlagKind.PUBLISHED_ANCHORING: (
         {"set_id": "set-1", "dataset": "MgSO4.gamma_pm.rs", "offset": -0.1123, "spread": 0.004, "low": 0.1,
          "high": 3.0, "scale": 0.8938, "phi_gap": 0.0061},

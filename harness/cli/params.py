@@ -56,9 +56,16 @@ def params(app, set_id: str | None, model_id: str | None, export_dir: str | None
         click.echo(fold(f"{doc['citation']}; {doc['table_ref']}", "    ", "  source: "))
     click.echo(fold(doc["typed"], "    ", "  typed: "))
     click.echo(f"  temperature: {doc['temperature_k']:g} K ({doc['temperature_k'] - 273.15:.2f} °C)")
+    if doc.get("temperature_form"):
+        low, high = doc["temperature_range_k"]
+        click.echo(f"  temperature form: {doc['temperature_form']} over {low:g}-{high:g} K "
+                   f"({low - 273.15:.2f}-{high - 273.15:.2f} °C); 'value' is the first coefficient")
     if doc["a_phi"]:
         click.echo(f"  A_phi used by the authors: {doc['a_phi']}")
     if doc["note"]:
         click.echo(fold(doc["note"], "    ", "  note: "))
     # Six digits: every published value shows as typed (0.04995, not rounded to four digits).
     emit(values, "table", ["target", "name", "value", "stderr", "m_max"], digits={"value": 6})
+    if doc.get("coefficients"):
+        click.echo("  further coefficients of the temperature form:")
+        emit(doc["coefficients"], "table", ["target", "name", "coefficient", "value"], digits={"value": 6})

@@ -12,6 +12,12 @@ from saltbench.errors import UserError
 MAX_MOLALITY = 100.0
 
 
+#: the thermal properties ``--thermal`` adds, with their column headings
+THERMAL_COLUMNS = {"relative_enthalpy": "L_phi/(J/mol)", "relative_heat_capacity": "Cp_phi-Cp°/(J/K/mol)",
+                   "d_ln_gamma_pm_dt": "dln gamma±/dT/(1/K)", "salt_relative_enthalpy": "L_2/(J/mol)",
+                   "water_relative_enthalpy": "L_1/(J/mol)"}
+
+
 def parse_molalities(text: str) -> np.ndarray:
     items = [x.strip() for x in text.split(",")]
     if any(not x for x in items):
@@ -75,12 +81,16 @@ def _numbers(text: str | None, what: str) -> list[float] | None:
               help="Temperature in K [default: 298.15; for a solution, the one it states].")
 @click.option("--current-constant", is_flag=True,
               help="Evaluate a published set with today's A_phi instead of the one its authors used.")
+@click.option("--thermal", is_flag=True,
+              help="Add the apparent molar relative enthalpy L_phi, the heat capacity relative to "
+                   "infinite dilution, d ln gamma±/dT and the partial molar relative enthalpies, from "
+                   "the temperature derivatives of the model (water's A_phi at each temperature).")
 @format_option
 @click.pass_obj
 def predict(app, electrolyte: str | None, model_id: str, solution: str | None, sets: str, missing: str,
             ionic_strengths: str | None, factors: str | None, close_with: str | None, minerals: bool,
             density: str | None, molalities: str, params_choice: str, temperature_k: float | None,
-            current_constant: bool, fmt: str) -> None:
+            current_constant: bool, thermal: bool, fmt: str) -> None:
     """Mean activity coefficient, osmotic coefficient and water activity from one model.
 
     Each row is marked where it is an extrapolation: below or above the molalities the parameter
@@ -106,13 +116,23 @@ def predict(app, electrolyte: str | None, model_id: str, solution: str | None, s
             raise UserError(f"{name} applies with --solution only")
     if minerals:
         raise UserError("--minerals applies with --solution only")
+    if thermal and current_constant:
+        raise UserError("--thermal always takes the A_phi of water at each temperature; leave out "
+                        "--current-constant")
     temperature_k = 298.15 if temperature_k is None else temperature_k
     from saltbench.api import predict as run
 
     s = app.session()
     m = parse_molalities(molalities)
-    p = run(s, electrolyte, model_id, m, params_choice, temperature_k,
-            "current" if current_constant else "published")
+    tp = None
+    if thermal:
+        from saltbench.api import predict_thermal
+
+        tp = predict_thermal(s, electrolyte, model_id, m, params_choice, temperature_k)
+        p = tp.prediction
+    else:
+        p = run(s, electrolyte, model_id, m, params_choice, temperature_k,
+                "current" if current_constant else "published")
     e, model, params, ev, unc = p.electrolyte, p.model, p.params, p.evaluation, p.uncertainty
     records: list[dict] = []
     for i in range(m.size):
@@ -123,6 +143,9 @@ def predict(app, electrolyte: str | None, model_id: str, solution: str | None, s
         if unc is not None:
             r["u_gamma_pm"] = float(unc["u_gamma_pm"][i])
             r["u_osmotic"] = float(unc["u_osmotic"][i])
+        if tp is not None:
+            th = tp.thermal
+            r.update({name: float(getattr(th, name)[i]) for name in THERMAL_COLUMNS})
         records.append(r)
     reasons = list(dict.fromkeys(why for row in p.extrapolation for why in row))
     if reasons:
@@ -134,12 +157,20 @@ def predict(app, electrolyte: str | None, model_id: str, solution: str | None, s
     if params.from_memory:
         click.echo(f"Note: parameter set {params.set_id} was typed from memory; verify against the "
                    "original before use in a regulated method.", err=True)
-    if p.basis.off_temperature:
+    if p.basis.off_temperature and p.basis.set_temperature_range_k is not None:
+        low, high = p.basis.set_temperature_range_k
+        click.echo(f"Warning: parameter set {params.set_id} gives its parameters as functions of "
+                   f"temperature over {low:g}-{high:g} K; at {temperature_k:g} K they are "
+                   "carried beyond that range, so the results are an extrapolation in temperature.",
+                   err=True)
+    elif p.basis.off_temperature:
         # Only the Debye-Hückel constant follows the temperature; the set's own parameters do not.
         click.echo(f"Warning: parameter set {params.set_id} holds values for {p.basis.set_temperature_k:g} K; at "
                    f"{temperature_k:g} K only the Debye-Hückel constant is recomputed, the "
                    "parameters are used unchanged, so the results are an extrapolation in temperature.",
                    err=True)
+    if tp is not None and tp.caution:
+        click.echo(f"Note: {tp.caution}.", err=True)
     if fmt == "json":
         emit(records, fmt)
         echo_caution(fmt)
@@ -150,11 +181,13 @@ def predict(app, electrolyte: str | None, model_id: str, solution: str | None, s
     cols = ["molality", "gamma_pm", "ln_gamma_pm", "osmotic", "water_activity"]
     if unc is not None:
         cols += ["u_gamma_pm", "u_osmotic"]
+    if tp is not None:
+        cols += list(THERMAL_COLUMNS)
     rows = [{**r, "extrapolated": "yes" if r["extrapolated"] else "no"} for r in records]
     emit(rows if fmt == "table" else [{**r, "extrapolation": "; ".join(r["extrapolation"])} for r in records],
          fmt, cols + ["extrapolated"] + (["extrapolation"] if fmt == "csv" else []),
          {"molality": "m/(mol/kg)", "gamma_pm": "gamma±", "ln_gamma_pm": "ln gamma±",
-          "osmotic": "phi", "water_activity": "a_w"},
+          "osmotic": "phi", "water_activity": "a_w", **THERMAL_COLUMNS},
          digits={"water_activity": 6})
     echo_caution(fmt)
 

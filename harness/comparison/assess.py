@@ -25,13 +25,16 @@ class PublishedInput:
     a_phi: float | None
     from_memory: bool
     temperature_k: float = 298.15
+    #: the range of the set's temperature form (K); None for values at one temperature
+    temperature_range_k: tuple[float, float] | None = None
 
     def basis(self, temperature_k: float):
         """The constant and temperature this set is judged at (saltbench.water.basis)."""
         from saltbench.water.basis import evaluation_basis
 
         return evaluation_basis(temperature_k, set_id=self.set_id, set_a_phi=self.a_phi,
-                                set_temperature_k=self.temperature_k)
+                                set_temperature_k=self.temperature_k,
+                                set_temperature_range_k=self.temperature_range_k)
 
 
 def _curves(model, e: Electrolyte, values: dict[str, float], m_top: float, dh) -> dict:
@@ -103,7 +106,11 @@ def assess(model, plugin: str, e: Electrolyte, data: FitData, published: Publish
             if published is not None:
                 basis = published.basis(settings.temperature_k)
                 pdh = basis.dh
-                if basis.off_temperature:
+                if basis.off_temperature and published.temperature_range_k is not None:
+                    low, high = published.temperature_range_k
+                    out.flags.append(flag(FlagKind.PUBLISHED_TEMPERATURE_RANGE, set_id=published.set_id,
+                                          low=low, high=high, temperature=settings.temperature_k))
+                elif basis.off_temperature:
                     out.flags.append(flag(FlagKind.PUBLISHED_TEMPERATURE, set_id=published.set_id,
                                           set_temperature=published.temperature_k,
                                           temperature=settings.temperature_k, constant=basis.constant))

@@ -21,7 +21,7 @@ from __future__ import annotations
 
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
-from typing import Literal
+from typing import Any, Literal
 
 import numpy as np
 
@@ -30,6 +30,7 @@ from saltbench.chemistry.solution import Composition
 from saltbench.errors import ModelDomainError, ModelError, UserError
 from saltbench.models.contract import ParameterKey, SolutionModel
 from saltbench.models.solution_eval import SolutionProperties, evaluate_solution, pair_salts
+from saltbench.models.temperature import row_values
 
 MIXING_KINDS = ("like-pair", "triplet")
 
@@ -45,6 +46,10 @@ class Lookup:
     missing: list[ParameterKey]
     fitted_to: dict[tuple[str, str], float] = field(default_factory=dict)
     set_temperature: dict[str, float] = field(default_factory=dict)
+    #: a temperature form's further coefficients of a key (``values`` holds its first), and the
+    #: form and fitted range (K) of each set that has one
+    coefficients: dict[ParameterKey, dict[str, float]] = field(default_factory=dict)
+    set_form: dict[str, tuple[str, tuple[float, float]]] = field(default_factory=dict)
 
 
 #: ``lookup(model, keys)`` -> the values the caller's parameter sets give for ``keys``.
@@ -101,7 +106,7 @@ class SolutionAssessment:
 class Resolved:
     """A model's parameter values for a composition under the rules of the module docstring."""
 
-    values: dict[ParameterKey, float]
+    values: dict[ParameterKey, Any]  # a number, or (N,) per solution from a temperature form
     found: Lookup
     defaulted: tuple[str, ...]
     zero_mixing: tuple[str, ...]
@@ -127,7 +132,8 @@ def resolve_values(model: SolutionModel, composition: Composition, lookup: Looku
     gives at the model's defaults (``missing="default"``) or listed as absent."""
     keys = model.keys_for(composition)
     found = lookup(model, list(keys))
-    values = dict(found.values)
+    values: dict[ParameterKey, Any] = dict(found.values)
+    values.update(values_at_rows(found, composition.temperature_k))
     zero_mixing, defaulted, absent = [], [], []
     pairs = {(s.cation.name, s.anion.name): s for s in pair_salts(composition)}
     for key in found.missing:
@@ -148,6 +154,21 @@ def resolve_values(model: SolutionModel, composition: Composition, lookup: Looku
         else:
             absent.append(str(key))
     return Resolved(values, found, tuple(defaulted), tuple(zero_mixing), tuple(absent))
+
+
+def values_at_rows(found: Lookup, temperature_k: np.ndarray) -> dict[ParameterKey, Any]:
+    """The keys whose set gives a temperature form, each at the solutions' temperatures
+    (``temperature.row_values``): one number when every row has the same temperature, else one
+    value per row (N,), which a request takes as (1, N)."""
+    t = np.atleast_1d(np.asarray(temperature_k, dtype=float))
+    out: dict[ParameterKey, Any] = {}
+    for key, further in found.coefficients.items():
+        form_range = found.set_form.get(found.set_of.get(key, ""))
+        if form_range is None:
+            continue
+        rows = row_values(form_range[0], float(found.values[key]), further, t)
+        out[key] = float(rows[0]) if np.all(t == t[0]) else rows
+    return out
 
 
 def _one(model: SolutionModel, composition: Composition, lookup: LookupFn,
@@ -197,12 +218,23 @@ def extrapolation_marks(model: SolutionModel, composition: Composition, found: L
             out[r].append(f"I above {i_max:.4g} mol/kg, where {set_id} fitted {salt_name} "
                           f"(to {m_max:g} mol/kg)")
     for set_id in dict.fromkeys(found.set_of.values()):
+        if set_id in found.set_form:
+            low, high = found.set_form[set_id][1]
+            for r in np.flatnonzero((t < low - 0.01) | (t > high + 0.01)):
+                out[r].append(f"T = {t[r]:g} K, outside {low:g}-{high:g} K, the range of "
+                              f"{set_id}'s temperature form")
+            continue
         ts = found.set_temperature.get(set_id)
         if ts is None:
             continue
         for r in np.flatnonzero(np.abs(t - ts) > 0.01):
             out[r].append(f"T = {t[r]:g} K, where {set_id} holds values for {ts:g} K")
+    formed = [found.set_form[s][1] for s in dict.fromkeys(found.set_of.values()) if s in found.set_form]
     for row in range(composition.n):
+        # where every set used carries a temperature form, the sets speak for the temperature
+        # (their own ranges, above); the model's claim is that of one-temperature parameters
+        if formed and len(formed) == len(set(found.set_of.values())):
+            continue
         if not model.validity.covers_temperature(float(t[row])):
             out[row].append(f"T = {t[row]:g} K, outside the model authors' temperatures")
     return tuple(tuple(dict.fromkeys(m)) for m in out)

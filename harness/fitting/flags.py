@@ -45,6 +45,7 @@ class FlagKind(StrEnum):
     AUTHORS_TEMPERATURE = "authors-temperature"  # model_name, low, high (K), temperature (K)
     AUTHORS_MOLALITY = "authors-molality"  # model_name, claim, electrolyte, note, top
     PUBLISHED_TEMPERATURE = "published-temperature"  # set_id, set_temperature, temperature, constant
+    PUBLISHED_TEMPERATURE_RANGE = "published-temperature-range"  # set_id, low, high, temperature (K)
     PUBLISHED_ANCHORING = "published-anchoring"  # set_id, dataset, offset, spread, low, high, phi_gap
 
 
@@ -53,14 +54,15 @@ NOTE_KINDS = frozenset({
     FlagKind.SEVERAL_MINIMA, FlagKind.DATA_END, FlagKind.SPARSE, FlagKind.DETERMINATION_HELDOUT,
     FlagKind.DETERMINATION_STDERR,
     FlagKind.AUTHORS_TEMPERATURE, FlagKind.AUTHORS_MOLALITY, FlagKind.PUBLISHED_TEMPERATURE,
-    FlagKind.PUBLISHED_ANCHORING})
+    FlagKind.PUBLISHED_TEMPERATURE_RANGE, FlagKind.PUBLISHED_ANCHORING})
 #: Kinds after which a fit has no usable solution (``FitResult.ok`` is false).
 FAILED_FIT_KINDS = frozenset({
     FlagKind.MODEL_ERROR, FlagKind.SINGULAR, FlagKind.SINGULAR_COMBINATION, FlagKind.TOO_FEW_POINTS,
     FlagKind.DID_NOT_CONVERGE})
 #: Notes on how well the data determine the parameters, and on a published set.
 DETERMINATION_KINDS = frozenset({FlagKind.DETERMINATION_HELDOUT, FlagKind.DETERMINATION_STDERR})
-PUBLISHED_KINDS = frozenset({FlagKind.PUBLISHED_TEMPERATURE, FlagKind.PUBLISHED_ANCHORING})
+PUBLISHED_KINDS = frozenset({FlagKind.PUBLISHED_TEMPERATURE, FlagKind.PUBLISHED_TEMPERATURE_RANGE,
+                             FlagKind.PUBLISHED_ANCHORING})
 
 
 @dataclass(frozen=True)
@@ -127,6 +129,9 @@ _WORDING: dict[FlagKind, str] = {
     FlagKind.PUBLISHED_TEMPERATURE: (
         "published: {set_id} holds values for {set_temperature:g} K; judged at {temperature:g} K "
         "with them unchanged ({constant}): an extrapolation in temperature"),
+    FlagKind.PUBLISHED_TEMPERATURE_RANGE: (
+        "published: {set_id}'s temperature form covers {low:g}-{high:g} K; judged at "
+        "{temperature:g} K: an extrapolation in temperature"),
     FlagKind.PUBLISHED_ANCHORING: (
         "published: {set_id} and {dataset} differ by a near-constant {offset:+.3f} in ln gamma± "
         "(spread {spread:.3f}) over {low:g} to {high:g} mol/kg: they anchor the dilute end "

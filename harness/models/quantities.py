@@ -5,7 +5,7 @@ A :class:`Quantity` is a kind and, where the kind needs one, what it is of: an i
 solution as a whole (``Quantity("osmotic")``). Adding a property later is adding a kind with
 :func:`register_kind`; the model contract has no method per quantity.
 
-All are dimensionless and on the molality scale:
+The activity kinds are dimensionless and on the molality scale:
 - ``ln_gamma``: natural log of one ion's molal activity coefficient. Single-ion values rest on a
   non-thermodynamic convention (Guggenheim, J. Phys. Chem. 33, 842 (1929)); a model that gives
   them states its convention (``SolutionModel.single_ion_convention``).
@@ -13,6 +13,15 @@ All are dimensionless and on the molality scale:
   ln gamma± = (nu+ ln gamma+ + nu- ln gamma-) / nu (IUPAC Green Book, 3rd ed., 2007, 2.13).
 - ``osmotic``: the molal osmotic coefficient, phi = -ln a_w / (M_w sum_i m_i) (same source).
 - ``water_activity``: a_w, from phi by the same relation.
+
+The thermal kinds (issue 21) follow from the temperature derivatives of the excess Gibbs energy
+at constant composition and pressure (Pitzer, Activity Coefficients in Electrolyte Solutions,
+2nd ed., 1991, ch. 3; Harned and Owen, 3rd ed., 1958, ch. 8; from memory of both). The harness
+works them out for any model (``saltbench.models.thermal``); a model need not give them:
+- ``relative_enthalpy``: the apparent molar relative enthalpy of a neutral salt, L_phi (J/mol).
+- ``relative_heat_capacity``: the apparent molar heat capacity of a neutral salt relative to its
+  value at infinite dilution, C_p,phi - C°_p,2 = (d L_phi / d T)_p,m (J/(K mol)).
+- ``water_relative_enthalpy``: the partial molar relative enthalpy of water, L_1 (J/mol).
 """
 
 from __future__ import annotations
@@ -75,6 +84,14 @@ OSMOTIC_KIND = register_kind(QuantityKind(
     "osmotic", "solution", "1", "molal osmotic coefficient of the solvent"))
 WATER_ACTIVITY_KIND = register_kind(QuantityKind(
     "water_activity", "solution", "1", "activity of water"))
+
+RELATIVE_ENTHALPY_KIND = register_kind(QuantityKind(
+    "relative_enthalpy", "salt", "J/mol", "apparent molar relative enthalpy L_phi of a neutral salt"))
+RELATIVE_HEAT_CAPACITY_KIND = register_kind(QuantityKind(
+    "relative_heat_capacity", "salt", "J/(K mol)",
+    "apparent molar heat capacity of a neutral salt relative to infinite dilution, C_p,phi - C°_p,2"))
+WATER_RELATIVE_ENTHALPY_KIND = register_kind(QuantityKind(
+    "water_relative_enthalpy", "solution", "J/mol", "partial molar relative enthalpy of water L_1"))
 
 OSMOTIC = Quantity("osmotic")
 WATER_ACTIVITY = Quantity("water_activity")

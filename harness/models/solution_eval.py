@@ -14,6 +14,7 @@ from __future__ import annotations
 
 from collections.abc import Mapping
 from dataclasses import dataclass, replace
+from typing import Any
 
 import numpy as np
 
@@ -37,7 +38,8 @@ class SolutionProperties:
     osmotic: np.ndarray | None
     water_activity: np.ndarray | None
     single_ion_convention: str
-    parameters: dict[ParameterKey, float]  # the values used, defaults included
+    #: the values used, defaults included (one per solution (N,) where a temperature form gave it)
+    parameters: dict[ParameterKey, Any]
     defaulted: tuple[ParameterKey, ...]  # keys the caller gave no value for
     not_given: tuple[str, ...]  # quantities the model does not give for this solution
 
@@ -71,9 +73,11 @@ def evaluate_solution(model: SolutionModel, composition: Composition,
                                f"{', '.join(composition.names)}")
     given = dict(params or {})
     keys = model.keys_for(composition)
-    used = {k: float(given[k]) if k in given else float(p.default) for k, p in keys.items()}
+    # a value per solution (N,) comes from a temperature form; the request takes it as (1, N)
+    used = {k: (np.asarray(given[k], dtype=float) if np.ndim(given[k]) else float(given[k])) if k in given
+            else float(p.default) for k, p in keys.items()}
     defaulted = tuple(k for k in keys if k not in given)
-    values = {k: np.full((1, 1), v) for k, v in used.items()}
+    values = {k: np.atleast_2d(v) if np.ndim(v) else np.full((1, 1), v) for k, v in used.items()}
     conditions = conditions or Conditions.of(composition)
     salts = pair_salts(composition)
     # The pair salts ride with the composition, so a model finds each by name (ions a dataset or a

@@ -99,3 +99,44 @@ def form(name: str) -> TemperatureForm:
         return FORMS[name]
     except KeyError:
         raise KeyError(f"unknown temperature form {name!r} (known: {', '.join(FORMS)})") from None
+
+
+def coefficient_problem(form_name: str, coefficients: Sequence[str]) -> str | None:
+    """Why a parameter file's temperature form or one of its coefficient names is wrong (None:
+    nothing). ``coefficients`` are the further coefficients named by the file's columns (the
+    plain column gives the first)."""
+    known = FORMS.get(form_name)
+    if known is None:
+        return f"unknown temperature form {form_name!r} (known: {', '.join(FORMS)})"
+    for name in coefficients:
+        if name not in known.coefficients[1:]:
+            return (f"form {known.id} has no coefficient {name!r} (its further coefficients: "
+                    f"{', '.join(known.coefficients[1:]) or 'none'})")
+    return None
+
+
+def values_at(form_name: str | None, values: Mapping[str, float],
+              coefficients: Mapping[str, Mapping[str, float]],
+              temperature_k: float) -> dict[str, float]:
+    """A parameter set's values at one temperature: each parameter with coefficients of the
+    set's form evaluated there (the first coefficient is its value in ``values``, a coefficient
+    not given is zero), the others as given. Without a form, ``values`` unchanged."""
+    if form_name is None or not coefficients:
+        return dict(values)
+    f = form(form_name)
+    forms = {name: f for name in coefficients if name in values}
+    table = {name: np.array([[float(values[name]) if k == f.coefficients[0]
+                              else float(coefficients[name].get(k, 0.0)) for k in f.coefficients]])
+             for name in forms}
+    resolved = resolve(forms, table, np.array([temperature_k]))
+    return {**values, **{name: float(v[0, 0]) for name, v in resolved.items()}}
+
+
+def row_values(form_name: str, value: float, coefficients: Mapping[str, float],
+               temperature_k: np.ndarray) -> np.ndarray:
+    """One parameter's value at each row's temperature (N,), from its first coefficient
+    ``value`` and the further ``coefficients`` of form ``form_name``."""
+    f = form(form_name)
+    c = np.array([value if k == f.coefficients[0] else float(coefficients.get(k, 0.0))
+                  for k in f.coefficients])
+    return f.value(c, temperature_k)

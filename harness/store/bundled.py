@@ -7,9 +7,11 @@ the one the store recorded, so a new saltbench release updates its reference dat
 from __future__ import annotations
 
 import hashlib
+from collections.abc import Callable
 from importlib import resources
 from pathlib import Path
 
+from saltbench.curation.parameters import ParameterFile
 from saltbench.store.connection import Store
 from saltbench.store.ingest import IngestReport, ingest
 
@@ -33,7 +35,8 @@ def fingerprint(files: list[tuple[str, Path]]) -> str:
     return h.hexdigest()
 
 
-def sync_bundled(store: Store, extra: list[tuple[str, Path]] | None = None, force: bool = False) -> IngestReport | None:
+def sync_bundled(store: Store, extra: list[tuple[str, Path]] | None = None, force: bool = False,
+                 check_parameters: Callable[[ParameterFile], None] | None = None) -> IngestReport | None:
     """Bring the store's bundled data in line with the bundle (and plugin data). None if current."""
     files = [("saltbench", p) for p in bundled_files()] + list(extra or [])
     fp = fingerprint(files)
@@ -42,6 +45,7 @@ def sync_bundled(store: Store, extra: list[tuple[str, Path]] | None = None, forc
     # Bibliographies of every provider go first so datasets can cite across providers.
     ordered = sorted(files, key=lambda fp_: 0 if fp_[1].suffix == ".txt" else 1)
     with store.transaction():
-        report = ingest(store, [p for _, p in ordered], origin="bundled", provider="bundled", sync=True)
+        report = ingest(store, [p for _, p in ordered], origin="bundled", provider="bundled", sync=True,
+                        check_parameters=check_parameters)
         store.set_meta(META_KEY, fp)
     return report

@@ -12,7 +12,7 @@ import hashlib
 import json
 import os
 import sqlite3
-from collections.abc import Iterable, Sequence
+from collections.abc import Callable, Iterable, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -289,6 +289,13 @@ def _write_parameter_file(store: Store, pf: ParameterFile, origin: str, provider
         "file": Path(pf.path).name if origin == "bundled" else pf.path, "content_hash": h,
         "settings": "{}", "data_hashes": "[]", "software_version": __version__,
     }
+    # the form's columns (0008) are written only where there is a form, or one to clear on an
+    # update, so a set without one writes what it wrote before forms existed
+    if pf.temperature_form is not None or (row is not None and "temperature_form" in
+                                           store.db.table("parameter_sets").columns_dict):
+        values.update({"temperature_form": pf.temperature_form,
+                       "t_min_k": pf.temperature_range_k[0] if pf.temperature_range_k else None,
+                       "t_max_k": pf.temperature_range_k[1] if pf.temperature_range_k else None})
     pk = upsert_parent(store, "parameter_sets", row[0] if row else None, values, "parameter_values", "set_pk",
                        report, label)
     store.db.table("parameter_values").insert_all(
@@ -296,16 +303,27 @@ def _write_parameter_file(store: Store, pf: ParameterFile, origin: str, provider
          "value": value, "stderr": None, "m_max": r.m_max}
         for r in pf.rows for name, value in r.values.items()
     )
+    coefficients = [{"set_pk": pk, "target": r.target, "name": name, "coefficient": k, "value": v}
+                    for r in pf.rows for name, cs in r.coefficients.items() for k, v in cs.items()]
+    if coefficients:
+        store.db.table("parameter_coefficients").insert_all(coefficients)
 
 
 def ingest(store: Store, paths: Sequence[str | Path], *, origin: str = "user",
-           provider: str = "user", sync: bool = False) -> IngestReport:
+           provider: str = "user", sync: bool = False,
+           check_parameters: Callable[[ParameterFile], None] | None = None) -> IngestReport:
     """Load ``paths`` into ``store`` in one transaction.
 
     ``sync=True`` (bundled data only) also removes bundled datasets and parameter sets that are
-    no longer among the files. Raises InputFileError (store unchanged) on the first problem.
+    no longer among the files. ``check_parameters`` is called on each parameter file after it
+    was read and before anything is written: the layers above the store check there what only
+    they know (temperature forms and each model's parameters). Raises InputFileError (store
+    unchanged) on the first problem.
     """
     batch = parse_files(paths)
+    if check_parameters is not None:
+        for pf in batch.parameter_files:
+            check_parameters(pf)
     try:
         return _write_batch(store, batch, origin, provider, sync)
     except sqlite3.IntegrityError as exc:

@@ -10,7 +10,7 @@ import json
 import re
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field
-from typing import Generic, Protocol, TypeVar
+from typing import Any, Generic, Protocol, TypeVar
 
 from saltbench.chemistry.electrolyte import Electrolyte, parse_formula
 from saltbench.chemistry.ions import KNOWN_IONS
@@ -56,10 +56,26 @@ class ResolvedParameters:
     temperature_k: float = 298.15
     #: lowest molality of the data a fitted set was fitted to (a published set reaches m -> 0)
     m_min: float | None = None
+    #: the set's temperature form (None: values at ``temperature_k`` only), the range its authors
+    #: fitted it over (K), and each parameter's further coefficients (``values`` holds the first)
+    temperature_form: str | None = None
+    temperature_range_k: tuple[float, float] | None = None
+    coefficients: dict[str, dict[str, float]] = field(default_factory=dict)
+
+
+def _coefficients(store: Store, pk: int) -> dict[tuple[str, str], dict[str, float]]:
+    """A set's further temperature coefficients by (target, parameter)."""
+    out: dict[tuple[str, str], dict[str, float]] = {}
+    for target, name, coefficient, value in store.conn.execute(
+            "SELECT target, name, coefficient, value FROM parameter_coefficients WHERE set_pk = ?", (pk,)):
+        out.setdefault((target, name), {})[coefficient] = float(value)
+    return out
 
 
 def resolve(store: Store, model: ModelKeys, electrolyte: Electrolyte, set_row: tuple) -> ResolvedParameters | None:
-    pk, set_id, kind, source, a_phi, from_memory, temperature_k = set_row
+    pk, set_id, kind, source, a_phi, from_memory, temperature_k, form, t_min, t_max = set_row
+    by_coefficient = _coefficients(store, pk) if form is not None else {}
+    coefficients: dict[str, dict[str, float]] = {}
     rows = store.conn.execute("SELECT target, target_kind, name, value, stderr, m_max FROM parameter_values "
                               "WHERE set_pk = ?", (pk,)).fetchall()
     values: dict[str, float] = {}
@@ -74,6 +90,8 @@ def resolve(store: Store, model: ModelKeys, electrolyte: Electrolyte, set_row: t
         if p.scope == "electrolyte" and p.name in elec:
             v, se, mm = elec[p.name]
             values[p.name] = v
+            if (electrolyte.name, p.name) in by_coefficient:
+                coefficients[p.name] = by_coefficient[(electrolyte.name, p.name)]
             if se is not None:
                 stderr[p.name] = se
             m_max = mm if mm is not None else m_max
@@ -84,6 +102,8 @@ def resolve(store: Store, model: ModelKeys, electrolyte: Electrolyte, set_row: t
                 entry = by_target.get(("ion", t), {})
                 if p.ion_key in entry:
                     values[p.name] = entry[p.ion_key][0]
+                    if (t, p.ion_key) in by_coefficient:
+                        coefficients[p.name] = by_coefficient[(t, p.ion_key)]
                     found = True
                     break
     # values of a fitted set are stored under the model's own parameter names
@@ -105,11 +125,12 @@ def resolve(store: Store, model: ModelKeys, electrolyte: Electrolyte, set_row: t
     if kind == "fitted":
         settings = store.conn.execute("SELECT settings FROM parameter_sets WHERE id = ?", (pk,)).fetchone()
         m_min = json.loads(settings[0] or "{}").get("molality_min") if settings else None
+    t_range = (float(t_min), float(t_max)) if form is not None else None
     return ResolvedParameters(set_id, kind, values, a_phi, m_max, source, citation, bool(from_memory),
-                              stderr, covariance, temperature_k, m_min)
+                              stderr, covariance, temperature_k, m_min, form, t_range, coefficients)
 
 
-_SET_COLUMNS = "id, set_id, kind, source, a_phi, from_memory, temperature_k"
+_SET_COLUMNS = "id, set_id, kind, source, a_phi, from_memory, temperature_k, temperature_form, t_min_k, t_max_k"
 
 
 def published(store: Store, model: ModelKeys, electrolyte: Electrolyte) -> list[ResolvedParameters]:
@@ -147,12 +168,21 @@ def load_set(store: Store, set_id: str) -> dict | None:
     """Everything stored about one parameter set: its header, values (per target) and source."""
     row = store.conn.execute(
         "SELECT id, set_id, kind, model, source, table_ref, temperature_k, a_phi, typed, note, settings, "
-        "data_hashes, software_version FROM parameter_sets WHERE set_id = ?", (set_id,)).fetchone()
+        "data_hashes, software_version, temperature_form, t_min_k, t_max_k FROM parameter_sets "
+        "WHERE set_id = ?", (set_id,)).fetchone()
     if row is None:
         return None
     keys = ["pk", "set_id", "kind", "model", "source", "table_ref", "temperature_k", "a_phi", "typed", "note",
-            "settings", "data_hashes", "software_version"]
+            "settings", "data_hashes", "software_version", "temperature_form", "t_min_k", "t_max_k"]
     doc = dict(zip(keys, row))
+    t_min, t_max = doc.pop("t_min_k"), doc.pop("t_max_k")
+    if doc["temperature_form"] is None:
+        del doc["temperature_form"]  # a set at one temperature reads as it did before forms
+    else:
+        doc["temperature_range_k"] = [t_min, t_max]
+        doc["coefficients"] = [dict(zip(["target", "name", "coefficient", "value"], c)) for c in store.conn.execute(
+            "SELECT target, name, coefficient, value FROM parameter_coefficients WHERE set_pk = ? "
+            "ORDER BY target, name, coefficient", (doc["pk"],))]
     doc["settings"] = json.loads(doc["settings"] or "{}")
     doc["data_hashes"] = json.loads(doc["data_hashes"] or "[]")
     doc["values"] = [dict(zip(["target", "target_kind", "name", "value", "stderr", "m_max"], v))
@@ -212,6 +242,8 @@ class CompositionParameters(Generic[K]):
     values: dict[K, float]
     set_of: dict[K, str]
     missing: list[K]
+    #: a temperature form's further coefficients of a key, where its set gives a form
+    coefficients: dict[K, dict[str, float]] = field(default_factory=dict)
 
 
 def _sign(ion: str) -> str | None:
@@ -234,13 +266,17 @@ def _lookups(owner: tuple[str, ...]) -> list[tuple[str, str]]:
     return []
 
 
-def _set_index(store: Store, pk: int) -> dict[tuple[str, str, str], float]:
+def _set_index(store: Store, pk: int, with_coefficients: bool = False) -> dict[tuple[str, str, str], Any]:
     """One set's values by (kind, target, name); electrolyte rows also by their cation-anion pair
-    ('pair', 'Na+/Cl-'), ion rows by the ion's name ('Na+', whether stored as 'Na' or 'Na+')."""
-    index: dict[tuple[str, str, str], float] = {}
-    for target, kind, name, value in store.conn.execute(
+    ('pair', 'Na+/Cl-'), ion rows by the ion's name ('Na+', whether stored as 'Na' or 'Na+').
+    ``with_coefficients``: each value is (value, the form's further coefficients) instead."""
+    index: dict[tuple[str, str, str], Any] = {}
+    further = _coefficients(store, pk) if with_coefficients else {}
+    for target, kind, name, number in store.conn.execute(
             "SELECT target, target_kind, name, value FROM parameter_values WHERE set_pk = ?", (pk,)):
-        value = float(value)
+        value: Any = float(number)
+        if with_coefficients:
+            value = (value, further.get((target, name), {}))
         if kind == "electrolyte":
             index[("electrolyte", target, name)] = value
             try:
@@ -268,9 +304,9 @@ def composition_values(store: Store, model_id: str, set_ids: Sequence[str],
     (``b``) are never stored: they come back in ``missing``, with every key no set holds. Raises
     :class:`UserError` for a set the store does not hold or one of another model.
     """
-    indexes: list[tuple[str, dict[tuple[str, str, str], float]]] = []
+    indexes: list[tuple[str, dict[tuple[str, str, str], Any]]] = []
     for set_id in set_ids:
-        row = store.conn.execute("SELECT id, model FROM parameter_sets WHERE set_id = ?",
+        row = store.conn.execute("SELECT id, model, temperature_form FROM parameter_sets WHERE set_id = ?",
                                  (set_id,)).fetchone()
         if row is None:
             known = ", ".join(r[0] for r in store.conn.execute(
@@ -279,13 +315,17 @@ def composition_values(store: Store, model_id: str, set_ids: Sequence[str],
                             f"{model_id}: {known or 'none'}")
         if row[1] != model_id:
             raise UserError(f"parameter set {set_id!r} belongs to model {row[1]}, not {model_id}")
-        indexes.append((set_id, _set_index(store, int(row[0]))))
+        indexes.append((set_id, _set_index(store, int(row[0]), with_coefficients=row[2] is not None)))
     out: CompositionParameters[K] = CompositionParameters({}, {}, [])
     for key in keys:
         for set_id, index in indexes:
             hit = next((index[(kind, target, key.name)] for kind, target in _lookups(key.owner)
                         if (kind, target, key.name) in index), None)
             if hit is not None:
+                if isinstance(hit, tuple):
+                    hit, further = hit
+                    if further:
+                        out.coefficients[key] = further
                 out.values[key], out.set_of[key] = hit, set_id
                 break
         else:
@@ -303,6 +343,8 @@ class SetInfo:
     temperature_k: float
     from_memory: bool
     m_max: dict[str, float]  # electrolyte -> highest molality its values were fitted to
+    temperature_form: str | None = None  # None: values at temperature_k only
+    temperature_range_k: tuple[float, float] | None = None  # where the authors fitted the form
 
 
 def model_sets(store: Store, model_id: str, set_ids: Sequence[str] | None = None) -> list[SetInfo]:
@@ -310,14 +352,14 @@ def model_sets(store: Store, model_id: str, set_ids: Sequence[str] | None = None
     ``set_ids`` in that order (a set the store lacks, or of another model, is a UserError)."""
     if set_ids is None:
         rows = store.conn.execute(
-            "SELECT id, set_id, kind, source, temperature_k, from_memory FROM parameter_sets "
-            "WHERE model = ? AND kind = 'published' ORDER BY set_id", (model_id,)).fetchall()
+            "SELECT id, set_id, kind, source, temperature_k, from_memory, temperature_form, t_min_k, t_max_k "
+            "FROM parameter_sets WHERE model = ? AND kind = 'published' ORDER BY set_id", (model_id,)).fetchall()
     else:
         rows = []
         for set_id in set_ids:
             row = store.conn.execute(
-                "SELECT id, set_id, kind, source, temperature_k, from_memory, model FROM parameter_sets "
-                "WHERE set_id = ?", (set_id,)).fetchone()
+                "SELECT id, set_id, kind, source, temperature_k, from_memory, temperature_form, t_min_k, "
+                "t_max_k, model FROM parameter_sets WHERE set_id = ?", (set_id,)).fetchone()
             if row is None:
                 raise UserError(f"no parameter set {set_id!r} in the store ('saltbench params list' "
                                 "shows them)")
@@ -325,11 +367,12 @@ def model_sets(store: Store, model_id: str, set_ids: Sequence[str] | None = None
                 raise UserError(f"parameter set {set_id!r} belongs to model {row[-1]}, not {model_id}")
             rows.append(row[:-1])
     out = []
-    for pk, set_id, kind, source, temperature_k, from_memory in rows:
+    for pk, set_id, kind, source, temperature_k, from_memory, form, t_min, t_max in rows:
         ranges = {t: float(m) for t, m in store.conn.execute(
             "SELECT target, MAX(m_max) FROM parameter_values WHERE set_pk = ? AND target_kind = "
             "'electrolyte' AND m_max IS NOT NULL GROUP BY target", (pk,))}
-        out.append(SetInfo(set_id, kind, source or "", float(temperature_k), bool(from_memory), ranges))
+        out.append(SetInfo(set_id, kind, source or "", float(temperature_k), bool(from_memory), ranges,
+                           form, (float(t_min), float(t_max)) if form is not None else None))
     return out
 
 

@@ -282,6 +282,27 @@ CREATE TABLE electrode_rows (
     CHECK (role != 'buffer' OR ionic_strength IS NULL OR ionic_strength <= 0.1)
 )
 """),
+    # Temperature forms (issue 21): a set may give a parameter as p(T) = sum_j c_j f_j(T). The
+    # form's name and the range its authors fitted sit on the set; parameter_values keeps the
+    # first coefficient (the value at the set's temperature, so a reader that knows no forms
+    # still sees the 25 °C values) and parameter_coefficients the others. Numbered 0008 and
+    # touching none of 0007's tables (electrode readings), so the two apply in either order of
+    # writing; the list below is applied in its own order.
+    ("0008_temperature_forms", """
+ALTER TABLE parameter_sets ADD COLUMN temperature_form TEXT
+    CHECK (temperature_form IS NULL OR length(temperature_form) > 0);
+ALTER TABLE parameter_sets ADD COLUMN t_min_k REAL CHECK (t_min_k IS NULL OR t_min_k > 0);
+ALTER TABLE parameter_sets ADD COLUMN t_max_k REAL CHECK (t_max_k IS NULL OR t_max_k > 0);
+CREATE TABLE parameter_coefficients (
+    set_pk INTEGER NOT NULL REFERENCES parameter_sets(id) ON DELETE CASCADE,
+    target TEXT NOT NULL,
+    name TEXT NOT NULL,
+    coefficient TEXT NOT NULL CHECK (length(coefficient) > 0),
+    value REAL NOT NULL,
+    PRIMARY KEY (set_pk, target, name, coefficient),
+    FOREIGN KEY (set_pk, target, name) REFERENCES parameter_values(set_pk, target, name) ON DELETE CASCADE
+)
+"""),
 ]
 
 SCHEMA_VERSION = len(MIGRATIONS)

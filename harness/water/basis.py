@@ -11,6 +11,10 @@ One decision, in one place, for ``predict``, ``compare``, ``fit`` and the report
 
 Away from the set's temperature its parameters are used unchanged; the basis says so, and every
 number evaluated on it is an extrapolation in temperature.
+
+A set with a temperature form (``saltbench.models.temperature``) gives its parameters at any
+temperature; it is an extrapolation only outside the range its authors fitted the form over
+(``set_temperature_range_k``). Its published A_phi, if any, still belongs to its own temperature.
 """
 
 from __future__ import annotations
@@ -29,6 +33,8 @@ class EvaluationBasis:
     constant: str                       # how the A_phi was chosen, in words
     off_temperature: bool               # the set's values are used at another temperature
     set_temperature_k: float | None
+    #: the range of a set's temperature form (then ``off_temperature`` means outside it)
+    set_temperature_range_k: tuple[float, float] | None = None
 
 
 def parse_constant(text: str) -> str | float:
@@ -47,17 +53,24 @@ def parse_constant(text: str) -> str | float:
 
 def evaluation_basis(temperature_k: float, *, set_id: str | None = None, set_a_phi: float | None = None,
                      set_temperature_k: float | None = None, constant: str | float = "published",
-                     pressure_pa: float | None = None) -> EvaluationBasis:
+                     pressure_pa: float | None = None,
+                     set_temperature_range_k: tuple[float, float] | None = None) -> EvaluationBasis:
     dh = debye_huckel_constants(temperature_k, pressure_pa)
-    off = set_temperature_k is not None and abs(temperature_k - set_temperature_k) >= SAME_TEMPERATURE_K
+    at_own = set_temperature_k is not None and abs(temperature_k - set_temperature_k) < SAME_TEMPERATURE_K
+    if set_temperature_range_k is not None:
+        low, high = set_temperature_range_k
+        off = not (low - SAME_TEMPERATURE_K <= temperature_k <= high + SAME_TEMPERATURE_K)
+    else:
+        off = set_temperature_k is not None and not at_own
+    rng = set_temperature_range_k
     if isinstance(constant, float):
         return EvaluationBasis(with_a_phi(dh, constant, f"A_phi = {constant:g} as asked"),
-                               f"A_phi = {constant:g} (as asked)", off, set_temperature_k)
-    if constant == "published" and set_a_phi is not None and not off:
+                               f"A_phi = {constant:g} (as asked)", off, set_temperature_k, rng)
+    if constant == "published" and set_a_phi is not None and (at_own or set_temperature_k is None and not off):
         return EvaluationBasis(with_a_phi(dh, set_a_phi, f"A_phi = {set_a_phi} of parameter set {set_id}"),
                                f"A_phi = {set_a_phi:g}, the one set {set_id} was fitted with", off,
-                               set_temperature_k)
+                               set_temperature_k, rng)
     why = (" (the published constant belongs to the set's own temperature)"
-           if constant == "published" and set_a_phi is not None and off else "")
+           if constant == "published" and set_a_phi is not None else "")
     return EvaluationBasis(dh, f"A_phi = {dh.a_phi:.4f} of water at {temperature_k:g} K{why}", off,
-                           set_temperature_k)
+                           set_temperature_k, rng)
