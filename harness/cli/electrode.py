@@ -25,9 +25,7 @@ def _convention_options(f):
     return f
 
 
-# Hidden from the top-level --help listing only until the README's generated help block is
-# re-taken with the issue 20 walk-through (tests/readme_blocks.py --update); then drop hidden.
-@click.group(hidden=True)
+@click.group()
 def electrode() -> None:
     """Ion-selective and pH electrode calibrations: the standards' single-ion activities under a
     named convention, the Nikolsky-Eisenman response fit, detection limit, linear range,
