@@ -34,7 +34,7 @@ import numpy as np
 from saltbench.chemistry.electrolyte import neutral_salt
 from saltbench.errors import ModelDomainError, ModelError, UserError
 from saltbench.fitting.mixture_data import MixtureData
-from saltbench.fitting.problem import GlobalParameter, parameter_layout
+from saltbench.fitting.problem import GlobalParameter, SharedDesign, parameter_layout
 from saltbench.models.contract import Computed, Conditions, Parameter, ParameterKey, Request, SolutionModel
 from saltbench.models.evaluate import compute
 from saltbench.water.debye_huckel import DebyeHuckel
@@ -46,7 +46,7 @@ MIXING_KINDS = ("like-pair", "triplet")
 KeyLike = ParameterKey | str
 
 
-class MixtureProblem:
+class MixtureProblem(SharedDesign):
     """Weighted least squares of one model against mixture data (see the module docstring)."""
 
     def __init__(self, model: SolutionModel, data: MixtureData, conditions: Conditions,
@@ -224,37 +224,6 @@ class MixtureProblem:
         design = self.derivatives(t0, cols)
         assert self._last is not None and self._last[0] == t0.tobytes()
         return self._last[1], design
-
-    def shared_design(self) -> tuple[np.ndarray, np.ndarray] | None:
-        """Where every free parameter enters linearly: the offset and design of this problem's
-        points (as :meth:`linear_design` gives them), read from its root's, which is built once
-        and kept. None when a free parameter is nonlinear or none is free, or when the root
-        cannot give it (the model fails at one of its points)."""
-        if self.nonlinear.size or not self.linear.size:
-            return None
-        t0 = self.theta0.copy()
-        t0[self.linear] = 0.0
-        return self._shared_design(t0)
-
-    def _shared_design(self, t0: np.ndarray) -> tuple[np.ndarray, np.ndarray] | None:
-        root, rows = self._root, self._rows
-        if rows is None:
-            return root._root_design(t0)
-        if root.nonlinear.size or root.linear.tolist() != self.linear.tolist():
-            return None
-        full = root._root_design(t0)
-        if full is None:
-            return None
-        return full[0][rows], full[1][rows]
-
-    def _root_design(self, t0: np.ndarray) -> tuple[np.ndarray, np.ndarray] | None:
-        key = t0.tobytes()
-        if key not in self._design_memo:
-            try:
-                self._design_memo[key] = self._design_now(t0)
-            except (ModelError, ModelDomainError, FloatingPointError):
-                self._design_memo[key] = None
-        return self._design_memo[key]
 
     def screen_parts(self, points: np.ndarray
                      ) -> list[tuple[np.ndarray, np.ndarray | None] | None] | None:

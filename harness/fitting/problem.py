@@ -30,7 +30,7 @@ from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass, field
 from functools import cached_property
 from itertools import accumulate
-from typing import NamedTuple
+from typing import Any, NamedTuple
 
 import numpy as np
 
@@ -155,7 +155,64 @@ class Block:
         return np.concatenate([self.union, dilution_grid(u_osm)])
 
 
-class FitProblem:
+class SharedDesign:
+    """The design of a problem whose free parameters all enter linearly, built once on the root
+    problem and read by every problem made from it (folds and trials). For a class with
+    ``nonlinear``, ``linear``, ``theta0``, ``_root``, ``_rows``, ``_design_memo`` and
+    ``_design_now(t0)``: :class:`FitProblem` and the mixture problem."""
+
+    nonlinear: np.ndarray
+    linear: np.ndarray
+    theta0: np.ndarray
+    _root: Any
+    _rows: np.ndarray | None
+    _design_memo: dict
+
+    def _design_now(self, t0: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        raise NotImplementedError
+
+    def shared_design(self) -> tuple[np.ndarray, np.ndarray] | None:
+        """Where every free parameter enters linearly: the offset and design of this problem's
+        points (as :meth:`linear_design` gives them), read from its root's, which is built once
+        and kept. None when a free parameter is nonlinear or none is free, or when the root
+        cannot give it (the model fails at one of its points)."""
+        if self.nonlinear.size or not self.linear.size:
+            return None
+        t0 = self.theta0.copy()
+        t0[self.linear] = 0.0
+        return self._shared_design(t0)
+
+    def _shared_design(self, t0: np.ndarray) -> tuple[np.ndarray, np.ndarray] | None:
+        """The design of every free parameter linear, built once on the root problem and read
+        by each problem made from it by subset() (the folds of a cross-validation, the trial
+        limits of a validity scan): the model is not called again for points it has seen.
+        The values are those the subset's own call would give (a model's value at a point
+        does not depend on the other points). None when the root cannot give it (a model
+        failure at one of its points, which the subset may not hold): the subset then calls
+        the model itself, as it always did."""
+        root, rows = self._root, self._rows
+        if rows is None:  # the root, or a copy of it with another start: the same points
+            return root._root_design(t0)
+        if root.nonlinear.size or root.linear.tolist() != self.linear.tolist():
+            return None
+        full = root._root_design(t0)
+        if full is None:
+            return None
+        return full[0][rows], full[1][rows]
+
+    def _root_design(self, t0: np.ndarray) -> tuple[np.ndarray, np.ndarray] | None:
+        """This problem's offset and design at ``t0`` (its free linear parameters at zero), kept
+        for the problems made from it; None, also kept, where the model fails."""
+        key = t0.tobytes()
+        if key not in self._design_memo:
+            try:
+                self._design_memo[key] = self._design_now(t0)
+            except (ModelError, ModelDomainError, FloatingPointError):
+                self._design_memo[key] = None
+        return self._design_memo[key]
+
+
+class FitProblem(SharedDesign):
     """Weighted least squares of one model against one or more blocks of observations."""
 
     def __init__(self, model: SolutionModel, blocks: list[Block],
@@ -567,45 +624,6 @@ class FitProblem:
         return [None if q is None else (q[0][rows], None if q[1] is None else q[1][rows])
                 for q in parts]
 
-    def shared_design(self) -> tuple[np.ndarray, np.ndarray] | None:
-        """Where every free parameter enters linearly: the offset and design of this problem's
-        points (as :meth:`linear_design` gives them), read from its root's, which is built once
-        and kept. None when a free parameter is nonlinear or none is free, or when the root
-        cannot give it (the model fails at one of its points)."""
-        if self.nonlinear.size or not self.linear.size:
-            return None
-        t0 = self.theta0.copy()
-        t0[self.linear] = 0.0
-        return self._shared_design(t0)
-
-    def _shared_design(self, t0: np.ndarray) -> tuple[np.ndarray, np.ndarray] | None:
-        """The design of every free parameter linear, built once on the root problem and read
-        by each problem made from it by subset() (the folds of a cross-validation, the trial
-        limits of a validity scan): the model is not called again for points it has seen.
-        The values are those the subset's own call would give (a model's value at a point
-        does not depend on the other points). None when the root cannot give it (a model
-        failure at one of its points, which the subset may not hold): the subset then calls
-        the model itself, as it always did."""
-        root, rows = self._root, self._rows
-        if rows is None:  # the root, or a copy of it with another start: the same points
-            return root._root_design(t0)
-        if root.nonlinear.size or root.linear.tolist() != self.linear.tolist():
-            return None
-        full = root._root_design(t0)
-        if full is None:
-            return None
-        return full[0][rows], full[1][rows]
-
-    def _root_design(self, t0: np.ndarray) -> tuple[np.ndarray, np.ndarray] | None:
-        """This problem's offset and design at ``t0`` (its free linear parameters at zero), kept
-        for the problems made from it; None, also kept, where the model fails."""
-        key = t0.tobytes()
-        if key not in self._design_memo:
-            try:
-                self._design_memo[key] = self._design_now(t0)
-            except (ModelError, ModelDomainError, FloatingPointError):
-                self._design_memo[key] = None
-        return self._design_memo[key]
 
 
 def _keep_values(block: Block, key: tuple, ln_g: np.ndarray, phi: np.ndarray | None
