@@ -80,5 +80,8 @@ def register_report_sections(context: PluginContext) -> list[Any]:
     A section that also has ``render_mixture(comparison)`` appears in mixture reports
     (``report --mixture``) too, in the same place, given the
     :class:`saltbench.comparison.mixtures.MixtureComparison`; sections without it are left out
-    of them, so a section written for one-salt comparisons never sees a mixture's.
+    of them, so a section written for one-salt comparisons never sees a mixture's. Likewise
+    ``render_electrode(view)`` for electrode-validation reports (``report --electrode``), given
+    the :class:`saltbench.report.electrode_content.ElectrodeView` (its ``items``: calibrations
+    with their samples, or pH calibrations).
     """
