@@ -31,7 +31,9 @@ def params(app, set_id: str | None, model_id: str | None, export_dir: str | None
         if fmt == "json":
             emit(records, fmt)
             return
-        emit(records, fmt, ["set_id", "kind", "model", "source", "a_phi", "from_memory", "n_targets"],
+        for r in records:
+            r["temperatures"] = _temperatures(r)
+        emit(records, fmt, ["set_id", "kind", "model", "source", "a_phi", "temperatures", "from_memory", "n_targets"],
              {"n_targets": "rows", "from_memory": "from memory"})
         return
     if export_dir is not None:
@@ -69,3 +71,17 @@ def params(app, set_id: str | None, model_id: str | None, export_dir: str | None
     if doc.get("coefficients"):
         click.echo("  further coefficients of the temperature form:")
         emit(doc["coefficients"], "table", ["target", "name", "coefficient", "value"], digits={"value": 6})
+
+
+def _temperatures(r: dict) -> str:
+    """Where a set holds: its form's range, or its one temperature."""
+    import math
+
+    def c(k) -> str:
+        return f"{float(k) - 273.15:g}"
+
+    t_min, t_max = r.get("t_min_k"), r.get("t_max_k")
+    if t_min is not None and t_max is not None and not (math.isnan(t_min) or math.isnan(t_max)):
+        return f"{c(t_min)}-{c(t_max)} °C ({r.get('temperature_form')})"
+    t = r.get("temperature_k")
+    return "-" if t is None or math.isnan(t) else f"{c(t)} °C only"

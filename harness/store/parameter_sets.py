@@ -159,6 +159,7 @@ def list_sets(store: Store):
 
     return pd.DataFrame(list(store.db.query(
         "SELECT s.set_id, s.kind, s.model, s.source, s.table_ref, s.a_phi, s.from_memory, s.origin, "
+        "s.temperature_k, s.temperature_form, s.t_min_k, s.t_max_k, "
         "COUNT(DISTINCT v.target) AS n_targets, GROUP_CONCAT(DISTINCT v.target) AS targets "
         "FROM parameter_sets s LEFT JOIN parameter_values v ON v.set_pk = s.id "
         "GROUP BY s.id ORDER BY s.model, s.set_id")))
