@@ -130,3 +130,13 @@ def test_a_plugin_section_with_render_electrode_appears(electrode_store, run_mai
     assert code == 0, err
     md = (tmp_path / "rep" / "report.md").read_text(encoding="utf-8")
     assert "Acceptance of the slope" in md and "Accepted: every slope within 95-102 %" in md
+
+
+def test_the_recorded_command_keeps_the_global_options(electrode_store, run_main, tmp_path):
+    # a disabled plugin is part of how the report was made: the command to reproduce it says so
+    code, out, err = run_main("--disable-plugin", "stokes_robinson", "report", "--electrode", SETS[0], "--out",
+                              str(tmp_path / "rep"), store=electrode_store)
+    assert code == 0, err
+    manifest = json.loads((tmp_path / "rep" / "manifest.json").read_text(encoding="utf-8"))
+    assert "--disable-plugin stokes_robinson" in manifest["command"]["line"]
+    assert "--electrode larkspur-nitrate-2026-03" in manifest["command"]["line"]

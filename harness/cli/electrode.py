@@ -8,6 +8,8 @@ from saltbench.cli.output import emit, emit_ingest, format_option, table
 
 CONVENTIONS = ("davies", "extended-debye-huckel", "truesdell-jones", "sit", "debye-huckel",
                "macinnes", "bates-guggenheim", "model")
+#: the conventions whose spread enters a sample's budget unless others are named
+CANDIDATES = ("davies", "extended-debye-huckel", "sit")
 
 
 def _convention_options(f):
@@ -135,7 +137,7 @@ def calibrate(app, set_: str, convention: str, model_id: str | None, sets: str, 
 @electrode.command("samples")
 @click.argument("set_", metavar="SET|FILE")
 @_convention_options
-@click.option("--candidates", default="davies,extended-debye-huckel,sit", show_default=True,
+@click.option("--candidates", default=",".join(CANDIDATES), show_default=True,
               metavar="NAMES", help="Conventions whose spread enters each concentration's budget "
               "(each recalibrated and re-solved).")
 @click.option("--format", "fmt", type=click.Choice(["table", "json"]), default="table",

@@ -9,17 +9,15 @@ from pathlib import Path
 import click
 
 from saltbench.cli.compare import build_settings, settings_options
+from saltbench.cli.electrode import CANDIDATES as ELECTRODE_CANDIDATES
+from saltbench.cli.electrode import CONVENTIONS as ELECTRODE_CONVENTIONS
 
 SETTING_PARAMS = ("models", "up_to", "tol", "folds", "on", "data_sel", "temperature_k", "title")
 ELECTRODE_PARAMS = ("convention", "model_id", "candidates")
-#: the conventions of 'saltbench electrode calibrate' (and ion-activity)
-ELECTRODE_CONVENTIONS = ("davies", "extended-debye-huckel", "truesdell-jones", "sit", "debye-huckel",
-                         "macinnes", "bates-guggenheim", "model")
-ELECTRODE_CANDIDATES = ("davies", "extended-debye-huckel", "sit")
 
 
-def _command_line(app, electrolytes, settings, title, out_dir, from_manifest, mixture=None, sets=()) -> str:
-    """The command as a user would type it to get this report again (options spelled out)."""
+def _report_prefix(app) -> list[str]:
+    """``saltbench`` with the global options this run was given, then ``report``."""
     args = ["saltbench"]
     if app.store_path:
         args += ["--store", str(app.store_path)]
@@ -27,7 +25,12 @@ def _command_line(app, electrolytes, settings, title, out_dir, from_manifest, mi
         args += ["--plugin", str(p)]
     for d in app.disabled:
         args += ["--disable-plugin", d]
-    args.append("report")
+    return args + ["report"]
+
+
+def _command_line(app, electrolytes, settings, title, out_dir, from_manifest, mixture=None, sets=()) -> str:
+    """The command as a user would type it to get this report again (options spelled out)."""
+    args = _report_prefix(app)
     if from_manifest:
         args += ["--from", str(from_manifest)]
     else:
@@ -52,12 +55,7 @@ def _command_line(app, electrolytes, settings, title, out_dir, from_manifest, mi
 
 
 def _electrode_command_line(app, sets, convention, model_id, chosen, candidates, title, out_dir) -> str:
-    args = ["saltbench"]
-    if app.store_path:
-        args += ["--store", str(app.store_path)]
-    for p in app.plugin_files:
-        args += ["--plugin", str(p)]
-    args.append("report")
+    args = _report_prefix(app)
     for key in sets:
         args += ["--electrode", str(key)]
     args += ["--convention", convention]
@@ -166,9 +164,10 @@ def report(ctx, electrolytes, models, up_to, tol, folds, on, data_sel, temperatu
     for path in result.files:
         click.echo(f"  {path.relative_to(result.folder).as_posix()}")
     if "electrode" in result.manifest["command"]:
-        for rec in result.manifest["results"]["electrode"]["calibrations"]:
-            click.echo(f"{rec['set']}: slope {rec['slope_percent_nernstian']:.1f} % of Nernstian "
-                       f"({rec['convention']} convention)")
+        for item in result.comparison.items:
+            fit = item.calibration.fit if item.calibration else item.ph.calibration
+            label = item.calibration.convention_label if item.calibration else "bates-guggenheim"
+            click.echo(f"{item.key}: slope {fit.slope_percent:.1f} % of Nernstian ({label} convention)")
     elif "mixture" in result.manifest:
         mix = result.manifest["mixture"]
         click.echo(f"{mix['system']}: {mix['recommendation']['statement']}")

@@ -52,15 +52,8 @@ class MineralTable:
     lines: tuple[int, ...] = ()  # each mineral's line in the file
 
     def find(self, name: str) -> Mineral:
-        """A mineral by its mineral name, its table name, its formula (case-insensitive) or a
-        mineral name of :data:`ALIASES`."""
-        key = name.strip().lower()
-        key = ALIASES.get(key, key).lower()
-        for m in self.minerals:
-            if key in (m.mineral.lower(), m.name.lower(), m.formula.lower()):
-                return m
-        known = ", ".join(m.label for m in self.minerals)
-        raise UserError(f"no solubility product for {name!r} in {self.source} (known: {known})")
+        """A mineral of this table, looked up as :meth:`MineralCatalogue.find` does."""
+        return MineralCatalogue((self,)).find(name)
 
 
 def _ion(path: str, line: int, field: str, text: str, nu_text: str, positive: bool) -> tuple[Ion, int]:

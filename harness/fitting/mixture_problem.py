@@ -34,7 +34,7 @@ import numpy as np
 from saltbench.chemistry.electrolyte import neutral_salt
 from saltbench.errors import ModelDomainError, ModelError, UserError
 from saltbench.fitting.mixture_data import MixtureData
-from saltbench.fitting.problem import GlobalParameter, SharedDesign, parameter_layout
+from saltbench.fitting.problem import GlobalParameter, ProblemBase, parameter_layout
 from saltbench.models.contract import Computed, Conditions, Parameter, ParameterKey, Request, SolutionModel
 from saltbench.models.evaluate import compute
 from saltbench.water.debye_huckel import DebyeHuckel
@@ -46,7 +46,7 @@ MIXING_KINDS = ("like-pair", "triplet")
 KeyLike = ParameterKey | str
 
 
-class MixtureProblem(SharedDesign):
+class MixtureProblem(ProblemBase):
     """Weighted least squares of one model against mixture data (see the module docstring)."""
 
     def __init__(self, model: SolutionModel, data: MixtureData, conditions: Conditions,
@@ -74,18 +74,6 @@ class MixtureProblem(SharedDesign):
         self._design_memo: dict[bytes, tuple[np.ndarray, np.ndarray] | None] = {}
 
     # -- bookkeeping --------------------------------------------------------------------------
-    @property
-    def n(self) -> int:
-        return int(self.obs.size)
-
-    @property
-    def k(self) -> int:
-        return int(self.free.size)
-
-    @property
-    def is_subset(self) -> bool:
-        return self._rows is not None
-
     @property
     def ionic_strength(self) -> np.ndarray:
         return self.molality

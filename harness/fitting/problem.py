@@ -155,18 +155,35 @@ class Block:
         return np.concatenate([self.union, dilution_grid(u_osm)])
 
 
-class SharedDesign:
-    """The design of a problem whose free parameters all enter linearly, built once on the root
-    problem and read by every problem made from it (folds and trials). For a class with
+class ProblemBase:
+    """What a one-salt problem (:class:`FitProblem`) and a mixture problem share: their size,
+    the count of free parameters, whether subset() made them, and the design of a problem whose
+    free parameters all enter linearly, built once on the root problem and read by every
+    problem made from it (folds and trials). For a class with ``obs``, ``free``,
     ``nonlinear``, ``linear``, ``theta0``, ``_root``, ``_rows``, ``_design_memo`` and
-    ``_design_now(t0)``: :class:`FitProblem` and the mixture problem."""
+    ``_design_now(t0)``."""
 
+    obs: np.ndarray
+    free: np.ndarray
     nonlinear: np.ndarray
     linear: np.ndarray
     theta0: np.ndarray
     _root: Any
     _rows: np.ndarray | None
     _design_memo: dict
+
+    @property
+    def n(self) -> int:
+        return int(self.obs.size)
+
+    @property
+    def k(self) -> int:
+        return int(self.free.size)
+
+    @property
+    def is_subset(self) -> bool:
+        """Whether this problem was made by subset() from another (and shares its designs)."""
+        return self._rows is not None
 
     def _design_now(self, t0: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         raise NotImplementedError
@@ -212,7 +229,7 @@ class SharedDesign:
         return self._design_memo[key]
 
 
-class FitProblem(SharedDesign):
+class FitProblem(ProblemBase):
     """Weighted least squares of one model against one or more blocks of observations."""
 
     def __init__(self, model: SolutionModel, blocks: list[Block],
@@ -249,19 +266,6 @@ class FitProblem(SharedDesign):
         self._screen_memo: dict[bytes, list[tuple[np.ndarray, np.ndarray | None] | None]] = {}
 
     # -- bookkeeping --------------------------------------------------------------------------
-    @property
-    def n(self) -> int:
-        return int(self.obs.size)
-
-    @property
-    def k(self) -> int:
-        return int(self.free.size)
-
-    @property
-    def is_subset(self) -> bool:
-        """Whether this problem was made by subset() from another (and shares its designs)."""
-        return self._rows is not None
-
     @property
     def electrolyte_label(self) -> str:
         return " + ".join(b.electrolyte.name for b in self.blocks)

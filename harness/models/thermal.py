@@ -35,8 +35,7 @@ from saltbench.models.contract import SolutionModel
 from saltbench.models.evaluate import evaluate, make_context
 from saltbench.water.debye_huckel import debye_huckel_constants
 from saltbench.water.properties import MOLAR_MASS_WATER
-
-STEP_K = 0.5
+from saltbench.water.thermal_slopes import STENCIL, STEP_K, five_point, stencil_pressure
 
 
 @dataclass(frozen=True)
@@ -54,13 +53,6 @@ class ThermalProperties:
     step_k: float
 
 
-def _stencil(f: np.ndarray, h: float) -> tuple[np.ndarray, np.ndarray]:
-    """First and second derivatives at the middle of five rows f(T + k h), k = -2..2."""
-    d1 = (-f[4] + 8.0 * f[3] - 8.0 * f[1] + f[0]) / (12.0 * h)
-    d2 = (-f[4] + 16.0 * f[3] - 30.0 * f[2] + 16.0 * f[1] - f[0]) / (12.0 * h * h)
-    return d1, d2
-
-
 def thermal_properties(model: SolutionModel, electrolyte: Electrolyte, molality,
                        values_at: Callable[[float], Mapping[str, float]], *,
                        temperature_k: float = 298.15, pressure_pa: float | None = None,
@@ -70,16 +62,15 @@ def thermal_properties(model: SolutionModel, electrolyte: Electrolyte, molality,
     module docstring). ``pressure_pa`` defaults as for the slopes A_H and A_J."""
     from scipy import constants as c
 
-    from saltbench.water.properties import check_temperature, liquid_pressure
+    from saltbench.water.properties import check_temperature
 
     t = float(temperature_k)
     check_temperature(t)
     h = float(step_k)
     m = np.atleast_1d(np.asarray(molality, dtype=float))
-    # one pressure for the whole stencil: the derivatives are at constant p
-    p = liquid_pressure(t + 2.0 * h, pressure_pa) if pressure_pa is None else liquid_pressure(t, pressure_pa)
+    p = stencil_pressure(t, h, pressure_pa)
     ln_g, phi = [], []
-    for k in (-2, -1, 0, 1, 2):
+    for k in STENCIL:
         tk = t + k * h
         ev = evaluate(model, electrolyte, m, dict(values_at(tk)),
                       ctx=make_context(electrolyte, dh=debye_huckel_constants(tk, p)))
@@ -88,9 +79,9 @@ def thermal_properties(model: SolutionModel, electrolyte: Electrolyte, molality,
     nu = electrolyte.nu
     lg, ph = np.array(ln_g), np.array(phi)
     g = nu * (1.0 - ph + lg)
-    g1, g2 = _stencil(g, h)
-    lg1, _ = _stencil(lg, h)
-    ph1, _ = _stencil(ph, h)
+    g1, g2 = five_point(g, h)
+    lg1, _ = five_point(lg, h)
+    ph1, _ = five_point(ph, h)
     r = c.R
     return ThermalProperties(
         m, t, p, -r * t * t * g1, -r * (2.0 * t * g1 + t * t * g2), lg1, -nu * r * t * t * lg1,

@@ -232,16 +232,15 @@ def _ph_section(item: ElectrodeItem, facts: ReportFacts, n: int) -> Section:
 
 
 def _cautions(view: ElectrodeView, n: int) -> Section:
-    items = [REGULATED]
+    items: list[str] = []
     for item in view.items:
         if item.calibration is not None:
             items += [item.calibration.caveat, *item.calibration.cautions]
         else:
             items += list(item.ph.calibration.cautions)
-    seen = list(dict.fromkeys(items))
     return Section("cautions", f"{n} Limits and cautions", [
         Notice("caution", "Regulated measurements", REGULATED),
-        Bullets(seen[1:]),
+        Bullets([x for x in dict.fromkeys(items) if x != REGULATED]),
         Paragraph("Single-ion activities cannot be measured thermodynamically: a pX or pH is defined only by the "
                   "convention named beside it, and results on different conventions must not be mixed."),
     ])

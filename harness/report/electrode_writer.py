@@ -165,7 +165,7 @@ def write_electrode_report(session, view: ElectrodeView, *, title: str | None = 
 def electrode_agreement(old: dict, new: dict):
     """Whether a re-run's electrode results equal the manifest's (numbers to
     :data:`AGREEMENT_RTOL`, text exactly), as a :class:`saltbench.report.manifest.Agreement`."""
-    from saltbench.report.manifest import Agreement
+    from saltbench.report.manifest import Agreement, input_notes
 
     diffs: list[str] = []
     before, now = old["results"].get("electrode", {}), new["results"]["electrode"]
@@ -181,10 +181,4 @@ def electrode_agreement(old: dict, new: dict):
                         if isinstance(x, float) and isinstance(y, float) else x == y)
                 if not same:
                     diffs.append(f"{table}[{i}] ({rb.get('set')}) {k}: {x!r} then, {y!r} now")
-    notes = []
-    if old.get("store", {}).get("content_hash") != new["store"]["content_hash"]:
-        notes.append("the store's content hash changed (readings or parameter sets were added or edited)")
-    for k, v in new["software"].items():
-        if old.get("software", {}).get(k) != v:
-            notes.append(f"{k} {old.get('software', {}).get(k)} then, {v} now")
-    return Agreement(not diffs, diffs, notes)
+    return Agreement(not diffs, diffs, input_notes(old, new))

@@ -157,6 +157,12 @@ def check_agreement(manifest: dict, new: dict) -> Agreement:
         if before is None or before.get("model") != r["model"]:
             diffs.append(f"{r['electrolyte']} recommendation: {before and before.get('model')!r} then, "
                          f"{r['model']!r} now")
+    return Agreement(not diffs, diffs, input_notes(manifest, new))
+
+
+def input_notes(manifest: dict, new: dict) -> list[str]:
+    """What changed in the inputs between an earlier manifest and a new one of any report kind:
+    the store's content, its datasets, the software and the plugins."""
     notes = []
     if manifest.get("store", {}).get("content_hash") != new["store"]["content_hash"]:
         notes.append("the store's content hash changed (data or parameter sets were added or edited)")
@@ -173,4 +179,4 @@ def check_agreement(manifest: dict, new: dict) -> Agreement:
     for p in new["plugins"]:
         if old_pl.get(p["name"]) != p.get("version"):
             notes.append(f"plugin {p['name']} {old_pl.get(p['name'])} then, {p.get('version')} now")
-    return Agreement(not diffs, diffs, notes)
+    return notes

@@ -37,6 +37,23 @@ import numpy as np
 from saltbench.water.properties import check_temperature, liquid_pressure
 
 STEP_K = 0.5
+STENCIL = (-2, -1, 0, 1, 2)  # the temperatures T + k h differenced
+
+
+def five_point(f: np.ndarray, h: float) -> tuple[np.ndarray, np.ndarray]:
+    """First and second derivatives at the middle of five values (or rows) f(T + k h),
+    k in :data:`STENCIL`, by the differences of the module docstring."""
+    d1 = (-f[4] + 8.0 * f[3] - 8.0 * f[1] + f[0]) / (12.0 * h)
+    d2 = (-f[4] + 16.0 * f[3] - 30.0 * f[2] + 16.0 * f[1] - f[0]) / (12.0 * h * h)
+    return d1, d2
+
+
+def stencil_pressure(temperature_k: float, step_k: float, pressure_pa: float | None) -> float:
+    """One pressure for the whole stencil about ``temperature_k`` (the derivatives are at
+    constant p): ``pressure_pa``, or the default liquid pressure of the stencil's hottest point."""
+    if pressure_pa is None:
+        return liquid_pressure(temperature_k + 2.0 * step_k, None)
+    return liquid_pressure(temperature_k, pressure_pa)
 
 
 @dataclass(frozen=True)
@@ -85,11 +102,9 @@ def debye_huckel_slopes(temperature_k: float = 298.15, pressure_pa: float | None
     t = float(temperature_k)
     check_temperature(t)
     h = float(step_k)
-    # one pressure for the whole stencil: the derivatives are at constant p
-    p = liquid_pressure(t + 2.0 * h, pressure_pa) if pressure_pa is None else liquid_pressure(t, pressure_pa)
-    f = np.array([_a_phi(t + k * h, p) for k in (-2, -1, 0, 1, 2)])
-    d1 = (-f[4] + 8.0 * f[3] - 8.0 * f[1] + f[0]) / (12.0 * h)
-    d2 = (-f[4] + 16.0 * f[3] - 30.0 * f[2] + 16.0 * f[1] - f[0]) / (12.0 * h * h)
+    p = stencil_pressure(t, h, pressure_pa)
+    f = np.array([_a_phi(t + k * h, p) for k in STENCIL])
+    d1, d2 = five_point(f, h)
     a_h = 4.0 * c.R * t * t * d1
     a_j = 4.0 * c.R * (2.0 * t * d1 + t * t * d2)
     return DebyeHuckelSlopes(t, p, float(f[2]), float(a_h), float(a_j), h)
