@@ -92,22 +92,21 @@ def etheta_of_types(types, ionic_strength: np.ndarray, a_phi: np.ndarray | float
     # J(x) / (z_i z_j) and x J'(x) / (z_i z_j) once per distinct product of charges, as rows
     products = list(dict.fromkeys(float(zz) for zi, zj in types
                                   for zz in (zi * zj, zi * zi, zj * zj)))
-    j_rows = np.empty((len(products), i.size))
-    xdj_rows = np.empty((len(products), i.size))
-    for row, zz in enumerate(products):
-        u = base_c4 * (C3 * zz**C4)  # C3 x^C4
-        q = np.subtract(log_base, u)
-        np.exp(q, out=q)
-        q *= C1 * zz**-C2  # C1 x^-C2 exp(-C3 x^C4)
-        r = q + 4.0
-        np.divide(1.0, r, out=r)  # 1 / (4 + q)
-        j = np.multiply(base, r, out=j_rows[row])  # J / zz = (x / zz) / (4 + q)
-        u *= C4
-        u += 1.0 + C2
-        u *= q
-        u += 4.0
-        u *= r
-        np.multiply(u, j, out=xdj_rows[row])  # x J' / zz = (x / zz) (4 + q(1 + C2 + C4 C3 x^C4)) / (4 + q)^2
+    zz_col = np.array(products)[:, None]
+    # all products at once, (P, N): C3 x^C4, then q = C1 x^-C2 exp(-C3 x^C4)
+    u = base_c4 * (C3 * zz_col**C4)
+    q = np.subtract(log_base, u)
+    np.exp(q, out=q)
+    q *= C1 * zz_col**-C2
+    r = q + 4.0
+    np.divide(1.0, r, out=r)  # 1 / (4 + q)
+    j_rows = base * r  # J / zz = (x / zz) / (4 + q)
+    u *= C4
+    u += 1.0 + C2
+    u *= q
+    u += 4.0
+    u *= r
+    xdj_rows = np.multiply(u, j_rows, out=u)  # x J' / zz = (x / zz) (4 + q(1 + C2 + C4 C3 x^C4)) / (4 + q)^2
     # Etheta = (z_i z_j / 4I) [J(x_ij) - J(x_ii)/2 - J(x_jj)/2], and the same of x J' / 8I^2
     weights = np.zeros((len(types), len(products)))
     for t, (zi, zj) in enumerate(types):

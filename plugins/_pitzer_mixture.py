@@ -299,15 +299,18 @@ def _weights(lay: _Layout, vals: np.ndarray, alphas: _Alphas) -> _Weights:
 
 
 def _features(lay: _Layout, mt: np.ndarray, scales: list[np.ndarray]) -> np.ndarray:
-    """(n_features, n) for molalities ``mt`` (K, n): m, then m times each of ``scales`` (each
-    (n,): the alpha functions g_u, the Etheta of each charge type, Z), then m_j m_k (j < k)."""
+    """(n_features, n) for molalities ``mt`` (K, n): m, then m times each row of each array of
+    ``scales`` ((B, n) each: the alpha functions g_u, the Etheta of each charge type, Z), then
+    m_j m_k (j < k)."""
     k = lay.k
     n = mt.shape[1]
-    x = np.empty(((1 + len(scales)) * k + len(lay.qj), n))
+    n_scaled = sum(len(f) for f in scales)
+    x = np.empty(((1 + n_scaled) * k + len(lay.qj), n))
     x[:k] = mt
-    for j, f in enumerate(scales):
-        np.multiply(mt, f, out=x[(1 + j) * k:(2 + j) * k])
-    off = (1 + len(scales)) * k
+    off = k
+    for f in scales:  # one product per array: m times each of its rows
+        np.multiply(f[:, None, :], mt, out=x[off:off + len(f) * k].reshape(len(f), k, n))
+        off += len(f) * k
     for j in range(k - 1):
         np.multiply(mt[j + 1:], mt[j], out=x[off:off + k - 1 - j])
         off += k - 1 - j
@@ -336,7 +339,7 @@ class _Mixture:
         comp = request.composition
         self.lay, self.alphas, self.w = lay, alphas, w
         self.i = comp.ionic_strength
-        self.mt = np.ascontiguousarray(comp.molality.T)  # (K, N)
+        self.m = comp.molality  # (N, K); each block takes its rows as (K, n)
         cond = request.conditions
         self.a_phi = cond.a_phi  # (N,)
         # Etheta's A_phi: one number when the rows share their conditions
@@ -346,7 +349,7 @@ class _Mixture:
 
     def run(self) -> tuple[np.ndarray, np.ndarray]:
         """ln gamma (S, K, N) and phi (S, N)."""
-        n = self.mt.shape[1]
+        n = self.m.shape[0]
         ln = np.empty((self.n_sets, self.lay.k, n))
         phi = np.empty((self.n_sets, n))
         step = max(1, _ROW_CHUNK // self.n_sets)
@@ -358,7 +361,7 @@ class _Mixture:
     def _block(self, lo: int, hi: int, ln_out: np.ndarray, phi_out: np.ndarray) -> None:
         lay, w = self.lay, self.w
         k, n_alpha, n_types = lay.k, w.n_alpha, w.n_types
-        mt = self.mt[:, lo:hi]
+        mt = np.ascontiguousarray(self.m[lo:hi].T)  # (K, n): a copy in the cache
         i = self.i[lo:hi]
         i_safe = i if i.min(initial=1.0) > 0.0 else np.where(i > 0.0, i, 1.0)
         inv_i = 1.0 / i_safe
@@ -371,7 +374,7 @@ class _Mixture:
         a_et = a_phi if self.a_phi_et is None else self.a_phi_et
         for t, (z1, z2) in enumerate(lay.types):
             et[t], etp[t] = etheta(z1, z2, i, a_et)
-        x = _features(lay, mt, [*g, *et, big_z])
+        x = _features(lay, mt, [g, et, big_z[None]])
         n_lin = (2 + n_alpha + n_types) * k
         sums = _apply(w.pairs, x[n_lin:], lo, hi)  # (S, O, n)
         # F = -A_phi [s/(1 + b s) + (2/b) ln(1 + b s)] + sum m_c m_a B' + sum m_j m_k Etheta'
