@@ -250,7 +250,8 @@ def _weights(lay: _Layout, vals: np.ndarray, alphas: _Alphas) -> _Weights:
     o_zero = o_type + n_types
     o_r = o_zero + 1
     n_q = len(lay.qj)
-    ln = np.zeros((n_sets, rows, k, n_lin + n_q))
+    ln = np.zeros((n_sets, rows, k, n_lin + n_q + 1))
+    ln[..., -1] = lay.z * lay.z  # the last feature is F (one set): z_i^2 F
     pairs = np.zeros((n_sets, rows, o_r + k, n_q))
     pc, pa = lay.pc, lay.pa
     q_pair = lay.q_of[pc, pa]
@@ -301,11 +302,11 @@ def _weights(lay: _Layout, vals: np.ndarray, alphas: _Alphas) -> _Weights:
 def _features(lay: _Layout, mt: np.ndarray, scales: list[np.ndarray]) -> np.ndarray:
     """(n_features, n) for molalities ``mt`` (K, n): m, then m times each row of each array of
     ``scales`` ((B, n) each: the alpha functions g_u, the Etheta of each charge type, Z), then
-    m_j m_k (j < k)."""
+    m_j m_k (j < k), then a row left for the Debye-Hückel function F (unset)."""
     k = lay.k
     n = mt.shape[1]
     n_scaled = sum(len(f) for f in scales)
-    x = np.empty(((1 + n_scaled) * k + len(lay.qj), n))
+    x = np.empty(((1 + n_scaled) * k + len(lay.qj) + 1, n))  # the last row is for F
     x[:k] = mt
     off = k
     for f in scales:  # one product per array: m times each of its rows
@@ -376,7 +377,7 @@ class _Mixture:
             et[t], etp[t] = etheta(z1, z2, i, a_et)
         x = _features(lay, mt, [g, et, big_z[None]])
         n_lin = (2 + n_alpha + n_types) * k
-        sums = _apply(w.pairs, x[n_lin:], lo, hi)  # (S, O, n)
+        sums = _apply(w.pairs, x[n_lin:-1], lo, hi)  # (S, O, n)
         # F = -A_phi [s/(1 + b s) + (2/b) ln(1 + b s)] + sum m_c m_a B' + sum m_j m_k Etheta'
         b = _rows(self.b, lo, hi)
         bs = b * s
@@ -391,9 +392,13 @@ class _Mixture:
             f += sums[:, u] * gp[u]
         for t in range(n_types):
             f += sums[:, n_alpha + t] * etp[t]
-        # ln gamma_i = (the features' part)_i + z_i^2 F
+        # ln gamma_i = (the features' part)_i + z_i^2 F: F is the last feature when one set
+        # is asked (the usual case), added after the product when several are
+        one_set = f.shape[0] == 1
+        x[-1] = f[0] if one_set else 0.0
         _apply(w.ln, x, lo, hi, out=ln_out)
-        ln_out += (lay.z * lay.z)[:, None] * f[:, None, :]
+        if not one_set:
+            ln_out += (lay.z * lay.z)[:, None] * f[:, None, :]
         # sum_i m_i (phi - 1) / 2 = -A_phi I^1.5/(1 + b s) + sum m_c m_a (B^phi + Z C)
         #      + sum m_j m_k (theta + Etheta + I Etheta') + sum psi m m m
         ex = phi_out

@@ -11,7 +11,7 @@ the ratio after/before is printed. The mixture figure is a full evaluation (ever
 phi, a_w) of a seawater-like solution with every key given a value (random, fixed parameters at
 their defaults), over N compositions, divided by the time of np.exp on N points (issue 19,
 item 7: at most 200 per composition). ``--ions`` names the ions (comma-separated, from
-SEAWATER_LIKE below; Na, K, Mg, Ca, Cl, SO4 unless given), and may be repeated to time several
+SEAWATER_LIKE below; Na, K, Mg, Ca, Cl, SO4, HCO3 unless given), and may be repeated to time several
 lists in one run; ``mixture`` in the JSON is the first, ``mixtures`` all of them.
 """
 
@@ -40,7 +40,7 @@ MGSO4 = {"beta0": 0.2210, "beta1": 3.343, "beta2": -37.23, "C_phi": 0.0250}  # P
 # ions of seawater at salinity 35; a load for timing, not a reference composition.
 SEAWATER_LIKE = {"Na": 0.486, "K": 0.0106, "Mg": 0.0547, "Ca": 0.0107, "Sr": 0.0001,
                  "Cl": 0.5687, "SO4": 0.0293, "Br": 0.00087, "HCO3": 0.0018, "F": 0.00007}
-DEFAULT_IONS = "Na,K,Mg,Ca,Cl,SO4"
+DEFAULT_IONS = "Na,K,Mg,Ca,Cl,SO4,HCO3"  # seven ions, as issue 19 item 7 names
 
 
 def _one_salt_calls(model) -> dict:
