@@ -83,6 +83,10 @@ class FitResult:
     stderr_free: np.ndarray = field(repr=False)  # standard errors of the free parameters
     param_map: dict[str, dict[str, str]] = field(default_factory=dict)
     n_evaluations: int = 0
+    #: a fit across temperatures: its form, coefficients, which the data determine and the
+    #: residuals at each temperature (:class:`saltbench.fitting.temperature_fit.TemperatureSummary`);
+    #: None for a fit at one temperature made by fit()/fit_joint()
+    temperature: Any = None
 
     @property
     def ok(self) -> bool:
@@ -166,6 +170,7 @@ class FitResult:
             "bic": _json_float(self.bic),
             "condition_number": _json_float(self.condition_number),
             "temperature_k": _json_float(self.temperature_k),
+            **({"temperature_fit": self.temperature.to_dict()} if self.temperature is not None else {}),
         }
 
 
