@@ -35,6 +35,7 @@ from typing import Any
 import numpy as np
 
 from saltbench.chemistry.electrolyte import Electrolyte
+from saltbench.fitting.crossval import CrossValidation
 from saltbench.fitting.data import FitData, temperature_groups
 from saltbench.fitting.least_squares import scaled_svd, solve
 from saltbench.fitting.properties import names as property_names
@@ -218,3 +219,24 @@ def _per_temperature(result: FitResult, point_t: np.ndarray, temps: list[float])
                         "rms": float(np.sqrt(np.mean(x * x))) if ok else None,
                         "max_abs": float(np.abs(x).max()) if ok else None})
     return out
+
+
+def cross_validate_temperatures(model: SolutionModel,
+                                items: Sequence[tuple[Electrolyte | str, FitData]], *,
+                                form: str = "reference-expansion", vary: Iterable[str] | None = None,
+                                joint: bool | None = None, fixed: Mapping[str, float] | None = None,
+                                start: Mapping[str, float] | None = None,
+                                free: Iterable[str] | None = None,
+                                bounds: Mapping[str, tuple[float, float]] | None = None,
+                                folds: int | str = 5, scheme: str = "by-temperature") -> CrossValidation:
+    """Held-out error of a fit across temperatures (options as :func:`fit_temperatures`):
+    ``scheme="by-temperature"`` leaves out one whole temperature per fold; ``interleaved`` and
+    ``contiguous`` fold over molality as :func:`saltbench.fitting.crossval.cross_validate`."""
+    from saltbench.fitting.crossval import cross_validate_problem
+    from saltbench.fitting.engine import as_electrolyte
+
+    pairs = [(as_electrolyte(e), d) for e, d in items]
+    joint = len(pairs) > 1 if joint is None else joint
+    problem = build_temperature_problem(model, pairs, form=form, vary=vary, joint=joint,
+                                        fixed=fixed, start=start, free=free, bounds=bounds)
+    return cross_validate_problem(problem, folds, scheme)
