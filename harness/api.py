@@ -553,7 +553,7 @@ def fit_across_temperatures(session: Session, electrolytes: Sequence[str], model
         raise UserError(f"--cross-validate: unknown scheme {cross_validation!r} (expected {', '.join(ALL_SCHEMES)})")
     model = session.registry.model(model_id)
     fixed = dict(fix) if isinstance(fix, dict) else parse_assignments(fix)
-    props = parse_on(on or None) if on is None or isinstance(on, str) else list(on)
+    props = parse_on(on or None, thermal=True) if on is None or isinstance(on, str) else list(on)
     datasets = list(datasets) if datasets else None
     sels = []
     for name in electrolytes:

@@ -13,6 +13,10 @@ from saltbench.fitting.data import FitData
 PROPERTY_ALIASES = {"gamma": "gamma_pm", "gamma_pm": "gamma_pm", "activity": "gamma_pm",
                     "osmotic": "osmotic", "phi": "osmotic", "water_activity": "water_activity",
                     "aw": "water_activity"}
+#: the thermal properties, which only a fit across temperatures takes
+THERMAL_ALIASES = {"l_phi": "L_phi", "enthalpy": "L_phi", "cp_phi": "Cp_phi", "heat_capacity": "Cp_phi"}
+#: what a fit across temperatures takes by default: every property it can fit
+ALL_PROPERTIES = ["gamma_pm", "osmotic", "water_activity", "L_phi", "Cp_phi"]
 
 
 if TYPE_CHECKING:
@@ -87,14 +91,18 @@ def parse_temperatures(text: str) -> TemperatureChoice:
     return TemperatureChoice(points_k=tuple(one(w) for w in text.split(",") if w.strip()))
 
 
-def parse_on(text: str | None) -> list[str]:
+def parse_on(text: str | None, *, thermal: bool = False) -> list[str]:
+    """``--on`` text -> curated property names; ``thermal`` (a fit across temperatures) also
+    takes ``L_phi`` and ``Cp_phi`` and takes every property by default."""
     if not text:
-        return ["gamma_pm", "osmotic", "water_activity"]
+        return list(ALL_PROPERTIES) if thermal else ["gamma_pm", "osmotic", "water_activity"]
+    aliases = {**PROPERTY_ALIASES, **THERMAL_ALIASES} if thermal else PROPERTY_ALIASES
     out = []
     for word in (w.strip().lower() for w in text.split(",") if w.strip()):
-        if word not in PROPERTY_ALIASES:
-            raise UserError(f"--on: unknown property {word!r} (use gamma, osmotic or water_activity)")
-        out.append(PROPERTY_ALIASES[word])
+        if word not in aliases:
+            raise UserError(f"--on: unknown property {word!r} (use gamma, osmotic or water_activity"
+                            + (", L_phi or Cp_phi)" if thermal else ")"))
+        out.append(aliases[word])
     return out
 
 

@@ -41,6 +41,7 @@ from saltbench.fitting.least_squares import scaled_svd, solve
 from saltbench.fitting.properties import names as property_names
 from saltbench.fitting.result import ILL_CONDITIONED, FitResult, build_result
 from saltbench.fitting.temperature_problem import TemperatureProblem, build_temperature_problem
+from saltbench.fitting.thermal_points import THERMAL_KINDS
 from saltbench.models.contract import SolutionModel
 
 COLLINEAR = 1.0 / ILL_CONDITIONED  # singular value ratio below which a direction is undetermined
@@ -124,7 +125,8 @@ def fit_temperatures(model: SolutionModel, items: Sequence[tuple[Electrolyte | s
     joint = len(pairs) > 1 if joint is None else joint
     all_t = np.concatenate([d.temperature for _, d in pairs]) if pairs else np.zeros(0)
     _, groups = temperature_groups(all_t)
-    if len(groups) == 1:
+    thermal = any(np.isin(d.kind.astype(str), THERMAL_KINDS).any() for _, d in pairs)
+    if len(groups) == 1 and not thermal:
         t = float(np.mean(groups[0]))
         if joint:
             result = fit_joint(model, pairs, fixed=fixed, start=start, free=free, bounds=bounds,

@@ -32,8 +32,19 @@ from saltbench.fitting.problem import (
     Block,
     FitProblem,
     GlobalParameter,
+    _global_name,
     build_problem,
     parameter_layout,
+)
+from saltbench.fitting.thermal_points import (
+    CP_PHI,
+    THERMAL_KINDS,
+    ParamMap,
+    ThermalGroup,
+    ThermalPart,
+    cp2_name,
+    stencil_weights,
+    thermal_groups,
 )
 from saltbench.models.contract import SolutionModel
 from saltbench.models.evaluate import make_context
@@ -52,8 +63,10 @@ class TemperatureProblem:
     def __init__(self, inner: FitProblem, params: list[GlobalParameter], mapping: np.ndarray,
                  form: TemperatureForm, varying: dict[str, list[int]],
                  temperatures: list[float], point_temperature: np.ndarray,
-                 root: TemperatureProblem | None = None, rows: np.ndarray | None = None) -> None:
+                 root: TemperatureProblem | None = None, rows: np.ndarray | None = None,
+                 thermal: ThermalPart | None = None) -> None:
         self.inner = inner
+        self.thermal = thermal if thermal is not None and thermal.n else None
         self.model = inner.model
         self.params = params
         self.mapping = mapping  # A: inner vector = A @ theta
@@ -63,7 +76,15 @@ class TemperatureProblem:
         self.point_temperature = point_temperature  # each point's block temperature (K)
         (self.names, self.theta0, self.free, self.linear, self.nonlinear, self.lower, self.upper,
          self.linear_lower, self.linear_upper, self.linear_bounded) = parameter_layout(params)
-        self.obs, self.sigma, self.molality, self.kind = inner.obs, inner.sigma, inner.molality, inner.kind
+        if self.thermal is None:
+            self.obs, self.sigma, self.molality, self.kind = inner.obs, inner.sigma, inner.molality, inner.kind
+        else:  # the thermal points follow the activity and osmotic ones
+            th = self.thermal
+            self.obs = np.concatenate((inner.obs, th.obs))
+            self.sigma = np.concatenate((inner.sigma, th.sigma))
+            self.molality = np.concatenate((inner.molality, th.molality))
+            self.kind = np.concatenate((inner.kind, th.kind))
+        self._is_linear = {i: p.linear for i, p in enumerate(params)}
         self._root = root if root is not None else self
         self._rows = rows
         self._design_memo: dict[bytes, tuple[np.ndarray, np.ndarray]] = {}
@@ -114,9 +135,12 @@ class TemperatureProblem:
     def subset(self, mask: np.ndarray) -> TemperatureProblem:
         mask = np.asarray(mask, dtype=bool)
         rows = np.flatnonzero(mask)
-        return TemperatureProblem(self.inner.subset(mask), self.params, self.mapping, self.form,
+        n_in = self.inner.n
+        thermal = None if self.thermal is None else self.thermal.subset(mask[n_in:])
+        return TemperatureProblem(self.inner.subset(mask[:n_in]), self.params, self.mapping, self.form,
                                   self.varying, self.temperatures, self.point_temperature[mask],
-                                  self._root, rows if self._rows is None else self._rows[rows])
+                                  self._root, rows if self._rows is None else self._rows[rows],
+                                  thermal)
 
     def with_start(self, theta: np.ndarray) -> TemperatureProblem:
         params = list(self.params)
@@ -125,7 +149,7 @@ class TemperatureProblem:
                                                                params[i].upper)))
         return TemperatureProblem(self.inner, params, self.mapping, self.form, self.varying,
                                   self.temperatures, self.point_temperature, self._root,
-                                  self._rows)
+                                  self._rows, self.thermal)
 
     def theta_from(self, values: Mapping[str, float]) -> np.ndarray:
         """A full vector from values by global name, or by a model parameter name (a varying
@@ -156,17 +180,27 @@ class TemperatureProblem:
             shared = self._shared(theta)
             if shared is not None:
                 return shared[0] + shared[1] @ theta[self.linear]
-        return self.inner.predict(self.inner_theta(theta))
+        y = self.inner.predict(self.inner_theta(theta))
+        if self.thermal is None:
+            return y
+        return np.concatenate((y, self.thermal.predict(theta)))
 
     def derivatives(self, theta: np.ndarray, cols: Sequence[int] | np.ndarray,
                     base: np.ndarray | None = None) -> np.ndarray:
         cols = np.asarray(cols, dtype=np.intp)
+        n_in = self.inner.n
         a = self.mapping[:, cols]
         inner_cols = np.flatnonzero(np.any(a != 0.0, axis=1))
         if not inner_cols.size:
-            return np.zeros((self.n, cols.size))
-        d = self.inner.derivatives(self.inner_theta(theta), inner_cols, base=base)
-        return d @ a[inner_cols]
+            d = np.zeros((n_in, cols.size))
+        else:
+            d = self.inner.derivatives(self.inner_theta(theta), inner_cols,
+                                       base=None if base is None else base[:n_in]) @ a[inner_cols]
+        if self.thermal is None:
+            return d
+        th = self.thermal.derivatives(theta, cols.tolist(), self._is_linear,
+                                      base=None if base is None else base[n_in:])
+        return np.concatenate((d, th))
 
     def linear_design(self, theta: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         """Offset and design in the free linear coefficients at fixed nonlinear ones."""
@@ -185,8 +219,13 @@ class TemperatureProblem:
         # The inner offset has the inner linear parameters at zero; held coefficients give
         # them values of their own, put back here (the model is affine in them).
         offset = off + design @ psi0[lin] if lin.size else off
-        return offset, design @ self.mapping[np.ix_(lin, self.linear)] if lin.size else \
-            np.zeros((self.n, self.linear.size))
+        d = design @ self.mapping[np.ix_(lin, self.linear)] if lin.size else \
+            np.zeros((self.inner.n, self.linear.size))
+        if self.thermal is None:
+            return offset, d
+        th_off = self.thermal.predict(t0)
+        th_d = self.thermal.derivatives(t0, self.linear.tolist(), self._is_linear, base=th_off)
+        return np.concatenate((offset, th_off)), np.concatenate((d, th_d))
 
     def _shared(self, theta: np.ndarray) -> tuple[np.ndarray, np.ndarray] | None:
         """Every free parameter linear: the root's offset and design (built once, kept), on
@@ -251,20 +290,28 @@ def build_temperature_problem(model: SolutionModel, items: Sequence[tuple[Electr
     take it (None: every free parameter); the others keep one value at all temperatures.
     ``fixed``, ``start`` and ``bounds`` take parameter names as :func:`build_problem` does, and
     also coefficient names (``beta0.c3=0`` holds that coefficient; a bound on ``beta0`` bounds
-    its first coefficient, the value at the reference temperature). Raises UserError for a
-    mistake in the request.
+    its first coefficient, the value at the reference temperature) and ``Cp2[<dataset>]``, the
+    C°_p,2 of a dataset of C_p,phi points (:mod:`saltbench.fitting.thermal_points`). Thermal
+    points (``L_phi``, ``Cp_phi``) need activity or osmotic points beside them. Raises UserError
+    for a mistake in the request.
     """
     tform = form if isinstance(form, TemperatureForm) else _form(form)
     coef_fixed, plain_fixed = _split_keys(dict(fixed or {}), tform)
     coef_start, plain_start = _split_keys(dict(start or {}), tform)
     if not items or all(d.n == 0 for _, d in items):
         raise FitError(f"no data points to fit model {model.id} to")
+    # activity and osmotic points go to the inner problem, thermal ones apart
+    activity = [(e, d.subset(~np.isin(d.kind.astype(str), THERMAL_KINDS))) for e, d in items]
+    thermal_data = [(e, d.subset(np.isin(d.kind.astype(str), THERMAL_KINDS))) for e, d in items]
+    if all(d.n == 0 for _, d in activity):
+        raise UserError("thermal data (L_phi, Cp_phi) need activity or osmotic data beside them: "
+                        "they give only the temperature derivatives of the parameters")
     all_t = np.concatenate([d.temperature for _, d in items])
     labels, groups = temperature_groups(all_t)
     temps = [float(np.mean(g)) for g in groups]
     # The base problem gives the parameter list (names, bounds, which are free) as a fit at
     # one temperature would; its blocks are not used.
-    base = build_problem(model, items, joint=joint, fixed=plain_fixed, start=plain_start,
+    base = build_problem(model, activity, joint=joint, fixed=plain_fixed, start=plain_start,
                          free=free, bounds=bounds)
     base_free = [p for p in base.params if p.free]
     wanted = None if vary is None else set(vary)
@@ -298,6 +345,13 @@ def build_temperature_problem(model: SolutionModel, items: Sequence[tuple[Electr
                                          p.upper if j == 0 else math.inf,
                                          p.linear, True, p.value if j == 0 else 0.0))
         varying[p.name] = idx
+    # C°_p,2 of each dataset of heat capacities
+    cp_sets = list(dict.fromkeys(str(ds) for _, d in thermal_data
+                                 for ds, k in zip(d.dataset, d.kind) if k == CP_PHI))
+    cp_index: dict[str, int] = {}
+    for ds in cp_sets:
+        cp_index[ds] = len(outer)
+        outer.append(GlobalParameter(cp2_name(ds), "Cp2", -math.inf, math.inf, True, True, 0.0))
     by_name = {p.name: i for i, p in enumerate(outer)}
     for what, table in (("start", coef_start), ("fix", coef_fixed)):
         for key, value in table.items():
@@ -340,27 +394,51 @@ def build_temperature_problem(model: SolutionModel, items: Sequence[tuple[Electr
                                          p.linear, any_free, float(row @ theta0)))
             rows.append(row)
     mapping = np.array(rows).reshape(len(inner), len(outer))
-    # inner blocks: per electrolyte and temperature, in that order
+    # inner blocks: per electrolyte and temperature, in that order; thermal groups likewise
     blocks: list[Block] = []
     offset = 0
     point_t: list[np.ndarray] = []
-    base_blocks = {b.electrolyte.name: b for b in base.blocks}
-    for electrolyte, data in items:
+    th_groups: list[ThermalGroup] = []
+    th_parts: list[FitData] = []
+    th_t: list[np.ndarray] = []
+    names = {p.name for p in base.params}
+    for (electrolyte, data), (_, act), (_, th) in zip(items, activity, thermal_data):
         lab = labels[offset:offset + data.n]
         offset += data.n
-        if not data.n:
-            continue
-        base_map = base_blocks[electrolyte.name].mapping
-        for t_i in sorted(set(lab.tolist())):
-            sel = lab == t_i
-            block_map = {m: inner_of[(base.params[g].name, t_i if base.params[g].name in vary_names
-                                      else -1)] for m, g in base_map.items()}
+        is_th = np.isin(data.kind.astype(str), THERMAL_KINDS)
+        base_map = {p.name: _global_name(p.name, p.scope, electrolyte, joint)
+                    for p in model.parameters_for(electrolyte)}
+        base_map = {m: g for m, g in base_map.items() if g in names}
+        act_lab, th_lab = lab[~is_th], lab[is_th]
+        for t_i in sorted(set(act_lab.tolist())):
+            sel = act_lab == t_i
+            block_map = {m: inner_of[(g, t_i if g in vary_names else -1)] for m, g in base_map.items()}
             ctx = make_context(electrolyte, temps[t_i])
-            blocks.append(Block(electrolyte, ctx, data.subset(sel), block_map))
+            blocks.append(Block(electrolyte, ctx, act.subset(sel), block_map))
             point_t.append(np.full(int(sel.sum()), temps[t_i]))
+        if th.n:
+            def param_map(t_i: int, stencil: list[float],
+                          base_map: dict[str, str] = base_map) -> ParamMap:
+                weights = stencil_weights(tform, stencil)
+                return {m: (varying[g], weights) if g in vary_names else ([outer_of[g]], None)
+                        for m, g in base_map.items()}
+
+            th_groups += thermal_groups(electrolyte, th.molality, th_lab, temps,
+                                        sum(x.n for x in th_parts), param_map)
+            th_parts.append(th)
+            th_t.append(np.array([temps[t_i] for t_i in th_lab.tolist()]))
     problem = FitProblem(model, blocks, inner)
+    thermal = None
+    if th_parts:
+        th_all = FitData.concat(th_parts) if len(th_parts) > 1 or not th_parts[0].electrolyte \
+            else th_parts[0]
+        cp2 = np.array([cp_index[str(ds)] if k == CP_PHI else -1
+                        for ds, k in zip(th_all.dataset, th_all.kind)], dtype=np.intp)
+        thermal = ThermalPart(model, th_groups, th_all.kind.copy(), cp2, th_all.value, th_all.uncertainty,
+                              th_all.molality)
+        point_t.extend(th_t)
     return TemperatureProblem(problem, outer, mapping, tform, varying, temps,
-                              np.concatenate(point_t))
+                              np.concatenate(point_t), thermal=thermal)
 
 
 def _form(name: str) -> TemperatureForm:
