@@ -560,10 +560,11 @@ def fit_across_temperatures(session: Session, electrolytes: Sequence[str], model
         e = session.electrolyte(name)
         sels.append((e, select_data(session, e, datasets=datasets, on=props, up_to=up_to, temperatures=choice)))
     items = [(e, sel.data) for e, sel in sels]
-    options = {"form": form, "vary": list(vary) or None, "fixed": fixed, "free": list(free) or None}
+    vary_list, free_list = list(vary) or None, list(free) or None
     with plugin_output_to_stderr():
-        result = fit_temperatures(model, items, **options)
-        cv = cross_validate_temperatures(model, items, scheme=cross_validation, **options) \
+        result = fit_temperatures(model, items, form=form, vary=vary_list, fixed=fixed, free=free_list)
+        cv = cross_validate_temperatures(model, items, form=form, vary=vary_list, fixed=fixed, free=free_list,
+                                         scheme=cross_validation) \
             if cross_validation is not None and result.temperature.reports else None
     summary = result.temperature
     names = [e.name for e, _ in sels]

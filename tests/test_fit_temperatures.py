@@ -262,6 +262,8 @@ def test_heats_and_heat_capacities_join_the_fit_and_recover_the_truth() -> None:
     assert res["L_phi"]["n"] == 24 and res["Cp_phi"]["n"] == 24
     kinds = {(row["temperature_k"], row["kind"]) for row in r.temperature.per_temperature}
     assert (318.15, "L_phi") in kinds and (288.15, "osmotic") in kinds and (288.15, "L_phi") not in kinds
+    held_cp2 = fit_temperatures(PITZER, [(NACL, data)], fixed={**HELD, "Cp2[Cp-298.15]": CP2_TRUTH})
+    assert held_cp2.parameters[[p["name"] for p in held_cp2.parameters].index("Cp2[Cp-298.15]")]["fixed"]
     # the enthalpies alone pin the temperature coefficients: without them c1 of C_phi is looser
     no_heat = fit_temperatures(PITZER, [(NACL, data.select(["osmotic"]))], fixed=HELD)
     assert r.stderr("C_phi.c1") < no_heat.stderr("C_phi.c1")

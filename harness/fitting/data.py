@@ -189,7 +189,7 @@ class FitData:
     def at_temperatures(self) -> list[float]:
         """The distinct temperatures of the points (K), lowest first, points within 0.05 K of
         the previous one counted as the same (as a selection at one temperature takes them)."""
-        return [float(np.mean(g)) for g in temperature_groups(self.temperature)[1]]
+        return [float(np.mean(g)) for g in temperature_groups(np.asarray(self.temperature))[1]]
 
     def select(self, kinds: str | Iterable[str]) -> FitData:
         """Only the points of the given kind(s): ``"ln_gamma"``, ``"osmotic"``."""

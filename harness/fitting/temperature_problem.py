@@ -48,7 +48,8 @@ from saltbench.fitting.thermal_points import (
 )
 from saltbench.models.contract import SolutionModel
 from saltbench.models.evaluate import make_context
-from saltbench.models.temperature import TemperatureForm, form as form_named
+from saltbench.models.temperature import TemperatureForm
+from saltbench.models.temperature import form as form_named
 
 
 def coefficient_name(parameter: str, coefficient: str) -> str:
@@ -265,11 +266,12 @@ class TemperatureProblem:
 
 
 def _split_keys(values: Mapping[str, float], form: TemperatureForm) -> tuple[dict, dict]:
-    """Request keys that name a coefficient (``beta0.c1``) apart from the others."""
+    """Request keys that name a coefficient (``beta0.c1``) or a C°_p,2 (``Cp2[set]``) apart from
+    the others."""
     coefficient, plain = {}, {}
     for key, value in values.items():
         head, dot, tail = key.rpartition(".")
-        if dot and tail in form.coefficients and head:
+        if (dot and tail in form.coefficients and head) or key.startswith("Cp2["):
             coefficient[key] = value
         else:
             plain[key] = value
