@@ -403,3 +403,19 @@ def test_l_phi_of_a_fitted_set_obeys_gibbs_helmholtz() -> None:
     direct = -constants.R * t * t * (g(t + h) - g(t - h)) / (2 * h)
     lphi = thermal_properties(ExtendedDH(), NACL, m, at, temperature_k=t, pressure_pa=p).relative_enthalpy
     assert lphi == pytest.approx(direct, rel=1e-5)
+
+
+def test_a_joint_fit_across_temperatures_is_its_salts_fitted_apart_when_they_share_nothing() -> None:
+    # the test model's a and b belong to each salt: the joint fit is two independent fits
+    model, kcl = ExtendedDH(), parse_formula("KCl")
+    dn = ext_dh_at_temperatures(A_TRUTH, B_TRUTH, NACL, seed=1)
+    dk = ext_dh_at_temperatures(A_TRUTH, B_TRUTH, kcl, seed=2)
+    joint = fit_temperatures(model, [(NACL, dn), (kcl, dk)], vary=["b"], fixed=NO_CURVATURE)
+    assert joint.electrolyte == "NaCl + KCl"
+    assert set(joint.temperature.coefficients) == {"b[NaCl]", "b[KCl]"}
+    for salt, d in (("NaCl", dn), ("KCl", dk)):
+        alone = fit_temperatures(model, [(salt, d)], vary=["b"], fixed=NO_CURVATURE)
+        for name in ("b.c0", "b.c1"):
+            joint_name = name.replace("b.", f"b[{salt}].")
+            assert joint.value(joint_name) == pytest.approx(alone.value(name), rel=1e-6, abs=1e-9)
+        assert joint.value(f"a[{salt}]") == pytest.approx(alone.value("a"), rel=1e-6)

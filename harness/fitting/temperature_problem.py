@@ -109,7 +109,7 @@ class TemperatureProblem:
 
     @property
     def electrolyte_label(self) -> str:
-        return " + ".join(dict.fromkeys(b.electrolyte.name for b in self.inner.blocks))
+        return " + ".join(self.param_map())
 
     @property
     def temperature_k(self) -> float:
@@ -131,6 +131,10 @@ class TemperatureProblem:
                 first = int(cols[0])
                 entry[mname] = self.names[self.varying[base_of[first]][0]] if first in base_of \
                     else self.names[first]
+        for group in self.thermal.groups if self.thermal is not None else ():
+            entry = out.setdefault(group.electrolyte.name, {})
+            for mname, (idx, _) in group.params.items():
+                entry.setdefault(mname, self.names[idx[0]])
         return out
 
     def subset(self, mask: np.ndarray) -> TemperatureProblem:
@@ -357,21 +361,26 @@ def build_temperature_problem(model: SolutionModel, items: Sequence[tuple[Electr
     by_name = {p.name: i for i, p in enumerate(outer)}
     for what, table in (("start", coef_start), ("fix", coef_fixed)):
         for key, value in table.items():
-            if key not in by_name:
-                head = key.rpartition(".")[0]
-                hint = (f"{head} does not vary with temperature" if head in outer_of
+            head, _, tail = key.rpartition(".")
+            # a coefficient of a model parameter's name means it in every copy (joint fits)
+            hits = [by_name[key]] if key in by_name else \
+                [by_name[coefficient_name(b, tail)] for b in varying
+                 if outer[varying[b][0]].model_name == head]
+            if not hits:
+                hint = (f"{head} does not vary with temperature"
+                        if head in outer_of or any(outer[i].model_name == head for i in outer_of.values())
                         else f"parameters: {', '.join(outer_of) or '-'}; varying: "
                              f"{', '.join(varying) or '-'}")
                 raise UserError(f"model {model.id}: no coefficient {key!r} to {what} ({hint})")
-            i = by_name[key]
-            p = outer[i]
-            v = float(value)
-            if not math.isfinite(v):
-                raise UserError(f"parameter {key}: value must be finite")
-            if not p.lower <= v <= p.upper:
-                raise UserError(f"parameter {key}: value {v:g} lies outside its bounds "
-                                f"{p.lower:g}..{p.upper:g}")
-            outer[i] = p._replace(value=v, free=p.free if what == "start" else False)
+            for i in hits:
+                p = outer[i]
+                v = float(value)
+                if not math.isfinite(v):
+                    raise UserError(f"parameter {p.name}: value must be finite")
+                if not p.lower <= v <= p.upper:
+                    raise UserError(f"parameter {p.name}: value {v:g} lies outside its bounds "
+                                    f"{p.lower:g}..{p.upper:g}")
+                outer[i] = p._replace(value=v, free=p.free if what == "start" else False)
     # inner parameters: one copy per temperature of each varying one
     basis = tform.basis(np.array(temps))  # (T, J)
     inner: list[GlobalParameter] = []
