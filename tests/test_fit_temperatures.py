@@ -419,3 +419,21 @@ def test_a_joint_fit_across_temperatures_is_its_salts_fitted_apart_when_they_sha
             joint_name = name.replace("b.", f"b[{salt}].")
             assert joint.value(joint_name) == pytest.approx(alone.value(name), rel=1e-6, abs=1e-9)
         assert joint.value(f"a[{salt}]") == pytest.approx(alone.value("a"), rel=1e-6)
+
+
+def test_thermal_points_are_predicted_as_the_models_thermal_properties() -> None:
+    # the fit's L_phi and C_p,phi - C°p,2 at the true coefficients are those of
+    # saltbench.models.thermal.thermal_properties, to rounding
+    from saltbench.fitting.temperature_problem import build_temperature_problem
+
+    data = _thermal_data(5)
+    problem = build_temperature_problem(PITZER, [(NACL, data)], fixed=HELD)
+    truth = {f"{p}.c{j}": v[j] for p, v in P_TRUTH.items() for j in (0, 1)}
+    truth.update({"Cp2[Cp-298.15]": 0.0, "Cp2[Cp-318.15]": 0.0})
+    pred = problem.predict(problem.theta_from(truth))
+    for t in (298.15, 318.15):
+        th = thermal_properties(PITZER, NACL, problem.molality, _pitzer_at, temperature_k=t)
+        for kind, expected in (("L_phi", th.relative_enthalpy), ("Cp_phi", th.relative_heat_capacity)):
+            sel = (problem.kind == kind) & (np.abs(problem.point_temperature - t) < 1e-9)
+            assert sel.sum() == 12
+            assert pred[sel] == pytest.approx(expected[sel], rel=1e-9, abs=1e-9)

@@ -14,7 +14,8 @@ from saltbench.cli.output import echo_caution, emit, fold, format_option
 @click.option("--fix", "fix", multiple=True, metavar="NAME=VALUE", help="Hold a parameter at a value (repeatable).")
 @click.option("--free", "free", multiple=True, metavar="NAME", help="Fit a parameter the model holds fixed by default.")
 @click.option("--data", "data_sel", default="", help="Comma-separated dataset or source keys (default: all).")
-@click.option("--on", "on", default="", help="Properties to fit: gamma, osmotic, water_activity (default: all).")
+@click.option("--on", "on", default="", help="Properties to fit: gamma, osmotic, water_activity (default: all); "
+                                             "with --temperatures also L_phi, Cp_phi.")
 @click.option("--temperature", "temperature_k", type=float, default=298.15, show_default=True, help="Temperature in K.")
 @click.option("--name", "set_name", default=None, help="Id for the saved parameter set (default: derived).")
 @click.option("--save/--no-save", default=True, show_default=True, help="Save the result as a parameter set.")
