@@ -449,20 +449,37 @@ class FitRun:
     settings: dict
     data_hashes: list[str]
     parameter_set: str | None = None
+    #: a fit across temperatures asked to cross-validate: :class:`saltbench.fitting.CrossValidation`
+    cross_validation: Any = None
 
 
 def fit(session: Session, electrolytes: Sequence[str], model_id: str, *, up_to: float | None = None,
         fix: Sequence[str] | dict[str, float] = (), free: Sequence[str] = (),
         datasets: Sequence[str] | None = None, on: str | Sequence[str] | None = None,
         temperature_k: float = 298.15, set_name: str | None = None, save: bool = True,
-        dh_constant: str = "current") -> FitRun:
+        dh_constant: str = "current", temperatures: Any = None, temperature_form: str | None = None,
+        vary: Sequence[str] = (), cross_validation: str | None = None) -> FitRun:
     """Fit ``model_id``'s free parameters to the stored data of ``electrolytes`` (activity and
     osmotic jointly; several electrolytes give one joint fit with per-ion parameters shared by
     ion) and, with ``save``, store the result as a fitted parameter set.
 
     ``fix`` holds parameters at values (``{"b": 0.2}`` or ``["b=0.2"]``); ``free`` frees ones the
     model holds fixed by default; ``on`` names the properties (``"gamma,osmotic"`` or a list);
-    ``dh_constant`` is ``current``, ``published`` or a value (see :func:`fit_constant`)."""
+    ``dh_constant`` is ``current``, ``published`` or a value (see :func:`fit_constant`).
+
+    Across temperatures: ``temperatures`` (``"LO:HI"`` or ``"T1,T2"`` in K, or a
+    :class:`saltbench.fitting.selection.TemperatureChoice`) takes the data at those
+    temperatures in place of ``temperature_k``, and the fit is :func:`fit_across_temperatures`
+    (``temperature_form``, ``vary``, ``cross_validation``)."""
+    if temperatures is not None:
+        return fit_across_temperatures(
+            session, electrolytes, model_id, temperatures, form=temperature_form or "reference-expansion",
+            vary=vary, up_to=up_to, fix=fix, free=free, datasets=datasets, on=on, set_name=set_name,
+            save=save, dh_constant=dh_constant, cross_validation=cross_validation)
+    if temperature_form is not None or vary or cross_validation is not None:
+        from saltbench.errors import UserError
+
+        raise UserError("--temperature-form, --vary and --cross-validate need --temperatures")
     from saltbench.errors import UserError
     from saltbench.fitting import fit as run_fit
     from saltbench.fitting import fit_joint, parse_assignments
@@ -503,6 +520,100 @@ def fit(session: Session, electrolytes: Sequence[str], model_id: str, *, up_to: 
     return run
 
 
+def fit_across_temperatures(session: Session, electrolytes: Sequence[str], model_id: str, temperatures: Any, *,
+                            form: str = "reference-expansion", vary: Sequence[str] = (),
+                            up_to: float | None = None, fix: Sequence[str] | dict[str, float] = (),
+                            free: Sequence[str] = (), datasets: Sequence[str] | None = None,
+                            on: str | Sequence[str] | None = None, set_name: str | None = None,
+                            save: bool = True, dh_constant: str = "current",
+                            cross_validation: str | None = None) -> FitRun:
+    """Fit ``model_id`` to the stored data of ``electrolytes`` at ``temperatures`` (a range
+    ``"LO:HI"`` or a set ``"T1,T2,..."`` in K, or a :class:`~saltbench.fitting.selection.TemperatureChoice`)
+    with parameters as temperature form ``form`` (:func:`saltbench.fitting.temperature_fit.fit_temperatures`):
+    ``vary`` names the parameters that take the form (default every free one), ``fix`` may hold
+    coefficients (``beta0.c3=0``). The Debye-Hückel constants are those of water at each
+    temperature (``dh_constant`` must be ``current``). ``cross_validation`` (``by-temperature``,
+    ``interleaved`` or ``contiguous``) adds held-out errors (``FitRun.cross_validation``). With
+    ``save``, the set carries the form, its coefficients and the data's temperature range, so
+    ``predict --params SET --temperature T`` evaluates it at T."""
+    from saltbench.errors import UserError
+    from saltbench.fitting import parse_assignments
+    from saltbench.fitting.crossval import ALL_SCHEMES
+    from saltbench.fitting.selection import TemperatureChoice, parse_on, parse_temperatures
+    from saltbench.fitting.temperature_fit import cross_validate_temperatures, fit_temperatures
+    from saltbench.models.discovery import plugin_output_to_stderr
+    from saltbench.scaffold.names import slug
+    from saltbench.store.fitted import fit_set_id, save_fit
+
+    choice = temperatures if isinstance(temperatures, TemperatureChoice) else parse_temperatures(str(temperatures))
+    if str(dh_constant).strip().lower() != "current":
+        raise UserError("--dh-constant: a fit across temperatures takes the constants of water at each "
+                        "temperature ('current'); a published or given A_phi holds at one temperature only")
+    if cross_validation is not None and cross_validation not in ALL_SCHEMES:
+        raise UserError(f"--cross-validate: unknown scheme {cross_validation!r} (expected {', '.join(ALL_SCHEMES)})")
+    model = session.registry.model(model_id)
+    fixed = dict(fix) if isinstance(fix, dict) else parse_assignments(fix)
+    props = parse_on(on or None, thermal=True) if on is None or isinstance(on, str) else list(on)
+    datasets = list(datasets) if datasets else None
+    sels = []
+    for name in electrolytes:
+        e = session.electrolyte(name)
+        sels.append((e, select_data(session, e, datasets=datasets, on=props, up_to=up_to, temperatures=choice)))
+    items = [(e, sel.data) for e, sel in sels]
+    vary_list, free_list = list(vary) or None, list(free) or None
+    with plugin_output_to_stderr():
+        result = fit_temperatures(model, items, form=form, vary=vary_list, fixed=fixed, free=free_list)
+        cv = cross_validate_temperatures(model, items, form=form, vary=vary_list, fixed=fixed, free=free_list,
+                                         scheme=cross_validation) \
+            if cross_validation is not None and result.temperature.reports else None
+    summary = result.temperature
+    names = [e.name for e, _ in sels]
+    hashes = [d["content_hash"] for _, sel in sels for d in sel.datasets]
+    settings = {"up_to": up_to, "fix": fixed, "free": list(free), "data": datasets, "on": props,
+                "temperatures_k": summary.temperatures, "temperature_form": summary.form,
+                "vary": list(vary), "a_phi": "water at each temperature"}
+    run = FitRun(model, names, result, sels, _WaterAtEachTemperature(), settings, hashes)
+    run.cross_validation = cv
+    if save:
+        set_id = slug(set_name) if set_name else fit_set_id(model.id, names, settings, hashes)
+        if not set_id:
+            raise UserError("--name must contain letters or digits")
+        several = len(summary.temperatures) > 1
+        run.parameter_set = save_fit(
+            session.store, result, set_id=set_id, settings=settings, data_hashes=hashes, electrolytes=names,
+            temperature_k=summary.reference_k if several else summary.temperatures[0],
+            temperature_form=summary.form if several else None,
+            temperature_range_k=(min(summary.temperatures), max(summary.temperatures)) if several else None,
+            coefficients=_further_coefficients(result, names) if several else None)
+    return run
+
+
+@dataclass(frozen=True)
+class _WaterAtEachTemperature:
+    """The Debye-Hückel state of a fit across temperatures, as FitRun.dh reports it."""
+
+    a_phi: float = float("nan")
+    origin: str = "water at each temperature (IAPWS)"
+
+
+def _further_coefficients(result, electrolytes: Sequence[str]) -> dict[tuple[str, str], dict[str, float]]:
+    """(electrolyte, model parameter) -> the further coefficients of a fit across temperatures
+    (``c1``...; the first is the parameter's stored value)."""
+    values = result.values
+    out: dict[tuple[str, str], dict[str, float]] = {}
+    first = "c0"
+    for e in electrolytes:
+        for name, gname in result.param_map[e].items():
+            base, dot, coefficient = gname.rpartition(".")
+            if not dot or coefficient != first:
+                continue
+            further = {k.rpartition(".")[2]: v for k, v in values.items()
+                       if k.rpartition(".")[0] == base and k != gname}
+            if further:
+                out[(e, name)] = further
+    return out
+
+
 def fit_constant(session: Session, model, electrolytes, temperature_k: float, choice: str):
     """The Debye-Hückel state a refit uses (``--dh-constant``): ``current`` (water at the
     temperature), ``published`` (the A_phi the model's published sets for these electrolytes
@@ -528,11 +639,23 @@ def fit_constant(session: Session, model, electrolytes, temperature_k: float, ch
                             set_temperature_k=pub.temperature_k).dh
 
 
-def select_data(session: Session, electrolyte, *, datasets=None, on=None, up_to=None, temperature_k=298.15):
+def select_data(session: Session, electrolyte, *, datasets=None, on=None, up_to=None, temperature_k=298.15,
+                temperatures=None):
+    """The stored data of ``electrolyte`` a fit takes (:func:`saltbench.fitting.selection.select`):
+    at ``temperature_k``, or at ``temperatures`` (a TemperatureChoice: a range or a set)."""
     from saltbench.fitting.selection import select
 
     e = session.electrolyte(electrolyte) if isinstance(electrolyte, str) else electrolyte
     points = queries.point_rows(session.store, e.name)
+    if temperatures is not None:
+        stored = sorted({round(float(r["temperature_k"]), 2) for r in points})
+        if stored and not any(temperatures.holds(t) for t in stored):
+            from saltbench.errors import UserError
+
+            raise UserError(f"no data for {e.name} at {temperatures.label()}; its data are at "
+                            f"{', '.join(f'{t:g}' for t in stored)} K")
+        return select(points, queries.dataset_rows(session.store, e.name), e, datasets=datasets, on=on,
+                      up_to=up_to, temperatures=temperatures)
     stored = sorted({round(float(r["temperature_k"]), 2) for r in points})
     if stored and all(abs(t - temperature_k) >= 0.05 for t in stored):
         from saltbench.errors import UserError

@@ -6,6 +6,11 @@ default for tables printed on a regular grid) or *contiguous* (k blocks of neigh
 molalities: held-out blocks test extrapolation). Leave-one-out is the interleaved split with
 k = n. Each fold is refitted from the full-data optimum and predicts its held-out points (Stone,
 J. R. Stat. Soc. B 36, 111 (1974)); held-out residuals are observed minus predicted.
+
+Across temperatures there is a third scheme, *by-temperature*: each fold is one temperature
+(points within 0.05 K), so every held-out temperature is predicted from the form's coefficients
+fitted to the others (an interpolation or extrapolation in temperature); the number of folds is
+the number of temperatures.
 """
 
 from __future__ import annotations
@@ -29,6 +34,27 @@ from saltbench.models.contract import SolutionModel
 from saltbench.water.debye_huckel import DebyeHuckel
 
 SCHEMES = ("interleaved", "contiguous")
+BY_TEMPERATURE = "by-temperature"
+ALL_SCHEMES = (*SCHEMES, BY_TEMPERATURE)
+
+
+def temperature_fold_labels(temperature: np.ndarray) -> np.ndarray:
+    """The fold of each point when each temperature is one fold (0.. by rising temperature)."""
+    from saltbench.fitting.data import temperature_groups
+
+    labels, groups = temperature_groups(np.asarray(temperature, dtype=float))
+    if len(groups) < 2:
+        raise UserError("cross-validation by temperature needs data at two temperatures or more")
+    return labels
+
+
+def point_temperatures(problem: Problem) -> np.ndarray:
+    """Each point's temperature (K): a fit across temperatures knows them; a fit at one
+    temperature has its blocks' one temperature."""
+    known = getattr(problem, "point_temperature", None)
+    if known is not None:
+        return np.asarray(known, dtype=float)
+    return np.full(problem.n, problem.temperature_k)
 
 
 def fold_labels(molality: np.ndarray, folds: int, scheme: str = "interleaved") -> np.ndarray:
@@ -59,6 +85,26 @@ class CrossValidation:
     flags: list[Flag] = field(default_factory=list)
     theta: np.ndarray | None = field(default=None, repr=False)  # last fold's parameters
     folds_run: int | None = None  # fewer than ``folds`` when stopped early (see stop_outside)
+    temperature: np.ndarray | None = field(default=None, repr=False)  # by-temperature: each point's
+
+    def by_temperature(self) -> list[dict[str, Any]]:
+        """Scheme by-temperature: each held-out temperature with the held-out count, RMS and
+        largest |residual| of each fitted property there (empty for other schemes)."""
+        if self.temperature is None:
+            return []
+        out = []
+        for f in range(self.folds):
+            at = self.fold == f
+            row: dict[str, Any] = {"temperature_k": float(np.mean(self.temperature[at]))}
+            for kind in dict.fromkeys(self.kind.tolist()):
+                r = self.residual[at & (self.kind == kind)]
+                if r.size:
+                    ok = bool(np.isfinite(r).all())
+                    row[str(kind)] = {"n": int(r.size),
+                                      "rms": float(np.sqrt(np.mean(r * r))) if ok else None,
+                                      "max_abs": float(np.abs(r).max()) if ok else None}
+            out.append(row)
+        return out
 
     @property
     def ran(self) -> np.ndarray:
@@ -111,6 +157,7 @@ class CrossValidation:
                                                     self.prediction, self.fold)]}
                if points else {}),
             "flags": texts(self.flags),
+            **({"held_out_temperatures": self.by_temperature()} if self.temperature is not None else {}),
             **({"folds_run": self.folds_run}
                if self.folds_run is not None and self.folds_run < self.folds else {}),
         }
@@ -128,11 +175,15 @@ def cross_validate_problem(problem: Problem, folds: int | str = 5,
     predictions and ``folds_run`` says how many ran.
     """
     n = problem.n
-    if folds == "loo":
-        folds, scheme = n, "interleaved"
-    if not isinstance(folds, int | np.integer):
-        raise UserError(f"folds must be a whole number or 'loo', got {folds!r}")
-    labels = fold_labels(problem.molality, int(folds), scheme)
+    if scheme == BY_TEMPERATURE:
+        labels = temperature_fold_labels(point_temperatures(problem))
+        folds = int(labels.max()) + 1
+    else:
+        if folds == "loo":
+            folds, scheme = n, "interleaved"
+        if not isinstance(folds, int | np.integer):
+            raise UserError(f"folds must be a whole number or 'loo', got {folds!r}")
+        labels = fold_labels(problem.molality, int(folds), scheme)
     # Every free parameter linear: each fold is a solve of the rows of one design, and a start
     # changes none of them (the start of a linear parameter is not used).
     masked = MaskedLinear.of(problem)
@@ -181,7 +232,8 @@ def cross_validate_problem(problem: Problem, folds: int | str = 5,
                 break
     kind = np.asarray(problem.kind, dtype=object).copy()
     return CrossValidation(scheme, int(folds), problem.molality.copy(), kind, problem.obs.copy(),
-                           pred, labels, flags, theta, folds_run)
+                           pred, labels, flags, theta, folds_run,
+                           point_temperatures(problem).copy() if scheme == BY_TEMPERATURE else None)
 
 
 def cross_validate(model: SolutionModel, electrolyte: Electrolyte | str, data: FitData, *,

@@ -44,6 +44,7 @@ from saltbench.models.salt_view import salt_view
 from saltbench.water.debye_huckel import DebyeHuckel
 
 _FD_STEP = float(np.finfo(float).eps) ** (1.0 / 3.0)
+_ACTIVITY_KINDS = frozenset(("ln_gamma", "osmotic"))  # what a block predicts (see the module)
 
 
 class GlobalParameter(NamedTuple):
@@ -714,6 +715,9 @@ def build_problem(model: SolutionModel, items: Sequence[tuple[Electrolyte, FitDa
     for electrolyte, data in items:
         if data.electrolyte and data.electrolyte != electrolyte.name:
             raise UserError(f"fit data are for {data.electrolyte}, not {electrolyte.name}")
+        if not _ACTIVITY_KINDS.issuperset(data.kind.tolist()):
+            raise UserError("thermal data (L_phi, Cp_phi) are fitted across temperatures only "
+                            "(saltbench.fitting.temperature_fit)")
         if not model.supports(electrolyte):
             types = ", ".join(f"{a}-{b}" for a, b in sorted(model.charge_types or ()))
             raise ModelDomainError(

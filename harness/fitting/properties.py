@@ -40,6 +40,10 @@ class FittedProperty:
     description: str
     curated: Mapping[str, Converter]  # curated property name -> conversion
     words: str = ""  # in plain-text messages, e.g. "ln gamma±" (default: the name)
+    #: listed in every fit's residual summary even without points (the activity properties);
+    #: False: listed only where a fit has points of it (the thermal ones, fitted across
+    #: temperatures only, so that fits at one temperature report as before)
+    always_listed: bool = True
 
     @property
     def text(self) -> str:
@@ -75,6 +79,11 @@ def for_curated(curated: str) -> tuple[FittedProperty, Converter]:
 
 def names() -> tuple[str, ...]:
     return tuple(REGISTRY)
+
+
+def activity_names() -> tuple[str, ...]:
+    """The properties a fit at one temperature takes (ln gamma± and phi)."""
+    return tuple(name for name, p in REGISTRY.items() if p.always_listed)
 
 
 def per_point(kind: np.ndarray, by_property: Mapping[str, float]) -> np.ndarray:
@@ -115,3 +124,18 @@ LN_GAMMA_PROPERTY = register_property(FittedProperty(
 OSMOTIC_PROPERTY = register_property(FittedProperty(
     "osmotic", "osmotic", "φ", "osmotic coefficient",
     {"osmotic": _ln, "water_activity": _water_activity}, "phi"))
+
+
+def _thermal(m, v, u, nu, dataset):
+    return v, u
+
+
+# Thermal data (issue 21): compared with the model's L_phi and C_p,phi from the temperature
+# derivatives of its excess Gibbs energy (saltbench.fitting.thermal_points); fitted across
+# temperatures only. Curated values are in J/mol and J/(K mol), fitted as they are.
+L_PHI_PROPERTY = register_property(FittedProperty(
+    "L_phi", "relative_enthalpy", "L_φ", "apparent molar relative enthalpy (J/mol)",
+    {"L_phi": _thermal}, "L_phi", always_listed=False))
+CP_PHI_PROPERTY = register_property(FittedProperty(
+    "Cp_phi", "relative_heat_capacity", "C_p,φ", "apparent molar heat capacity (J/(K mol))",
+    {"Cp_phi": _thermal}, "Cp_phi", always_listed=False))

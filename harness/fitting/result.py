@@ -31,7 +31,7 @@ import numpy as np
 from saltbench.fitting import criteria
 from saltbench.fitting.flags import FAILED_FIT_KINDS, Flag, FlagKind, flag, texts
 from saltbench.fitting.least_squares import ScaledSVD, Solution, scaled_svd
-from saltbench.fitting.properties import names as property_names
+from saltbench.fitting.properties import REGISTRY
 from saltbench.fitting.protocol import Problem
 
 ILL_CONDITIONED = 1e6
@@ -83,6 +83,10 @@ class FitResult:
     stderr_free: np.ndarray = field(repr=False)  # standard errors of the free parameters
     param_map: dict[str, dict[str, str]] = field(default_factory=dict)
     n_evaluations: int = 0
+    #: a fit across temperatures: its form, coefficients, which the data determine and the
+    #: residuals at each temperature (:class:`saltbench.fitting.temperature_fit.TemperatureSummary`);
+    #: None for a fit at one temperature made by fit()/fit_joint()
+    temperature: Any = None
 
     @property
     def ok(self) -> bool:
@@ -130,7 +134,12 @@ class FitResult:
     def residual_stats(self) -> dict[str, dict[str, float | int | None]]:
         """Count, RMS and largest absolute residual per fitted property (each registered one)."""
         residual = self.residual
-        return {name: _kind_stats(residual, self.kind == name) for name in property_names()}
+        out = {}
+        for name, prop in REGISTRY.items():
+            sel = self.kind == name
+            if prop.always_listed or sel.any():
+                out[name] = _kind_stats(residual, sel)
+        return out
 
     def to_dict(self) -> dict[str, Any]:
         params = [{"name": p["name"], "value": _json_float(p["value"]),
@@ -166,6 +175,7 @@ class FitResult:
             "bic": _json_float(self.bic),
             "condition_number": _json_float(self.condition_number),
             "temperature_k": _json_float(self.temperature_k),
+            **({"temperature_fit": self.temperature.to_dict()} if self.temperature is not None else {}),
         }
 
 

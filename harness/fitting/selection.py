@@ -13,6 +13,10 @@ from saltbench.fitting.data import FitData
 PROPERTY_ALIASES = {"gamma": "gamma_pm", "gamma_pm": "gamma_pm", "activity": "gamma_pm",
                     "osmotic": "osmotic", "phi": "osmotic", "water_activity": "water_activity",
                     "aw": "water_activity"}
+#: the thermal properties, which only a fit across temperatures takes
+THERMAL_ALIASES = {"l_phi": "L_phi", "enthalpy": "L_phi", "cp_phi": "Cp_phi", "heat_capacity": "Cp_phi"}
+#: what a fit across temperatures takes by default: every property it can fit
+ALL_PROPERTIES = ["gamma_pm", "osmotic", "water_activity", "L_phi", "Cp_phi"]
 
 
 if TYPE_CHECKING:
@@ -35,26 +39,91 @@ class Selection:
         return pd.DataFrame([dict(r) for r in self.rows])
 
 
-def parse_on(text: str | None) -> list[str]:
+@dataclass(frozen=True)
+class TemperatureChoice:
+    """Which temperatures a fit takes: every point in ``low_k``..``high_k`` (inclusive, 0.05 K
+    of slack at each end), or every point within 0.05 K of one of ``points_k``."""
+
+    low_k: float | None = None
+    high_k: float | None = None
+    points_k: tuple[float, ...] = ()
+
+    def __post_init__(self) -> None:
+        if self.points_k:
+            if self.low_k is not None or self.high_k is not None:
+                raise UserError("give a temperature range or a list of temperatures, not both")
+            if any(not t > 0 for t in self.points_k):
+                raise UserError("temperatures must be positive (K)")
+        elif self.low_k is None or self.high_k is None or not 0 < self.low_k <= self.high_k:
+            raise UserError("a temperature range needs 0 < LOW <= HIGH (K)")
+
+    def holds(self, temperature_k: float) -> bool:
+        if self.points_k:
+            return any(abs(temperature_k - t) < 0.05 for t in self.points_k)
+        assert self.low_k is not None and self.high_k is not None
+        return self.low_k - 0.05 < temperature_k < self.high_k + 0.05
+
+    def label(self) -> str:
+        if self.points_k:
+            return ", ".join(f"{t:g}" for t in self.points_k) + " K"
+        return f"{self.low_k:g}-{self.high_k:g} K"
+
+
+def parse_temperatures(text: str) -> TemperatureChoice:
+    """``--temperatures`` text: ``LO:HI`` (a range) or ``T1,T2,...`` (a set), in K; a value
+    ending in ``C`` is in degrees Celsius (``15C:45C``)."""
+    def one(word: str) -> float:
+        w = word.strip()
+        celsius = w[-1:].upper() == "C"
+        try:
+            value = float(w[:-1] if celsius or w[-1:].upper() == "K" else w)
+        except ValueError:
+            raise UserError(f"--temperatures: {word.strip()!r} is not a temperature "
+                            "(e.g. 288.15, 15C)") from None
+        return value + 273.15 if celsius else value
+
+    text = (text or "").strip()
     if not text:
-        return ["gamma_pm", "osmotic", "water_activity"]
+        raise UserError("--temperatures: give LO:HI or T1,T2,... (K, or with a C suffix)")
+    if ":" in text:
+        lo, _, hi = text.partition(":")
+        return TemperatureChoice(one(lo), one(hi))
+    return TemperatureChoice(points_k=tuple(one(w) for w in text.split(",") if w.strip()))
+
+
+def parse_on(text: str | None, *, thermal: bool = False) -> list[str]:
+    """``--on`` text -> curated property names; ``thermal`` (a fit across temperatures) also
+    takes ``L_phi`` and ``Cp_phi`` and takes every property by default."""
+    if not text:
+        return list(ALL_PROPERTIES) if thermal else ["gamma_pm", "osmotic", "water_activity"]
+    aliases = {**PROPERTY_ALIASES, **THERMAL_ALIASES} if thermal else PROPERTY_ALIASES
     out = []
     for word in (w.strip().lower() for w in text.split(",") if w.strip()):
-        if word not in PROPERTY_ALIASES:
-            raise UserError(f"--on: unknown property {word!r} (use gamma, osmotic or water_activity)")
-        out.append(PROPERTY_ALIASES[word])
+        if word not in aliases:
+            raise UserError(f"--on: unknown property {word!r} (use gamma, osmotic or water_activity"
+                            + (", L_phi or Cp_phi)" if thermal else ")"))
+        out.append(aliases[word])
     return out
 
 
 def select(points: Sequence[Row], meta: Sequence[Row], electrolyte, *,
            datasets: Sequence[str] | None = None, on: Sequence[str] | None = None,
-           up_to: float | None = None, temperature_k: float = 298.15) -> Selection:
+           up_to: float | None = None, temperature_k: float = 298.15,
+           temperatures: TemperatureChoice | None = None) -> Selection:
     """Points of ``electrolyte`` chosen by dataset key or source key (``datasets``), property
-    (``on``), molality (``up_to``) and temperature (within 0.05 K). ``points`` and ``meta``
-    are the store's point and dataset rows (:func:`saltbench.store.queries.point_rows`)."""
-    rows = [r for r in points if abs(r["temperature_k"] - temperature_k) < 0.05]
-    if not rows:
-        raise UserError(f"no data for {electrolyte.name} at {temperature_k:g} K")
+    (``on``), molality (``up_to``) and temperature: ``temperature_k`` (within 0.05 K), or
+    ``temperatures``, a range or a set of temperatures (:class:`TemperatureChoice`), which
+    takes the place of ``temperature_k``. ``points`` and ``meta`` are the store's point and
+    dataset rows (:func:`saltbench.store.queries.point_rows`); each point row's own
+    ``temperature_k`` decides."""
+    if temperatures is None:
+        rows = [r for r in points if abs(r["temperature_k"] - temperature_k) < 0.05]
+        if not rows:
+            raise UserError(f"no data for {electrolyte.name} at {temperature_k:g} K")
+    else:
+        rows = [r for r in points if temperatures.holds(float(r["temperature_k"]))]
+        if not rows:
+            raise UserError(f"no data for {electrolyte.name} at {temperatures.label()}")
     if datasets:
         wanted = set(datasets)
         known = {r[c] for r in rows for c in ("dataset", "source", "origin")}
@@ -72,10 +141,14 @@ def select(points: Sequence[Row], meta: Sequence[Row], electrolyte, *,
         rows = [r for r in rows if r["molality"] <= up_to * (1 + 1e-12)]
     if not rows:
         raise UserError(f"no {'/'.join(props)} data for {electrolyte.name} with these options")
-    # by molality, then dataset; equal keys keep the store's order (a stable sort, as before)
-    rows.sort(key=lambda r: (r["molality"], r["dataset"]))
+    # by molality, then dataset; equal keys keep the store's order (a stable sort, as before);
+    # across temperatures, by temperature first
+    if temperatures is None:
+        rows.sort(key=lambda r: (r["molality"], r["dataset"]))
+    else:
+        rows.sort(key=lambda r: (r["temperature_k"], r["molality"], r["dataset"]))
     columns = {c: [r[c] for r in rows]
-               for c in ("molality", "value", "uncertainty", "property", "dataset")}
+               for c in ("molality", "value", "uncertainty", "property", "dataset", "temperature_k")}
     data = FitData.from_frame(columns, electrolyte=electrolyte.name, nu=electrolyte.nu)
     counts = Counter(r["dataset"] for r in rows)
     infos = [{"key": r["key"], "source": r["source"], "property": r["property"],

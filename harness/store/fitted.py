@@ -32,8 +32,16 @@ def _upsert(store: Store, existing: tuple | None, row: dict) -> int:
 
 
 def save_fit(store: Store, result, *, set_id: str, settings: dict, data_hashes: list[str],
-             electrolytes: list[str], temperature_k: float, note: str = "", a_phi: float | None = None) -> str:
-    """Store a FitResult (single or joint) as a fitted parameter set; returns its id."""
+             electrolytes: list[str], temperature_k: float, note: str = "", a_phi: float | None = None,
+             temperature_form: str | None = None, temperature_range_k: tuple[float, float] | None = None,
+             coefficients: dict[tuple[str, str], dict[str, float]] | None = None) -> str:
+    """Store a FitResult (single or joint) as a fitted parameter set; returns its id.
+
+    A fit across temperatures gives ``temperature_form``, the range of its data
+    (``temperature_range_k``) and each parameter's further coefficients by (electrolyte, model
+    parameter name); its values are then the first coefficients and ``temperature_k`` the
+    form's reference temperature, as a parameter file with a form has them. Its covariance,
+    which is over coefficients, is not stored."""
     existing = store.conn.execute("SELECT id, kind FROM parameter_sets WHERE set_id = ?", (set_id,)).fetchone()
     if existing and existing[1] != "fitted":
         raise UserError(f"parameter set {set_id!r} is a published set; choose another --name")
@@ -50,6 +58,11 @@ def save_fit(store: Store, result, *, set_id: str, settings: dict, data_hashes: 
                                sort_keys=True, default=str),
         "data_hashes": json.dumps(sorted(data_hashes)), "software_version": __version__,
     }
+    if temperature_form is not None:
+        if temperature_range_k is None:
+            raise ValueError("a set with a temperature form needs its temperature range")
+        values.update(temperature_form=temperature_form, t_min_k=float(temperature_range_k[0]),
+                      t_max_k=float(temperature_range_k[1]))
     stderr = result.stderrs
     with store.transaction():
         pk = _upsert(store, existing, values)
@@ -61,7 +74,15 @@ def save_fit(store: Store, result, *, set_id: str, settings: dict, data_hashes: 
                              "stderr": None if stderr.get(gname) is None else float(stderr[gname]),
                              "m_max": float(max(result.molality)) if len(result.molality) else None})
         store.db.table("parameter_values").insert_all(rows)
-        if len(electrolytes) == 1 and len(result.free_names):
+        if temperature_form is not None:
+            store.conn.execute("DELETE FROM parameter_coefficients WHERE set_pk = ?", (pk,))
+            store.db.table("parameter_coefficients").insert_all([
+                {"set_pk": pk, "target": target, "name": name, "coefficient": c, "value": float(v)}
+                for (target, name), table in sorted((coefficients or {}).items()) for c, v in table.items()])
+        elif existing:
+            store.conn.execute("UPDATE parameter_sets SET temperature_form = NULL, t_min_k = NULL, "
+                               "t_max_k = NULL WHERE id = ?", (pk,))
+        if temperature_form is None and len(electrolytes) == 1 and len(result.free_names):
             gmap = {g: n for n, g in result.param_map[electrolytes[0]].items()}
             names = [gmap.get(g, g) for g in result.free_names]
             store.db.table("parameter_covariances").insert({
