@@ -557,6 +557,7 @@ def compare(session: Session, electrolytes, settings=None, *, jobs: int = 1, cur
     study. Its workers need saltbench and the same plugin files installed; they receive the
     data with each task and never open the store."""
     from saltbench.comparison.assess import PublishedInput
+    from saltbench.comparison.region import WithheldSet
     from saltbench.comparison.runner import ElectrolyteTask, run_comparison
     from saltbench.comparison.settings import CompareSettings
     from saltbench.errors import UserError
@@ -568,6 +569,7 @@ def compare(session: Session, electrolytes, settings=None, *, jobs: int = 1, cur
     for mid in ids:
         reg.model(mid)  # unknown ids are a user error, before any work
     tasks, skipped, per_ion_models = [], {}, {}
+    withheld: dict[str, dict[str, WithheldSet]] = {}
     for name in electrolytes:
         e = session.electrolyte(name)
         sel = select_data(session, e, datasets=settings.datasets or None, on=settings.on,
@@ -585,9 +587,18 @@ def compare(session: Session, electrolytes, settings=None, *, jobs: int = 1, cur
                             + (f": {', '.join(per_ion)} need several salts sharing an ion (fit them jointly "
                                f"with 'saltbench fit {e.name} OTHER... --model ID')" if per_ion else ""))
         published: dict[str, PublishedInput | None] = {}
+        # over a range of temperatures one set is chosen for all of them (the one whose ground
+        # covers them best), and judged only where its authors fitted it unless asked otherwise
+        over = (settings.temperature_k if settings.temperatures_k is None
+                else _temperatures_of(session, e, settings.temperatures_k))
         for mid in supported:
-            found = preferred_sets(ps.published(session.store, reg.model(mid), e), settings.temperature_k)
-            if found:
+            found = preferred_sets(ps.published(session.store, reg.model(mid), e), over)
+            if found and settings.temperatures_k is not None and not settings.published_beyond_range \
+                    and temperature_rank(found[0], settings.temperature_k) >= 2:
+                withheld.setdefault(e.name, {})[mid] = WithheldSet(found[0].set_id, found[0].temperature_k,
+                                                                   found[0].temperature_range_k)
+                published[mid] = None
+            elif found:
                 p = params_at(found[0], settings.temperature_k)
                 published[mid] = PublishedInput(p.set_id, p.values, p.a_phi, p.from_memory, p.temperature_k,
                                                 p.temperature_range_k)
@@ -601,6 +612,7 @@ def compare(session: Session, electrolytes, settings=None, *, jobs: int = 1, cur
                           executor=executor)
     comp.skipped = skipped
     comp.per_ion = per_ion_models
+    comp.withheld = dict(withheld)
     from saltbench.comparison.sources import source_disagreements
 
     for task in tasks:
@@ -608,6 +620,55 @@ def compare(session: Session, electrolytes, settings=None, *, jobs: int = 1, cur
         if disagreeing:
             comp.disagreements[task.electrolyte.name] = disagreeing
     return comp
+
+
+def _temperatures_of(session: Session, electrolyte, span: tuple[float, float]) -> list[float]:
+    """The data temperatures (K) of ``electrolyte`` within ``span``; a user error when there are none."""
+    from saltbench.comparison.region import data_temperatures
+    from saltbench.errors import UserError
+
+    rows = queries.point_rows(session.store, electrolyte.name)
+    temps = data_temperatures(rows, *span)
+    if not temps:
+        stored = data_temperatures(rows, 0.0, float("inf"))
+        raise UserError(f"no data for {electrolyte.name} between {span[0]:g} and {span[1]:g} K; its data are at "
+                        f"{', '.join(f'{t:g}' for t in stored) or 'no temperature'} K")
+    return temps
+
+
+def compare_over_temperature(session: Session, electrolytes, settings, *, jobs: int = 1, curves: bool = False,
+                             progress: bool = False, executor=None, across=None):
+    """Compare models at every data temperature within ``settings.temperatures_k`` and assemble
+    each model's region within tolerance in (temperature, molality); returns a
+    :class:`saltbench.comparison.region.TemperatureComparison`.
+
+    At each temperature the comparison is :func:`compare`'s, with one published set per model
+    chosen for the whole range (:func:`preferred_sets` over the data temperatures) and left
+    unjudged where its authors did not fit it (``settings.published_beyond_range`` judges it
+    there too). ``across`` (a :class:`saltbench.comparison.region.AcrossTemperatureFit`) adds a
+    third column per model: fitted once across every temperature, judged at each."""
+    from saltbench.comparison.region import TemperatureComparison, assemble, judge_across, nearest
+    from saltbench.errors import UserError
+
+    if settings is None or settings.temperatures_k is None:
+        raise UserError("give a range of temperatures to compare over (--temperatures LO:HI)")
+    names = list(dict.fromkeys(session.electrolyte(n).name for n in electrolytes))
+    temps = {n: _temperatures_of(session, session.electrolyte(n), settings.temperatures_k) for n in names}
+    every = sorted({t for ts in temps.values() for t in ts})
+    comparisons = {}
+    for t in every:
+        here = [n for n in names if t in temps[n]]
+        comparisons[t] = compare(session, here, replace(settings, temperature_k=t), jobs=jobs, curves=curves,
+                                 progress=progress, executor=executor)
+    regions = {n: assemble(n, comparisons) for n in names}
+    if across is not None:
+        reg = session.registry
+        for n, region in regions.items():
+            e = session.electrolyte(n)
+            data = {t: comparisons[t].data[n] for t in region.temperatures_k}
+            for mid in list(dict.fromkeys(c.model for c in region.columns)):
+                region.columns.append(judge_across(across, reg.model(mid), e, data, settings))
+    return TemperatureComparison(settings, comparisons, regions, nearest(every, settings.temperature_k))
 
 
 def make_report(session: Session, electrolytes, settings=None, *, title: str | None = None,
@@ -621,6 +682,10 @@ def make_report(session: Session, electrolytes, settings=None, *, title: str | N
     names = list(electrolytes)
     if not names:
         raise UserError("name at least one electrolyte")
+    if settings is not None and settings.temperatures_k is not None:
+        over = compare_over_temperature(session, names, settings, jobs=jobs, curves=True, executor=executor)
+        return write_report(session, over.reference, title=title, folder=Path(folder) if folder else None,
+                            command=command, argv=argv, created=created, region=over)
     comparison = compare(session, names, settings, jobs=jobs, curves=True, executor=executor)
     return write_report(session, comparison, title=title, folder=Path(folder) if folder else None,
                         command=command, argv=argv, created=created)

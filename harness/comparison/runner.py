@@ -41,6 +41,9 @@ class Comparison:
     per_ion: dict[str, list[str]] = field(default_factory=dict)  # electrolyte -> models needing several salts
     disagreements: dict[str, list[SourceDisagreement]] = field(default_factory=dict)  # electrolyte -> sources apart
     plugin_problems: list[str] = field(default_factory=list)
+    #: electrolyte -> model -> the published set left unjudged at this temperature (a WithheldSet
+    #: of saltbench.comparison.region), when comparing over a range of temperatures
+    withheld: dict[str, dict[str, Any]] = field(default_factory=dict)
 
     def records(self) -> list[dict]:
         return [o.record() for outs in self.outcomes.values() for o in outs]

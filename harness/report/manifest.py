@@ -102,6 +102,8 @@ def settings_from(manifest: dict):
     raw = dict(manifest["command"]["settings"])
     for key in ("models", "on", "datasets"):
         raw[key] = tuple(raw.get(key) or ())
+    if raw.get("temperatures_k") is not None:
+        raw["temperatures_k"] = tuple(float(t) for t in raw["temperatures_k"])
     try:
         return CompareSettings(**raw)
     except TypeError as exc:
