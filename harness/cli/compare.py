@@ -127,7 +127,9 @@ def parse_temperature_span(text: str) -> tuple[float, float]:
     if not unit:
         lo_text, hi_text = (f"{t} K" if bare.match(t) else t for t in (lo_text, hi_text))
     try:
-        low, high = parse_temperature(lo_text), parse_temperature(hi_text)
+        # the high end first: it carries the unit that both ends share
+        high = parse_temperature(hi_text)
+        low = parse_temperature(lo_text)
     except ValueError as exc:
         raise UserError(f"--temperatures: {exc}") from None
     if not low < high:
