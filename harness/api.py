@@ -177,9 +177,10 @@ def temperature_rank(params, temperature_k: float | Sequence[float] | np.ndarray
     return 0 if bool(np.all(np.abs(t - params.temperature_k) < SAME_TEMPERATURE_K)) else 3
 
 
-def preferred_sets(found: Sequence, temperature_k: float | None) -> list:
+def preferred_sets(found: Sequence, temperature_k: float | Sequence[float] | None) -> list:
     """The published sets of a model for one salt in the order they are chosen at
-    ``temperature_k`` (None: as stored, by set id): by :func:`temperature_rank`, then by set id.
+    ``temperature_k`` (every one of them, for several: the set whose ground covers them all comes
+    first; None: as stored, by set id): by :func:`temperature_rank`, then by set id.
     So at 25 °C a set of 25 °C values comes before a set whose form covers 25 °C, and at 75 °C a
     form covering 75 °C before a set of 25 °C values used unchanged."""
     return sorted(found, key=lambda p: temperature_rank(p, temperature_k))
@@ -673,9 +674,12 @@ def compare_over_temperature(session: Session, electrolytes, settings, *, jobs: 
 
 def make_report(session: Session, electrolytes, settings=None, *, title: str | None = None,
                 folder: str | os.PathLike[str] | None = None, command: str = "", argv: list[str] | None = None,
-                jobs: int = 1, created: str | None = None, executor=None):
+                jobs: int = 1, created: str | None = None, executor=None, across=None):
     """Compare, then write every report file into ``folder`` (default ``reports/<slug>``); returns
-    a :class:`saltbench.report.writer.ReportResult`. ``executor`` as for :func:`compare`."""
+    a :class:`saltbench.report.writer.ReportResult`. ``executor`` as for :func:`compare`. With
+    ``settings.temperatures_k`` the report adds the validity over temperature and molality
+    (:func:`compare_over_temperature`, with ``across``) and details the comparison at the data
+    temperature nearest ``settings.temperature_k``."""
     from saltbench.errors import UserError
     from saltbench.report.writer import write_report
 
@@ -683,7 +687,8 @@ def make_report(session: Session, electrolytes, settings=None, *, title: str | N
     if not names:
         raise UserError("name at least one electrolyte")
     if settings is not None and settings.temperatures_k is not None:
-        over = compare_over_temperature(session, names, settings, jobs=jobs, curves=True, executor=executor)
+        over = compare_over_temperature(session, names, settings, jobs=jobs, curves=True, executor=executor,
+                                        across=across)
         return write_report(session, over.reference, title=title, folder=Path(folder) if folder else None,
                             command=command, argv=argv, created=created, region=over)
     comparison = compare(session, names, settings, jobs=jobs, curves=True, executor=executor)

@@ -135,6 +135,10 @@ def test_asked_to_judge_beyond_the_authors_range_the_region_goes_on(region_store
     cells = _cells(over, "pitzer", "published")
     assert [cells[tc].reach for tc in TEMPS_C] == pytest.approx([EXPECTED_REACH[tc] for tc in TEMPS_C])
     assert cells[75].state is CellState.WITHIN
+    # marked as judged beyond the authors' temperatures, there and only there
+    assert [cells[tc].beyond for tc in TEMPS_C] == [False, False, False, True]
+    assert cells[75].text == "4^"
+    assert "at 75 °C judged beyond the temperatures its authors fitted it to" in over.regions["NaCl"].statement
     # the comparison at 75 °C still carries the mark that the set was used beyond its range
     out = next(o for o in over.comparisons[348.15].outcomes["NaCl"] if o.model == "pitzer")
     assert any(f.kind is FlagKind.PUBLISHED_TEMPERATURE_RANGE for f in out.flags)

@@ -9,13 +9,15 @@ from saltbench.cli.output import echo_caution, emit
 from saltbench.cli.output import fold as wrap
 
 REGION_CSV_COLUMNS = ["electrolyte", "temperature_k", "temperature_c", "model", "column", "set", "state",
-                      "valid_up_to", "data_top", "data_end", "detail"]
+                      "valid_up_to", "data_top", "data_end", "beyond_authors_temperatures", "detail"]
 CAPTIONS = {"published": "published set, judged as printed at each temperature",
             "refitted": "refitted at each temperature on its own",
             "across": "fitted once across every temperature"}
 REGION_LEGEND = ("Cells: the highest molality (mol/kg) within tolerance at that temperature; *: the data end "
-                 "before the model leaves the tolerance; not judged: a published set outside the temperatures "
-                 "its authors fitted it to (--published-beyond-range judges it there); no set: no published "
+                 "before the model leaves the tolerance; ^: a published set judged beyond the temperatures its "
+                 "authors fitted it to (an extrapolation, judged on request); not judged: a published set "
+                 "outside the temperatures its authors fitted it to (--published-beyond-range judges it "
+                 "there); no set: no published "
                  "set for the salt; none valid: outside tolerance even at the lowest molality.")
 CAUTION = ("Validity regions hold only for these data, these temperatures and this tolerance. For dosing, "
            "safety limits or regulated measurements, verify under local codes and licensed practice.")

@@ -68,6 +68,8 @@ class RegionCell:
     set_id: str | None = None  # the published set (PUBLISHED)
     set_range_k: tuple[float, float] | None = None  # where its authors fitted it (NOT_JUDGED)
     detail: str | None = None  # the error or flags behind FAILED
+    #: a published set judged outside the temperatures its authors fitted it to (on request)
+    beyond: bool = False
 
     @property
     def judged(self) -> bool:
@@ -77,7 +79,7 @@ class RegionCell:
     def text(self) -> str:
         """The table's cell: the molality (``*`` where the data end first), or the state."""
         if self.state is CellState.WITHIN:
-            return f"{self.reach:g}" + ("*" if self.data_end else "")
+            return f"{self.reach:g}" + ("*" if self.data_end else "") + ("^" if self.beyond else "")
         return {CellState.NONE_VALID: "none valid", CellState.TOO_FEW_POINTS: "too few points",
                 CellState.FAILED: "failed", CellState.NOT_JUDGED: "not judged",
                 CellState.NO_SET: "no set"}[self.state]
@@ -122,7 +124,8 @@ class ModelRegion:
                 "temperature_c": round(cell.temperature_k - 273.15, 2), "model": self.model,
                 "column": str(self.kind), "set": cell.set_id, "state": str(cell.state),
                 "valid_up_to": cell.reach, "data_top": cell.data_top, "data_end": cell.data_end,
-                "set_range_k": list(cell.set_range_k) if cell.set_range_k else None, "detail": cell.detail}
+                "set_range_k": list(cell.set_range_k) if cell.set_range_k else None,
+                "beyond_authors_temperatures": cell.beyond, "detail": cell.detail}
 
 
 def temperatures_text(temps: Sequence[float], all_temps: Sequence[float]) -> str:
@@ -168,8 +171,9 @@ class ElectrolyteRegion:
         pub = self.best(ColumnKind.PUBLISHED)
         if pub is not None:
             sets = ", ".join(pub.set_ids)
+            where = temperatures_text([c.temperature_k for c in pub.within], self.temperatures_k)
             text = (f"{pub.model_name} [{pub.model}] with the published set {sets} within tolerance up to "
-                    f"{pub.reach_text()} {temperatures_text([c.temperature_k for c in pub.within], self.temperatures_k)}")
+                    f"{pub.reach_text()} {where}")
             skipped = [c for c in pub.cells if c.state is CellState.NOT_JUDGED]
             if skipped and skipped[0].set_range_k:
                 lo, hi = skipped[0].set_range_k
@@ -178,6 +182,10 @@ class ElectrolyteRegion:
             elif skipped:
                 text += (f" (not judged at {', '.join(celsius(c.temperature_k) for c in skipped)}: its values "
                          "belong to one temperature)")
+            beyond = [c for c in pub.cells if c.beyond]
+            if beyond:
+                text += (f" (at {', '.join(celsius(c.temperature_k) for c in beyond)} judged beyond the "
+                         "temperatures its authors fitted it to, as asked: an extrapolation)")
             parts.append(text)
         else:
             parts.append("no published set is within tolerance at any judged temperature")
@@ -293,12 +301,15 @@ def _published_cell(t: float, o, top: float, withheld: WithheldSet | None) -> Re
         return RegionCell(t, CellState.NO_SET, data_top=top)
     if o.error:
         return RegionCell(t, CellState.FAILED, data_top=top, set_id=o.published_set, detail=o.error)
+    from saltbench.fitting.flags import FlagKind
+
     vr = o.valid_published
     v = o.valid_up_to("published")
+    beyond = any(f.kind in (FlagKind.PUBLISHED_TEMPERATURE, FlagKind.PUBLISHED_TEMPERATURE_RANGE) for f in o.flags)
     if vr is None or v is None:
-        return RegionCell(t, CellState.NONE_VALID, data_top=top, set_id=o.published_set)
+        return RegionCell(t, CellState.NONE_VALID, data_top=top, set_id=o.published_set, beyond=beyond)
     return RegionCell(t, CellState.WITHIN, reach=v, data_top=top, data_end=vr.limited_by == "data",
-                      set_id=o.published_set)
+                      set_id=o.published_set, beyond=beyond)
 
 
 def assemble(electrolyte: str, comparisons: Mapping[float, Comparison]) -> ElectrolyteRegion:

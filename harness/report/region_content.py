@@ -4,23 +4,25 @@ columns models), the region figure, and the region's CSV table."""
 
 from __future__ import annotations
 
+from collections.abc import Mapping
+
 from saltbench.comparison.region import CellState, ColumnKind, TemperatureComparison, celsius
-from saltbench.report.document import Bullets, Paragraph, Section, Table
+from saltbench.report.document import Bullets, Figure, Paragraph, Section, Table
+from saltbench.report.figures import FigureImage
 from saltbench.report.tables import to_csv
 
 REGION_COLUMNS = ["electrolyte", "temperature_k", "temperature_c", "model", "column", "set", "state",
-                  "valid_up_to", "data_top", "data_end", "set_range_k", "detail"]
+                  "valid_up_to", "data_top", "data_end", "set_range_k", "beyond_authors_temperatures", "detail"]
 CAPTIONS = {ColumnKind.PUBLISHED: "with the published set, judged as printed at each temperature",
             ColumnKind.REFITTED: "refitted at each temperature on its own",
             ColumnKind.ACROSS: "fitted once across every temperature"}
 REGION_CSV = "region.csv"
 
 
-def region_section(over: TemperatureComparison, figures: dict[str, object], key: str, heading: str) -> Section:
+def region_section(over: TemperatureComparison, figures: Mapping[str, FigureImage], key: str,
+                   heading: str) -> Section:
     """The section ``heading``: how the region was judged, then per electrolyte its statement,
     tables and figure (``figures``: electrolyte -> FigureImage)."""
-    from saltbench.report.document import Figure
-
     s = over.settings
     low, high = s.temperatures_k or (s.temperature_k, s.temperature_k)
     beyond = ("Published sets were judged at every data temperature, also outside the temperatures their "
@@ -36,9 +38,11 @@ def region_section(over: TemperatureComparison, figures: dict[str, object], key:
                   f"recommendation, verdicts and sections that follow detail the comparison at "
                   f"{over.reference_k:g} K ({celsius(over.reference_k)}) only. {beyond}"),
         Paragraph("Cells: the highest molality (mol/kg) within tolerance at that temperature; *: the data end "
-                  "before the model leaves the tolerance; not judged: outside the temperatures the set's authors "
-                  "fitted it to; no set: no published set for the salt; none valid: outside tolerance even at "
-                  "the lowest molality; failed: the model failed or its fit was flagged at that temperature."),
+                  "before the model leaves the tolerance; ^: a published set judged beyond the temperatures its "
+                  "authors fitted it to (on request: an extrapolation); not judged: outside the temperatures "
+                  "the set's authors fitted it to; no set: no published set for the salt; none valid: outside "
+                  "tolerance even at the lowest molality; failed: the model failed or its fit was flagged at "
+                  "that temperature."),
     ])
     for i, (name, region) in enumerate(over.regions.items(), start=1):
         blocks: list = [Bullets([region.statement])]
@@ -48,7 +52,7 @@ def region_section(over: TemperatureComparison, figures: dict[str, object], key:
                                 columns, rows, [True] * len(columns)))
         fig = figures.get(name)
         if fig is not None:
-            blocks.append(Figure(fig.key, fig.caption, fig.alt, fig.png))  # type: ignore[attr-defined]
+            blocks.append(Figure(fig.key, fig.caption, fig.alt, fig.png))
         failed = [f"{col.model} at {celsius(c.temperature_k)} ({col.kind}): {c.detail}"
                   for col in region.columns for c in col.cells if c.state is CellState.FAILED and c.detail]
         if failed:

@@ -6,6 +6,8 @@ fixed rcParams, no time stamps)."""
 
 from __future__ import annotations
 
+from typing import Any
+
 import numpy as np
 
 from saltbench.comparison.region import CellState, ColumnKind, ElectrolyteRegion
@@ -47,8 +49,8 @@ def region_figure(region: ElectrolyteRegion, styles: dict[str, Style], key: str)
                     ok = reach > 0
                     ax.plot(temps_c[ok], reach[ok], linestyle="none", marker=st.marker, color=st.colour,
                             zorder=4)
-                handles.setdefault(col.model, Line2D([], [], color=st.colour, linestyle=st.line,
-                                                     marker=st.marker))
+                line: Any = st.line  # a name or a dash tuple (figures.MODEL_LINES)
+                handles.setdefault(col.model, Line2D([], [], color=st.colour, linestyle=line, marker=st.marker))
                 skipped = np.array([c.state is CellState.NOT_JUDGED for c in col.cells])
                 if np.any(skipped):
                     ax.plot(temps_c[skipped], np.zeros(int(skipped.sum())), linestyle="none", marker="x",
