@@ -170,7 +170,7 @@ def test_a_model_refitted_to_its_own_clean_data_holds_to_the_end_at_every_temper
             assert cells[tc].state is CellState.WITHIN and cells[tc].reach == pytest.approx(6.0), (kind, tc)
             assert cells[tc].data_end and cells[tc].text == "6*"
     region = over.regions["NaCl"]
-    assert {t: model for t, (model, _) in region.recommended.items()} == dict.fromkeys(region.temperatures_k,
+    assert {t: rec.model for t, rec in region.recommended.items()} == dict.fromkeys(region.temperatures_k,
                                                                                         "pitzer")
     assert "refitted at each temperature: Pitzer [pitzer] up to 6 mol/kg over 0-75 °C" in region.statement
 

@@ -30,6 +30,7 @@ from saltbench.fitting.data import FitData
 
 if TYPE_CHECKING:
     from saltbench.chemistry.electrolyte import Electrolyte
+    from saltbench.comparison.ranking import Recommendation
     from saltbench.comparison.runner import Comparison
     from saltbench.comparison.settings import CompareSettings
 
@@ -149,8 +150,8 @@ class ElectrolyteRegion:
     electrolyte: str
     temperatures_k: tuple[float, ...]
     columns: list[ModelRegion] = field(default_factory=list)
-    #: temperature -> (recommended model id or None, the molality it was judged to)
-    recommended: dict[float, tuple[str | None, float]] = field(default_factory=dict)
+    #: temperature -> that temperature's recommendation (refitted models)
+    recommended: dict[float, Recommendation] = field(default_factory=dict)
     model_names: dict[str, str] = field(default_factory=dict)
 
     def column(self, model: str, kind: ColumnKind) -> ModelRegion | None:
@@ -200,7 +201,7 @@ class ElectrolyteRegion:
     def _refitted_text(self) -> str:
         runs: list[tuple[str | None, list[float], list[float]]] = []  # model, temperatures, targets
         for t in self.temperatures_k:
-            model, target = self.recommended.get(t, (None, 0.0))
+            model, target = self.recommended[t].model, self.recommended[t].target_molality
             if runs and runs[-1][0] == model:
                 runs[-1][1].append(t)
                 runs[-1][2].append(target)
@@ -212,7 +213,10 @@ class ElectrolyteRegion:
             reach = f"{lo:g} mol/kg" if lo == hi else f"{lo:g} to {hi:g} mol/kg"
             where = temperatures_text(temps, self.temperatures_k)
             if model is None:
-                out.append(f"no model holds to the end of the data ({reach}) {where}")
+                far = [(t, self.recommended[t]) for t in temps if self.recommended[t].furthest_model]
+                furthest = "".join(f"; furthest at {celsius(t)}: {r.furthest_model} to {r.furthest_molality:g} "
+                                   "mol/kg" for t, r in far)
+                out.append(f"no model holds to the end of the data ({reach}) {where}{furthest}")
             else:
                 out.append(f"{self.model_names.get(model, model)} [{model}] up to {reach} {where}")
         return "; ".join(out)
@@ -323,7 +327,7 @@ def assemble(electrolyte: str, comparisons: Mapping[float, Comparison]) -> Elect
         comp = comparisons[t]
         top = float(comp.data[electrolyte].molality.max())
         rec = comp.recommendations[electrolyte]
-        region.recommended[t] = (rec.model, rec.target_molality)
+        region.recommended[t] = rec
         withheld = comp.withheld.get(electrolyte, {})
         for o in comp.outcomes[electrolyte]:
             if o.model not in order:
