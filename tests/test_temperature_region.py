@@ -314,3 +314,18 @@ def test_without_temperatures_the_settings_record_is_as_before() -> None:
     assert "temperatures_k" not in d and "published_beyond_range" not in d
     d = CompareSettings(temperatures_k=(273.15, 323.15), published_beyond_range=True).to_dict()
     assert d["temperatures_k"] == [273.15, 323.15] and d["published_beyond_range"] is True
+
+
+def test_a_salt_without_data_at_the_detailed_temperature_is_still_in_the_region(region_store, tmp_path) -> None:
+    """KCl's bundled data are all at 25 °C; the report details 50 °C, where only NaCl has data."""
+    from saltbench.api import Session, make_report
+    from saltbench.comparison.settings import CompareSettings
+
+    settings = CompareSettings(models=("pitzer",), temperatures_k=(273.15, 353.15), temperature_k=323.15)
+    result = make_report(Session(region_store), ["NaCl", "KCl"], settings, folder=tmp_path / "two")
+    assert result.manifest["command"]["electrolytes"] == ["NaCl", "KCl"]
+    assert result.manifest["temperature_region"]["temperatures_k"]["KCl"] == [298.15]
+    assert result.manifest["temperature_region"]["reference_k"] == 323.15
+    md = (tmp_path / "two" / "report.md").read_text(encoding="utf-8")
+    assert "KCl has no data at 50 °C and appears only here." in md
+    assert "2.1.2 KCl" in md and "## 3 NaCl" in md and "## 4 KCl" not in md

@@ -31,6 +31,10 @@ def region_section(over: TemperatureComparison, figures: Mapping[str, FigureImag
               "A published set is judged only at temperatures its authors fitted it to (the range of its "
               "temperature form, or its one temperature); elsewhere its cell says 'not judged' rather than "
               "carrying the set beyond its ground.")
+    absent = [n for n in over.regions if n not in over.reference.outcomes]
+    if absent:
+        beyond += (f" {', '.join(absent)} {'has' if len(absent) == 1 else 'have'} no data at "
+                   f"{celsius(over.reference_k)} and appear{'s' if len(absent) == 1 else ''} only here.")
     sec = Section(key, heading, [
         Paragraph(f"Each model was judged as in a one-temperature comparison at every data temperature from "
                   f"{low:g} to {high:g} K ({celsius(low)} to {celsius(high)}), with the same tolerance and "

@@ -132,8 +132,10 @@ def write_report(session, comparison, *, title: str | None = None, folder: Path 
     from saltbench.report.residuals import refit_residuals
     from saltbench.report.tables import csv_tables
 
-    title = (title or "").strip() or default_title(list(comparison.outcomes))
-    folder = (Path(folder) if folder else default_folder(title, list(comparison.outcomes))).resolve()
+    # over temperatures, every electrolyte of the region (some may lack data at the reference)
+    names = list(region.regions) if region is not None else list(comparison.outcomes)
+    title = (title or "").strip() or default_title(names)
+    folder = (Path(folder) if folder else default_folder(title, names)).resolve()
     created = created or time_stamp()
     reg = session.registry
     electrolyte_objs = {n: session.electrolyte(n) for n in comparison.outcomes}
@@ -157,7 +159,7 @@ def write_report(session, comparison, *, title: str | None = None, folder: Path 
     if region is not None:
         region_figs = _add_region(doc, comparison, region, tables)
         figures = {**figures, **{f"region:{n}": [f] for n, f in region_figs.items()}}
-        electrolytes = list(region.regions)
+        electrolytes = names
 
     def manifest_for(files: dict[str, str]) -> dict:
         from saltbench.report.manifest import region_entry
