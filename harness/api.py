@@ -591,7 +591,7 @@ def compare(session: Session, electrolytes, settings=None, *, jobs: int = 1, cur
         # over a range of temperatures one set is chosen for all of them (the one whose ground
         # covers them best), and judged only where its authors fitted it unless asked otherwise
         over = (settings.temperature_k if settings.temperatures_k is None
-                else _temperatures_of(session, e, settings.temperatures_k))
+                else _temperatures_of(session, e, settings))
         for mid in supported:
             found = preferred_sets(ps.published(session.store, reg.model(mid), e), over)
             if found and settings.temperatures_k is not None and not settings.published_beyond_range \
@@ -623,18 +623,32 @@ def compare(session: Session, electrolytes, settings=None, *, jobs: int = 1, cur
     return comp
 
 
-def _temperatures_of(session: Session, electrolyte, span: tuple[float, float]) -> list[float]:
-    """The data temperatures (K) of ``electrolyte`` within ``span``; a user error when there are none."""
+def _temperatures_of(session: Session, electrolyte, settings) -> list[float]:
+    """The data temperatures (K) of ``electrolyte`` within ``settings.temperatures_k`` that hold
+    points of the chosen datasets and properties up to ``settings.up_to``; a user error when
+    there are none."""
     from saltbench.comparison.region import data_temperatures
     from saltbench.errors import UserError
 
+    span = settings.temperatures_k
     rows = queries.point_rows(session.store, electrolyte.name)
-    temps = data_temperatures(rows, *span)
-    if not temps:
-        stored = data_temperatures(rows, 0.0, float("inf"))
-        raise UserError(f"no data for {electrolyte.name} between {span[0]:g} and {span[1]:g} K; its data are at "
-                        f"{', '.join(f'{t:g}' for t in stored) or 'no temperature'} K")
-    return temps
+    wanted = set(settings.datasets)
+    chosen = [r for r in rows
+              if (not wanted or wanted & {r["dataset"], r["source"], r["origin"]})
+              and r["property"] in settings.on
+              and (settings.up_to is None or r["molality"] <= settings.up_to * (1 + 1e-12))]
+    temps = data_temperatures(chosen, *span)
+    if temps:
+        return temps
+    stored = data_temperatures(rows, 0.0, float("inf"))
+    if rows and not chosen:
+        # nothing chosen at any temperature: the selection's own message says why (--data, --on)
+        select_data(session, electrolyte, datasets=settings.datasets or None, on=settings.on,
+                    up_to=settings.up_to, temperature_k=stored[0])
+    where = data_temperatures(chosen, 0.0, float("inf"))
+    raise UserError(f"no data for {electrolyte.name} between {span[0]:g} and {span[1]:g} K; its data "
+                    f"{'chosen ' if len(where) != len(stored) else ''}are at "
+                    f"{', '.join(f'{t:g}' for t in where) or 'no temperature'} K")
 
 
 def compare_over_temperature(session: Session, electrolytes, settings, *, jobs: int = 1, curves: bool = False,
@@ -654,7 +668,7 @@ def compare_over_temperature(session: Session, electrolytes, settings, *, jobs: 
     if settings is None or settings.temperatures_k is None:
         raise UserError("give a range of temperatures to compare over (--temperatures LO:HI)")
     names = list(dict.fromkeys(session.electrolyte(n).name for n in electrolytes))
-    temps = {n: _temperatures_of(session, session.electrolyte(n), settings.temperatures_k) for n in names}
+    temps = {n: _temperatures_of(session, session.electrolyte(n), settings) for n in names}
     every = sorted({t for ts in temps.values() for t in ts})
     comparisons = {}
     for t in every:

@@ -329,3 +329,20 @@ def test_a_salt_without_data_at_the_detailed_temperature_is_still_in_the_region(
     md = (tmp_path / "two" / "report.md").read_text(encoding="utf-8")
     assert "KCl has no data at 50 °C and appears only here." in md
     assert "2.1.2 KCl" in md and "## 3 NaCl" in md and "## 4 KCl" not in md
+
+
+def test_the_temperatures_are_those_of_the_data_chosen(region_store, run_main) -> None:
+    over = _region(region_store, "NaCl.gamma_pm.tern-steps-50")
+    assert over.regions["NaCl"].temperatures_k == (323.15,)
+    assert "at 50 °C only" in over.regions["NaCl"].statement
+    code, _, err = run_main("compare", "NaCl", "--data", "no-such-source", "--temperatures", "0:80 C",
+                            store=region_store)
+    assert code == 2 and err.startswith("Error: --data: no dataset, source or origin 'no-such-source' for NaCl")
+    code, _, err = run_main("compare", "NaCl", "--data", "tern-steps-2026", "--temperatures", "30:40 C",
+                            store=region_store)
+    assert code == 2 and err.strip() == ("Error: no data for NaCl between 303.15 and 313.15 K; its data are at "
+                                         "273.15, 298.15, 323.15, 348.15 K")
+    code, _, err = run_main("compare", "NaCl", "--data", "NaCl.gamma_pm.tern-steps-0", "--temperatures", "20:80 C",
+                            store=region_store)
+    assert code == 2 and err.strip() == ("Error: no data for NaCl between 293.15 and 353.15 K; its data chosen are "
+                                         "at 273.15 K")
