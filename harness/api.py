@@ -652,7 +652,7 @@ def _temperatures_of(session: Session, electrolyte, settings) -> list[float]:
 
 
 def compare_over_temperature(session: Session, electrolytes, settings, *, jobs: int = 1, curves: bool = False,
-                             progress: bool = False, executor=None, across=None):
+                             progress: bool = False, executor=None, across=None, skip_without_data: bool = False):
     """Compare models at every data temperature within ``settings.temperatures_k`` and assemble
     each model's region within tolerance in (temperature, molality); returns a
     :class:`saltbench.comparison.region.TemperatureComparison`.
@@ -661,14 +661,25 @@ def compare_over_temperature(session: Session, electrolytes, settings, *, jobs: 
     chosen for the whole range (:func:`preferred_sets` over the data temperatures) and left
     unjudged where its authors did not fit it (``settings.published_beyond_range`` judges it
     there too). ``across`` (a :class:`saltbench.comparison.region.AcrossTemperatureFit`) adds a
-    third column per model: fitted once across every temperature, judged at each."""
+    third column per model: fitted once across every temperature, judged at each.
+    ``skip_without_data`` (``compare --all``) leaves out, and lists, the electrolytes without
+    data in the range instead of stopping at the first."""
     from saltbench.comparison.region import TemperatureComparison, assemble, judge_across, nearest
     from saltbench.errors import UserError
 
     if settings is None or settings.temperatures_k is None:
         raise UserError("give a range of temperatures to compare over (--temperatures LO:HI)")
     names = list(dict.fromkeys(session.electrolyte(n).name for n in electrolytes))
-    temps = {n: _temperatures_of(session, session.electrolyte(n), settings) for n in names}
+    temps: dict[str, list[float]] = {}
+    without: list[str] = []
+    for n in names:
+        try:
+            temps[n] = _temperatures_of(session, session.electrolyte(n), settings)
+        except UserError:
+            if not skip_without_data or n == names[-1] and not temps:
+                raise
+            without.append(n)
+    names = [n for n in names if n in temps]
     every = sorted({t for ts in temps.values() for t in ts})
     comparisons = {}
     for t in every:
@@ -683,7 +694,8 @@ def compare_over_temperature(session: Session, electrolytes, settings, *, jobs: 
             data = {t: comparisons[t].data[n] for t in region.temperatures_k}
             for mid in list(dict.fromkeys(c.model for c in region.columns)):
                 region.columns.append(judge_across(across, reg.model(mid), e, data, settings))
-    return TemperatureComparison(settings, comparisons, regions, nearest(every, settings.temperature_k))
+    return TemperatureComparison(settings, comparisons, regions, nearest(every, settings.temperature_k),
+                                 without_data=without)
 
 
 def make_report(session: Session, electrolytes, settings=None, *, title: str | None = None,

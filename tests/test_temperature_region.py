@@ -346,3 +346,12 @@ def test_the_temperatures_are_those_of_the_data_chosen(region_store, run_main) -
                             store=region_store)
     assert code == 2 and err.strip() == ("Error: no data for NaCl between 293.15 and 353.15 K; its data chosen are "
                                          "at 273.15 K")
+
+
+def test_compare_all_lists_the_salts_without_data_in_the_range(run_main, region_store) -> None:
+    code, out, err = run_main("compare", "--all", "--models", "davies", "--temperatures", "0:10 C", "--format",
+                              "json", "--jobs", "1", store=region_store)
+    assert code == 0, err
+    doc = json.loads(out)
+    assert {r["electrolyte"] for r in doc["region"]} == {"NaCl"}
+    assert "KCl" in doc["without_data"] and "NaCl" not in doc["without_data"]

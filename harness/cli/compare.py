@@ -221,7 +221,7 @@ def compare(app, electrolytes, all_, models, up_to, tol, folds, on, data_sel, te
     if settings.temperatures_k is not None:
         from saltbench.cli.compare_region import echo_region
 
-        echo_region(s, names, settings, fmt, jobs or default_jobs(), summary)
+        echo_region(s, names, settings, fmt, jobs or default_jobs(), summary, every=all_)
         return
     comp = run(s, names, settings, jobs=jobs or default_jobs(), progress=True)
     for p in comp.plugin_problems:

@@ -23,16 +23,19 @@ CAUTION = ("Validity regions hold only for these data, these temperatures and th
            "safety limits or regulated measurements, verify under local codes and licensed practice.")
 
 
-def echo_region(session, names: list[str], settings, fmt: str, jobs: int, summary: bool) -> None:
+def echo_region(session, names: list[str], settings, fmt: str, jobs: int, summary: bool,
+                every: bool = False) -> None:
+    """The region tables (``every``: names are the whole store's, and those without data in the
+    range are listed rather than an error)."""
     from saltbench.api import compare_over_temperature
 
-    over = compare_over_temperature(session, names, settings, jobs=jobs, progress=True)
+    over = compare_over_temperature(session, names, settings, jobs=jobs, progress=True, skip_without_data=every)
     for p in over.reference.plugin_problems:  # the same registry served every temperature
         click.echo(f"Warning: {p}", err=True)
     if fmt == "json":
         per_t = [{**r, "temperature_k": t} for t, comp in over.comparisons.items() for r in comp.records()]
         emit([], fmt, json_obj={"region": over.records(), "recommendations": over.statements(),
-                                "per_temperature": per_t})
+                                "per_temperature": per_t, "without_data": over.without_data})
         echo_caution(fmt, CAUTION)
         return
     if fmt == "csv":
@@ -52,6 +55,9 @@ def echo_region(session, names: list[str], settings, fmt: str, jobs: int, summar
                 click.echo(f"   {CAPTIONS[str(kind)]}:")
                 emit([dict(zip(columns, r)) for r in rows], "table", columns)
         click.echo(wrap(f"-> {region.statement}", indent="   "))
+    if over.without_data:
+        click.echo("")
+        click.echo(wrap(f"No data in the range for: {', '.join(over.without_data)}."))
     click.echo("")
     click.echo(wrap(REGION_LEGEND))
     click.echo(wrap(CAUTION))

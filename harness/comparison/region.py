@@ -254,6 +254,7 @@ class TemperatureComparison:
     comparisons: dict[float, Comparison]  # by data temperature (K)
     regions: dict[str, ElectrolyteRegion]
     reference_k: float  # the data temperature the report details (nearest settings.temperature_k)
+    without_data: list[str] = field(default_factory=list)  # electrolytes left out: no data in the range
 
     @property
     def reference(self) -> Comparison:
