@@ -557,20 +557,52 @@ def compare(session: Session, electrolytes, settings=None, *, jobs: int = 1, cur
     (``dask.distributed.Client(...).get_executor()``), for thousands of datasets or a bootstrap
     study. Its workers need saltbench and the same plugin files installed; they receive the
     data with each task and never open the store."""
+    from saltbench.comparison.runner import run_comparison
+    from saltbench.comparison.settings import CompareSettings
+
+    settings = settings or CompareSettings()
+    prepared = _prepare_comparison(session, electrolytes, settings)
+    comp = run_comparison(prepared.tasks, settings, registry=session.registry, plugin_files=session._plugin_files,
+                          disabled=session._disabled, jobs=jobs, curves=curves, progress=progress,
+                          executor=executor)
+    return prepared.finish(comp, settings)
+
+
+@dataclass
+class _PreparedComparison:
+    """A comparison's tasks read from the store, and what it says beside the outcomes."""
+
+    tasks: list
+    skipped: dict[str, list[str]]
+    per_ion: dict[str, list[str]]
+    withheld: dict[str, dict[str, Any]]
+
+    def finish(self, comp, settings):
+        from saltbench.comparison.sources import source_disagreements
+
+        comp.skipped = self.skipped
+        comp.per_ion = self.per_ion
+        comp.withheld = dict(self.withheld)
+        for task in self.tasks:
+            disagreeing = source_disagreements(task.data, settings.tolerances)
+            if disagreeing:
+                comp.disagreements[task.electrolyte.name] = disagreeing
+        return comp
+
+
+def _prepare_comparison(session: Session, electrolytes, settings) -> _PreparedComparison:
     from saltbench.comparison.assess import PublishedInput
     from saltbench.comparison.region import WithheldSet
-    from saltbench.comparison.runner import ElectrolyteTask, run_comparison
-    from saltbench.comparison.settings import CompareSettings
+    from saltbench.comparison.runner import ElectrolyteTask
     from saltbench.errors import UserError
     from saltbench.store import parameter_sets as ps
 
-    settings = settings or CompareSettings()
     reg = session.registry
     ids = list(settings.models) or list(reg.models)
     for mid in ids:
         reg.model(mid)  # unknown ids are a user error, before any work
     tasks, skipped, per_ion_models = [], {}, {}
-    withheld: dict[str, dict[str, WithheldSet]] = {}
+    withheld: dict[str, dict[str, Any]] = {}
     for name in electrolytes:
         e = session.electrolyte(name)
         sel = select_data(session, e, datasets=settings.datasets or None, on=settings.on,
@@ -608,19 +640,7 @@ def compare(session: Session, electrolytes, settings=None, *, jobs: int = 1, cur
         top = float(sel.data.molality.max())
         target = min(settings.up_to, top) if settings.up_to else top
         tasks.append(ElectrolyteTask(e, sel.data, sel.datasets, published, supported, target))
-    comp = run_comparison(tasks, settings, registry=reg, plugin_files=session._plugin_files,
-                          disabled=session._disabled, jobs=jobs, curves=curves, progress=progress,
-                          executor=executor)
-    comp.skipped = skipped
-    comp.per_ion = per_ion_models
-    comp.withheld = dict(withheld)
-    from saltbench.comparison.sources import source_disagreements
-
-    for task in tasks:
-        disagreeing = source_disagreements(task.data, settings.tolerances)
-        if disagreeing:
-            comp.disagreements[task.electrolyte.name] = disagreeing
-    return comp
+    return _PreparedComparison(tasks, skipped, per_ion_models, withheld)
 
 
 def _temperatures_of(session: Session, electrolyte, settings) -> list[float]:
@@ -665,6 +685,7 @@ def compare_over_temperature(session: Session, electrolytes, settings, *, jobs: 
     ``skip_without_data`` (``compare --all``) leaves out, and lists, the electrolytes without
     data in the range instead of stopping at the first."""
     from saltbench.comparison.region import TemperatureComparison, assemble, judge_across, nearest
+    from saltbench.comparison.runner import run_comparisons
     from saltbench.errors import UserError
 
     if settings is None or settings.temperatures_k is None:
@@ -681,11 +702,15 @@ def compare_over_temperature(session: Session, electrolytes, settings, *, jobs: 
             without.append(n)
     names = [n for n in names if n in temps]
     every = sorted({t for ts in temps.values() for t in ts})
-    comparisons = {}
+    # every temperature's tasks first, then all of them in one pool (run_comparisons)
+    batches = []
     for t in every:
-        here = [n for n in names if t in temps[n]]
-        comparisons[t] = compare(session, here, replace(settings, temperature_k=t), jobs=jobs, curves=curves,
-                                 progress=progress, executor=executor)
+        at = replace(settings, temperature_k=t)
+        batches.append((_prepare_comparison(session, [n for n in names if t in temps[n]], at), at))
+    comps = run_comparisons([(prep.tasks, at) for prep, at in batches], registry=session.registry,
+                            plugin_files=session._plugin_files, disabled=session._disabled, jobs=jobs,
+                            curves=curves, progress=progress, executor=executor)
+    comparisons = {t: prep.finish(comp, at) for t, (prep, at), comp in zip(every, batches, comps)}
     regions = {n: assemble(n, comparisons) for n in names}
     if across is not None:
         reg = session.registry

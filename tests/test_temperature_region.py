@@ -355,3 +355,16 @@ def test_compare_all_lists_the_salts_without_data_in_the_range(run_main, region_
     doc = json.loads(out)
     assert {r["electrolyte"] for r in doc["region"]} == {"NaCl"}
     assert "KCl" in doc["without_data"] and "NaCl" not in doc["without_data"]
+
+
+def test_worker_processes_give_the_region_of_one_process(region_store) -> None:
+    """Every temperature's tasks share one pool; each result must land at its own temperature."""
+    from saltbench.api import Session, compare_over_temperature
+    from saltbench.comparison.settings import CompareSettings
+
+    settings = CompareSettings(models=("pitzer", "davies"), datasets=("tern-steps-2026",),
+                               temperatures_k=(273.15, 353.15))
+    one = compare_over_temperature(Session(region_store), ["NaCl"], settings, jobs=1)
+    two = compare_over_temperature(Session(region_store), ["NaCl"], settings, jobs=2)
+    assert two.records() == one.records()
+    assert [c.settings.temperature_k for c in two.comparisons.values()] == list(two.comparisons)
