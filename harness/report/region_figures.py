@@ -42,15 +42,21 @@ def region_figure(region: ElectrolyteRegion, styles: dict[str, Style], key: str)
         for ax, kind in zip(axes[0], kinds):
             for col in (c for c in region.columns if c.kind is kind):
                 st = styles[col.model]
+                line: Any = st.line  # a name or a dash tuple (figures.MODEL_LINES)
+                handles.setdefault(col.model, Line2D([], [], color=st.colour, linestyle=line, marker=st.marker))
                 reach = np.array([c.reach if c.state is CellState.WITHIN else 0.0 for c in col.cells])
                 if np.any(reach > 0):
                     ax.stairs(reach, edges, color=st.colour, linestyle=st.line, linewidth=1.4, zorder=3)
                     ax.stairs(reach, edges, fill=True, color=st.colour, alpha=0.10, zorder=2)
-                    ok = reach > 0
-                    ax.plot(temps_c[ok], reach[ok], linestyle="none", marker=st.marker, color=st.colour,
-                            zorder=4)
-                line: Any = st.line  # a name or a dash tuple (figures.MODEL_LINES)
-                handles.setdefault(col.model, Line2D([], [], color=st.colour, linestyle=line, marker=st.marker))
+                    beyond = np.array([c.beyond for c in col.cells])
+                    for sel, face in ((reach > 0) & ~beyond, st.colour), ((reach > 0) & beyond, "white"):
+                        if np.any(sel):  # open markers: a published set judged beyond its authors' range
+                            ax.plot(temps_c[sel], reach[sel], linestyle="none", marker=st.marker, color=st.colour,
+                                    markerfacecolor=face, zorder=4)
+                    if np.any(beyond):
+                        handles.setdefault("judged beyond the authors' temperatures",
+                                           Line2D([], [], color="#555555", linestyle="none", marker="o",
+                                                  markerfacecolor="white"))
                 skipped = np.array([c.state is CellState.NOT_JUDGED for c in col.cells])
                 if np.any(skipped):
                     ax.plot(temps_c[skipped], np.zeros(int(skipped.sum())), linestyle="none", marker="x",
@@ -73,5 +79,6 @@ def region_figure(region: ElectrolyteRegion, styles: dict[str, Style], key: str)
     return FigureImage(key, f"{name}: the molality up to which each model stays within tolerance at each data "
                        "temperature (a step per temperature, the region shaded beneath); crosses on the axis mark "
                        "temperatures where a published set was not judged (outside the temperatures its authors "
-                       "fitted it to); the dotted line is the highest data molality.",
+                       "fitted it to), and open markers the cells judged there on request; the dotted line is the "
+                       "highest data molality.",
                        f"Validity region chart for {name}", png)
