@@ -368,3 +368,17 @@ def test_worker_processes_give_the_region_of_one_process(region_store) -> None:
     two = compare_over_temperature(Session(region_store), ["NaCl"], settings, jobs=2)
     assert two.records() == one.records()
     assert [c.settings.temperature_k for c in two.comparisons.values()] == list(two.comparisons)
+
+
+def test_the_region_figure_is_the_same_bytes_twice_and_has_a_panel_per_column(region_store) -> None:
+    from saltbench.report.figures import model_styles
+    from saltbench.report.region_figures import region_figure
+
+    def across(model, electrolyte, data, temperature_k):
+        return np.concatenate([_truth(t, np.array([m])) for m, t in zip(data.molality, temperature_k)])
+
+    region = _region(region_store, "tern-steps-2026", across=across).regions["NaCl"]
+    styles = model_styles(["pitzer"])
+    first, second = region_figure(region, styles, "k"), region_figure(region, styles, "k")
+    assert first.png == second.png and first.png[:8] == b"\x89PNG\r\n\x1a\n"
+    assert [str(k) for k in region.kinds()] == ["published", "refitted", "across"]
