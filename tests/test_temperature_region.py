@@ -382,3 +382,21 @@ def test_the_region_figure_is_the_same_bytes_twice_and_has_a_panel_per_column(re
     first, second = region_figure(region, styles, "k"), region_figure(region, styles, "k")
     assert first.png == second.png and first.png[:8] == b"\x89PNG\r\n\x1a\n"
     assert [str(k) for k in region.kinds()] == ["published", "refitted", "across"]
+
+
+def test_the_statement_reads_each_stretch_of_temperatures_by_its_outcome() -> None:
+    """Wording from typed cells and recommendations built by hand (no comparison run)."""
+    from saltbench.comparison.ranking import Recommendation, RecommendationKind
+    from saltbench.comparison.region import CellState, ColumnKind, ElectrolyteRegion, ModelRegion, RegionCell
+
+    temps = (273.15, 298.15, 323.15)
+    region = ElectrolyteRegion("NaCl", temps, model_names={"bdot": "B-dot", "pitzer": "Pitzer"})
+    region.columns.append(ModelRegion("pitzer", "Pitzer", ColumnKind.PUBLISHED, tuple(
+        RegionCell(t, CellState.NOT_JUDGED, set_id="s", set_range_k=(298.15, 298.15)) for t in temps)))
+    region.recommended = {
+        273.15: Recommendation("NaCl", None, 2.0, kind=RecommendationKind.TOO_FEW_POINTS, n_points=2),
+        298.15: Recommendation("NaCl", "bdot", 0.5),
+        323.15: Recommendation("NaCl", "bdot", 0.5)}
+    assert region.statement == ("no published set could be judged: every one lies outside the temperatures its "
+                                "authors fitted it to; refitted at each temperature: too few points to judge at 0 °C "
+                                "only; B-dot [bdot] up to 0.5 mol/kg over 25-50 °C (2 data temperatures).")

@@ -189,7 +189,14 @@ class ElectrolyteRegion:
                          "temperatures its authors fitted it to, as asked: an extrapolation)")
             parts.append(text)
         else:
-            parts.append("no published set is within tolerance at any judged temperature")
+            cells = [c for col in self.columns if col.kind is ColumnKind.PUBLISHED for c in col.cells]
+            if any(c.judged for c in cells):
+                parts.append("no published set is within tolerance at any judged temperature")
+            elif any(c.state is CellState.NOT_JUDGED for c in cells):
+                parts.append("no published set could be judged: every one lies outside the temperatures its "
+                             "authors fitted it to")
+            else:
+                parts.append(f"no published set for {self.electrolyte}")
         parts.append("refitted at each temperature: " + self._refitted_text())
         across = self.best(ColumnKind.ACROSS)
         if across is not None:
@@ -199,20 +206,25 @@ class ElectrolyteRegion:
         return "; ".join(parts) + "."
 
     def _refitted_text(self) -> str:
-        runs: list[tuple[str | None, list[float], list[float]]] = []  # model, temperatures, targets
+        from saltbench.comparison.ranking import RecommendationKind
+
+        # consecutive temperatures with the same outcome read as one stretch
+        runs: list[tuple[tuple[str | None, RecommendationKind], list[float]]] = []
         for t in self.temperatures_k:
-            model, target = self.recommended[t].model, self.recommended[t].target_molality
-            if runs and runs[-1][0] == model:
+            key = (self.recommended[t].model, self.recommended[t].kind)
+            if runs and runs[-1][0] == key:
                 runs[-1][1].append(t)
-                runs[-1][2].append(target)
             else:
-                runs.append((model, [t], [target]))
+                runs.append((key, [t]))
         out = []
-        for model, temps, targets in runs:
+        for (model, kind), temps in runs:
+            targets = [self.recommended[t].target_molality for t in temps]
             lo, hi = min(targets), max(targets)
             reach = f"{lo:g} mol/kg" if lo == hi else f"{lo:g} to {hi:g} mol/kg"
             where = temperatures_text(temps, self.temperatures_k)
-            if model is None:
+            if kind is RecommendationKind.TOO_FEW_POINTS:
+                out.append(f"too few points to judge {where}")
+            elif model is None:
                 far = [(t, self.recommended[t]) for t in temps if self.recommended[t].furthest_model]
                 furthest = "".join(f"; furthest at {celsius(t)}: {r.furthest_model} to {r.furthest_molality:g} "
                                    "mol/kg" for t, r in far)
