@@ -177,9 +177,10 @@ def temperature_rank(params, temperature_k: float | Sequence[float] | np.ndarray
     return 0 if bool(np.all(np.abs(t - params.temperature_k) < SAME_TEMPERATURE_K)) else 3
 
 
-def preferred_sets(found: Sequence, temperature_k: float | None) -> list:
+def preferred_sets(found: Sequence, temperature_k: float | Sequence[float] | None) -> list:
     """The published sets of a model for one salt in the order they are chosen at
-    ``temperature_k`` (None: as stored, by set id): by :func:`temperature_rank`, then by set id.
+    ``temperature_k`` (every one of them, for several: the set whose ground covers them all comes
+    first; None: as stored, by set id): by :func:`temperature_rank`, then by set id.
     So at 25 °C a set of 25 °C values comes before a set whose form covers 25 °C, and at 75 °C a
     form covering 75 °C before a set of 25 °C values used unchanged."""
     return sorted(found, key=lambda p: temperature_rank(p, temperature_k))
@@ -679,18 +680,52 @@ def compare(session: Session, electrolytes, settings=None, *, jobs: int = 1, cur
     (``dask.distributed.Client(...).get_executor()``), for thousands of datasets or a bootstrap
     study. Its workers need saltbench and the same plugin files installed; they receive the
     data with each task and never open the store."""
-    from saltbench.comparison.assess import PublishedInput
-    from saltbench.comparison.runner import ElectrolyteTask, run_comparison
+    from saltbench.comparison.runner import run_comparison
     from saltbench.comparison.settings import CompareSettings
+
+    settings = settings or CompareSettings()
+    prepared = _prepare_comparison(session, electrolytes, settings)
+    comp = run_comparison(prepared.tasks, settings, registry=session.registry, plugin_files=session._plugin_files,
+                          disabled=session._disabled, jobs=jobs, curves=curves, progress=progress,
+                          executor=executor)
+    return prepared.finish(comp, settings)
+
+
+@dataclass
+class _PreparedComparison:
+    """A comparison's tasks read from the store, and what it says beside the outcomes."""
+
+    tasks: list
+    skipped: dict[str, list[str]]
+    per_ion: dict[str, list[str]]
+    withheld: dict[str, dict[str, Any]]
+
+    def finish(self, comp, settings):
+        from saltbench.comparison.sources import source_disagreements
+
+        comp.skipped = self.skipped
+        comp.per_ion = self.per_ion
+        comp.withheld = dict(self.withheld)
+        for task in self.tasks:
+            disagreeing = source_disagreements(task.data, settings.tolerances)
+            if disagreeing:
+                comp.disagreements[task.electrolyte.name] = disagreeing
+        return comp
+
+
+def _prepare_comparison(session: Session, electrolytes, settings) -> _PreparedComparison:
+    from saltbench.comparison.assess import PublishedInput
+    from saltbench.comparison.region import WithheldSet
+    from saltbench.comparison.runner import ElectrolyteTask
     from saltbench.errors import UserError
     from saltbench.store import parameter_sets as ps
 
-    settings = settings or CompareSettings()
     reg = session.registry
     ids = list(settings.models) or list(reg.models)
     for mid in ids:
         reg.model(mid)  # unknown ids are a user error, before any work
     tasks, skipped, per_ion_models = [], {}, {}
+    withheld: dict[str, dict[str, Any]] = {}
     for name in electrolytes:
         e = session.electrolyte(name)
         sel = select_data(session, e, datasets=settings.datasets or None, on=settings.on,
@@ -708,9 +743,18 @@ def compare(session: Session, electrolytes, settings=None, *, jobs: int = 1, cur
                             + (f": {', '.join(per_ion)} need several salts sharing an ion (fit them jointly "
                                f"with 'saltbench fit {e.name} OTHER... --model ID')" if per_ion else ""))
         published: dict[str, PublishedInput | None] = {}
+        # over a range of temperatures one set is chosen for all of them (the one whose ground
+        # covers them best), and judged only where its authors fitted it unless asked otherwise
+        over = (settings.temperature_k if settings.temperatures_k is None
+                else _temperatures_of(session, e, settings))
         for mid in supported:
-            found = preferred_sets(ps.published(session.store, reg.model(mid), e), settings.temperature_k)
-            if found:
+            found = preferred_sets(ps.published(session.store, reg.model(mid), e), over)
+            if found and settings.temperatures_k is not None and not settings.published_beyond_range \
+                    and temperature_rank(found[0], settings.temperature_k) >= 2:
+                withheld.setdefault(e.name, {})[mid] = WithheldSet(found[0].set_id, found[0].temperature_k,
+                                                                   found[0].temperature_range_k)
+                published[mid] = None
+            elif found:
                 p = params_at(found[0], settings.temperature_k)
                 published[mid] = PublishedInput(p.set_id, p.values, p.a_phi, p.from_memory, p.temperature_k,
                                                 p.temperature_range_k)
@@ -719,31 +763,108 @@ def compare(session: Session, electrolytes, settings=None, *, jobs: int = 1, cur
         top = float(sel.data.molality.max())
         target = min(settings.up_to, top) if settings.up_to else top
         tasks.append(ElectrolyteTask(e, sel.data, sel.datasets, published, supported, target))
-    comp = run_comparison(tasks, settings, registry=reg, plugin_files=session._plugin_files,
-                          disabled=session._disabled, jobs=jobs, curves=curves, progress=progress,
-                          executor=executor)
-    comp.skipped = skipped
-    comp.per_ion = per_ion_models
-    from saltbench.comparison.sources import source_disagreements
+    return _PreparedComparison(tasks, skipped, per_ion_models, withheld)
 
-    for task in tasks:
-        disagreeing = source_disagreements(task.data, settings.tolerances)
-        if disagreeing:
-            comp.disagreements[task.electrolyte.name] = disagreeing
-    return comp
+
+def _temperatures_of(session: Session, electrolyte, settings) -> list[float]:
+    """The data temperatures (K) of ``electrolyte`` within ``settings.temperatures_k`` that hold
+    points of the chosen datasets and properties up to ``settings.up_to``; a user error when
+    there are none."""
+    from saltbench.comparison.region import data_temperatures
+    from saltbench.errors import UserError
+
+    span = settings.temperatures_k
+    rows = queries.point_rows(session.store, electrolyte.name)
+    wanted = set(settings.datasets)
+    chosen = [r for r in rows
+              if (not wanted or wanted & {r["dataset"], r["source"], r["origin"]})
+              and r["property"] in settings.on
+              and (settings.up_to is None or r["molality"] <= settings.up_to * (1 + 1e-12))]
+    temps = data_temperatures(chosen, *span)
+    if temps:
+        return temps
+    stored = data_temperatures(rows, 0.0, float("inf"))
+    if rows and not chosen:
+        # nothing chosen at any temperature: the selection's own message says why (--data, --on)
+        select_data(session, electrolyte, datasets=settings.datasets or None, on=settings.on,
+                    up_to=settings.up_to, temperature_k=stored[0])
+    where = data_temperatures(chosen, 0.0, float("inf"))
+    raise UserError(f"no data for {electrolyte.name} between {span[0]:g} and {span[1]:g} K; its data "
+                    f"{'chosen ' if len(where) != len(stored) else ''}are at "
+                    f"{', '.join(f'{t:g}' for t in where) or 'no temperature'} K")
+
+
+def compare_over_temperature(session: Session, electrolytes, settings, *, jobs: int = 1, curves: bool = False,
+                             progress: bool = False, executor=None, across=None, skip_without_data: bool = False):
+    """Compare models at every data temperature within ``settings.temperatures_k`` and assemble
+    each model's region within tolerance in (temperature, molality); returns a
+    :class:`saltbench.comparison.region.TemperatureComparison`.
+
+    At each temperature the comparison is :func:`compare`'s, with one published set per model
+    chosen for the whole range (:func:`preferred_sets` over the data temperatures) and left
+    unjudged where its authors did not fit it (``settings.published_beyond_range`` judges it
+    there too). ``across`` (a :class:`saltbench.comparison.region.AcrossTemperatureFit`) adds a
+    third column per model: fitted once across every temperature, judged at each.
+    ``skip_without_data`` (``compare --all``) leaves out, and lists, the electrolytes without
+    data in the range instead of stopping at the first."""
+    from saltbench.comparison.region import TemperatureComparison, assemble, judge_across, nearest
+    from saltbench.comparison.runner import run_comparisons
+    from saltbench.errors import UserError
+
+    if settings is None or settings.temperatures_k is None:
+        raise UserError("give a range of temperatures to compare over (--temperatures LO:HI)")
+    names = list(dict.fromkeys(session.electrolyte(n).name for n in electrolytes))
+    temps: dict[str, list[float]] = {}
+    without: list[str] = []
+    for n in names:
+        try:
+            temps[n] = _temperatures_of(session, session.electrolyte(n), settings)
+        except UserError:
+            if not skip_without_data or n == names[-1] and not temps:
+                raise
+            without.append(n)
+    names = [n for n in names if n in temps]
+    every = sorted({t for ts in temps.values() for t in ts})
+    # every temperature's tasks first, then all of them in one pool (run_comparisons)
+    batches = []
+    for t in every:
+        at = replace(settings, temperature_k=t)
+        batches.append((_prepare_comparison(session, [n for n in names if t in temps[n]], at), at))
+    comps = run_comparisons([(prep.tasks, at) for prep, at in batches], registry=session.registry,
+                            plugin_files=session._plugin_files, disabled=session._disabled, jobs=jobs,
+                            curves=curves, progress=progress, executor=executor)
+    comparisons = {t: prep.finish(comp, at) for t, (prep, at), comp in zip(every, batches, comps)}
+    regions = {n: assemble(n, comparisons) for n in names}
+    if across is not None:
+        reg = session.registry
+        for n, region in regions.items():
+            e = session.electrolyte(n)
+            data = {t: comparisons[t].data[n] for t in region.temperatures_k}
+            for mid in list(dict.fromkeys(c.model for c in region.columns)):
+                region.columns.append(judge_across(across, reg.model(mid), e, data, settings))
+    return TemperatureComparison(settings, comparisons, regions, nearest(every, settings.temperature_k),
+                                 without_data=without)
 
 
 def make_report(session: Session, electrolytes, settings=None, *, title: str | None = None,
                 folder: str | os.PathLike[str] | None = None, command: str = "", argv: list[str] | None = None,
-                jobs: int = 1, created: str | None = None, executor=None):
+                jobs: int = 1, created: str | None = None, executor=None, across=None):
     """Compare, then write every report file into ``folder`` (default ``reports/<slug>``); returns
-    a :class:`saltbench.report.writer.ReportResult`. ``executor`` as for :func:`compare`."""
+    a :class:`saltbench.report.writer.ReportResult`. ``executor`` as for :func:`compare`. With
+    ``settings.temperatures_k`` the report adds the validity over temperature and molality
+    (:func:`compare_over_temperature`, with ``across``) and details the comparison at the data
+    temperature nearest ``settings.temperature_k``."""
     from saltbench.errors import UserError
     from saltbench.report.writer import write_report
 
     names = list(electrolytes)
     if not names:
         raise UserError("name at least one electrolyte")
+    if settings is not None and settings.temperatures_k is not None:
+        over = compare_over_temperature(session, names, settings, jobs=jobs, curves=True, executor=executor,
+                                        across=across)
+        return write_report(session, over.reference, title=title, folder=Path(folder) if folder else None,
+                            command=command, argv=argv, created=created, region=over)
     comparison = compare(session, names, settings, jobs=jobs, curves=True, executor=executor)
     return write_report(session, comparison, title=title, folder=Path(folder) if folder else None,
                         command=command, argv=argv, created=created)

@@ -93,6 +93,13 @@ def settings_options(f):
         click.option("--data", "data_sel", default="", help="Comma-separated dataset or source keys."),
         click.option("--temperature", "temperature_k", type=float, default=298.15, show_default=True,
                      help="Temperature in K."),
+        click.option("--temperatures", "temperatures", default=None, metavar="LO:HI",
+                     help="Judge at every data temperature from LO to HI (K, or with a unit: '0:50 C', "
+                     "'273.15:323.15 K') and give each model's region within tolerance in temperature and "
+                     "molality; --temperature then picks the temperature a report details."),
+        click.option("--published-beyond-range", "published_beyond_range", is_flag=True,
+                     help="With --temperatures: judge published sets also at temperatures outside those "
+                     "their authors fitted them to (otherwise 'not judged' there)."),
         click.option("--time-limit", "time_limit", type=click.FloatRange(min=0, min_open=True), default=120.0,
                      show_default=True, help="Seconds one model may spend on one electrolyte before it is "
                      "stopped and flagged (a plugin that hangs does not hold up the rest)."),
@@ -101,8 +108,40 @@ def settings_options(f):
     return f
 
 
+def parse_temperature_span(text: str) -> tuple[float, float]:
+    """'LO:HI' in K, or with one unit after HI or after each end ('0:50 C', '5 C:40 C',
+    '273.15:323.15 K') -> (low, high) in K; a UserError naming --temperatures otherwise."""
+    import re
+
+    from saltbench.curation.units import parse_temperature
+    from saltbench.errors import UserError
+
+    parts = text.split(":")
+    if len(parts) != 2 or not all(p.strip() for p in parts):
+        raise UserError(f"--temperatures: expected LO:HI, e.g. '273.15:323.15' (K) or '0:50 C', found {text!r}")
+    lo_text, hi_text = (p.strip() for p in parts)
+    unit = re.search(r"(°?\s*[CcKk])$", hi_text)
+    bare = re.compile(r"^-?\d+(\.\d+)?$")
+    if unit and bare.match(lo_text):
+        lo_text = f"{lo_text} {unit.group(1)}"
+    if not unit:
+        lo_text, hi_text = (f"{t} K" if bare.match(t) else t for t in (lo_text, hi_text))
+    try:
+        # the high end first: it carries the unit that both ends share
+        high = parse_temperature(hi_text)
+        low = parse_temperature(lo_text)
+    except ValueError as exc:
+        raise UserError(f"--temperatures: {exc}") from None
+    if not low < high:
+        raise UserError(f"--temperatures: {text!r} is not a range (LO must be below HI)")
+    if low < 200.0 or high > 650.0:
+        raise UserError(f"--temperatures: {text!r} lies outside liquid water's 200-650 K")
+    return low, high
+
+
 def build_settings(models: str, up_to, tol: str, folds, on: str, data_sel: str, temperature_k: float,
-                   time_limit: float = 120.0):
+                   time_limit: float = 120.0, temperatures: str | None = None,
+                   published_beyond_range: bool = False):
     from saltbench.comparison.settings import CompareSettings
     from saltbench.errors import UserError
     from saltbench.fitting.selection import parse_on
@@ -123,11 +162,14 @@ def build_settings(models: str, up_to, tol: str, folds, on: str, data_sel: str, 
         if not 2 <= folds <= MAX_FOLDS:
             raise UserError(f"--folds must be from 2 to {MAX_FOLDS} (or 'loo' for leave-one-out)")
     tl, tp = (parts[0], parts[0]) if len(parts) == 1 else parts
+    span = parse_temperature_span(temperatures) if temperatures is not None else None
+    if published_beyond_range and span is None:
+        raise UserError("--published-beyond-range goes with --temperatures")
     return CompareSettings(
         models=tuple(m.strip() for m in models.split(",") if m.strip()), up_to=up_to,
         tol_ln_gamma=tl, tol_phi=tp, folds=folds, temperature_k=temperature_k,
         on=tuple(parse_on(on or None)), datasets=tuple(d.strip() for d in data_sel.split(",") if d.strip()),
-        time_limit_s=float(time_limit))
+        time_limit_s=float(time_limit), temperatures_k=span, published_beyond_range=published_beyond_range)
 
 
 @click.command()
@@ -145,8 +187,8 @@ def build_settings(models: str, up_to, tol: str, folds, on: str, data_sel: str, 
               help="With --mixture: parameter sets to take binary values from first.")
 @format_option
 @click.pass_obj
-def compare(app, electrolytes, all_, models, up_to, tol, folds, on, data_sel, temperature_k, time_limit, jobs,
-            summary, mixture, sets, fmt):
+def compare(app, electrolytes, all_, models, up_to, tol, folds, on, data_sel, temperature_k, temperatures,
+            published_beyond_range, time_limit, jobs, summary, mixture, sets, fmt):
     """Fit every model to each electrolyte's data and say which to trust, up to where.
 
     For each model: fitted parameters, residuals, held-out error (k-fold cross-validation over
@@ -164,6 +206,8 @@ def compare(app, electrolytes, all_, models, up_to, tol, folds, on, data_sel, te
     if mixture is not None:
         if electrolytes or all_:
             raise UserError("give electrolytes or --mixture, not both")
+        if temperatures is not None:
+            raise UserError("--temperatures goes with electrolytes, not with --mixture")
         settings = build_settings(models, up_to, tol, folds, on, data_sel, temperature_k, time_limit)
         _compare_mixture(s, mixture, settings, [x for x in sets.split(",") if x], fmt)
         return
@@ -172,7 +216,13 @@ def compare(app, electrolytes, all_, models, up_to, tol, folds, on, data_sel, te
         names = list(s.electrolytes().electrolyte)
     if not names:
         raise UserError("name at least one electrolyte, or use --all")
-    settings = build_settings(models, up_to, tol, folds, on, data_sel, temperature_k, time_limit)
+    settings = build_settings(models, up_to, tol, folds, on, data_sel, temperature_k, time_limit, temperatures,
+                              published_beyond_range)
+    if settings.temperatures_k is not None:
+        from saltbench.cli.compare_region import echo_region
+
+        echo_region(s, names, settings, fmt, jobs or default_jobs(), summary, every=all_)
+        return
     comp = run(s, names, settings, jobs=jobs or default_jobs(), progress=True)
     for p in comp.plugin_problems:
         click.echo(f"Warning: {p}", err=True)

@@ -12,7 +12,8 @@ from saltbench.cli.compare import build_settings, settings_options
 from saltbench.cli.electrode import CANDIDATES as ELECTRODE_CANDIDATES
 from saltbench.cli.electrode import CONVENTIONS as ELECTRODE_CONVENTIONS
 
-SETTING_PARAMS = ("models", "up_to", "tol", "folds", "on", "data_sel", "temperature_k", "title")
+SETTING_PARAMS = ("models", "up_to", "tol", "folds", "on", "data_sel", "temperature_k", "title", "temperatures",
+                  "published_beyond_range")
 ELECTRODE_PARAMS = ("convention", "model_id", "candidates")
 
 
@@ -47,6 +48,10 @@ def _command_line(app, electrolytes, settings, title, out_dir, from_manifest, mi
                  "--on", ",".join(settings.on), "--temperature", f"{settings.temperature_k:g}"]
         if settings.datasets:
             args += ["--data", ",".join(settings.datasets)]
+        if settings.temperatures_k is not None:
+            args += ["--temperatures", f"{settings.temperatures_k[0]:g}:{settings.temperatures_k[1]:g}"]
+            if settings.published_beyond_range:
+                args += ["--published-beyond-range"]
         if title:
             args += ["--title", title]
     if out_dir:
@@ -100,8 +105,9 @@ def _electrode_command_line(app, sets, convention, model_id, chosen, candidates,
 @click.option("--candidates", default=",".join(ELECTRODE_CANDIDATES), show_default=True, metavar="NAMES",
               help="With --electrode: conventions whose spread enters each sample's budget.")
 @click.pass_context
-def report(ctx, electrolytes, models, up_to, tol, folds, on, data_sel, temperature_k, time_limit, out_dir, title,
-           from_manifest, jobs, mixture, sets, electrode_sets, convention, model_id, candidates):
+def report(ctx, electrolytes, models, up_to, tol, folds, on, data_sel, temperature_k, temperatures,
+           published_beyond_range, time_limit, out_dir, title, from_manifest, jobs, mixture, sets, electrode_sets,
+           convention, model_id, candidates):
     """Compare models and write it up for a method-validation file, ready to sign.
 
     The report a lab files when it validates the activity correction of a method: HTML
@@ -133,6 +139,8 @@ def report(ctx, electrolytes, models, up_to, tol, folds, on, data_sel, temperatu
         command = _command_line(app, (), None, None, out_dir, from_manifest)
         result = rerun_report(s, from_manifest, folder=out_dir, jobs=jobs, command=command, argv=sys.argv)
     elif electrode_sets:
+        if temperatures is not None:
+            raise UserError("--temperatures goes with electrolytes, not with --electrode")
         if electrolytes or mixture is not None:
             raise UserError("--electrode writes a report of its own: give no electrolyte and no --mixture with it")
         chosen = [x.strip() for x in sets.split(",") if x.strip()]
@@ -144,6 +152,8 @@ def report(ctx, electrolytes, models, up_to, tol, folds, on, data_sel, temperatu
     elif mixture is not None:
         if electrolytes:
             raise UserError("give electrolytes or --mixture, not both")
+        if temperatures is not None:
+            raise UserError("--temperatures goes with electrolytes, not with --mixture")
         settings = build_settings(models, up_to, tol, folds, on, data_sel, temperature_k, time_limit)
         chosen = [x.strip() for x in sets.split(",") if x.strip()]
         command = _command_line(app, (), settings, title, out_dir, None, mixture, chosen)
@@ -154,7 +164,8 @@ def report(ctx, electrolytes, models, up_to, tol, folds, on, data_sel, temperatu
             raise UserError("--sets goes with --mixture or --electrode")
         if not electrolytes:
             raise UserError("name at least one electrolyte (or re-run one with --from MANIFEST)")
-        settings = build_settings(models, up_to, tol, folds, on, data_sel, temperature_k, time_limit)
+        settings = build_settings(models, up_to, tol, folds, on, data_sel, temperature_k, time_limit, temperatures,
+                                  published_beyond_range)
         command = _command_line(app, electrolytes, settings, title, out_dir, None)
         result = make_report(s, electrolytes, settings, title=title, folder=out_dir, command=command,
                              argv=sys.argv, jobs=jobs)
@@ -171,6 +182,9 @@ def report(ctx, electrolytes, models, up_to, tol, folds, on, data_sel, temperatu
     elif "mixture" in result.manifest:
         mix = result.manifest["mixture"]
         click.echo(f"{mix['system']}: {mix['recommendation']['statement']}")
+    elif "temperature_region" in result.manifest:
+        for r in result.manifest["temperature_region"]["recommendations"]:
+            click.echo(f"{r['electrolyte']}: {r['statement']}")
     else:
         for name, rec in result.comparison.recommendations.items():
             click.echo(f"{name}: {rec.statement}")

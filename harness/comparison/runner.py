@@ -41,6 +41,9 @@ class Comparison:
     per_ion: dict[str, list[str]] = field(default_factory=dict)  # electrolyte -> models needing several salts
     disagreements: dict[str, list[SourceDisagreement]] = field(default_factory=dict)  # electrolyte -> sources apart
     plugin_problems: list[str] = field(default_factory=list)
+    #: electrolyte -> model -> the published set left unjudged at this temperature (a WithheldSet
+    #: of saltbench.comparison.region), when comparing over a range of temperatures
+    withheld: dict[str, dict[str, Any]] = field(default_factory=dict)
 
     def records(self) -> list[dict]:
         return [o.record() for outs in self.outcomes.values() for o in outs]
@@ -164,30 +167,41 @@ def run_comparison(tasks: list[ElectrolyteTask], settings: CompareSettings, *, r
     """Assess every task and rank. With ``executor`` (any :class:`concurrent.futures.Executor`,
     e.g. a distributed engine's) each electrolyte's work is submitted to it and ``jobs`` is
     ignored; otherwise ``jobs > 1`` starts a pool of worker processes of our own."""
-    comp = Comparison(settings)
-    comp.plugin_problems = [str(p) for p in registry.problems]
-    bar = _progress(len(tasks), progress)
-    results: dict[str, list[ModelOutcome]] = {}
-    own_pool = executor is None and jobs > 1 and len(tasks) > 1
+    return run_comparisons([(tasks, settings)], registry=registry, plugin_files=plugin_files, disabled=disabled,
+                           jobs=jobs, curves=curves, progress=progress, executor=executor)[0]
+
+
+def run_comparisons(batches: Sequence[tuple[list[ElectrolyteTask], CompareSettings]], *, registry,
+                    plugin_files: Sequence[str | os.PathLike[str]] = (), disabled: Sequence[str] = (),
+                    jobs: int = 1, curves: bool = False, progress: bool = False,
+                    executor: Executor | None = None) -> list[Comparison]:
+    """:func:`run_comparison` for several comparisons at once (one per temperature of a
+    comparison over temperatures), each its tasks with its settings: every task goes to one pool,
+    so the workers stay busy across comparisons. One comparison per batch, in order."""
+    work = [(b, t, settings) for b, (tasks, settings) in enumerate(batches) for t in tasks]
+    bar = _progress(len(work), progress)
+    results: dict[tuple[int, str], list[ModelOutcome]] = {}
+    own_pool = executor is None and jobs > 1 and len(work) > 1
     if executor is not None or own_pool:
         # Largest first, so that no long task starts last while the other workers sit idle.
-        by_cost = sorted(tasks, key=expected_cost, reverse=True)
+        by_cost = sorted(work, key=lambda w: expected_cost(w[1]), reverse=True)
         if own_pool:
-            _warm_before_fork(settings, registry)
+            for _, settings in batches:  # the water state at each temperature
+                _warm_before_fork(settings, registry)
             # never more workers than tasks or than the CPUs this process may use
             pool: Executor = ProcessPoolExecutor(
-                max_workers=min(jobs, len(tasks), default_jobs()),
+                max_workers=min(jobs, len(work), default_jobs()),
                 mp_context=multiprocessing.get_context(start_method()))
         else:
             assert executor is not None
             pool = executor
-        futures: list = []
+        futures: dict = {}
         try:
-            futures = [pool.submit(run_task, t, settings, list(plugin_files), list(disabled), curves)
-                       for t in by_cost]
+            futures = {pool.submit(run_task, t, settings, list(plugin_files), list(disabled), curves): b
+                       for b, t, settings in by_cost}
             for fut in as_completed(futures):
                 name, outs = fut.result()
-                results[name] = outs
+                results[(futures[fut], name)] = outs
                 bar(name)
         except BaseException:
             for fut in futures:
@@ -201,18 +215,24 @@ def run_comparison(tasks: list[ElectrolyteTask], settings: CompareSettings, *, r
         if own_pool:
             pool.shutdown()
     else:
-        for t in tasks:
+        for b, t, settings in work:
             name, outs = run_task(t, settings, plugin_files, disabled, curves, registry=registry)
-            results[name] = outs
+            results[(b, name)] = outs
             bar(name)
     bar(None)
-    for t in tasks:  # keep the order of the request
-        name = t.electrolyte.name
-        comp.outcomes[name] = results[name]
-        comp.recommendations[name] = recommend(results[name], t.target, settings.tol_ln_gamma, settings.tol_phi)
-        comp.datasets[name] = t.datasets
-        comp.data[name] = t.data
-    return comp
+    comps = []
+    for b, (tasks, settings) in enumerate(batches):
+        comp = Comparison(settings)
+        comp.plugin_problems = [str(p) for p in registry.problems]
+        for t in tasks:  # keep the order of the request
+            name = t.electrolyte.name
+            comp.outcomes[name] = results[(b, name)]
+            comp.recommendations[name] = recommend(results[(b, name)], t.target, settings.tol_ln_gamma,
+                                                   settings.tol_phi)
+            comp.datasets[name] = t.datasets
+            comp.data[name] = t.data
+        comps.append(comp)
+    return comps
 
 
 def _progress(total: int, enabled: bool):

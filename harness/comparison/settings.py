@@ -19,6 +19,11 @@ class CompareSettings:
     #: seconds one model may spend on one electrolyte before it is stopped and flagged
     time_limit_s: float | None = 120.0
     extra: dict = field(default_factory=dict)
+    #: (low, high) in K: judge at every data temperature in this range and assemble each model's
+    #: region in (temperature, molality); None: one temperature, ``temperature_k``
+    temperatures_k: tuple[float, float] | None = None
+    #: judge published sets also outside the temperatures their authors fitted them to
+    published_beyond_range: bool = False
 
     @property
     def tolerances(self) -> dict[str, float]:
@@ -39,4 +44,11 @@ class CompareSettings:
         d["models"] = list(self.models)
         d["on"] = list(self.on)
         d["datasets"] = list(self.datasets)
+        # written only when asked for, so the record of a one-temperature comparison stays as before
+        if self.temperatures_k is None:
+            del d["temperatures_k"]
+        else:
+            d["temperatures_k"] = list(self.temperatures_k)
+        if not self.published_beyond_range:
+            del d["published_beyond_range"]
         return d

@@ -81,6 +81,16 @@ def build_manifest(comparison, *, title: str, electrolytes: list[str], command: 
     })
 
 
+def region_entry(over) -> dict:
+    """The manifest's record of a comparison over temperatures (``report --temperatures``): the
+    range asked, the temperature the report details, every region cell and each statement."""
+    s = over.settings
+    return clean({"range_k": list(s.temperatures_k), "published_beyond_range": s.published_beyond_range,
+                  "reference_k": over.reference_k,
+                  "temperatures_k": {n: list(r.temperatures_k) for n, r in over.regions.items()},
+                  "records": over.records(), "recommendations": over.statements()})
+
+
 def load_manifest(path: Path) -> dict:
     try:
         data = json.loads(Path(path).read_text(encoding="utf-8"))
@@ -102,6 +112,8 @@ def settings_from(manifest: dict):
     raw = dict(manifest["command"]["settings"])
     for key in ("models", "on", "datasets"):
         raw[key] = tuple(raw.get(key) or ())
+    if raw.get("temperatures_k") is not None:
+        raw["temperatures_k"] = tuple(float(t) for t in raw["temperatures_k"])
     try:
         return CompareSettings(**raw)
     except TypeError as exc:
@@ -157,7 +169,35 @@ def check_agreement(manifest: dict, new: dict) -> Agreement:
         if before is None or before.get("model") != r["model"]:
             diffs.append(f"{r['electrolyte']} recommendation: {before and before.get('model')!r} then, "
                          f"{r['model']!r} now")
+    _region_diffs(manifest.get("temperature_region"), new.get("temperature_region"), diffs)
     return Agreement(not diffs, diffs, input_notes(manifest, new))
+
+
+def _region_diffs(old: dict | None, new: dict | None, diffs: list[str]) -> None:
+    """Differences between two manifests' regions over temperature, cell by cell."""
+    if old is None and new is None:
+        return
+    if old is None or new is None:
+        diffs.append(f"temperature region: {'absent' if old is None else 'present'} then, "
+                     f"{'absent' if new is None else 'present'} now")
+        return
+
+    def cells(entry: dict) -> dict:
+        return {(r["electrolyte"], r["temperature_k"], r["model"], r["column"]): r for r in entry["records"]}
+
+    before, now = cells(old), cells(new)
+    for key in sorted(set(before) | set(now), key=str):
+        label = f"{key[0]} {key[2]} ({key[3]}) at {key[1]:g} K"
+        if key not in now:
+            diffs.append(f"{label}: in the manifest, missing now")
+        elif key not in before:
+            diffs.append(f"{label}: new, not in the manifest")
+        else:
+            _diff(label, before[key], now[key], diffs)
+    old_st = {r["electrolyte"]: r["statement"] for r in old.get("recommendations", [])}
+    for r in new.get("recommendations", []):
+        if old_st.get(r["electrolyte"]) != r["statement"]:
+            diffs.append(f"{r['electrolyte']} region: {old_st.get(r['electrolyte'])!r} then, {r['statement']!r} now")
 
 
 def input_notes(manifest: dict, new: dict) -> list[str]:

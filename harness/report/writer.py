@@ -119,17 +119,23 @@ def _sha256(path: Path) -> str:
 
 
 def write_report(session, comparison, *, title: str | None = None, folder: Path | None = None,
-                 command: str = "", argv: list[str] | None = None, created: str | None = None) -> ReportResult:
+                 command: str = "", argv: list[str] | None = None, created: str | None = None,
+                 region=None) -> ReportResult:
     """Write every report file of ``comparison`` (run with curves) into ``folder`` (default
-    ``reports/<slug>``). The comparison itself is run by :func:`saltbench.api.make_report`."""
+    ``reports/<slug>``). The comparison itself is run by :func:`saltbench.api.make_report`.
+    ``region`` (a :class:`saltbench.comparison.region.TemperatureComparison` whose reference is
+    ``comparison``) adds the section, figures, ``tables/region.csv`` and manifest entry of the
+    validity over temperature and molality."""
     from saltbench import __version__
     from saltbench.report.content import ReportFacts, build_document
     from saltbench.report.manifest import build_manifest
     from saltbench.report.residuals import refit_residuals
     from saltbench.report.tables import csv_tables
 
-    title = (title or "").strip() or default_title(list(comparison.outcomes))
-    folder = (Path(folder) if folder else default_folder(title, list(comparison.outcomes))).resolve()
+    # over temperatures, every electrolyte of the region (some may lack data at the reference)
+    names = list(region.regions) if region is not None else list(comparison.outcomes)
+    title = (title or "").strip() or default_title(names)
+    folder = (Path(folder) if folder else default_folder(title, names)).resolve()
     created = created or time_stamp()
     reg = session.registry
     electrolyte_objs = {n: session.electrolyte(n) for n in comparison.outcomes}
@@ -148,16 +154,48 @@ def write_report(session, comparison, *, title: str | None = None, folder: Path 
                         electrolytes={n: e.charge_label for n, e in electrolyte_objs.items()},
                         figures=figures, extra_sections=extra)
     doc = build_document(comparison, facts)
+    tables = csv_tables(comparison)
+    electrolytes = list(comparison.outcomes)
+    if region is not None:
+        region_figs = _add_region(doc, comparison, region, tables)
+        figures = {**figures, **{f"region:{n}": [f] for n, f in region_figs.items()}}
+        electrolytes = names
 
     def manifest_for(files: dict[str, str]) -> dict:
-        return build_manifest(comparison, title=title, electrolytes=list(comparison.outcomes),
-                              command=command, argv=list(argv or []), created=created,
-                              store_path=store_path, store_hash=store_hash, plugins=plugins, models=models,
-                              parameter_sets=_parameter_sets(session, comparison), files=files)
+        from saltbench.report.manifest import region_entry
 
-    written, manifest = write_atomically(folder, lambda tmp: _write_files(tmp, doc, figures, csv_tables(comparison)),
+        manifest = build_manifest(comparison, title=title, electrolytes=electrolytes,
+                                  command=command, argv=list(argv or []), created=created,
+                                  store_path=store_path, store_hash=store_hash, plugins=plugins, models=models,
+                                  parameter_sets=_parameter_sets(session, comparison), files=files)
+        if region is not None:
+            manifest["temperature_region"] = region_entry(region)
+        return manifest
+
+    written, manifest = write_atomically(folder, lambda tmp: _write_files(tmp, doc, figures, tables),
                                          manifest_for)
     return ReportResult(folder, written, comparison, manifest, problems=list(comparison.plugin_problems))
+
+
+def _add_region(doc, comparison, region, tables: dict[str, str]) -> dict:
+    """Put the region section under the findings of ``doc``, its CSV into ``tables``; returns its
+    figures by electrolyte (file stems after the electrolytes' own figures)."""
+    from saltbench.report import figures as F
+    from saltbench.report.region_content import region_section, region_tables
+    from saltbench.report.region_figures import region_figure
+
+    # each model keeps the look it has in the report's other figures
+    order = list(dict.fromkeys([o.model for outs in comparison.outcomes.values() for o in outs]
+                               + [col.model for reg in region.regions.values() for col in reg.columns]))
+    styles = F.model_styles(order)
+    figs = {name: region_figure(reg, styles, f"{slug(name) or 'electrolyte'}-{i}.region")
+            for i, (name, reg) in enumerate(region.regions.items(), start=1)}
+    findings = next(s for s in doc.sections if s.key == "findings")
+    number = findings.heading.split(" ", 1)[0]
+    findings.children.append(region_section(region, figs, "region", f"{number}.1 Validity over temperature "
+                                                                     "and molality"))
+    tables.update(region_tables(region))
+    return figs
 
 
 def write_atomically(final: Path, write_files: Callable[[Path], list[Path]],
