@@ -813,6 +813,8 @@ def compare_over_temperature(session: Session, electrolytes, settings, *, jobs: 
 
     if settings is None or settings.temperatures_k is None:
         raise UserError("give a range of temperatures to compare over (--temperatures LO:HI)")
+    if across is None and settings.across_form is not None:
+        across = fit_across_temperatures_fn(settings.across_form)
     names = list(dict.fromkeys(session.electrolyte(n).name for n in electrolytes))
     temps: dict[str, list[float]] = {}
     without: list[str] = []
@@ -844,6 +846,32 @@ def compare_over_temperature(session: Session, electrolytes, settings, *, jobs: 
                 region.columns.append(judge_across(across, reg.model(mid), e, data, settings))
     return TemperatureComparison(settings, comparisons, regions, nearest(every, settings.temperature_k),
                                  without_data=without)
+
+
+def fit_across_temperatures_fn(form: str):
+    """The fit of :func:`compare_over_temperature`'s third column (a
+    :class:`saltbench.comparison.region.AcrossTemperatureFit`): every free parameter of the model
+    in the temperature form ``form``, fitted once to the points of every temperature
+    (:func:`saltbench.fitting.temperature_fit.fit_temperatures`), its prediction at each point.
+    A fit that fails (a model error, a form the data cannot carry) is a
+    :class:`saltbench.errors.FitError`, which makes the column 'failed'."""
+    from dataclasses import replace as _replace
+
+    from saltbench.errors import FitError
+    from saltbench.fitting.temperature_fit import fit_temperatures
+    from saltbench.models.temperature import form as form_named
+
+    form_named(form)  # an unknown form is a mistake of the request, said at once
+
+    def fit_across(model, electrolyte, data, temperature_k):
+        d = _replace(data, temperature=np.asarray(temperature_k, dtype=float))
+        result = fit_temperatures(model, [(electrolyte, d)], form=form)
+        pred = np.asarray(result.prediction, dtype=float)
+        if not result.converged or not np.isfinite(pred).all():
+            raise FitError(f"the fit across temperatures did not converge ({result.message})")
+        return pred
+
+    return fit_across
 
 
 def make_report(session: Session, electrolytes, settings=None, *, title: str | None = None,

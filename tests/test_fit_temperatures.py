@@ -78,10 +78,14 @@ def test_selection_by_range_by_set_and_at_one_temperature() -> None:
     assert sorted(set(some.data.temperature.tolist())) == [288.15, 318.15]
     with pytest.raises(UserError, match="no data for NaCl at 350-360 K"):
         select(points, meta, NACL, temperatures=parse_temperatures("350:360"))
-    with pytest.raises(UserError, match="LOW <= HIGH"):
+    with pytest.raises(UserError, match="not a range"):
         parse_temperatures("320:300")
-    with pytest.raises(UserError, match="not a temperature"):
+    with pytest.raises(UserError, match="expected a temperature with its unit"):
         parse_temperatures("warm:hot")
+    # one parser for fit and compare: a unit after the last value is every bare value's
+    assert parse_temperatures("15,25,40 C").points_k == pytest.approx((288.15, 298.15, 313.15))
+    with pytest.raises(UserError, match="200-650 K"):
+        parse_temperatures("0:900 C")
 
 
 # -- coverage of the coefficients' standard errors ---------------------------------------------

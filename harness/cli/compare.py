@@ -100,6 +100,11 @@ def settings_options(f):
         click.option("--published-beyond-range", "published_beyond_range", is_flag=True,
                      help="With --temperatures: judge published sets also at temperatures outside those "
                      "their authors fitted them to (otherwise 'not judged' there)."),
+        click.option("--fit-across", "fit_across", default=None, metavar="FORM",
+                     type=click.Choice(["reference-expansion", "constant"]),
+                     help="With --temperatures: also fit each model once to every temperature's data, its "
+                     "free parameters as functions of temperature in FORM, and judge that fit at each "
+                     "temperature (a third column of the region)."),
         click.option("--time-limit", "time_limit", type=click.FloatRange(min=0, min_open=True), default=120.0,
                      show_default=True, help="Seconds one model may spend on one electrolyte before it is "
                      "stopped and flagged (a plugin that hangs does not hold up the rest)."),
@@ -109,39 +114,23 @@ def settings_options(f):
 
 
 def parse_temperature_span(text: str) -> tuple[float, float]:
-    """'LO:HI' in K, or with one unit after HI or after each end ('0:50 C', '5 C:40 C',
-    '273.15:323.15 K') -> (low, high) in K; a UserError naming --temperatures otherwise."""
-    import re
-
-    from saltbench.curation.units import parse_temperature
+    """'LO:HI' (K, or with a unit: '0:50 C', '5 C:40 C') -> (low, high) in K; the one parser of
+    ``--temperatures`` (``fitting.selection.parse_temperatures``), which here must be a range."""
     from saltbench.errors import UserError
+    from saltbench.fitting.selection import parse_temperatures
 
-    parts = text.split(":")
-    if len(parts) != 2 or not all(p.strip() for p in parts):
+    if ":" not in text:
         raise UserError(f"--temperatures: expected LO:HI, e.g. '273.15:323.15' (K) or '0:50 C', found {text!r}")
-    lo_text, hi_text = (p.strip() for p in parts)
-    unit = re.search(r"(°?\s*[CcKk])$", hi_text)
-    bare = re.compile(r"^-?\d+(\.\d+)?$")
-    if unit and bare.match(lo_text):
-        lo_text = f"{lo_text} {unit.group(1)}"
-    if not unit:
-        lo_text, hi_text = (f"{t} K" if bare.match(t) else t for t in (lo_text, hi_text))
-    try:
-        # the high end first: it carries the unit that both ends share
-        high = parse_temperature(hi_text)
-        low = parse_temperature(lo_text)
-    except ValueError as exc:
-        raise UserError(f"--temperatures: {exc}") from None
-    if not low < high:
-        raise UserError(f"--temperatures: {text!r} is not a range (LO must be below HI)")
-    if low < 200.0 or high > 650.0:
-        raise UserError(f"--temperatures: {text!r} lies outside liquid water's 200-650 K")
-    return low, high
+    choice = parse_temperatures(text)
+    if choice.points_k:
+        raise UserError(f"--temperatures: compare takes a range LO:HI (e.g. '0:50 C'), found {text!r}")
+    assert choice.low_k is not None and choice.high_k is not None
+    return choice.low_k, choice.high_k
 
 
 def build_settings(models: str, up_to, tol: str, folds, on: str, data_sel: str, temperature_k: float,
                    time_limit: float = 120.0, temperatures: str | None = None,
-                   published_beyond_range: bool = False):
+                   published_beyond_range: bool = False, fit_across: str | None = None):
     from saltbench.comparison.settings import CompareSettings
     from saltbench.errors import UserError
     from saltbench.fitting.selection import parse_on
@@ -165,11 +154,14 @@ def build_settings(models: str, up_to, tol: str, folds, on: str, data_sel: str, 
     span = parse_temperature_span(temperatures) if temperatures is not None else None
     if published_beyond_range and span is None:
         raise UserError("--published-beyond-range goes with --temperatures")
+    if fit_across and span is None:
+        raise UserError("--fit-across goes with --temperatures")
     return CompareSettings(
         models=tuple(m.strip() for m in models.split(",") if m.strip()), up_to=up_to,
         tol_ln_gamma=tl, tol_phi=tp, folds=folds, temperature_k=temperature_k,
         on=tuple(parse_on(on or None)), datasets=tuple(d.strip() for d in data_sel.split(",") if d.strip()),
-        time_limit_s=float(time_limit), temperatures_k=span, published_beyond_range=published_beyond_range)
+        time_limit_s=float(time_limit), temperatures_k=span, published_beyond_range=published_beyond_range,
+        across_form=fit_across)
 
 
 @click.command()
@@ -188,7 +180,7 @@ def build_settings(models: str, up_to, tol: str, folds, on: str, data_sel: str, 
 @format_option
 @click.pass_obj
 def compare(app, electrolytes, all_, models, up_to, tol, folds, on, data_sel, temperature_k, temperatures,
-            published_beyond_range, time_limit, jobs, summary, mixture, sets, fmt):
+            published_beyond_range, fit_across, time_limit, jobs, summary, mixture, sets, fmt):
     """Fit every model to each electrolyte's data and say which to trust, up to where.
 
     For each model: fitted parameters, residuals, held-out error (k-fold cross-validation over
@@ -206,7 +198,7 @@ def compare(app, electrolytes, all_, models, up_to, tol, folds, on, data_sel, te
     if mixture is not None:
         if electrolytes or all_:
             raise UserError("give electrolytes or --mixture, not both")
-        if temperatures is not None:
+        if temperatures is not None or fit_across:
             raise UserError("--temperatures goes with electrolytes, not with --mixture")
         settings = build_settings(models, up_to, tol, folds, on, data_sel, temperature_k, time_limit)
         _compare_mixture(s, mixture, settings, [x for x in sets.split(",") if x], fmt)
@@ -217,7 +209,7 @@ def compare(app, electrolytes, all_, models, up_to, tol, folds, on, data_sel, te
     if not names:
         raise UserError("name at least one electrolyte, or use --all")
     settings = build_settings(models, up_to, tol, folds, on, data_sel, temperature_k, time_limit, temperatures,
-                              published_beyond_range)
+                              published_beyond_range, fit_across)
     if settings.temperatures_k is not None:
         from saltbench.cli.compare_region import echo_region
 

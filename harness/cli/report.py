@@ -13,7 +13,7 @@ from saltbench.cli.electrode import CANDIDATES as ELECTRODE_CANDIDATES
 from saltbench.cli.electrode import CONVENTIONS as ELECTRODE_CONVENTIONS
 
 SETTING_PARAMS = ("models", "up_to", "tol", "folds", "on", "data_sel", "temperature_k", "title", "temperatures",
-                  "published_beyond_range")
+                  "published_beyond_range", "fit_across")
 ELECTRODE_PARAMS = ("convention", "model_id", "candidates")
 
 
@@ -52,6 +52,8 @@ def _command_line(app, electrolytes, settings, title, out_dir, from_manifest, mi
             args += ["--temperatures", f"{settings.temperatures_k[0]:g}:{settings.temperatures_k[1]:g}"]
             if settings.published_beyond_range:
                 args += ["--published-beyond-range"]
+            if settings.across_form:
+                args += ["--fit-across", settings.across_form]
         if title:
             args += ["--title", title]
     if out_dir:
@@ -106,8 +108,8 @@ def _electrode_command_line(app, sets, convention, model_id, chosen, candidates,
               help="With --electrode: conventions whose spread enters each sample's budget.")
 @click.pass_context
 def report(ctx, electrolytes, models, up_to, tol, folds, on, data_sel, temperature_k, temperatures,
-           published_beyond_range, time_limit, out_dir, title, from_manifest, jobs, mixture, sets, electrode_sets,
-           convention, model_id, candidates):
+           published_beyond_range, fit_across, time_limit, out_dir, title, from_manifest, jobs, mixture, sets,
+           electrode_sets, convention, model_id, candidates):
     """Compare models and write it up for a method-validation file, ready to sign.
 
     The report a lab files when it validates the activity correction of a method: HTML
@@ -139,7 +141,7 @@ def report(ctx, electrolytes, models, up_to, tol, folds, on, data_sel, temperatu
         command = _command_line(app, (), None, None, out_dir, from_manifest)
         result = rerun_report(s, from_manifest, folder=out_dir, jobs=jobs, command=command, argv=sys.argv)
     elif electrode_sets:
-        if temperatures is not None:
+        if temperatures is not None or fit_across:
             raise UserError("--temperatures goes with electrolytes, not with --electrode")
         if electrolytes or mixture is not None:
             raise UserError("--electrode writes a report of its own: give no electrolyte and no --mixture with it")
@@ -152,7 +154,7 @@ def report(ctx, electrolytes, models, up_to, tol, folds, on, data_sel, temperatu
     elif mixture is not None:
         if electrolytes:
             raise UserError("give electrolytes or --mixture, not both")
-        if temperatures is not None:
+        if temperatures is not None or fit_across:
             raise UserError("--temperatures goes with electrolytes, not with --mixture")
         settings = build_settings(models, up_to, tol, folds, on, data_sel, temperature_k, time_limit)
         chosen = [x.strip() for x in sets.split(",") if x.strip()]
@@ -165,7 +167,7 @@ def report(ctx, electrolytes, models, up_to, tol, folds, on, data_sel, temperatu
         if not electrolytes:
             raise UserError("name at least one electrolyte (or re-run one with --from MANIFEST)")
         settings = build_settings(models, up_to, tol, folds, on, data_sel, temperature_k, time_limit, temperatures,
-                                  published_beyond_range)
+                                  published_beyond_range, fit_across)
         command = _command_line(app, electrolytes, settings, title, out_dir, None)
         result = make_report(s, electrolytes, settings, title=title, folder=out_dir, command=command,
                              argv=sys.argv, jobs=jobs)

@@ -24,6 +24,9 @@ class CompareSettings:
     temperatures_k: tuple[float, float] | None = None
     #: judge published sets also outside the temperatures their authors fitted them to
     published_beyond_range: bool = False
+    #: with ``temperatures_k``: also fit each model once across every temperature, its free
+    #: parameters in this temperature form (saltbench.models.temperature), and judge it at each
+    across_form: str | None = None
 
     @property
     def tolerances(self) -> dict[str, float]:
@@ -51,4 +54,6 @@ class CompareSettings:
             d["temperatures_k"] = list(self.temperatures_k)
         if not self.published_beyond_range:
             del d["published_beyond_range"]
+        if self.across_form is None:
+            del d["across_form"]
         return d

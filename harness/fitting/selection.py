@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import re
 from collections import Counter
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
@@ -69,26 +70,39 @@ class TemperatureChoice:
         return f"{self.low_k:g}-{self.high_k:g} K"
 
 
-def parse_temperatures(text: str) -> TemperatureChoice:
-    """``--temperatures`` text: ``LO:HI`` (a range) or ``T1,T2,...`` (a set), in K; a value
-    ending in ``C`` is in degrees Celsius (``15C:45C``)."""
-    def one(word: str) -> float:
-        w = word.strip()
-        celsius = w[-1:].upper() == "C"
-        try:
-            value = float(w[:-1] if celsius or w[-1:].upper() == "K" else w)
-        except ValueError:
-            raise UserError(f"--temperatures: {word.strip()!r} is not a temperature "
-                            "(e.g. 288.15, 15C)") from None
-        return value + 273.15 if celsius else value
+def parse_temperatures(text: str, option: str = "--temperatures") -> TemperatureChoice:
+    """``--temperatures`` text: ``LO:HI`` (a range) or ``T1,T2,...`` (a set). Bare numbers are
+    kelvin; a unit after a value (``15C``, ``15 °C``, ``288.15 K``) or after the last one only
+    (``0:50 C``, ``15,25,40 C``: every bare value takes it) says otherwise. Temperatures must lie
+    in liquid water's 200-650 K (a kelvin value below 200 is taken for a Celsius one given as K)."""
+    from saltbench.curation.units import parse_temperature
 
     text = (text or "").strip()
     if not text:
-        raise UserError("--temperatures: give LO:HI or T1,T2,... (K, or with a C suffix)")
-    if ":" in text:
-        lo, _, hi = text.partition(":")
-        return TemperatureChoice(one(lo), one(hi))
-    return TemperatureChoice(points_k=tuple(one(w) for w in text.split(",") if w.strip()))
+        raise UserError(f"{option}: give LO:HI or T1,T2,... (K, or with a unit: '0:50 C', '15C,40C')")
+    ranged = ":" in text
+    words = [w.strip() for w in (text.split(":") if ranged else text.split(","))]
+    if (ranged and len(words) != 2) or not all(words):
+        raise UserError(f"{option}: expected LO:HI or T1,T2,..., e.g. '273.15:323.15' (K) or '0:50 C', "
+                        f"found {text!r}")
+    unit = re.search(r"(°?\s*[CcKk])$", words[-1])
+    bare = re.compile(r"^-?\d+(\.\d+)?$")
+    shared = unit.group(1) if unit else "K"
+
+    def one(word: str) -> float:
+        try:
+            return parse_temperature(f"{word} {shared}" if bare.match(word) else word)
+        except ValueError as exc:
+            raise UserError(f"{option}: {exc}") from None
+
+    values = [one(w) for w in reversed(words)][::-1]  # the last first: it carries the shared unit
+    if any(not 200.0 <= t <= 650.0 for t in values):
+        raise UserError(f"{option}: {text!r} lies outside liquid water's 200-650 K")
+    if ranged:
+        if not values[0] < values[1]:
+            raise UserError(f"{option}: {text!r} is not a range (LO must be below HI)")
+        return TemperatureChoice(values[0], values[1])
+    return TemperatureChoice(points_k=tuple(values))
 
 
 def parse_on(text: str | None, *, thermal: bool = False) -> list[str]:
