@@ -90,6 +90,10 @@ class Session:
     def electrolyte(self, name: str):
         return queries.electrolyte(self.store, name)
 
+    def temperatures(self, electrolyte: str | None = None) -> list[float]:
+        """The temperatures in K at which the stored points (of ``electrolyte``) lie."""
+        return queries.temperatures(self.store, self.electrolyte(electrolyte).name if electrolyte else None)
+
     def content_hash(self) -> str:
         return queries.content_hash(self.store)
 
