@@ -84,7 +84,8 @@ def point_rows(store: Store, electrolyte: str | None = None,
     ``temperature_k`` is each point's own (issue 21), the dataset's where the point has none."""
     sql = """
     SELECT d.electrolyte, d.property, p.molality, p.value, p.u_value AS uncertainty,
-           COALESCE(p.temperature_k, d.temperature_k) AS temperature_k, d.source, d.key AS dataset, d.id AS dataset_id, d.origin,
+           COALESCE(p.temperature_k, d.temperature_k) AS temperature_k, d.source, d.key AS dataset,
+           d.id AS dataset_id, d.origin,
            p.value_printed, d.basis, p.line, d.file, COALESCE(p.precision, d.precision) AS precision
     FROM points p JOIN datasets d ON d.id = p.dataset_id
     """
