@@ -305,7 +305,8 @@ def check(app, electrolytes: tuple[str, ...], fmt: str) -> None:
                                 "checks": report.summary})
     else:
         for f in report.findings:
-            click.echo(f"{f.file}:{f.line}: {f.check}: {f.electrolyte} {f.message}")
+            at = f" at {f.temperature_k:.2f} K" if f.temperature_k is not None else ""
+            click.echo(f"{f.file}:{f.line}: {f.check}: {f.electrolyte}{at} {f.message}")
         not_applicable = [r for r in report.summary if r.get("status") == "not applicable"]
         for r in not_applicable:
             click.echo(f"{r['dataset']}: {r['check']}: {r['reason']}")
