@@ -759,7 +759,7 @@ def reduce_stored(session: Session, key: str, method: str | None = None):
         red.details["extrapolation"] = marks
         red.cautions = tuple(red.cautions) + tuple(f"extrapolated: {m}" for m in marks)
     kept = store_ms.ReducedValues(red.method, red.property, red.molality, red.value, red.u_value,
-                                  red.note, red.details, red.background_molality)
+                                  red.note, red.details, red.background_molality, red.temperature_k)
     return red, store_ms.store_reduction(session.store, ms, kept)
 
 
