@@ -169,3 +169,38 @@ def test_reduction_is_stored_with_each_points_temperature(run_main, store_path: 
     assert code == 0, err
     code, _, err = run_main("readings", "show", "harrowgate-hcl", "--plot", str(tmp_path / "p.png"), store=store_path)
     assert code == 2 and "several temperatures" in err
+
+
+EXAMPLE = Path(__file__).resolve().parents[1] / "refdata" / "examples" / "readings-kestrel-bay-thermostat"
+SCRIPT = Path(__file__).resolve().parents[1] / "refdata" / "tools" / "make_thermostat_readings_example.py"
+
+
+def test_the_invented_thermostat_example_reduces_back_to_its_generator(run_main, store_path: Path) -> None:
+    import importlib.util
+
+    spec = importlib.util.spec_from_file_location("make_thermostat_readings_example", SCRIPT)
+    assert spec is not None and spec.loader is not None
+    script = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(script)
+    # the files are what the script writes, and say they are invented
+    assert (EXAMPLE / script.NAME).read_text(encoding="utf-8") == script.text()
+    assert (EXAMPLE / script.BIB_NAME).read_text(encoding="utf-8") == script.BIB
+    assert (EXAMPLE / "README.md").read_text(encoding="utf-8") == script.README
+    assert "INVENTED" in script.text() and "INVENTED" in script.BIB and "INVENTED" in script.README
+    # the commands the example's README gives
+    code, _, err = run_main("readings", "add", str(EXAMPLE), store=store_path)
+    assert code == 0, err
+    code, out, err = run_main("readings", "reduce", "kestrel-hcl-thermostat", "--format", "json", store=store_path)
+    assert code == 0, err
+    [rec] = json.loads(out)
+    rows = rec["details"]["e_standard_by_temperature"]
+    assert [r["temperature_k"] for r in rows] == pytest.approx([288.15, 298.15, 313.15])
+    for r in rows:  # the generator's stated E°(T), within 3 standard uncertainties
+        assert abs(r["e_standard_v"] - script.e_standard(r["temperature_k"])) < 3 * r["u_e_standard_v"]
+    for t in (288.15, 298.15, 313.15):
+        pts = [p for p in rec["points"] if abs(p["temperature_k"] - t) < 0.01]
+        m = np.array([p["molality"] for p in pts])
+        got, u = np.array([p["value"] for p in pts]), np.array([p["uncertainty"] for p in pts])
+        assert np.all(np.abs(got - np.exp(script.ln_gamma(m, t))) < 3 * u)
+    code, out, err = run_main("data", "show", "HCl", store=store_path)
+    assert code == 0 and "kestrel-hcl-thermostat.gamma_pm" in out and "3 temperatures, 288.15 to 313.15 K" in out

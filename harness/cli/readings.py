@@ -111,7 +111,9 @@ def reduce(app, keys: tuple[str, ...], all_: bool, method: str | None, fmt: str)
             click.echo("  " + table(rec["points"], headers={"molality": "m/(mol/kg)",
                                                            "background_molality":
                                                            f"m({rec.get('background')})/(mol/kg)",
-                                                           "value": rec["property"]})
+                                                           "value": rec["property"],
+                                                           "temperature_k": "T/K"},
+                                     digits={"temperature_k": 5})
                        .replace("\n", "\n  "))
         elif "points" in rec:
             emit(rec["points"], fmt)
