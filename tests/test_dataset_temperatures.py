@@ -229,3 +229,11 @@ def test_listings_show_temperatures(run_main, store_path: Path, tmp_path: Path) 
 def test_temperature_groups_take_points_within_0_05_k_as_one() -> None:
     groups = temperature_groups(np.array([298.15, 288.15, 298.17, 313.15, 288.19]))
     assert [(round(t, 3), list(i)) for t, i in groups] == [(288.17, [1, 4]), (298.16, [0, 2]), (313.15, [3])]
+
+
+def test_the_documented_file_reads_as_written() -> None:
+    doc = (REFDATA.parent / "DEVELOPERS.md").read_text(encoding="utf-8")
+    block = doc.split("### The `temperature` column", 1)[1].split("```\n", 2)[1]
+    d = read_dataset("DEVELOPERS.md", block)
+    np.testing.assert_allclose(d.point_temperatures(), [288.15, 298.15, 313.15])
+    assert d.temperature_k == 298.15 and d.molality.tolist() == [0.1, 0.1, 0.1]
