@@ -204,3 +204,15 @@ def test_the_invented_thermostat_example_reduces_back_to_its_generator(run_main,
         assert np.all(np.abs(got - np.exp(script.ln_gamma(m, t))) < 3 * u)
     code, out, err = run_main("data", "show", "HCl", store=store_path)
     assert code == 0 and "kestrel-hcl-thermostat.gamma_pm" in out and "3 temperatures, 288.15 to 313.15 K" in out
+
+
+def test_readings_list_shows_the_range_of_a_series(run_main, store_path: Path, tmp_path: Path) -> None:
+    bib = write(tmp_path / "cells.sources.txt", BIB)
+    code, _, err = run_main("readings", "add", str(bib), str(write(tmp_path / "c.csv", readings_text(5))),
+                            store=store_path)
+    assert code == 0, err
+    code, out, _ = run_main("readings", "list", "--format", "json", store=store_path)
+    [rec] = json.loads(out)
+    assert (rec["temperature_k"], rec["t_min_k"], rec["t_max_k"]) == (298.15, 288.15, 323.15)
+    code, out, _ = run_main("readings", "list", store=store_path)
+    assert "288.15-323.15" in out

@@ -40,8 +40,12 @@ def list_(app, fmt: str) -> None:
     frame = measurement_sets(app.session())
     cols = ["key", "kind", "electrolyte", "temperature_k", "n_readings", "method",
             "method_version", "status", "dataset", "source"]
-    records = [] if frame.empty else frame[cols].to_dict("records")
-    emit(records, fmt, cols, {"temperature_k": "T/K", "n_readings": "readings",
+    records = [] if frame.empty else frame[cols + ["t_min_k", "t_max_k"]].to_dict("records")
+    if fmt == "table":  # a series at several temperatures shows its range
+        for r in records:
+            if r["t_max_k"] - r["t_min_k"] >= 0.05:
+                r["temperature_k"] = f"{r['t_min_k']:.2f}-{r['t_max_k']:.2f}"
+    emit(records, fmt, cols if fmt != "json" else cols + ["t_min_k", "t_max_k"], {"temperature_k": "T/K", "n_readings": "readings",
                               "method_version": "version", "dataset": "reduced dataset"},
          digits={"temperature_k": 10})
 

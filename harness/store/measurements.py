@@ -193,7 +193,11 @@ def list_sets(store: Store) -> pd.DataFrame:
     SELECT m.key, m.kind, m.electrolyte, m.temperature_k, m.n_readings, m.source, m.method,
            m.method_version, m.from_memory, m.file, m.content_hash,
            r.method AS reduced_with, r.method_version AS reduced_version, r.input_hash,
-           COALESCE(d.key, x.key) AS dataset
+           COALESCE(d.key, x.key) AS dataset,
+           (SELECT MIN(COALESCE(g.temperature_k, m.temperature_k)) FROM readings g
+            WHERE g.set_id = m.id) AS t_min_k,
+           (SELECT MAX(COALESCE(g.temperature_k, m.temperature_k)) FROM readings g
+            WHERE g.set_id = m.id) AS t_max_k
     FROM measurement_sets m
     LEFT JOIN reductions r ON r.set_id = m.id
     LEFT JOIN datasets d ON d.id = r.dataset_id
