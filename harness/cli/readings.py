@@ -45,8 +45,9 @@ def list_(app, fmt: str) -> None:
         for r in records:
             if r["t_max_k"] - r["t_min_k"] >= 0.05:
                 r["temperature_k"] = f"{r['t_min_k']:.2f}-{r['t_max_k']:.2f}"
-    emit(records, fmt, cols if fmt != "json" else cols + ["t_min_k", "t_max_k"], {"temperature_k": "T/K", "n_readings": "readings",
-                              "method_version": "version", "dataset": "reduced dataset"},
+    shown = cols if fmt != "json" else cols + ["t_min_k", "t_max_k"]
+    emit(records, fmt, shown, {"temperature_k": "T/K", "n_readings": "readings",
+                               "method_version": "version", "dataset": "reduced dataset"},
          digits={"temperature_k": 10})
 
 
