@@ -197,6 +197,14 @@ def test_migration_0009_keeps_data_and_foreign_keys(store_path: Path, tmp_path: 
     with pytest.raises(sqlite3.IntegrityError, match="CHECK"):
         store.conn.execute("UPDATE datasets SET property = 'enthalpy'")
     store.conn.execute("UPDATE datasets SET property = 'Cp_phi'")
+    # a molality once per temperature, and once where the point takes the dataset's temperature
+    with pytest.raises(sqlite3.IntegrityError, match="UNIQUE"):
+        store.conn.execute("INSERT INTO points (dataset_id, seq, molality, value, value_printed, u_value) "
+                           "SELECT dataset_id, 99, molality, value, value_printed, u_value FROM points LIMIT 1")
+    with pytest.raises(sqlite3.IntegrityError, match="UNIQUE"):
+        store.conn.execute("INSERT INTO points (dataset_id, seq, molality, value, value_printed, u_value, "
+                           "temperature_k) SELECT dataset_id, 98 + seq, 0.2, value, value_printed, u_value, "
+                           "288.15 FROM points")
     # the rebuilt tables still cascade: removing the dataset removes its points
     with store.transaction():
         store.conn.execute("DELETE FROM datasets")

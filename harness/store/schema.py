@@ -305,7 +305,8 @@ CREATE TABLE parameter_coefficients (
 """),
     # Data at several temperatures (issue 21): each point keeps its own temperature, a dataset its
     # range beside its header (nominal) temperature (NULL in either: the dataset's temperature_k,
-    # so a row written as before still means what it meant), and the thermal properties L_phi (J/mol)
+    # so existing rows, left NULL, and rows written as before still mean what they meant; a
+    # partial index keeps such rows' molalities unique as the old UNIQUE did), and the thermal properties L_phi (J/mol)
     # and Cp_phi (J/(K mol)) join the closed list; a reading (an EMF series at several
     # temperatures) keeps its own temperature likewise. SQLite changes a CHECK or a UNIQUE only by
     # rebuilding the table; both tables are referenced by foreign keys, so this migration runs
@@ -343,10 +344,10 @@ CREATE TABLE datasets_new (
 );
 INSERT INTO datasets_new (id, key, origin, provider, electrolyte, property, basis, scale,
     temperature_k, pressure_pa, source, table_ref, precision, uncertainty, typed, from_memory, note,
-    file, content_hash, n_points, t_min_k, t_max_k)
+    file, content_hash, n_points)
     SELECT id, key, origin, provider, electrolyte, property, basis, scale, temperature_k,
            pressure_pa, source, table_ref, precision, uncertainty, typed, from_memory, note, file,
-           content_hash, n_points, temperature_k, temperature_k FROM datasets;
+           content_hash, n_points FROM datasets;
 DROP TABLE datasets;
 ALTER TABLE datasets_new RENAME TO datasets;
 CREATE INDEX datasets_by_electrolyte ON datasets (electrolyte, property);
@@ -365,10 +366,12 @@ CREATE TABLE points_new (
 );
 INSERT INTO points_new (dataset_id, seq, molality, value, value_printed, u_value, line, precision,
     temperature_k)
-    SELECT p.dataset_id, p.seq, p.molality, p.value, p.value_printed, p.u_value, p.line,
-           p.precision, d.temperature_k FROM points p JOIN datasets d ON d.id = p.dataset_id;
+    SELECT dataset_id, seq, molality, value, value_printed, u_value, line, precision, NULL
+    FROM points;
 DROP TABLE points;
 ALTER TABLE points_new RENAME TO points;
+CREATE UNIQUE INDEX points_molality_once_at_the_datasets_temperature ON points (dataset_id, molality)
+    WHERE temperature_k IS NULL;
 ALTER TABLE readings ADD COLUMN temperature_k REAL
     CHECK (temperature_k IS NULL OR temperature_k BETWEEN 273.15 AND 573.15)
 """),
