@@ -90,6 +90,10 @@ class Session:
     def electrolyte(self, name: str):
         return queries.electrolyte(self.store, name)
 
+    def temperatures(self, electrolyte: str | None = None) -> list[float]:
+        """The temperatures in K at which the stored points (of ``electrolyte``) lie."""
+        return queries.temperatures(self.store, self.electrolyte(electrolyte).name if electrolyte else None)
+
     def content_hash(self) -> str:
         return queries.content_hash(self.store)
 
@@ -1027,7 +1031,7 @@ def reduce_stored(session: Session, key: str, method: str | None = None):
         red.details["extrapolation"] = marks
         red.cautions = tuple(red.cautions) + tuple(f"extrapolated: {m}" for m in marks)
     kept = store_ms.ReducedValues(red.method, red.property, red.molality, red.value, red.u_value,
-                                  red.note, red.details, red.background_molality)
+                                  red.note, red.details, red.background_molality, red.temperature_k)
     return red, store_ms.store_reduction(session.store, ms, kept)
 
 

@@ -81,7 +81,7 @@ DATASET_CASES = {
     "unknown citation key": (_edit(DATA, "source: tidewater-2026", "source: nobody-1900"), 6, "source",
                              "unknown citation key 'nobody-1900'"),
     "unknown property": (_edit(DATA, "property: gamma_pm", "property: heat_capacity"), 3, "property",
-                         "unknown property 'heat_capacity' (known: gamma_pm, osmotic, water_activity)"),
+                         "unknown property 'heat_capacity' (known: gamma_pm, osmotic, water_activity, L_phi, Cp_phi)"),
     "unknown scale": (_edit(DATA, "scale: molality", "scale: normality"), 4, "scale",
                       "unknown concentration scale 'normality'"),
     "molarity without density": (_edit(_edit(DATA, "scale: molality", "scale: molarity"),

@@ -6,6 +6,10 @@ import click
 
 from saltbench.cli.output import emit, emit_ingest, fold, format_option
 
+#: points within this of each other are at one temperature (as in the data check; kept here so
+#: the command line does not import the curation package to print its help)
+SAME_TEMPERATURE_K = 0.05
+
 POINT_COLUMNS = ["electrolyte", "property", "molality", "value", "uncertainty", "temperature_k",
                  "source", "dataset", "origin"]
 # Stored values print as typed (1.1158, not 1.116): a reader checks them against the printed table.
@@ -48,8 +52,10 @@ def list_(app, charge_type: str | None, mixtures: bool, fmt: str) -> None:
         cites = ds.drop_duplicates("source")[["source", "citation", "doi"]].to_dict("records")
         sets = [{"key": d["key"], "property": d["property"], "source": d["source"],
                  "typed_as": typed_as(d["typed"]), "n_points": int(d["n_points"]),
-                 "min_molality": d["min_molality"], "max_molality": d["max_molality"]}
+                 "min_molality": d["min_molality"], "max_molality": d["max_molality"],
+                 "t_min_k": d["t_min_k"], "t_max_k": d["t_max_k"]}
                 for d in ds.to_dict("records")]
+        temps = s.temperatures(r["electrolyte"])
         remembered = sum(d["n_points"] for d in sets if d["typed_as"] == "remembered")
         records.append({
             "electrolyte": r["electrolyte"], "charge_type": r["charge_type"],
@@ -58,6 +64,7 @@ def list_(app, charge_type: str | None, mixtures: bool, fmt: str) -> None:
             "max_molality": r["max_molality"], "sources": [c["source"] for c in cites],
             "citations": cites, "from_memory": bool(r["any_from_memory"]),
             "n_points_from_memory": remembered, "datasets": sets, "origin": r["origin"],
+            "temperatures_k": temps,
         })
     if fmt == "json":
         emit(records, fmt)
@@ -67,10 +74,17 @@ def list_(app, charge_type: str | None, mixtures: bool, fmt: str) -> None:
              "sources": r["sources"][0] + (f" +{len(r['sources']) - 1}" if len(r["sources"]) > 1 else ""),
              "from_memory": f"{r['n_points_from_memory']} (verify)" if r["n_points_from_memory"] else "no"}
             for r in records]
-    emit(flat, fmt, ["electrolyte", "charge_type", "properties", "n_datasets", "n_points",
-                     "max_molality", "from_memory", "sources"],
+    columns = ["electrolyte", "charge_type", "properties", "n_datasets", "n_points",
+               "max_molality", "from_memory", "sources"]
+    # the temperatures column appears once any listed data lie away from 25 °C (it would read
+    # '25' on every line otherwise)
+    if any(abs(t - 298.15) > SAME_TEMPERATURE_K for r in records for t in r["temperatures_k"]):
+        columns.insert(5, "temperatures")
+        for f, r in zip(flat, records):
+            f["temperatures"] = temperatures_label(r["temperatures_k"])
+    emit(flat, fmt, columns,
          {"charge_type": "type", "n_datasets": "sets", "n_points": "points",
-          "max_molality": "max m", "from_memory": "from memory"})
+          "max_molality": "max m", "from_memory": "from memory", "temperatures": "T/°C"})
     click.echo(f"{len(records)} electrolytes; max m in mol/kg; 'saltbench data show NAME' gives each dataset "
                "with its citation.")
     if charge_type is None and fmt == "table":
@@ -104,6 +118,14 @@ def list_mixtures(session, fmt: str, only_if_any: bool = False) -> None:
           "max_ionic_strength": "max I", "typed_as": "typed"})
     click.echo(f"{len(records)} mixture datasets; I in mol/kg; 'saltbench data show KEY' (or SYSTEM) gives "
                "the compositions and values.")
+
+
+def temperatures_label(temperatures_k: list[float]) -> str:
+    """'25' for one temperature, '15, 25, 40' for up to four, '15-90 (6)' for more (in °C)."""
+    c = [f"{t - 273.15:.4g}" for t in temperatures_k]
+    if len(c) <= 4:
+        return ", ".join(c)
+    return f"{c[0]}-{c[-1]} ({len(c)})"
 
 
 def typed_as(typed: str) -> str:
@@ -147,16 +169,24 @@ def show(app, electrolyte: str, points: bool, fmt: str) -> None:
             click.echo("  ** typed from memory: verify against the original before regulated use **")
         else:
             click.echo(f"  {typed_as(d['typed'])}")
-        click.echo(f"  {d['property']} ({d['basis']} basis, {d['scale']}), {d['temperature_k']:.2f} K, "
+        sub = pts[pts.dataset == d["key"]]
+        temps = sorted({round(float(t), 2) for t in sub.temperature_k}) if len(sub) else [d["temperature_k"]]
+        at = (f"{d['temperature_k']:.2f} K" if len(temps) == 1 else
+              f"{len(temps)} temperatures, {temps[0]:.2f} to {temps[-1]:.2f} K")
+        unit = {"L_phi": ", values in J/mol", "Cp_phi": ", values in J/(K mol)"}.get(d["property"], "")
+        click.echo(f"  {d['property']} ({d['basis']} basis, {d['scale']}{unit}), {at}, "
                    f"{d['n_points']} points, m = {d['min_molality']:g} to {d['max_molality']:g} mol/kg")
         click.echo(fold(d["citation"], "    ", "  source: "))
         click.echo(fold(f"{d['table_ref']}; precision {d['precision']:g}; uncertainty "
                         f"{d['uncertainty'] if d['uncertainty'] is not None else 'per point'}", "    ", "  table: "))
         click.echo(fold(d["typed"], "    ", "  typed: "))
         click.echo(f"  content hash: {d['content_hash'][:16]}")
-        if points:
-            sub = pts[pts.dataset == d["key"]]
+        if points and len(temps) == 1:
             click.echo("  " + emit_table(sub))
+        elif points:  # one table per temperature
+            for t in temps:
+                click.echo(f"  at {t:.2f} K ({t - 273.15:.2f} °C):")
+                click.echo("  " + emit_table(sub[(sub.temperature_k - t).abs() < SAME_TEMPERATURE_K]))
         click.echo("")
 
 
@@ -275,7 +305,8 @@ def check(app, electrolytes: tuple[str, ...], fmt: str) -> None:
                                 "checks": report.summary})
     else:
         for f in report.findings:
-            click.echo(f"{f.file}:{f.line}: {f.check}: {f.electrolyte} {f.message}")
+            at = f" at {f.temperature_k:.2f} K" if f.temperature_k is not None else ""
+            click.echo(f"{f.file}:{f.line}: {f.check}: {f.electrolyte}{at} {f.message}")
         not_applicable = [r for r in report.summary if r.get("status") == "not applicable"]
         for r in not_applicable:
             click.echo(f"{r['dataset']}: {r['check']}: {r['reason']}")

@@ -40,9 +40,14 @@ def list_(app, fmt: str) -> None:
     frame = measurement_sets(app.session())
     cols = ["key", "kind", "electrolyte", "temperature_k", "n_readings", "method",
             "method_version", "status", "dataset", "source"]
-    records = [] if frame.empty else frame[cols].to_dict("records")
-    emit(records, fmt, cols, {"temperature_k": "T/K", "n_readings": "readings",
-                              "method_version": "version", "dataset": "reduced dataset"},
+    records = [] if frame.empty else frame[cols + ["t_min_k", "t_max_k"]].to_dict("records")
+    if fmt == "table":  # a series at several temperatures shows its range
+        for r in records:
+            if r["t_max_k"] - r["t_min_k"] >= 0.05:
+                r["temperature_k"] = f"{r['t_min_k']:.2f}-{r['t_max_k']:.2f}"
+    shown = cols if fmt != "json" else cols + ["t_min_k", "t_max_k"]
+    emit(records, fmt, shown, {"temperature_k": "T/K", "n_readings": "readings",
+                               "method_version": "version", "dataset": "reduced dataset"},
          digits={"temperature_k": 10})
 
 
@@ -83,6 +88,10 @@ def reduce(app, keys: tuple[str, ...], all_: bool, method: str | None, fmt: str)
                               "value": float(v), "uncertainty": float(u)}
                              for m, b, v, u in zip(red.molality, red.background_molality,
                                                    red.value, red.u_value)]
+        elif red.property is not None and red.temperature_k is not None:
+            rec["points"] = [{"temperature_k": float(t), "molality": float(m), "value": float(v),
+                              "uncertainty": float(u)}
+                             for t, m, v, u in zip(red.temperature_k, red.molality, red.value, red.u_value)]
         elif red.property is not None:
             rec["points"] = [{"molality": float(m), "value": float(v), "uncertainty": float(u)}
                              for m, v, u in zip(red.molality, red.value, red.u_value)]
@@ -94,11 +103,22 @@ def reduce(app, keys: tuple[str, ...], all_: bool, method: str | None, fmt: str)
         target = f"-> dataset {rec['dataset']}" if rec["dataset"] else "(no dataset: calibration)"
         click.echo(f"{rec['set']}: {rec['method']} v{rec['method_version']} {target}")
         click.echo(f"  {rec['note']}")
+        by_t = rec["details"].get("e_standard_by_temperature")
+        if by_t and fmt == "table":  # E°(T), the Nernst slope RT/F and the extrapolation at each
+            click.echo("  " + table([{"T/K": f"{r['temperature_k']:.2f}", "E°/V": f"{r['e_standard_v']:.6f}",
+                                      "u(E°)/V": f"{r['u_e_standard_v']:.2g}",
+                                      "RT/F/mV": f"{r['nernst_slope_v'] * 1e3:.4f}",
+                                      "a/Å": f"{r['ion_size_angstrom']:.2f}",
+                                      "readings": str(r["n_readings"]),
+                                      "extrapolated": str(r["n_extrapolation"])} for r in by_t])
+                       .replace("\n", "\n  "))
         if "points" in rec and fmt == "table":
             click.echo("  " + table(rec["points"], headers={"molality": "m/(mol/kg)",
                                                            "background_molality":
                                                            f"m({rec.get('background')})/(mol/kg)",
-                                                           "value": rec["property"]})
+                                                           "value": rec["property"],
+                                                           "temperature_k": "T/K"},
+                                     digits={"temperature_k": 5})
                        .replace("\n", "\n  "))
         elif "points" in rec:
             emit(rec["points"], fmt)
@@ -186,13 +206,21 @@ def show(app, key: str, plot_path: str | None, fmt: str) -> None:
             r["activity"] = float(ms.activity[i])
         if ms.background_molality is not None:
             r["background_molality"] = float(ms.background_molality[i])
+        if ms.point_temperature is not None:
+            r["temperature_k"] = float(ms.point_temperature[i])
         r[ms.store_column] = float(ms.reading[i])
         r["u_" + ms.store_column] = float(ms.u_reading[i])
         rows.append(r)
     ext = None
     # a mixture cell with E° given need not hold readings of its salt alone to extrapolate from
-    if ms.kind == "emf" and not (ms.background_molality is not None
-                                 and ms.settings.get("e_standard") is not None):
+    from saltbench.measurements.reduce import temperature_parts
+
+    several_t = len(temperature_parts(ms)) > 1
+    if several_t and plot_path:
+        raise UserError(f"--plot draws one E° extrapolation; {key} holds readings at several temperatures "
+                        "('saltbench readings reduce' lists E° at each)")
+    if ms.kind == "emf" and not several_t and not (ms.background_molality is not None
+                                                   and ms.settings.get("e_standard") is not None):
         ext = emf_extrapolation(ms)
         if plot_path:
             _plot(ext, key, plot_path)

@@ -93,6 +93,25 @@ class Block:
                                  f"{T_MIN:g}-{T_MAX:g} K")
         return value
 
+    def row_temperature_k(self, line: int, row: dict[str, str], default: float) -> float:
+        """A row's own ``temperature`` cell in kelvin, written as the header field is ('15 C',
+        '288.15 K'); ``default`` (the header's) where the table has no such column or the cell
+        is empty. Held to the same range as the header field."""
+        from saltbench.curation.units import parse_temperature
+        from saltbench.water.properties import T_MAX, T_MIN
+
+        text = (row.get("temperature") or "").strip()
+        if not text:
+            return default
+        try:
+            value = parse_temperature(text)
+        except ValueError as exc:
+            raise InputFileError(self.path, line, "temperature", str(exc)) from None
+        if not (T_MIN <= value <= T_MAX):
+            raise InputFileError(self.path, line, "temperature", f"{value:g} K is outside "
+                                 f"{T_MIN:g}-{T_MAX:g} K")
+        return value
+
     def electrolyte(self, declared: dict):
         """The required ``electrolyte`` field as an Electrolyte (with ions declared in the file)."""
         from saltbench.chemistry.electrolyte import parse_formula

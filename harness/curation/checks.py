@@ -17,6 +17,9 @@ Three checks, each against a tolerance stated here and justified in DEVELOPERS.m
    through the smooth fit of the denser one; flagged where they differ by more than
    ``SOURCE_SIGMAS`` combined standard uncertainties plus their printed precision.
 Only molalities up to the last point of each dataset are compared: no extrapolation.
+
+Each check runs at each temperature apart (issue 21): points are compared only with points
+within ``SAME_TEMPERATURE_K`` (0.05 K) of their own temperature, and each finding names it.
 """
 
 from __future__ import annotations
@@ -28,6 +31,7 @@ import numpy as np
 
 from saltbench.chemistry.electrolyte import Electrolyte
 from saltbench.curation.smoothing import choose_terms, design, fit_smooth, fit_smooth_joint
+from saltbench.curation.temperatures import temperature_groups
 from saltbench.water.debye_huckel import debye_huckel_constants
 
 if TYPE_CHECKING:
@@ -52,6 +56,8 @@ END_RATIO = 2.05
 #: the next is looked for, so one slip does not drag its neighbours into the findings.
 MAX_FLAGGED_PER_POOL = 3
 CONSISTENCY_LN_GAMMA = 0.01
+#: properties checked only through the Gibbs-Helmholtz relation, never pooled with activity data
+THERMAL_PROPERTIES = ("L_phi", "Cp_phi")
 SOURCE_SIGMAS = 3.0
 #: A second source is compared at the reference's own molalities, or between reference points
 #: no further apart than this ratio, so the comparison never leans on a long interpolation ...
@@ -81,6 +87,8 @@ class Finding:
     message: str
     value: float | None = None
     limit: float | None = None
+    #: the temperature (K) of the points the finding compares; None where it spans several
+    temperature_k: float | None = None
 
     def as_dict(self) -> dict:
         return self.__dict__.copy()
@@ -137,13 +145,15 @@ class _Pool:
 
 
 def _pools(groups: dict[str, pd.DataFrame]) -> list[_Pool]:
-    by: dict[tuple[str, float], list[pd.DataFrame]] = {}
+    # the caller hands one temperature's points (``check_electrolyte``)
+    by: dict[str, list[pd.DataFrame]] = {}
     for g in groups.values():
         kind = _series(g)[3]
         if kind != "water_activity":
-            by.setdefault((kind, round(float(g.temperature_k.iloc[0]), 2)), []).append(g)
+            by.setdefault(kind, []).append(g)
     pools = []
-    for (kind, t), frames in by.items():
+    for kind, frames in by.items():
+        t = round(float(np.mean(np.concatenate([g.temperature_k.to_numpy(float) for g in frames]))), 2)
         series = [_series(g) for g in frames]
         prec = np.concatenate([_precision_y(g, kind) for g in frames])
         # a table is smooth to its last printed digit: its scatter is rounding (a remembered value
@@ -251,6 +261,32 @@ def _neighbours(e: Electrolyte, groups: dict[str, pd.DataFrame], rep: CheckRepor
 
 
 def check_electrolyte(e: Electrolyte, pts: pd.DataFrame) -> CheckReport:
+    """Every check of one electrolyte's points, at each temperature apart (points within
+    ``SAME_TEMPERATURE_K`` of each other are at one temperature): a point is compared only with
+    points at its own temperature. Findings and summary rows carry that temperature. Thermal
+    data (L_phi, Cp_phi) are not pooled with activity data; with L_phi data at hand, ln gamma±
+    at two temperatures is checked against the Gibbs-Helmholtz relation (:mod:`thermal_checks`).
+    """
+    rep = CheckReport()
+    activity = pts[~pts.property.isin(THERMAL_PROPERTIES)] if len(pts) else pts
+    for t, idx in temperature_groups(activity.temperature_k.to_numpy(float)) if len(activity) else []:
+        part = _check_at_one_temperature(e, activity.iloc[idx])
+        for f in part.findings:
+            f.temperature_k = round(t, 2)
+        for row in part.summary:
+            row["temperature_k"] = round(t, 2)
+        rep.findings += part.findings
+        rep.summary += part.summary
+    if len(pts) and (pts.property == "L_phi").any():
+        from saltbench.curation.thermal_checks import gibbs_helmholtz
+
+        part = gibbs_helmholtz(e, pts)
+        rep.findings += part.findings
+        rep.summary += part.summary
+    return rep
+
+
+def _check_at_one_temperature(e: Electrolyte, pts: pd.DataFrame) -> CheckReport:
     rep = CheckReport()
     groups = {str(key): g.sort_values("molality") for key, g in pts.groupby("dataset", sort=True)}
     fits: dict[str, tuple] = {}
@@ -258,7 +294,7 @@ def check_electrolyte(e: Electrolyte, pts: pd.DataFrame) -> CheckReport:
         m, y, u, kind = _series(g)
         if kind == "water_activity":
             continue
-        dh = debye_huckel_constants(float(g.temperature_k.iloc[0]))
+        dh = debye_huckel_constants(round(float(g.temperature_k.mean()), 6))
         prec_y = _precision_y(g, kind)
         fit, _ = fit_smooth(e, dh, m, y, u, kind, n_terms=max(1, len(m) - 1) if len(m) < 4 else None)
         fits[key] = (fit, kind, m, y, u, prec_y, g)

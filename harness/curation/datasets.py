@@ -30,12 +30,21 @@ from saltbench.errors import InputFileError
 from saltbench.water.properties import water_state
 
 MAGIC = "saltbench dataset"
-PROPERTIES = ("gamma_pm", "osmotic", "water_activity")
+PROPERTIES = ("gamma_pm", "osmotic", "water_activity", "L_phi", "Cp_phi")
+#: Thermal properties (issue 21): the apparent molar relative enthalpy L_phi (from heats of
+#: dilution) and the apparent molar heat capacity Cp_phi, each printed in the unit the header
+#: names and stored in SI. The calorie is the thermochemical one, 4.184 J exactly (IUPAC Green
+#: Book, 3rd ed., 2007, sec. 7.2).
+THERMAL_UNITS = {
+    "L_phi": {"J/mol": 1.0, "kJ/mol": 1000.0, "cal/mol": 4.184, "kcal/mol": 4184.0},
+    "Cp_phi": {"J/(K mol)": 1.0, "J/K/mol": 1.0, "cal/(K mol)": 4.184, "cal/K/mol": 4.184},
+}
 BASES = ("linear", "ln", "log10")
 SCALES = ("molality", "molarity", "mole_fraction")
 TYPED_FORMS = {**TYPED_FROM_SOURCE, "measured ": "measured <by whom, where>"}
 KNOWN_FIELDS = {"electrolyte", "property", "basis", "scale", "temperature", "pressure", "source",
-                "table", "precision", "uncertainty", "typed", "note", "id", "cation", "anion"}
+                "table", "precision", "uncertainty", "typed", "note", "id", "cation", "anion",
+                "unit"}
 
 
 @dataclass
@@ -65,6 +74,11 @@ class Dataset:
     #: one unit of each point's last printed digit (printed basis): the header's ``precision``
     #: unless a ``precision`` column gives it per point (tables that print 3 significant figures)
     point_precision: np.ndarray = field(default_factory=lambda: np.zeros(0))
+    #: each point's own temperature in K, where the file has a ``temperature`` column; None
+    #: where every point is at the header's ``temperature_k`` (see ``point_temperatures``)
+    point_temperature: np.ndarray | None = None
+    #: the unit a thermal property was printed in ('' for the dimensionless properties)
+    unit: str = ""
     declared_ions: dict[str, Ion] = field(default_factory=dict)
     meta: dict[str, str] = field(default_factory=dict)
 
@@ -75,6 +89,16 @@ class Dataset:
     @builtins.property
     def ln_gamma(self) -> np.ndarray:
         return np.log(self.value)
+
+    def point_temperatures(self) -> np.ndarray:
+        """Each point's temperature in K: its own, or the header's where the file gives none."""
+        if self.point_temperature is None:
+            return np.full(len(self.molality), self.temperature_k)
+        return self.point_temperature
+
+    def temperature_range(self) -> tuple[float, float]:
+        t = self.point_temperatures()
+        return float(t.min()), float(t.max())
 
     def content_hash(self) -> str:
         """SHA-256 of the canonical content: header meaning and points, not layout."""
@@ -90,6 +114,11 @@ class Dataset:
         }
         if np.any(self.point_precision != self.precision):
             doc["point_precision"] = [float(p) for p in self.point_precision]
+        # only where the file has them: a file without a temperature column or a unit hashes as before
+        if self.point_temperature is not None:
+            doc["point_temperature_k"] = [round(float(t), 6) for t in self.point_temperature]
+        if self.unit:
+            doc["unit"] = self.unit
         return hashlib.sha256(json.dumps(doc, sort_keys=True).encode()).hexdigest()
 
 
@@ -152,6 +181,20 @@ def read_dataset(path: str | Path, text: str | None = None) -> Dataset:
     scale = b.get("scale", "molality") or "molality"
     if scale not in SCALES:
         raise b.error("scale", f"unknown concentration scale {scale!r} (known: {', '.join(SCALES)})")
+    thermal = prop.value in THERMAL_UNITS
+    unit, unit_factor = b.get("unit", "") or "", 1.0
+    if thermal:
+        if not unit:
+            raise InputFileError(p, prop.line, "unit", f"missing: {prop.value} needs a 'unit' field "
+                                 f"({', '.join(THERMAL_UNITS[prop.value])})")
+        if unit not in THERMAL_UNITS[prop.value]:
+            raise b.error("unit", f"unknown unit {unit!r} for {prop.value} "
+                          f"(known: {', '.join(THERMAL_UNITS[prop.value])})")
+        unit_factor = THERMAL_UNITS[prop.value][unit]
+        if scale != "molality":
+            raise b.error("scale", f"{prop.value} data are read on the molality scale only")
+    elif unit:
+        raise b.error("unit", f"{prop.value} is dimensionless; 'unit' applies to L_phi and Cp_phi only")
 
     temperature_k = b.temperature_k()
     pressure_pa = 101325.0
@@ -177,7 +220,7 @@ def read_dataset(path: str | Path, text: str | None = None) -> Dataset:
     if x_col not in b.columns or "value" not in b.columns:
         raise InputFileError(p, b.columns_line, None, f"expected columns '{x_col},value' "
                              f"(found {', '.join(b.columns)})")
-    allowed = {x_col, "value", "uncertainty", "precision", "density"}
+    allowed = {x_col, "value", "uncertainty", "precision", "density", "temperature"}
     for c in b.columns:
         if c not in allowed:
             raise InputFileError(p, b.columns_line, c, f"unknown column (allowed: {', '.join(sorted(allowed))})")
@@ -193,19 +236,23 @@ def read_dataset(path: str | Path, text: str | None = None) -> Dataset:
     if not b.rows:
         raise InputFileError(p, b.columns_line, None, "the table has no rows")
 
-    xs, vs, us, lines, dens, precs = [], [], [], [], [], []
-    seen: dict[float, int] = {}
+    xs, vs, us, lines, dens, precs, ts = [], [], [], [], [], [], []
+    seen: dict[tuple[float, float], int] = {}
     for n, row in b.rows:
         x = parse_float(p, n, x_col, row[x_col])
         if x <= 0:
             raise InputFileError(p, n, x_col, f"must be positive, found {row[x_col]}")
         if scale == "mole_fraction" and x >= 1:
             raise InputFileError(p, n, x_col, "a mole fraction must be below 1")
-        if x in seen:
-            raise InputFileError(p, n, x_col, f"duplicate {x_col} {row[x_col]} (also on line {seen[x]})")
-        seen[x] = n
+        t = b.row_temperature_k(n, row, temperature_k)
+        at = (x, round(t, 2))
+        if at in seen:
+            where = f" at {t:.2f} K" if "temperature" in b.columns else ""
+            raise InputFileError(p, n, x_col, f"duplicate {x_col} {row[x_col]}{where} (also on line {seen[at]})")
+        seen[at] = n
+        ts.append(t)
         v = parse_float(p, n, "value", row["value"])
-        if basis == "linear":
+        if basis == "linear" and not thermal:
             if prop.value in ("gamma_pm", "osmotic") and v <= 0:
                 raise InputFileError(p, n, "value", f"{prop.value} must be positive, found {row['value']}")
             if prop.value == "water_activity" and not (0 < v <= 1):
@@ -239,10 +286,10 @@ def read_dataset(path: str | Path, text: str | None = None) -> Dataset:
             value = 10.0 ** printed
             u_lin = value * np.log(10.0) * u_printed
         else:
-            value, u_lin = printed.copy(), u_printed.copy()
+            value, u_lin = printed * unit_factor, u_printed * unit_factor
     # A large printed ln or log10 value overflows to inf in the linear basis; refuse it here
     # rather than store an infinite gamma± that every fit would choke on.
-    bad = ~(np.isfinite(value) & np.isfinite(u_lin) & (value > 0))
+    bad = ~(np.isfinite(value) & np.isfinite(u_lin) & ((value > 0) | thermal))
     if np.any(bad):
         i = int(np.argmax(bad))
         raise InputFileError(p, lines[i], "value", f"{vs[i]:g} on the {basis} basis gives no "
@@ -254,7 +301,7 @@ def read_dataset(path: str | Path, text: str | None = None) -> Dataset:
             bad = lines[int(np.argmax(m <= 0))]
             raise InputFileError(p, bad, "density", "density too low for this molarity")
         if prop.value == "gamma_pm":
-            rho_w = water_state(temperature_k).density / 1000.0
+            rho_w = np.array([water_state(t).density for t in ts]) / 1000.0
             factor = units.gamma_from_molar(1.0, x_arr, m, rho_w)
             value, u_lin = value * factor, u_lin * factor
     elif scale == "mole_fraction":
@@ -264,8 +311,11 @@ def read_dataset(path: str | Path, text: str | None = None) -> Dataset:
             value, u_lin = value * factor, u_lin * factor
     else:
         m = x_arr
-    order = np.argsort(m)
-    if np.any(np.diff(m[order]) <= 0):
+    t_arr = np.array(ts)
+    # by temperature, then molality: a file without a temperature column keeps its molality order
+    order = np.lexsort((m, np.round(t_arr, 2)))
+    same_t = np.diff(np.round(t_arr[order], 2)) == 0
+    if np.any(np.diff(m[order])[same_t] <= 0):
         raise InputFileError(p, None, x_col, "two rows convert to the same molality")
     key = b.get("id") or Path(p).name.removesuffix(".csv")
     return Dataset(
@@ -275,5 +325,6 @@ def read_dataset(path: str | Path, text: str | None = None) -> Dataset:
         typed=typed.value, note=b.get("note", "") or "", molality=m[order], value=value[order],
         value_printed=printed[order], u_value=u_lin[order], lines=[lines[i] for i in order],
         point_precision=np.array(precs)[order],
+        point_temperature=t_arr[order] if "temperature" in b.columns else None, unit=unit,
         declared_ions=declared, meta={k: v.value for k, v in b.header.items()},
     )

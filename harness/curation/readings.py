@@ -86,6 +86,15 @@ class MeasurementSet:
     # an emf set in a mixture: the background salt's molality per reading (settings["background"]
     # names the salt); None for readings of one electrolyte
     background_molality: np.ndarray | None = None
+    # an emf set at several temperatures: each reading's own temperature in K (a ``temperature``
+    # column); None where every reading is at ``temperature_k``
+    point_temperature: np.ndarray | None = None
+
+    def point_temperatures(self) -> np.ndarray:
+        """Each reading's temperature in K: its own, or the header's."""
+        if self.point_temperature is None:
+            return np.full(self.reading.size, self.temperature_k)
+        return self.point_temperature
 
     @property
     def method_kind(self) -> str:
@@ -117,6 +126,8 @@ class MeasurementSet:
         }
         if self.background_molality is not None:  # only then: one-salt hashes stay as they were
             doc["background_molality"] = col(self.background_molality)
+        if self.point_temperature is not None:  # likewise
+            doc["point_temperature_k"] = [round(float(t), 6) for t in self.point_temperature]
         return hashlib.sha256(json.dumps(doc, sort_keys=True).encode()).hexdigest()
 
 
@@ -300,6 +311,12 @@ def read_readings(path: str | Path, text: str | None = None) -> MeasurementSet:
             raise InputFileError(p, b.columns_line, None, "a cell with a background salt needs a "
                                  f"'background_molality' column (found {', '.join(b.columns)})")
         allowed_cols.add("background_molality")
+    with_t = kind == "emf" and "temperature" in b.columns
+    if with_t:
+        if background is not None:
+            raise InputFileError(p, b.columns_line, "temperature", "a cell with a background salt "
+                                 "is reduced at one temperature; give one file per temperature")
+        allowed_cols.add("temperature")
     for c in b.columns:
         if c not in allowed_cols:
             raise InputFileError(p, b.columns_line, c, f"unknown column for {kind} readings "
@@ -321,13 +338,20 @@ def read_readings(path: str | Path, text: str | None = None) -> MeasurementSet:
     if not b.rows:
         raise InputFileError(p, b.columns_line, None, "the table has no rows")
 
-    xs, ms, ums, rs, urs, lines, bgs = [], [], [], [], [], [], []
+    xs, ms, ums, rs, urs, lines, bgs, ts = [], [], [], [], [], [], [], []
     seen: dict[float | tuple[float, float], int] = {}
     for n, row in b.rows:
         x = parse_float(p, n, x_col, row[x_col])
         if x <= 0:
             raise InputFileError(p, n, x_col, f"must be positive, found {row[x_col]}")
-        if background is not None:
+        if with_t:
+            t = b.row_temperature_k(n, row, temperature_k)
+            ts.append(t)
+            if (x, round(t, 2)) in seen:
+                raise InputFileError(p, n, x_col, f"duplicate {x_col} {row[x_col]} at {t:.2f} K "
+                                     f"(also on line {seen[x, round(t, 2)]})")
+            seen[x, round(t, 2)] = n
+        elif background is not None:
             bg = parse_float(p, n, "background_molality", row["background_molality"])
             if bg < 0:
                 raise InputFileError(p, n, "background_molality", f"must not be negative, found "
@@ -381,7 +405,12 @@ def read_readings(path: str | Path, text: str | None = None) -> MeasurementSet:
         raise InputFileError(p, b.header["e_standard"].line if "e_standard" in b.header else None,
                              "e_standard", "'extrapolate' needs readings of "
                              f"{electrolyte.name} alone (background_molality 0); give E° instead")
-    order = np.lexsort((np.array(bgs), np.array(xs))) if background is not None else np.argsort(np.array(xs))
+    if background is not None:
+        order = np.lexsort((np.array(bgs), np.array(xs)))
+    elif with_t:  # by temperature, then molality
+        order = np.lexsort((np.array(xs), np.round(np.array(ts), 2)))
+    else:
+        order = np.argsort(np.array(xs))
     take = lambda v: np.array(v, dtype=float)[order]
     key = b.get("id") or Path(p).name.removesuffix(".csv")
     activity = take(xs) if kind == "electrode_calibration" else np.full(len(xs), np.nan)
@@ -392,4 +421,5 @@ def read_readings(path: str | Path, text: str | None = None) -> MeasurementSet:
         activity=activity, reading=take(rs), u_reading=take(urs), printed_unit=unit,
         lines=[lines[i] for i in order], declared_ions=declared, source_line=source.line,
         background_molality=take(bgs) if background is not None else None,
+        point_temperature=take(ts) if with_t else None,
     )

@@ -54,5 +54,6 @@ def gamma_from_rational(f: np.ndarray | float, m: np.ndarray, nu: int) -> np.nda
     return np.asarray(f) / (1.0 + nu * np.asarray(m) * MOLAR_MASS_WATER)
 
 
-def gamma_from_molar(y: np.ndarray | float, c: np.ndarray, m: np.ndarray, water_density_kg_per_l: float) -> np.ndarray:
+def gamma_from_molar(y: np.ndarray | float, c: np.ndarray, m: np.ndarray,
+                     water_density_kg_per_l: float | np.ndarray) -> np.ndarray:
     return np.asarray(y) * np.asarray(c) / (np.asarray(m) * water_density_kg_per_l)

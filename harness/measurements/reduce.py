@@ -17,6 +17,7 @@ import numpy as np
 
 from saltbench.curation.readings import MeasurementSet
 from saltbench.curation.reduction_methods import Method, method_for
+from saltbench.curation.temperatures import temperature_groups
 from saltbench.errors import UserError
 from saltbench.measurements.emf_cell import (
     CellSpec,
@@ -26,7 +27,7 @@ from saltbench.measurements.emf_cell import (
 )
 from saltbench.measurements.emf_mixture import gamma_from_emf_mixture
 from saltbench.measurements.isopiestic import osmotic_from_isopiestic
-from saltbench.measurements.nernst import CALIBRATION_CAUTION, calibrate_electrode
+from saltbench.measurements.nernst import CALIBRATION_CAUTION, calibrate_electrode, thermal_voltage
 from saltbench.measurements.water_activity import (
     osmotic_from_vapour_pressure,
     osmotic_from_water_activity,
@@ -51,6 +52,26 @@ class Reduction:
     # a mixture cell: the background salt's molality at each value (``molality`` is the measured
     # salt's, ``value`` ln gamma± of it in the mixture, ``property`` 'ln_gamma_pm')
     background_molality: np.ndarray | None = None
+    # readings at several temperatures: each value's temperature in K (None: the set's one) and
+    # the E° extrapolation at each temperature, coldest first
+    temperature_k: np.ndarray | None = None
+    extrapolations: tuple[StandardEmf, ...] = ()
+
+
+def temperature_parts(ms: MeasurementSet) -> list[MeasurementSet]:
+    """An EMF set split at its temperatures (readings within ``SAME_TEMPERATURE_K`` are at one,
+    their mean): one set per temperature, coldest first; the set itself when it has one."""
+    from dataclasses import replace
+
+    if ms.point_temperature is None:
+        return [ms]
+    parts = []
+    for t, idx in temperature_groups(ms.point_temperature):
+        parts.append(replace(ms, temperature_k=round(t, 6), molality=ms.molality[idx],
+                             u_molality=ms.u_molality[idx], activity=ms.activity[idx],
+                             reading=ms.reading[idx], u_reading=ms.u_reading[idx],
+                             lines=[ms.lines[i] for i in idx], point_temperature=None))
+    return parts
 
 
 def cell_of(ms: MeasurementSet) -> CellSpec:
@@ -65,6 +86,11 @@ def standard_emf_extrapolation(ms: MeasurementSet) -> StandardEmf:
         raise UserError(f"measurement set {ms.key} holds {ms.kind} readings, not cell EMFs")
     if ms.background_molality is not None:
         ms = _measured_salt_alone(ms)
+    parts = temperature_parts(ms)
+    if len(parts) > 1:
+        raise UserError(f"measurement set {ms.key} holds readings at {len(parts)} temperatures; "
+                        "'saltbench readings reduce' finds E° at each")
+    ms = parts[0]
     up_to = float(ms.settings.get("extrapolation_up_to") or 0.1)
     sel = ms.molality <= up_to * (1 + 1e-12)
     if sel.sum() < 4:
@@ -138,7 +164,51 @@ def _u_molality(ms: MeasurementSet) -> np.ndarray:
     return np.nan_to_num(ms.u_molality, nan=0.0)
 
 
+def _emf_by_temperature(ms: MeasurementSet, method: Method) -> Reduction:
+    """An EMF series at several temperatures: at each, E°(T) by the same extrapolation as at one
+    temperature (eq. (2) of :mod:`~saltbench.measurements.emf_cell`, with the Debye-Hückel
+    constants and the Nernst factor k = s nu R T / (n F) of that temperature, R and F from
+    CODATA), then gamma± of each reading at its temperature with E°(T)."""
+    if method.name != "nernst-extrapolated-e0":
+        raise UserError(f"measurement set {ms.key}: readings at several temperatures need E° at "
+                        f"each; {method.name} takes one given E° (use e_standard: extrapolate)")
+    cell = cell_of(ms)
+    exts, reds, temps, rows = [], [], [], []
+    for part in temperature_parts(ms):
+        t = part.temperature_k
+        try:
+            ext = standard_emf_extrapolation(part)
+        except UserError as exc:
+            raise UserError(f"{exc} (readings at {t:.2f} K)") from None
+        red = gamma_from_emf(cell, part.molality, part.reading, ext.e_standard, t, u_emf=part.u_reading,
+                             u_e_standard=ext.u_e_standard, u_molality=_u_molality(part))
+        exts.append(ext)
+        reds.append(red)
+        temps.append(np.full(part.molality.size, t))
+        rows.append({"temperature_k": t, "e_standard_v": ext.e_standard, "u_e_standard_v": ext.u_e_standard,
+                     "nernst_slope_v": thermal_voltage(t), "k_v": cell.k(t),
+                     "ion_size_angstrom": ext.ion_size, "u_ion_size_angstrom": ext.u_ion_size,
+                     "ion_size_fitted": ext.ion_size_fitted, "slope_v_kg_per_mol": ext.slope,
+                     "residual_sd_v": ext.residual_sd, "chi2_reduced": ext.chi2_reduced,
+                     "n_readings": int(part.molality.size), "n_extrapolation": int(ext.molality.size),
+                     "u_ln_gamma_common": red.u_ln_gamma_common})
+    listing = "; ".join(f"{r['temperature_k']:.2f} K: E° = {r['e_standard_v']:.6f} V ± "
+                        f"{r['u_e_standard_v']:.2g} V" for r in rows)
+    note = (f"E°(T) extrapolated at each of {len(rows)} temperatures up to "
+            f"{float(ms.settings.get('extrapolation_up_to') or 0.1):g} mol/kg ({listing}); "
+            "u(gamma±) includes the common u(E°) of its temperature")
+    details: dict[str, object] = {"cell": cell.description, "e_standard_by_temperature": rows}
+    return Reduction(method, "gamma_pm", np.concatenate([r.molality for r in reds]),
+                     np.concatenate([r.gamma_pm for r in reds]), np.concatenate([r.u_gamma_pm for r in reds]),
+                     note, details, temperature_k=np.concatenate(temps), extrapolations=tuple(exts))
+
+
 def _emf(ms: MeasurementSet, method: Method) -> Reduction:
+    parts = temperature_parts(ms)
+    if len(parts) > 1:
+        return _emf_by_temperature(ms, method)
+    own_t = ms.point_temperature is not None  # a temperature column of one temperature
+    ms = parts[0]
     cell = cell_of(ms)
     ext = None
     if method.name == "nernst-given-e0":
@@ -159,7 +229,8 @@ def _emf(ms: MeasurementSet, method: Method) -> Reduction:
                         "ion_size_fitted": ext.ion_size_fitted, "slope_v_kg_per_mol": ext.slope,
                         "residual_sd_v": ext.residual_sd, "chi2_reduced": ext.chi2_reduced})
     return Reduction(method, "gamma_pm", red.molality, red.gamma_pm, red.u_gamma_pm,
-                     f"{how}; u(gamma±) includes the common u(E°)", details, ext)
+                     f"{how}; u(gamma±) includes the common u(E°)", details, ext,
+                     temperature_k=np.full(red.molality.size, ms.temperature_k) if own_t else None)
 
 
 def _calibration(ms: MeasurementSet, method: Method) -> Reduction:

@@ -16,7 +16,7 @@ from pathlib import Path
 from typing import TYPE_CHECKING
 
 from saltbench.errors import StoreError
-from saltbench.store.schema import MIGRATIONS, SCHEMA_VERSION
+from saltbench.store.schema import FOREIGN_KEYS_OFF, MIGRATIONS, SCHEMA_VERSION
 
 
 def _import_sqlite_utils():
@@ -136,18 +136,32 @@ def migrate(store: Store) -> list[str]:
     for number, (name, sql) in enumerate(MIGRATIONS, start=1):
         if number <= version:
             continue
-        with store.transaction():
-            if number == 1:
-                store.conn.execute("CREATE TABLE IF NOT EXISTS meta (key TEXT PRIMARY KEY, value TEXT NOT NULL)")
-                store.conn.execute("CREATE TABLE IF NOT EXISTS migrations (number INTEGER PRIMARY KEY, "
-                                   "name TEXT NOT NULL, applied_at TEXT NOT NULL)")
-            for statement in _statements(sql):
-                store.conn.execute(statement)
-            store.conn.execute("INSERT INTO migrations (number, name, applied_at) VALUES (?, ?, ?)",
-                               (number, name, _now()))
-            store.conn.execute(f"PRAGMA user_version = {number}")
+        keys_off = name in FOREIGN_KEYS_OFF
+        if keys_off:  # a no-op inside a transaction, so set before it begins
+            store.conn.execute("PRAGMA foreign_keys = OFF")
+        try:
+            _apply(store, number, name, sql, keys_off)
+        finally:
+            if keys_off:
+                store.conn.execute("PRAGMA foreign_keys = ON")
         applied.append(name)
     return applied
+
+
+def _apply(store: Store, number: int, name: str, sql: str, check_keys: bool) -> None:
+    """One migration in its own transaction; ``check_keys`` runs foreign_key_check before commit."""
+    with store.transaction():
+        if number == 1:
+            store.conn.execute("CREATE TABLE IF NOT EXISTS meta (key TEXT PRIMARY KEY, value TEXT NOT NULL)")
+            store.conn.execute("CREATE TABLE IF NOT EXISTS migrations (number INTEGER PRIMARY KEY, "
+                               "name TEXT NOT NULL, applied_at TEXT NOT NULL)")
+        for statement in _statements(sql):
+            store.conn.execute(statement)
+        store.conn.execute("INSERT INTO migrations (number, name, applied_at) VALUES (?, ?, ?)",
+                           (number, name, _now()))
+        if check_keys and store.conn.execute("PRAGMA foreign_key_check").fetchone() is not None:
+            raise StoreError(f"migration {name} would break a foreign key; the store was not changed")
+        store.conn.execute(f"PRAGMA user_version = {number}")
 
 
 def _statements(sql: str) -> list[str]:

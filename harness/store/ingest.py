@@ -210,19 +210,31 @@ def upsert_parent(store: Store, table: str, existing_pk: int | None, values: dic
 
 
 def _same_points(store: Store, d: Dataset) -> tuple[str, str] | None:
-    """(origin, key) of a stored dataset of the same electrolyte, property and temperature whose
-    points are these, value for value; None when there is none."""
-    candidates = store.conn.execute(
-        "SELECT id, origin, key FROM datasets WHERE electrolyte = ? AND property = ? AND n_points = ? "
-        "AND abs(temperature_k - ?) < 0.01", (d.electrolyte.name, d.property, len(d.molality), d.temperature_k)
-    ).fetchall()
-    mine = sorted(zip(d.molality.tolist(), d.value.tolist()))
+    """(origin, key) of a stored dataset of the same electrolyte and property whose points are
+    these (at each point's temperature, molality and value); None when there is none."""
+    if d.point_temperature is None:  # every point at the header's temperature: as before 0009
+        candidates = store.conn.execute(
+            "SELECT id, origin, key FROM datasets WHERE electrolyte = ? AND property = ? AND n_points = ? "
+            "AND abs(temperature_k - ?) < 0.01", (d.electrolyte.name, d.property, len(d.molality), d.temperature_k)
+        ).fetchall()
+        point_sql = "SELECT 0, molality, value FROM points WHERE dataset_id = ? ORDER BY molality"
+        mine = sorted(zip([0.0] * len(d.molality), d.molality.tolist(), d.value.tolist()))
+    else:
+        t_min, t_max = d.temperature_range()
+        candidates = store.conn.execute(
+            "SELECT id, origin, key FROM datasets WHERE electrolyte = ? AND property = ? AND n_points = ? "
+            "AND abs(COALESCE(t_min_k, temperature_k) - ?) < 0.01 "
+            "AND abs(COALESCE(t_max_k, temperature_k) - ?) < 0.01",
+            (d.electrolyte.name, d.property, len(d.molality), t_min, t_max)).fetchall()
+        point_sql = ("SELECT round(COALESCE(p.temperature_k, d.temperature_k), 2) AS t, p.molality, p.value "
+                     "FROM points p JOIN datasets d ON d.id = p.dataset_id WHERE p.dataset_id = ? "
+                     "ORDER BY t, p.molality")
+        mine = sorted(zip(np.round(d.point_temperatures(), 2).tolist(), d.molality.tolist(), d.value.tolist()))
     for pk, origin, key in candidates:
-        theirs = store.conn.execute("SELECT molality, value FROM points WHERE dataset_id = ? ORDER BY molality",
-                                    (pk,)).fetchall()
-        if len(theirs) == len(mine) and all(abs(a - c) <= 1e-12 * max(1.0, abs(a)) and
+        theirs = store.conn.execute(point_sql, (pk,)).fetchall()
+        if len(theirs) == len(mine) and all(t == s and abs(a - c) <= 1e-12 * max(1.0, abs(a)) and
                                             abs(b - e) <= 1e-12 * max(1.0, abs(b))
-                                            for (a, b), (c, e) in zip(mine, theirs)):
+                                            for (t, a, b), (s, c, e) in zip(mine, theirs)):
             return origin, key
     return None
 
@@ -255,6 +267,13 @@ def _write_dataset(store: Store, d: Dataset, origin: str, provider: str, known_s
         "file": Path(d.path).name if origin == "bundled" else d.path, "content_hash": h,
         "n_points": len(d.molality),
     }
+    # written only where a file has them (NULL reads as the dataset's temperature), so a file
+    # without a temperature column or unit is stored exactly as before migration 0009
+    if d.point_temperature is not None or d.unit:
+        values.update({"t_min_k": d.temperature_range()[0], "t_max_k": d.temperature_range()[1],
+                       "unit": d.unit})
+    elif row is not None and "t_min_k" in store.db["datasets"].columns_dict:  # an update clears them
+        values.update({"t_min_k": None, "t_max_k": None, "unit": ""})
     dataset_id = upsert_parent(store, "datasets", row[0] if row else None, values, "points", "dataset_id",
                                report, label)
     # a point's own last digit is stored only where the file gives one that differs (0003)
@@ -262,9 +281,10 @@ def _write_dataset(store: Store, d: Dataset, origin: str, provider: str, known_s
     store.db.table("points").insert_all(
         {"dataset_id": dataset_id, "seq": i, "molality": float(m), "value": float(v),
          "value_printed": float(vp), "u_value": float(u), "line": int(n),
+         **({"temperature_k": float(t)} if d.point_temperature is not None else {}),
          **({"precision": float(pp) if pp != d.precision else None} if own else {})}
-        for i, (m, v, vp, u, n, pp) in enumerate(zip(d.molality, d.value, d.value_printed, d.u_value, d.lines,
-                                                      d.point_precision))
+        for i, (m, v, vp, u, n, pp, t) in enumerate(zip(d.molality, d.value, d.value_printed, d.u_value, d.lines,
+                                                         d.point_precision, d.point_temperatures()))
     )
 
 

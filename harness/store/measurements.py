@@ -129,7 +129,8 @@ def _write_set(store: Store, ms: MeasurementSet, report: IngestReport) -> None:
         {"set_id": pk, "seq": i, "molality": num(ms.molality[i]), "u_molality": num(ms.u_molality[i]),
          "activity": num(ms.activity[i]), col: float(ms.reading[i]),
          "u_reading": float(ms.u_reading[i]), "printed_unit": ms.printed_unit, "line": ms.lines[i],
-         **({} if bg is None else {"background_molality": float(bg[i])})}
+         **({} if bg is None else {"background_molality": float(bg[i])}),
+         **({} if ms.point_temperature is None else {"temperature_k": float(ms.point_temperature[i])})}
         for i in range(ms.reading.size))
 
 
@@ -163,14 +164,15 @@ def load_set(store: Store, key: str) -> MeasurementSet:
     col = STORE_COLUMN[kind]
     rows = store.conn.execute(
         f"SELECT molality, u_molality, activity, {col}, u_reading, printed_unit, line, "
-        "background_molality FROM readings WHERE set_id = ? ORDER BY seq", (pk,)).fetchall()
+        "background_molality, temperature_k FROM readings WHERE set_id = ? ORDER BY seq", (pk,)).fetchall()
     arr = lambda i: np.array([np.nan if r[i] is None else r[i] for r in rows], dtype=float)
     e = queries.electrolyte(store, electrolyte)
     settings_doc = json.loads(settings)
     return MeasurementSet(key, file, kind, e, float(t), source, typed, method, version, note,
                           settings_doc, arr(0), arr(1), arr(2), arr(3), arr(4),
                           rows[0][5] if rows else "", [r[6] for r in rows],
-                          background_molality=arr(7) if settings_doc.get("background") else None)
+                          background_molality=arr(7) if settings_doc.get("background") else None,
+                          point_temperature=arr(8) if any(r[8] is not None for r in rows) else None)
 
 
 def all_keys(store: Store) -> list[str]:
@@ -191,7 +193,11 @@ def list_sets(store: Store) -> pd.DataFrame:
     SELECT m.key, m.kind, m.electrolyte, m.temperature_k, m.n_readings, m.source, m.method,
            m.method_version, m.from_memory, m.file, m.content_hash,
            r.method AS reduced_with, r.method_version AS reduced_version, r.input_hash,
-           COALESCE(d.key, x.key) AS dataset
+           COALESCE(d.key, x.key) AS dataset,
+           (SELECT MIN(COALESCE(g.temperature_k, m.temperature_k)) FROM readings g
+            WHERE g.set_id = m.id) AS t_min_k,
+           (SELECT MAX(COALESCE(g.temperature_k, m.temperature_k)) FROM readings g
+            WHERE g.set_id = m.id) AS t_max_k
     FROM measurement_sets m
     LEFT JOIN reductions r ON r.set_id = m.id
     LEFT JOIN datasets d ON d.id = r.dataset_id
@@ -244,6 +250,8 @@ class ReducedValues:
     # a mixture cell's reduction: the background salt's molality at each value (``molality`` is
     # the measured salt's, ``value`` ln gamma± of it); the result is a mixture dataset
     background_molality: np.ndarray | None = None
+    # a reduction at several temperatures: each value's temperature in K (None: the set's)
+    temperature_k: np.ndarray | None = None
 
 
 def store_reduction(store: Store, ms: MeasurementSet, red: ReducedValues) -> str | None:
@@ -295,17 +303,21 @@ def _write_dataset(store: Store, ms: MeasurementSet, red: ReducedValues, key: st
     if previous_id is not None and (row is None or row[0] != previous_id):
         store.conn.execute("DELETE FROM datasets WHERE id = ?", (previous_id,))
         row = None
-    order = np.argsort(red.molality)
-    m, v, u = red.molality[order], red.value[order], red.u_value[order]
-    if np.any(np.diff(m) <= 0):
+    temps = red.temperature_k
+    t_all = np.full(red.molality.size, ms.temperature_k) if temps is None else temps
+    order = np.lexsort((red.molality, np.round(t_all, 2)))
+    m, v, u, t = red.molality[order], red.value[order], red.u_value[order], t_all[order]
+    if np.any((np.diff(m) <= 0) & (np.diff(np.round(t, 2)) == 0)):
         raise UserError(f"measurement set {ms.key}: two readings share a molality; merge them "
                         "before reduction")
     if np.any(u <= 0) or np.any(~np.isfinite(v)):
         raise UserError(f"measurement set {ms.key}: the reduction gave a non-finite value or a zero "
                         "uncertainty; check the readings and their uncertainties")
     lines = [ms.lines[i] for i in order]
-    doc = {"set": ms.key, "method": red.method.name, "version": red.method.version,
-           "points": [[float(a), float(b), float(c)] for a, b, c in zip(m, v, u)]}
+    doc: dict[str, object] = {"set": ms.key, "method": red.method.name, "version": red.method.version,
+                              "points": [[float(a), float(b), float(c)] for a, b, c in zip(m, v, u)]}
+    if temps is not None:  # only then: a reduction at one temperature hashes as before
+        doc["point_temperature_k"] = [round(float(x), 6) for x in t]
     values = {
         "key": key, "origin": "user", "provider": PROVIDER, "electrolyte": ms.electrolyte.name,
         "property": red.property, "basis": "linear", "scale": "molality",
@@ -316,6 +328,7 @@ def _write_dataset(store: Store, ms: MeasurementSet, red: ReducedValues, key: st
         "file": ms.path,
         "content_hash": hashlib.sha256(json.dumps(doc, sort_keys=True).encode()).hexdigest(),
         "n_points": int(m.size),
+        "t_min_k": float(t.min()), "t_max_k": float(t.max()),
     }
     if row is None:
         pk = store.db.table("datasets").insert(values).last_pk
@@ -327,7 +340,8 @@ def _write_dataset(store: Store, ms: MeasurementSet, red: ReducedValues, key: st
         store.db.table("datasets").update(dataset_id, values)
     store.db.table("points").insert_all(
         {"dataset_id": dataset_id, "seq": i, "molality": float(m[i]), "value": float(v[i]),
-         "value_printed": float(v[i]), "u_value": float(u[i]), "line": lines[i]}
+         "value_printed": float(v[i]), "u_value": float(u[i]), "line": lines[i],
+         "temperature_k": float(t[i])}
         for i in range(m.size))
     return dataset_id
 

@@ -60,6 +60,8 @@ def dataset_rows(store: Store, electrolyte: str | None = None) -> list[Row]:
     SELECT d.id, d.key, d.origin, d.electrolyte, d.property, d.basis, d.scale, d.temperature_k,
            d.pressure_pa, d.source, s.citation, s.doi, d.table_ref, d.precision, d.uncertainty,
            d.typed, d.from_memory, d.note, d.file, d.content_hash, d.n_points,
+           COALESCE(d.t_min_k, d.temperature_k) AS t_min_k, COALESCE(d.t_max_k, d.temperature_k) AS t_max_k,
+           d.unit,
            (SELECT MIN(molality) FROM points p WHERE p.dataset_id = d.id) AS min_molality,
            (SELECT MAX(molality) FROM points p WHERE p.dataset_id = d.id) AS max_molality
     FROM datasets d JOIN sources s ON s.key = d.source
@@ -78,10 +80,12 @@ def points(store: Store, electrolyte: str | None = None, dataset_ids: list[int] 
 
 def point_rows(store: Store, electrolyte: str | None = None,
                dataset_ids: list[int] | None = None) -> list[Row]:
-    """The stored points (of ``electrolyte``, of ``dataset_ids``) with their dataset's fields."""
+    """The stored points (of ``electrolyte``, of ``dataset_ids``) with their dataset's fields;
+    ``temperature_k`` is each point's own (issue 21), the dataset's where the point has none."""
     sql = """
     SELECT d.electrolyte, d.property, p.molality, p.value, p.u_value AS uncertainty,
-           d.temperature_k, d.source, d.key AS dataset, d.id AS dataset_id, d.origin,
+           COALESCE(p.temperature_k, d.temperature_k) AS temperature_k, d.source, d.key AS dataset,
+           d.id AS dataset_id, d.origin,
            p.value_printed, d.basis, p.line, d.file, COALESCE(p.precision, d.precision) AS precision
     FROM points p JOIN datasets d ON d.id = p.dataset_id
     """
@@ -95,8 +99,23 @@ def point_rows(store: Store, electrolyte: str | None = None,
         params.extend(dataset_ids)
     if where:
         sql += " WHERE " + " AND ".join(where)
-    sql += " ORDER BY d.electrolyte, d.property, d.source, d.key, p.molality"
+    sql += (" ORDER BY d.electrolyte, d.property, d.source, d.key, "
+            "COALESCE(p.temperature_k, d.temperature_k), p.molality")
     return _rows(store, sql, tuple(params))
+
+
+def temperatures(store: Store, electrolyte: str | None = None) -> list[float]:
+    """The temperatures (K, coldest first) at which the points (of ``electrolyte``) lie, points
+    within ``SAME_TEMPERATURE_K`` of each other taken as one."""
+    import numpy as np
+
+    from saltbench.curation.temperatures import distinct_temperatures
+
+    sql = ("SELECT DISTINCT round(COALESCE(p.temperature_k, d.temperature_k), 3) FROM points p "
+           "JOIN datasets d ON d.id = p.dataset_id")
+    rows = store.conn.execute(sql + (" WHERE d.electrolyte = ?" if electrolyte else ""),
+                              (electrolyte,) if electrolyte else ()).fetchall()
+    return [round(t, 3) for t in distinct_temperatures(np.array([r[0] for r in rows], dtype=float))]
 
 
 def sources(store: Store) -> pd.DataFrame:

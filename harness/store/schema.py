@@ -303,6 +303,82 @@ CREATE TABLE parameter_coefficients (
     FOREIGN KEY (set_pk, target, name) REFERENCES parameter_values(set_pk, target, name) ON DELETE CASCADE
 )
 """),
+    # Data at several temperatures (issue 21): each point keeps its own temperature, a dataset its
+    # range beside its header (nominal) temperature (NULL in either: the dataset's temperature_k,
+    # so existing rows, left NULL, and rows written as before still mean what they meant; a
+    # partial index keeps such rows' molalities unique as the old UNIQUE did), and the thermal properties L_phi (J/mol)
+    # and Cp_phi (J/(K mol)) join the closed list; a reading (an EMF series at several
+    # temperatures) keeps its own temperature likewise. SQLite changes a CHECK or a UNIQUE only by
+    # rebuilding the table; both tables are referenced by foreign keys, so this migration runs
+    # with foreign keys off (``FOREIGN_KEYS_OFF``) and is checked by foreign_key_check before
+    # it commits (the procedure of SQLite's "ALTER TABLE", section "Making other kinds of table
+    # schema changes").
+    ("0009_point_temperatures", """
+CREATE TABLE datasets_new (
+    id INTEGER PRIMARY KEY,
+    key TEXT NOT NULL,
+    origin TEXT NOT NULL CHECK (origin IN ('bundled', 'user')),
+    provider TEXT NOT NULL,
+    electrolyte TEXT NOT NULL REFERENCES electrolytes(name),
+    property TEXT NOT NULL CHECK (property IN ('gamma_pm', 'osmotic', 'water_activity',
+                                               'L_phi', 'Cp_phi')),
+    basis TEXT NOT NULL CHECK (basis IN ('linear', 'ln', 'log10')),
+    scale TEXT NOT NULL CHECK (scale IN ('molality', 'molarity', 'mole_fraction')),
+    temperature_k REAL NOT NULL CHECK (temperature_k BETWEEN 273.15 AND 573.15),
+    pressure_pa REAL NOT NULL CHECK (pressure_pa > 0),
+    source TEXT NOT NULL REFERENCES sources(key),
+    table_ref TEXT NOT NULL,
+    precision REAL NOT NULL CHECK (precision > 0),
+    uncertainty REAL CHECK (uncertainty IS NULL OR uncertainty > 0),
+    typed TEXT NOT NULL,
+    from_memory INTEGER NOT NULL CHECK (from_memory IN (0, 1)),
+    note TEXT NOT NULL DEFAULT '',
+    file TEXT NOT NULL,
+    content_hash TEXT NOT NULL,
+    n_points INTEGER NOT NULL CHECK (n_points > 0),
+    t_min_k REAL CHECK (t_min_k IS NULL OR t_min_k BETWEEN 273.15 AND 573.15),
+    t_max_k REAL CHECK (t_max_k IS NULL OR t_max_k BETWEEN 273.15 AND 573.15),
+    unit TEXT NOT NULL DEFAULT '',
+    UNIQUE (origin, key),
+    CHECK (t_min_k IS NULL OR t_max_k IS NULL OR t_min_k <= t_max_k)
+);
+INSERT INTO datasets_new (id, key, origin, provider, electrolyte, property, basis, scale,
+    temperature_k, pressure_pa, source, table_ref, precision, uncertainty, typed, from_memory, note,
+    file, content_hash, n_points)
+    SELECT id, key, origin, provider, electrolyte, property, basis, scale, temperature_k,
+           pressure_pa, source, table_ref, precision, uncertainty, typed, from_memory, note, file,
+           content_hash, n_points FROM datasets;
+DROP TABLE datasets;
+ALTER TABLE datasets_new RENAME TO datasets;
+CREATE INDEX datasets_by_electrolyte ON datasets (electrolyte, property);
+CREATE TABLE points_new (
+    dataset_id INTEGER NOT NULL REFERENCES datasets(id) ON DELETE CASCADE,
+    seq INTEGER NOT NULL,
+    molality REAL NOT NULL CHECK (molality > 0),
+    value REAL NOT NULL,
+    value_printed REAL NOT NULL,
+    u_value REAL NOT NULL CHECK (u_value > 0),
+    line INTEGER,
+    precision REAL CHECK (precision IS NULL OR precision > 0),
+    temperature_k REAL CHECK (temperature_k IS NULL OR temperature_k BETWEEN 273.15 AND 573.15),
+    PRIMARY KEY (dataset_id, seq),
+    UNIQUE (dataset_id, temperature_k, molality)
+);
+INSERT INTO points_new (dataset_id, seq, molality, value, value_printed, u_value, line, precision,
+    temperature_k)
+    SELECT dataset_id, seq, molality, value, value_printed, u_value, line, precision, NULL
+    FROM points;
+DROP TABLE points;
+ALTER TABLE points_new RENAME TO points;
+CREATE UNIQUE INDEX points_molality_once_at_the_datasets_temperature ON points (dataset_id, molality)
+    WHERE temperature_k IS NULL;
+ALTER TABLE readings ADD COLUMN temperature_k REAL
+    CHECK (temperature_k IS NULL OR temperature_k BETWEEN 273.15 AND 573.15)
+"""),
 ]
 
 SCHEMA_VERSION = len(MIGRATIONS)
+
+#: Migrations that rebuild a table other tables reference: run with foreign keys off (a DROP
+#: TABLE would otherwise cascade into the referencing rows), then checked before commit.
+FOREIGN_KEYS_OFF = frozenset({"0009_point_temperatures"})
