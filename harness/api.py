@@ -861,11 +861,14 @@ def fit_across_temperatures_fn(form: str):
     :class:`saltbench.errors.FitError`, which makes the column 'failed'."""
     from dataclasses import replace as _replace
 
-    from saltbench.errors import FitError
+    from saltbench.errors import FitError, UserError
     from saltbench.fitting.temperature_fit import fit_temperatures
     from saltbench.models.temperature import form as form_named
 
-    form_named(form)  # an unknown form is a mistake of the request, said at once
+    try:
+        form_named(form)  # an unknown form is a mistake of the request, said at once
+    except KeyError as exc:
+        raise UserError(f"--fit-across: {exc.args[0]}") from None
 
     def fit_across(model, electrolyte, data, temperature_k):
         d = _replace(data, temperature=np.asarray(temperature_k, dtype=float))

@@ -147,6 +147,13 @@ def test_the_constant_form_is_the_fit_of_one_value_to_every_temperature() -> Non
     held = fit_temperatures(model, [(NACL, data)], vary=["b"], fixed={"b.c1": 0, "b.c2": 0, "b.c3": 0})
     assert held.value("b.c0") == pytest.approx(const.value("b.c0"), rel=1e-8)
     assert held.value("a") == pytest.approx(const.value("a.c0"), rel=1e-8)
+    # the linear form is the expansion with its 1/T and ln T terms held at zero
+    linear = fit_temperatures(model, [(NACL, data)], vary=["b"], form="linear", fixed={"a": A_TRUTH})
+    curved_off = fit_temperatures(model, [(NACL, data)], vary=["b"],
+                                  fixed={"a": A_TRUTH, "b.c2": 0, "b.c3": 0})
+    for name in ("b.c0", "b.c1"):
+        assert linear.value(name) == pytest.approx(curved_off.value(name), rel=1e-8)
+        assert linear.stderr(name) == pytest.approx(curved_off.stderr(name), rel=1e-6)
 
 
 def test_data_at_one_temperature_are_fitted_exactly_as_today() -> None:
@@ -355,6 +362,12 @@ def test_fit_across_temperatures_on_the_command_line_and_predict_elsewhere(qx_st
     # noise 0.001 on 75 points: the fitted curve is within a few thousandths of the truth
     assert [r["osmotic"] for r in rows] == pytest.approx(truth.osmotic.tolist(), abs=0.003)
     assert not any(r["extrapolated"] for r in rows)  # 45 °C lies inside the fitted range
+    # params lists the fitted set among the fitted ones only, with its range
+    code, out, err = run_main("params", "--kind", "fitted", "--format", "json", store=qx_store)
+    assert code == 0, err
+    assert "qx-cells" in {r["set_id"] for r in json.loads(out)}
+    code, out, err = run_main("params", "--kind", "published", "--format", "json", store=qx_store)
+    assert code == 0 and "qx-cells" not in {r["set_id"] for r in json.loads(out)}
 
 
 def test_the_table_output_names_the_coefficients_and_the_temperatures(qx_store, run_main) -> None:

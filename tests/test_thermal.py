@@ -92,12 +92,20 @@ def _g(model, e, m, params_at, t, p):
 
 FORMS = {
     "constant": lambda t: values_at("constant", SP["NaCl"][0], {}, t),
+    # the Silvester-Pitzer first derivatives themselves (from memory, above)
+    "linear": lambda t: values_at("linear", SP["NaCl"][0], SP["NaCl"][1], t),
     # invented coefficients in all four terms, of the size of published derivatives
     "reference-expansion": lambda t: values_at(
         "reference-expansion", SP["NaCl"][0],
         {"beta0": {"c1": 7.0e-4, "c2": -20.0, "c3": 0.3}, "beta1": {"c1": 7.0e-4, "c2": 15.0},
          "C_phi": {"c1": -1.0e-4, "c3": -0.01}}, t),
 }
+
+
+def test_every_built_in_form_is_held_to_gibbs_helmholtz() -> None:
+    from saltbench.models.temperature import FORMS as BUILT_IN
+
+    assert set(FORMS) == set(BUILT_IN)
 
 
 @pytest.mark.parametrize("form", list(FORMS))

@@ -101,10 +101,9 @@ def settings_options(f):
                      help="With --temperatures: judge published sets also at temperatures outside those "
                      "their authors fitted them to (otherwise 'not judged' there)."),
         click.option("--fit-across", "fit_across", default=None, metavar="FORM",
-                     type=click.Choice(["reference-expansion", "constant"]),
                      help="With --temperatures: also fit each model once to every temperature's data, its "
-                     "free parameters as functions of temperature in FORM, and judge that fit at each "
-                     "temperature (a third column of the region)."),
+                     "free parameters as functions of temperature in FORM ('linear', 'reference-expansion' "
+                     "or 'constant'), and judge that fit at each temperature (a third column of the region)."),
         click.option("--time-limit", "time_limit", type=click.FloatRange(min=0, min_open=True), default=120.0,
                      show_default=True, help="Seconds one model may spend on one electrolyte before it is "
                      "stopped and flagged (a plugin that hangs does not hold up the rest)."),

@@ -12,7 +12,7 @@ REGION_CSV_COLUMNS = ["electrolyte", "temperature_k", "temperature_c", "model", 
                       "valid_up_to", "data_top", "data_end", "beyond_authors_temperatures", "detail"]
 CAPTIONS = {"published": "published set, judged as printed at each temperature",
             "refitted": "refitted at each temperature on its own",
-            "across": "fitted once across every temperature"}
+            "across": "fitted once to all the data across every temperature, judged as a set"}
 REGION_LEGEND = ("Cells: the highest molality (mol/kg) within tolerance at that temperature; *: the data end "
                  "before the model leaves the tolerance; ^: a published set judged beyond the temperatures its "
                  "authors fitted it to (an extrapolation, judged on request); not judged: a published set "
@@ -54,6 +54,12 @@ def echo_region(session, names: list[str], settings, fmt: str, jobs: int, summar
                 columns, rows = region.table(kind)
                 click.echo(f"   {CAPTIONS[str(kind)]}:")
                 emit([dict(zip(columns, r)) for r in rows], "table", columns)
+        ref = over.reference
+        if ref.skipped.get(name):
+            click.echo(f"   not applicable to {name}: {', '.join(ref.skipped[name])}")
+        if ref.per_ion.get(name):
+            click.echo(wrap(f"   left out, parameters per ion need several salts sharing an ion: "
+                            f"{', '.join(ref.per_ion[name])}", indent="     "))
         click.echo(wrap(f"-> {region.statement}", indent="   "))
     if over.without_data:
         click.echo("")

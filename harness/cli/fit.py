@@ -30,10 +30,11 @@ from saltbench.cli.output import echo_caution, emit, fold, format_option
               help="With --mixture: parameter sets to take the held values from first.")
 @click.option("--temperatures", "temperatures", default=None, metavar="LO:HI|T1,T2,...",
               help="Fit across temperatures: the data from LO to HI, or at the temperatures listed (K; or with "
-                   "a C suffix, e.g. 15C:45C), in place of --temperature.")
+                   "a unit, e.g. 15C:45C or '15:45 C'), in place of --temperature.")
 @click.option("--temperature-form", "temperature_form", default=None, metavar="FORM",
-              help="With --temperatures: the form each varying parameter takes, 'reference-expansion' (default) "
-                   "or 'constant'; its coefficients are named NAME.c0, NAME.c1, ... (--fix NAME.c3=0 holds one).")
+              help="With --temperatures: the form each varying parameter takes, 'reference-expansion' "
+                   "(default), 'linear' or 'constant'; its coefficients are named NAME.c0, NAME.c1, ... "
+                   "(--fix NAME.c3=0 holds one).")
 @click.option("--vary", "vary", multiple=True, metavar="NAME",
               help="With --temperatures: a parameter that takes the form (repeatable; default every free one); "
                    "the others keep one value at all temperatures.")

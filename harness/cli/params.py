@@ -10,11 +10,14 @@ from saltbench.cli.output import emit, fold, format_option
 @click.command()
 @click.argument("set_id", required=False)
 @click.option("--model", "model_id", default=None, help="Only sets of this model.")
+@click.option("--kind", "kind", type=click.Choice(["published", "fitted"]), default=None,
+              help="Only published sets (bundled or added) or only sets saved by 'fit'.")
 @click.option("--export", "export_dir", default=None, metavar="FOLDER",
               help="Write SET_ID as files 'saltbench data add' reads back (parameters and citation).")
 @format_option
 @click.pass_obj
-def params(app, set_id: str | None, model_id: str | None, export_dir: str | None, fmt: str) -> None:
+def params(app, set_id: str | None, model_id: str | None, kind: str | None, export_dir: str | None,
+           fmt: str) -> None:
     """List parameter sets, or show one (SET_ID) with its values, source and settings."""
     from saltbench.api import parameter_set, parameter_sets
     from saltbench.errors import UserError
@@ -25,6 +28,8 @@ def params(app, set_id: str | None, model_id: str | None, export_dir: str | None
         if model_id:
             s.registry.model(model_id)  # an unknown or misspelt id is an error, not an empty list
             frame = frame[frame.model == model_id]
+        if kind:
+            frame = frame[frame.kind == kind]
         records = frame.to_dict("records")
         for r in records:
             r["from_memory"] = bool(r["from_memory"])

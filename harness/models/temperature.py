@@ -9,6 +9,9 @@ d q / d c_j = (d q / d p) f_j(T).
 
 Forms here:
 - ``constant``: p = c0.
+- ``linear``: p = c0 + c1 (T - T_r): a value and its first temperature derivative at T_r, the
+  form of published first derivatives (e.g. Silvester and Pitzer 1977 for 1-1 salts) and the
+  most a few temperatures over a few tens of kelvin can determine.
 - ``reference-expansion``: p = c0 + c1 (T - T_r) + c2 (1/T - 1/T_r) + c3 ln(T/T_r), with
   T_r = 298.15 K, an expansion about a reference temperature of the kind used to fit the
   temperature dependence of interaction parameters (see e.g. Pitzer, Activity Coefficients in
@@ -68,7 +71,10 @@ REFERENCE_EXPANSION = TemperatureForm(
     (_one, lambda t, tr: t - tr, lambda t, tr: 1.0 / t - 1.0 / tr, lambda t, tr: np.log(t / tr)),
     description="p = c0 + c1 (T - Tr) + c2 (1/T - 1/Tr) + c3 ln(T/Tr), Tr = 298.15 K")
 
-FORMS = {f.id: f for f in (CONSTANT, REFERENCE_EXPANSION)}
+LINEAR = TemperatureForm("linear", ("c0", "c1"), (_one, lambda t, tr: t - tr),
+                         description="p = c0 + c1 (T - Tr), Tr = 298.15 K")
+
+FORMS = {f.id: f for f in (CONSTANT, LINEAR, REFERENCE_EXPANSION)}
 
 
 def resolve(forms: Mapping[K, TemperatureForm], coefficients: Mapping[K, np.ndarray],

@@ -15,7 +15,7 @@ REGION_COLUMNS = ["electrolyte", "temperature_k", "temperature_c", "model", "col
                   "valid_up_to", "data_top", "data_end", "set_range_k", "beyond_authors_temperatures", "detail"]
 CAPTIONS = {ColumnKind.PUBLISHED: "with the published set, judged as printed at each temperature",
             ColumnKind.REFITTED: "refitted at each temperature on its own",
-            ColumnKind.ACROSS: "fitted once across every temperature"}
+            ColumnKind.ACROSS: "fitted once to all the data across every temperature, judged as a set"}
 REGION_CSV = "region.csv"
 
 
