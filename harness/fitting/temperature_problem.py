@@ -32,6 +32,7 @@ from saltbench.fitting.problem import (
     Block,
     FitProblem,
     GlobalParameter,
+    ProblemBase,
     _global_name,
     build_problem,
     parameter_layout,
@@ -57,9 +58,10 @@ def coefficient_name(parameter: str, coefficient: str) -> str:
     return f"{parameter}.{coefficient}"
 
 
-class TemperatureProblem:
+class TemperatureProblem(ProblemBase):
     """Weighted least squares of one model across temperatures (see the module); provides
-    :class:`saltbench.fitting.protocol.Problem`."""
+    :class:`saltbench.fitting.protocol.Problem`. Its size, free count, subset mark and the
+    design shared by the folds of an all-linear problem are :class:`ProblemBase`'s."""
 
     def __init__(self, inner: FitProblem, params: list[GlobalParameter], mapping: np.ndarray,
                  form: TemperatureForm, varying: dict[str, list[int]],
@@ -91,18 +93,6 @@ class TemperatureProblem:
         self._design_memo: dict[bytes, tuple[np.ndarray, np.ndarray]] = {}
 
     # -- bookkeeping ----------------------------------------------------------------------------
-    @property
-    def n(self) -> int:
-        return int(self.obs.size)
-
-    @property
-    def k(self) -> int:
-        return int(self.free.size)
-
-    @property
-    def is_subset(self) -> bool:
-        return self._rows is not None
-
     @property
     def n_evaluations(self) -> int:
         return self.inner.n_evaluations
@@ -182,7 +172,9 @@ class TemperatureProblem:
 
     def predict(self, theta: np.ndarray) -> np.ndarray:
         if self._rows is not None and self.linear.size and not self.nonlinear.size:
-            shared = self._shared(theta)
+            held = np.ones(theta.size, dtype=bool)
+            held[self.linear] = False  # the shared design holds every other entry at theta0's
+            shared = self.shared_design() if np.array_equal(theta[held], self.theta0[held]) else None
             if shared is not None:
                 return shared[0] + shared[1] @ theta[self.linear]
         y = self.inner.predict(self.inner_theta(theta))
@@ -210,7 +202,7 @@ class TemperatureProblem:
     def linear_design(self, theta: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         """Offset and design in the free linear coefficients at fixed nonlinear ones."""
         if not self.nonlinear.size:
-            shared = self._shared(theta)
+            shared = self.shared_design()  # the root's, built once (None where it fails)
             if shared is not None:
                 return shared
         return self._design_now(theta)
@@ -231,30 +223,6 @@ class TemperatureProblem:
         th_off = self.thermal.predict(t0)
         th_d = self.thermal.derivatives(t0, self.linear.tolist(), self._is_linear, base=th_off)
         return np.concatenate((offset, th_off)), np.concatenate((d, th_d))
-
-    def _shared(self, theta: np.ndarray) -> tuple[np.ndarray, np.ndarray] | None:
-        """Every free parameter linear: the root's offset and design (built once, kept), on
-        this problem's rows."""
-        t0 = self.theta0.copy()
-        t0[self.linear] = 0.0
-        if self._rows is not None:
-            t_now = theta.copy()
-            t_now[self.linear] = 0.0
-            if not np.array_equal(t_now, t0):
-                return None
-        root = self._root
-        key = t0.tobytes()
-        if key not in root._design_memo:
-            root._design_memo[key] = root._design_now(t0)
-        full = root._design_memo[key]
-        if self._rows is None:
-            return full
-        return full[0][self._rows], full[1][self._rows]
-
-    def shared_design(self) -> tuple[np.ndarray, np.ndarray] | None:
-        if self.nonlinear.size or not self.linear.size:
-            return None
-        return self._shared(self.theta0)
 
     def screen_parts(self, points: np.ndarray) -> None:
         """No shared screening across temperatures: the solver evaluates each point."""
