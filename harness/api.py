@@ -193,8 +193,6 @@ def preferred_sets(found: Sequence, temperature_k: float | Sequence[float] | Non
 def params_at(params, temperature_k: float):
     """``params`` with each value at ``temperature_k`` through its set's temperature form
     (unchanged for a set without one)."""
-    from dataclasses import replace
-
     from saltbench.models.temperature import values_at
 
     if getattr(params, "temperature_form", None) is None or not params.coefficients:
@@ -859,8 +857,6 @@ def fit_across_temperatures_fn(form: str):
     (:func:`saltbench.fitting.temperature_fit.fit_temperatures`), its prediction at each point.
     A fit that fails (a model error, a form the data cannot carry) is a
     :class:`saltbench.errors.FitError`, which makes the column 'failed'."""
-    from dataclasses import replace as _replace
-
     from saltbench.errors import FitError, UserError
     from saltbench.fitting.temperature_fit import fit_temperatures
     from saltbench.models.temperature import form as form_named
@@ -871,7 +867,7 @@ def fit_across_temperatures_fn(form: str):
         raise UserError(f"--fit-across: {exc.args[0]}") from None
 
     def fit_across(model, electrolyte, data, temperature_k):
-        d = _replace(data, temperature=np.asarray(temperature_k, dtype=float))
+        d = replace(data, temperature=np.asarray(temperature_k, dtype=float))
         result = fit_temperatures(model, [(electrolyte, d)], form=form)
         pred = np.asarray(result.prediction, dtype=float)
         if not result.converged or not np.isfinite(pred).all():
@@ -1514,8 +1510,6 @@ def mixture_points(session: Session, key_or_system: str):
     """The points of one mixture dataset (by key) or of every dataset of a system, as a list of
     :class:`saltbench.curation.mixture_points.MixturePoints` whose ``quantity`` is a
     :class:`saltbench.models.quantities.Quantity`. Raises UserError when there is none."""
-    from dataclasses import replace
-
     from saltbench.models.quantities import Quantity
     from saltbench.store.mixtures import mixture_points as stored
 

@@ -247,13 +247,10 @@ def compare(app, electrolytes, all_, models, up_to, tol, folds, on, data_sel, te
                         flag.kind in DETERMINATION_KINDS
                         and (o.recommended or o.model == rec.most_accurate)):
                     click.echo(wrap(f"   {o.model}: {flag.text}", indent="     "))
-        if comp.skipped.get(name):
-            click.echo(f"   not applicable to {name}: {', '.join(comp.skipped[name])}")
+        echo_not_applicable(comp, name)
         for note in comp.disagreements.get(name, []):
             click.echo(wrap(f"   sources: {note.text}", indent="     "))
-        if comp.per_ion.get(name):
-            click.echo(wrap(f"   left out, parameters per ion need several salts sharing an ion: "
-                            f"{', '.join(comp.per_ion[name])}", indent="     "))
+        echo_per_ion(comp, name)
         click.echo(wrap(f"-> {rec.statement}", indent="   "))
     click.echo("")
     click.echo(wrap(TABLE_LEGEND))
@@ -303,3 +300,16 @@ def _compare_mixture(session, system: str, settings, sets: list[str], fmt: str) 
     click.echo("")
     click.echo(wrap(TABLE_LEGEND.replace("highest molality", "highest ionic strength")))
     click.echo(wrap(CAUTION))
+
+
+def echo_not_applicable(comp, name: str) -> None:
+    """The models of a comparison that do not take ``name``'s charge type."""
+    if comp.skipped.get(name):
+        click.echo(f"   not applicable to {name}: {', '.join(comp.skipped[name])}")
+
+
+def echo_per_ion(comp, name: str) -> None:
+    """The models left out because their parameters per ion need several salts."""
+    if comp.per_ion.get(name):
+        click.echo(wrap(f"   left out, parameters per ion need several salts sharing an ion: "
+                        f"{', '.join(comp.per_ion[name])}", indent="     "))

@@ -5,6 +5,7 @@ from __future__ import annotations
 
 import click
 
+from saltbench.cli.compare import echo_not_applicable, echo_per_ion
 from saltbench.cli.output import echo_caution, emit
 from saltbench.cli.output import fold as wrap
 
@@ -54,12 +55,8 @@ def echo_region(session, names: list[str], settings, fmt: str, jobs: int, summar
                 columns, rows = region.table(kind)
                 click.echo(f"   {CAPTIONS[str(kind)]}:")
                 emit([dict(zip(columns, r)) for r in rows], "table", columns)
-        ref = over.reference
-        if ref.skipped.get(name):
-            click.echo(f"   not applicable to {name}: {', '.join(ref.skipped[name])}")
-        if ref.per_ion.get(name):
-            click.echo(wrap(f"   left out, parameters per ion need several salts sharing an ion: "
-                            f"{', '.join(ref.per_ion[name])}", indent="     "))
+        echo_not_applicable(over.reference, name)
+        echo_per_ion(over.reference, name)
         click.echo(wrap(f"-> {region.statement}", indent="   "))
     if over.without_data:
         click.echo("")

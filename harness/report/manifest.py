@@ -150,19 +150,25 @@ def _diff(prefix: str, old, new, out: list[str]) -> None:
         out.append(f"{prefix}: {old!r} then, {new!r} now")
 
 
+def _diff_keyed(before: dict, now: dict, label, diffs: list[str], order=None) -> None:
+    """Records of a manifest and of a re-run matched by key (``order`` sorts the keys): each one
+    missing on a side, and each difference of the matched (:func:`_diff`), under ``label(key)``."""
+    for key in sorted(set(before) | set(now), key=order):
+        text = label(key)
+        if key not in now:
+            diffs.append(f"{text}: in the manifest, missing now")
+        elif key not in before:
+            diffs.append(f"{text}: new, not in the manifest")
+        else:
+            _diff(text, before[key], now[key], diffs)
+
+
 def check_agreement(manifest: dict, new: dict) -> Agreement:
     """Compare the results and inputs of a new manifest with an earlier one."""
     diffs: list[str] = []
     old_recs = {(r["electrolyte"], r["model"]): r for r in manifest["results"]["records"]}
     new_recs = {(r["electrolyte"], r["model"]): r for r in new["results"]["records"]}
-    for key in sorted(set(old_recs) | set(new_recs)):
-        label = f"{key[0]} {key[1]}"
-        if key not in new_recs:
-            diffs.append(f"{label}: in the manifest, missing now")
-        elif key not in old_recs:
-            diffs.append(f"{label}: new, not in the manifest")
-        else:
-            _diff(label, old_recs[key], new_recs[key], diffs)
+    _diff_keyed(old_recs, new_recs, lambda key: f"{key[0]} {key[1]}", diffs)
     old_rec = {r["electrolyte"]: r for r in manifest["results"].get("recommendations", [])}
     for r in new["results"]["recommendations"]:
         before = old_rec.get(r["electrolyte"])
@@ -185,15 +191,8 @@ def _region_diffs(old: dict | None, new: dict | None, diffs: list[str]) -> None:
     def cells(entry: dict) -> dict:
         return {(r["electrolyte"], r["temperature_k"], r["model"], r["column"]): r for r in entry["records"]}
 
-    before, now = cells(old), cells(new)
-    for key in sorted(set(before) | set(now), key=str):
-        label = f"{key[0]} {key[2]} ({key[3]}) at {key[1]:g} K"
-        if key not in now:
-            diffs.append(f"{label}: in the manifest, missing now")
-        elif key not in before:
-            diffs.append(f"{label}: new, not in the manifest")
-        else:
-            _diff(label, before[key], now[key], diffs)
+    _diff_keyed(cells(old), cells(new), lambda key: f"{key[0]} {key[2]} ({key[3]}) at {key[1]:g} K", diffs,
+                order=str)
     old_st = {r["electrolyte"]: r["statement"] for r in old.get("recommendations", [])}
     for r in new.get("recommendations", []):
         if old_st.get(r["electrolyte"]) != r["statement"]:
