@@ -436,3 +436,12 @@ def test_fit_across_on_the_command_line(run_main, region_store) -> None:
     assert "across" in out.lower()
     code, out, err = run_main("--store", str(region_store), "compare", "NaCl", "--fit-across", "constant")
     assert code == 2 and "--fit-across goes with --temperatures" in err
+
+
+def test_fit_across_does_not_go_with_a_mixture_or_an_electrode(run_main, region_store) -> None:
+    for args, where in ((("compare", "--mixture", "HCl + NaCl"), "--mixture"),
+                        (("report", "--mixture", "HCl + NaCl"), "--mixture"),
+                        (("report", "--electrode", "any-set"), "--electrode")):
+        code, _, err = run_main("--store", str(region_store), *args, "--fit-across", "linear")
+        assert code == 2 and f"--fit-across goes with electrolytes, not with {where}" in err
+        assert len(err.strip().splitlines()) == 1

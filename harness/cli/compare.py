@@ -198,7 +198,8 @@ def compare(app, electrolytes, all_, models, up_to, tol, folds, on, data_sel, te
         if electrolytes or all_:
             raise UserError("give electrolytes or --mixture, not both")
         if temperatures is not None or fit_across:
-            raise UserError("--temperatures goes with electrolytes, not with --mixture")
+            given = "--temperatures" if temperatures is not None else "--fit-across"
+            raise UserError(f"{given} goes with electrolytes, not with --mixture")
         settings = build_settings(models, up_to, tol, folds, on, data_sel, temperature_k, time_limit)
         _compare_mixture(s, mixture, settings, [x for x in sets.split(",") if x], fmt)
         return

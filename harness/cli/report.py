@@ -142,7 +142,8 @@ def report(ctx, electrolytes, models, up_to, tol, folds, on, data_sel, temperatu
         result = rerun_report(s, from_manifest, folder=out_dir, jobs=jobs, command=command, argv=sys.argv)
     elif electrode_sets:
         if temperatures is not None or fit_across:
-            raise UserError("--temperatures goes with electrolytes, not with --electrode")
+            given = "--temperatures" if temperatures is not None else "--fit-across"
+            raise UserError(f"{given} goes with electrolytes, not with --electrode")
         if electrolytes or mixture is not None:
             raise UserError("--electrode writes a report of its own: give no electrolyte and no --mixture with it")
         chosen = [x.strip() for x in sets.split(",") if x.strip()]
@@ -155,7 +156,8 @@ def report(ctx, electrolytes, models, up_to, tol, folds, on, data_sel, temperatu
         if electrolytes:
             raise UserError("give electrolytes or --mixture, not both")
         if temperatures is not None or fit_across:
-            raise UserError("--temperatures goes with electrolytes, not with --mixture")
+            given = "--temperatures" if temperatures is not None else "--fit-across"
+            raise UserError(f"{given} goes with electrolytes, not with --mixture")
         settings = build_settings(models, up_to, tol, folds, on, data_sel, temperature_k, time_limit)
         chosen = [x.strip() for x in sets.split(",") if x.strip()]
         command = _command_line(app, (), settings, title, out_dir, None, mixture, chosen)
