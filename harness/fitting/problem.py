@@ -186,6 +186,13 @@ class ProblemBase:
         """Whether this problem was made by subset() from another (and shares its designs)."""
         return self._rows is not None
 
+    @property
+    def is_refit(self) -> bool:
+        """Whether this problem holds only some of its root's points (a fold of a
+        cross-validation, a trial limit below the top), so that its fit starts near the
+        root's minimum (see :mod:`saltbench.fitting.least_squares`)."""
+        return self._rows is not None and self._rows.size < self._root.n
+
     def _design_now(self, t0: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         raise NotImplementedError
 

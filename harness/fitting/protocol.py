@@ -65,6 +65,8 @@ class Problem(Protocol):
     @property
     def is_subset(self) -> bool: ...
     @property
+    def is_refit(self) -> bool: ...  # a subset with fewer points than its root
+    @property
     def electrolyte_label(self) -> str: ...
     @property
     def temperature_k(self) -> float: ...  # NaN when the points are at several temperatures
