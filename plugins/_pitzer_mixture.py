@@ -30,6 +30,10 @@ Green Book, 3rd ed., 2007, 2.13); the mean of a neutral salt (nu+ ln gamma+ + nu
 Single ions: the values above are the model's own (the split of the Debye-Hückel term F as
 z_i^2 F), a non-thermodynamic convention; only means and the osmotic coefficient are measurable.
 For one cation and one anion the equations are those of one salt (Pitzer 1991, ch. 3, eqs. 49-51).
+
+Large requests are evaluated by a compiled kernel of the same equations and coefficients
+(:mod:`saltbench.plugins._pitzer_kernel`, with numba, the optional extra ``fast``), chosen by
+:mod:`saltbench.plugins._pitzer_choice`; ``tests/test_pitzer_kernel.py`` holds the two equal.
 """
 
 from __future__ import annotations
@@ -42,6 +46,7 @@ import numpy as np
 from saltbench.models.assemble import assemble
 from saltbench.models.contract import Computed, ParameterKey, Request
 from saltbench.plugins._etheta import etheta
+from saltbench.plugins._pitzer_choice import KERNEL, compiled_for
 
 _SERIES_BELOW = 1e-2  # x below which g, g' and their derivatives come from Taylor series
 _PAIR_NAMES = ("beta0", "beta1", "beta2", "C_phi", "alpha1", "alpha2")
@@ -338,8 +343,8 @@ class _Mixture:
 
     def __init__(self, request: Request, lay: _Layout, alphas: _Alphas, w: _Weights) -> None:
         comp = request.composition
+        self.comp = comp
         self.lay, self.alphas, self.w = lay, alphas, w
-        self.i = comp.ionic_strength
         self.m = comp.molality  # (N, K); each block takes its rows as (K, n)
         cond = request.conditions
         self.a_phi = cond.a_phi  # (N,)
@@ -347,6 +352,12 @@ class _Mixture:
         self.a_phi_et = float(cond.dh[0].a_phi) if len(cond.dh) == 1 else None
         self.b = request.value(ParameterKey("b"))  # (S, 1) or (S, N)
         self.n_sets = request.n_sets
+
+    @property
+    def i(self) -> np.ndarray:
+        """The ionic strength (N,) (the composition keeps it once worked out; the compiled
+        kernel works out its own)."""
+        return self.comp.ionic_strength
 
     def run(self) -> tuple[np.ndarray, np.ndarray]:
         """ln gamma (S, K, N) and phi (S, N)."""
@@ -425,7 +436,9 @@ def compute_mixture(request: Request, default_alphas) -> Computed:
 
     The sums over ions are products of coefficient matrices (from the parameter values,
     :func:`_weights`) with features of each row (m, m g_u, m Etheta_t, m Z and the products
-    m_j m_k), whose outputs the functions of I then weight (:class:`_Mixture`).
+    m_j m_k), whose outputs the functions of I then weight (:class:`_Mixture`). Large requests
+    take the compiled kernel of the same equations and coefficients where numba is installed
+    (:mod:`saltbench.plugins._pitzer_choice`); derivatives always come from numpy.
     """
     comp = request.composition
     lay = _layout(comp.names, comp.charges, default_alphas)
@@ -437,9 +450,25 @@ def compute_mixture(request: Request, default_alphas) -> Computed:
     per_row_alpha = alpha.shape[1] != 1 and bool((alpha != alpha[:, :1]).any())
     alphas = _Alphas(alpha if per_row_alpha else alpha[:, :1])
     mixture = _Mixture(request, lay, alphas, _weights(lay, vals, alphas))
-    ln, phi = mixture.run()
+    ln, phi = _run(mixture)
     d_ions, d_osm = _derivatives(request, comp, lay, alphas, mixture)
     return assemble(request, ln.transpose(0, 2, 1), d_ions, phi, d_osm)
+
+
+def _run(mixture: _Mixture) -> tuple[np.ndarray, np.ndarray]:
+    """ln gamma (S, K, N) and phi (S, N): by the compiled kernel where
+    :mod:`saltbench.plugins._pitzer_choice` picks it, else by numpy."""
+    kernel = compiled_for(mixture.m.shape[0])
+    if kernel is not None:
+        try:
+            out = kernel.evaluate(mixture.lay, mixture.alphas.values, mixture.w, mixture.m,
+                                  mixture.a_phi, mixture.b)
+        except Exception as exc:  # numba could not compile here: numpy from now on
+            KERNEL.failed(exc)
+        else:
+            KERNEL.proven = True
+            return out
+    return mixture.run()
 
 
 def _derivatives(request: Request, comp, lay: _Layout, alphas: _Alphas, mixture: _Mixture):
