@@ -45,8 +45,8 @@ import numpy as np
 
 from saltbench.models.assemble import assemble
 from saltbench.models.contract import Computed, ParameterKey, Request
+from saltbench.plugins import _pitzer_choice
 from saltbench.plugins._etheta import etheta
-from saltbench.plugins._pitzer_choice import KERNEL, compiled_for
 
 _SERIES_BELOW = 1e-2  # x below which g, g' and their derivatives come from Taylor series
 _PAIR_NAMES = ("beta0", "beta1", "beta2", "C_phi", "alpha1", "alpha2")
@@ -458,15 +458,15 @@ def compute_mixture(request: Request, default_alphas) -> Computed:
 def _run(mixture: _Mixture) -> tuple[np.ndarray, np.ndarray]:
     """ln gamma (S, K, N) and phi (S, N): by the compiled kernel where
     :mod:`saltbench.plugins._pitzer_choice` picks it, else by numpy."""
-    kernel = compiled_for(mixture.m.shape[0])
+    kernel = _pitzer_choice.compiled_for(mixture.m.shape[0])
     if kernel is not None:
         try:
             out = kernel.evaluate(mixture.lay, mixture.alphas.values, mixture.w, mixture.m,
                                   mixture.a_phi, mixture.b)
         except Exception as exc:  # numba could not compile here: numpy from now on
-            KERNEL.failed(exc)
+            _pitzer_choice.KERNEL.failed(exc)
         else:
-            KERNEL.proven = True
+            _pitzer_choice.KERNEL.proven = True
             return out
     return mixture.run()
 
