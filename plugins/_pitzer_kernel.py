@@ -23,14 +23,19 @@ from __future__ import annotations
 
 import numba
 import numpy as np
+from llvmlite import ir
+from numba import types
+from numba.extending import intrinsic
 
 from saltbench.plugins._etheta import C1, C2, C3, C4
 from saltbench.plugins._pitzer_mixture import _SERIES_BELOW, _Layout, _Weights
 
-BLOCK = 64  # compositions per block: the features (about 64 x BLOCK) stay in the L1 cache
+BLOCK = 256  # compositions per block: its features (about 64 x BLOCK) stay in the L2 cache, and the
+# loops over them are long enough for the cost of entering each to be small
+_OPTIONS = {"fastmath": False, "error_model": "numpy", "parallel": False}
 
 
-def _njit(fn):
+def _njit(fn=None, **extra):
     """``numba.njit`` with an on-disk cache where numba finds a writable place for one (beside
     this file, or numba's user-wide cache folder); where it finds none it refuses ``cache=True``
     with a RuntimeError, and the kernel is then compiled once per process instead.
@@ -38,11 +43,121 @@ def _njit(fn):
     ``error_model="numpy"``: a division by zero gives inf as in numpy instead of a check per
     division (there is none: I and sum m are replaced by 1 where they are 0, as in numpy).
     """
-    options = {"fastmath": False, "error_model": "numpy", "parallel": False}
-    try:
-        return numba.njit(cache=True, **options)(fn)
-    except RuntimeError:
-        return numba.njit(**options)(fn)
+    def wrap(f):
+        try:
+            return numba.njit(cache=True, **_OPTIONS, **extra)(f)
+        except RuntimeError:
+            return numba.njit(**_OPTIONS, **extra)(f)
+
+    return wrap if fn is None else wrap(fn)
+
+
+# -- exp and log the compiler can vectorise -------------------------------------------------------
+# The C library's exp and log are calls the compiler cannot turn into vector instructions, and
+# they were a third of the kernel's time. These are the textbook forms (range reduction by
+# powers of 2 with ln 2 split in two parts, as in Cody and Waite, Software Manual for the
+# Elementary Functions, 1980; Taylor series of the reduced argument), within one ulp of numpy's
+# exp and log (tests/test_pitzer_kernel.py), on the arguments the kernel gives them.
+@intrinsic
+def _as_float(typingctx, bits):  # pragma: no cover - compiled
+    """The float64 whose bits are the int64 ``bits``."""
+    def codegen(context, builder, signature, args):
+        return builder.bitcast(args[0], ir.DoubleType())
+    return types.float64(types.int64), codegen
+
+
+@intrinsic
+def _as_bits(typingctx, x):  # pragma: no cover - compiled
+    """The bits of the float64 ``x`` as an int64."""
+    def codegen(context, builder, signature, args):
+        return builder.bitcast(args[0], ir.IntType(64))
+    return types.int64(types.float64), codegen
+
+
+_LOG2E = 1.4426950408889634
+_LN2_HI = 6.93147180369123816490e-01  # ln 2 in two parts: k * _LN2_HI is exact for |k| < 2^11
+_LN2_LO = 1.90821492927058770002e-10
+_SQRT2 = 1.4142135623730951
+
+
+@_njit(inline="always")
+def _exp(x):  # pragma: no cover - compiled
+    """e^x: x = k ln 2 + r, |r| <= ln2 / 2, e^r by its Taylor series to r^13 (the rest below
+    1e-17 relative), times 2^k built from its bits; 0 below -708 and inf above 709."""
+    xc = min(max(x, -708.0), 709.0)
+    kf = np.floor(xc * _LOG2E + 0.5)
+    r = (xc - kf * _LN2_HI) - kf * _LN2_LO
+    r2 = r * r
+    r4 = r2 * r2
+    # Estrin's scheme: the same series in fewer dependent steps
+    a0 = 1.0 + r
+    a1 = 1.0 / 2.0 + r * (1.0 / 6.0)
+    a2 = 1.0 / 24.0 + r * (1.0 / 120.0)
+    a3 = 1.0 / 720.0 + r * (1.0 / 5040.0)
+    a4 = 1.0 / 40320.0 + r * (1.0 / 362880.0)
+    a5 = 1.0 / 3628800.0 + r * (1.0 / 39916800.0)
+    a6 = 1.0 / 479001600.0 + r * (1.0 / 6227020800.0)
+    b0 = a0 + r2 * a1
+    b1 = a2 + r2 * a3
+    b2 = a4 + r2 * a5
+    p = b0 + r4 * (b1 + r4 * (b2 + r4 * a6))
+    y = p * _as_float((np.int64(kf) + 1023) << 52)
+    return 0.0 if x < -708.0 else (np.inf if x > 709.0 else y)
+
+
+@_njit(inline="always")
+def _log(x):  # pragma: no cover - compiled
+    """ln x for a positive normal x: x = 2^e m with sqrt(1/2) < m <= sqrt(2), ln m = 2 atanh(s),
+    s = (m - 1)/(m + 1), |s| < 0.172, by its series to s^23 (the rest below 1e-17 relative)."""
+    bits = _as_bits(x)
+    e = (bits >> 52) - 1023
+    m = _as_float((bits & 0x000FFFFFFFFFFFFF) | 0x3FF0000000000000)
+    big = m > _SQRT2
+    m = m * 0.5 if big else m
+    e = e + 1 if big else e
+    f = m - 1.0
+    s = f / (2.0 + f)
+    s2 = s * s
+    s4 = s2 * s2
+    c0 = 2.0 / 3.0 + s2 * (2.0 / 5.0)
+    c1 = 2.0 / 7.0 + s2 * (2.0 / 9.0)
+    c2 = 2.0 / 11.0 + s2 * (2.0 / 13.0)
+    c3 = 2.0 / 15.0 + s2 * (2.0 / 17.0)
+    c4 = 2.0 / 19.0 + s2 * (2.0 / 21.0)
+    big_r = s2 * (c0 + s4 * (c1 + s4 * (c2 + s4 * (c3 + s4 * (c4 + s4 * (2.0 / 23.0))))))
+    ef = float(e)
+    return ef * _LN2_HI + ((f - s * (f - big_r)) + ef * _LN2_LO)  # ln(1 + f) = f - s (f - R)
+
+
+@_njit(inline="always")
+def _log1p(y):  # pragma: no cover - compiled
+    """ln(1 + y) for y >= 0, accurate where y is small: ln(u) y / (u - 1), u = 1 + y (the
+    rounding of u cancels; Goldberg, ACM Computing Surveys 23, 5 (1991), theorem 4)."""
+    u = 1.0 + y
+    d = u - 1.0
+    return y if d == 0.0 else _log(u) * (y / d)
+
+
+@_njit
+def exp_and_log(x, y, ex, lg, lp):  # pragma: no cover - compiled
+    """The kernel's exp of ``x``, log of ``y`` > 0 and log1p of ``y`` (for their tests)."""
+    for r in range(x.shape[0]):
+        ex[r] = _exp(x[r])
+    for r in range(y.shape[0]):
+        lg[r] = _log(y[r])
+        lp[r] = _log1p(y[r])
+
+
+@_njit(inline="always")
+def _g_row(a, two_a2, s, inv, series_below):  # pragma: no cover - compiled
+    """(e^-x, g, g') at x = a s, as _pitzer_mixture._g_terms (series below ``series_below``)."""
+    xx = a * s
+    e = _exp(-xx)
+    g_closed = (1.0 - (1.0 + xx) * e) * (two_a2 * inv)
+    g_series = 1.0 + xx * (-2.0 / 3.0 + xx * (0.25 + xx * (-1.0 / 15.0 + xx / 72.0)))
+    gp_series = xx * (-1.0 / 3.0 + xx * (0.25 + xx * (-0.1 + xx / 36.0)))
+    small = xx < series_below
+    return e, (g_series if small else g_closed), (gp_series if small else e - g_closed)
 
 
 @_njit
@@ -55,7 +170,8 @@ def _kernel(m, z, a_phi, b, alpha, prod_c3, prod_c1, type_w, n_types,
     distinct product zz of charges Etheta needs, type_w (T, P) its weights per charge type;
     ln_o, ln_f, ln_w (S, nnz, 1 or N): output row, feature and value of each nonzero
     coefficient of ln gamma's product; pr_o, pr_f, pr_w the same for the sums over pairs (the
-    feature counted from the first product m_j m_k).
+    feature counted from the first product m_j m_k). Every loop over the rows of a block is
+    innermost, so that it runs on vector instructions.
     """
     n, k = m.shape
     n_sets = ln_out.shape[0]
@@ -65,24 +181,31 @@ def _kernel(m, z, a_phi, b, alpha, prod_c3, prod_c1, type_w, n_types,
     n_q = k * (k - 1) // 2
     n_out = n_alpha + n_types + 1 + k
     o_zero = n_alpha + n_types
+    oz = (1 + n_alpha + n_types) * k
     blk = BLOCK
     x = np.empty((n_lin + n_q, blk))
     s_ = np.empty(blk)
     i_ = np.empty(blk)
     inv_ = np.empty(blk)
     tot_ = np.empty(blk)
+    zs_ = np.empty(blk)
     aphi_ = np.empty(blk)
     e_ = np.empty((n_alpha, blk))
     g_ = np.empty((n_alpha, blk))
     gp_ = np.empty((n_alpha, blk))
     et_ = np.empty((n_types, blk))
     etp_ = np.empty((n_types, blk))
-    jr = np.empty(n_prod)
-    xr = np.empty(n_prod)
+    base_ = np.empty(blk)
+    lb_ = np.empty(blk)
+    bc4_ = np.empty(blk)
+    jr = np.empty((n_prod, blk))
+    xr = np.empty((n_prod, blk))
     acc = np.empty((k, blk))
     sums = np.empty((n_out, blk))
     f_ = np.empty(blk)
     sbs_ = np.empty(blk)
+    ex_ = np.empty(blk)
+    rs_ = np.empty(blk)
     z2 = z * z
     z_abs = np.abs(z)
     alpha_per_row = alpha.shape[1] != 1
@@ -92,71 +215,79 @@ def _kernel(m, z, a_phi, b, alpha, prod_c3, prod_c1, type_w, n_types,
     nnz_pr = pr_o.shape[0]
     for lo in range(0, n, blk):
         nb = min(blk, n - lo)
-        # molalities (K, nb), I = 1/2 sum z^2 m, Z = sum |z| m, sum m
+        # molalities (K, nb); I = 1/2 sum z^2 m, Z = sum |z| m, sum m
         for r in range(nb):
-            ii = 0.0
-            zz = 0.0
-            tt = 0.0
             for j in range(k):
-                v = m[lo + r, j]
-                x[j, r] = v
-                ii += v * z2[j]
-                zz += v * z_abs[j]
-                tt += v
-            ii *= 0.5
+                x[j, r] = m[lo + r, j]
+        for r in range(nb):
+            i_[r] = 0.0
+            zs_[r] = 0.0
+            tot_[r] = 0.0
+        for j in range(k):
+            for r in range(nb):
+                v = x[j, r]
+                i_[r] += v * z2[j]
+                zs_[r] += v * z_abs[j]
+                tot_[r] += v
+        for r in range(nb):
+            ii = i_[r] * 0.5
             i_[r] = ii
             s_[r] = np.sqrt(ii)
             inv_[r] = 1.0 / (ii if ii > 0.0 else 1.0)
+            tt = tot_[r]
             tot_[r] = tt if tt > 0.0 else 1.0
             aphi_[r] = a_phi[lo + r]
-            x[(1 + n_alpha + n_types) * k, r] = zz  # Z for now; times m below
-        # e^-x, g, g' per alpha (Taylor series below x = series_below, as _g_terms)
+        # e^-x, g, g' per alpha
         for u in range(n_alpha):
-            for r in range(nb):
-                a = alpha[u, lo + r] if alpha_per_row else alpha[u, 0]
-                xx = a * s_[r]
-                e = np.exp(-xx)
-                e_[u, r] = e
-                if xx < series_below:
-                    g_[u, r] = 1.0 + xx * (-2.0 / 3.0 + xx * (0.25 + xx * (-1.0 / 15.0 + xx / 72.0)))
-                    gp_[u, r] = xx * (-1.0 / 3.0 + xx * (0.25 + xx * (-0.1 + xx / 36.0)))
-                else:
-                    g = 1.0 - (1.0 + xx) * e
-                    g *= (2.0 / (a * a)) * inv_[r]
-                    g_[u, r] = g
-                    gp_[u, r] = e - g
-        # Etheta, Etheta' per charge type (Pitzer 1975, eq. 47 and its exact derivative)
+            if alpha_per_row:
+                for r in range(nb):
+                    a = alpha[u, lo + r]
+                    e_[u, r], g_[u, r], gp_[u, r] = _g_row(a, 2.0 / (a * a), s_[r], inv_[r],
+                                                           series_below)
+            else:
+                a = alpha[u, 0]
+                two_a2 = 2.0 / (a * a)
+                for r in range(nb):
+                    e_[u, r], g_[u, r], gp_[u, r] = _g_row(a, two_a2, s_[r], inv_[r], series_below)
+        # Etheta, Etheta' per charge type (Pitzer 1975, eq. 47 and its exact derivative), as
+        # _etheta.etheta_of_types: x / zz = 6 A_phi sqrt(I), one log and one exp per row, one
+        # exp per distinct product zz of charges
         if n_types > 0:
             for r in range(nb):
-                ii = i_[r]
-                if ii > 0.0:
-                    base = np.sqrt(ii) * (6.0 * aphi_[r])
-                    log_base = np.log(base)
-                    base_c4 = np.exp(log_base * C4)
-                    log_base *= -C2
-                    for p in range(n_prod):
-                        u3 = base_c4 * prod_c3[p]
-                        q = np.exp(log_base - u3) * prod_c1[p]
-                        rr = 1.0 / (q + 4.0)
-                        jj = base * rr
-                        jr[p] = jj
-                        xr[p] = ((((u3 * C4) + (1.0 + C2)) * q + 4.0) * rr) * jj
+                base = s_[r] * (6.0 * aphi_[r])
+                base = base if i_[r] > 0.0 else 1.0
+                lb = _log(base)
+                base_[r] = base
+                bc4_[r] = _exp(lb * C4)
+                lb_[r] = lb * -C2
+            for p in range(n_prod):
+                c3p = prod_c3[p]
+                c1p = prod_c1[p]
+                for r in range(nb):
+                    u3 = bc4_[r] * c3p
+                    q = _exp(lb_[r] - u3) * c1p
+                    rr = 1.0 / (q + 4.0)
+                    jj = base_[r] * rr
+                    jr[p, r] = jj
+                    xr[p, r] = ((((u3 * C4) + (1.0 + C2)) * q + 4.0) * rr) * jj
+            for t in range(n_types):
+                for r in range(nb):
+                    et_[t, r] = 0.0
+                    etp_[t, r] = 0.0
+                for p in range(n_prod):
+                    wt = type_w[t, p]
+                    if wt != 0.0:
+                        for r in range(nb):
+                            et_[t, r] += wt * jr[p, r]
+                            etp_[t, r] += wt * xr[p, r]
+                for r in range(nb):
                     inv = inv_[r]
-                    for t in range(n_types):
-                        sj = 0.0
-                        sx = 0.0
-                        for p in range(n_prod):
-                            sj += type_w[t, p] * jr[p]
-                            sx += type_w[t, p] * xr[p]
-                        et = sj * (0.25 * inv)
-                        et_[t, r] = et
-                        etp_[t, r] = sx * (0.125 * inv * inv) - et * inv
-                else:
-                    for t in range(n_types):
-                        et_[t, r] = 0.0
-                        etp_[t, r] = 0.0
+                    et = et_[t, r] * (0.25 * inv)
+                    etp = etp_[t, r] * (0.125 * inv * inv) - et * inv
+                    pos = i_[r] > 0.0
+                    et_[t, r] = et if pos else 0.0
+                    etp_[t, r] = etp if pos else 0.0
         # the features: m g_u, m Etheta_t, m Z, then the products m_j m_k (j < k)
-        oz = (1 + n_alpha + n_types) * k
         for u in range(n_alpha):
             off = (1 + u) * k
             for j in range(k):
@@ -167,9 +298,9 @@ def _kernel(m, z, a_phi, b, alpha, prod_c3, prod_c1, type_w, n_types,
             for j in range(k):
                 for r in range(nb):
                     x[off + j, r] = x[j, r] * et_[t, r]
-        for j in range(k - 1, -1, -1):  # Z's row is overwritten last
+        for j in range(k):
             for r in range(nb):
-                x[oz + j, r] = x[j, r] * x[oz, r]
+                x[oz + j, r] = x[j, r] * zs_[r]
         off = n_lin
         for j in range(k - 1):
             for jj in range(j + 1, k):
@@ -177,7 +308,7 @@ def _kernel(m, z, a_phi, b, alpha, prod_c3, prod_c1, type_w, n_types,
                     x[off, r] = x[j, r] * x[jj, r]
                 off += 1
         for s in range(n_sets):
-            # the sums over pairs, then F
+            # the sums over pairs
             for o in range(n_out):
                 for r in range(nb):
                     sums[o, r] = 0.0
@@ -191,20 +322,20 @@ def _kernel(m, z, a_phi, b, alpha, prod_c3, prod_c1, type_w, n_types,
                     w = pr_w[s, q, 0]
                     for r in range(nb):
                         sums[o, r] += w * x[f, r]
+            # F = -A_phi [s/(1 + b s) + (2/b) ln(1 + b s)] + sum m_c m_a B' + sum m_j m_k Etheta'
             for r in range(nb):
                 bb = b[s, lo + r] if b_per_row else b[s, 0]
                 sr = s_[r]
                 bs = bb * sr
                 sbs = sr / (bs + 1.0)
                 sbs_[r] = sbs
-                ff = np.log1p(bs) * (2.0 / bb) + sbs
-                ff *= -aphi_[r]
-                inv = inv_[r]
-                for u in range(n_alpha):
-                    ff += sums[u, r] * (gp_[u, r] * inv)
-                for t in range(n_types):
-                    ff += sums[n_alpha + t, r] * etp_[t, r]
-                f_[r] = ff
+                f_[r] = (_log1p(bs) * (2.0 / bb) + sbs) * -aphi_[r]
+            for u in range(n_alpha):
+                for r in range(nb):
+                    f_[r] += sums[u, r] * (gp_[u, r] * inv_[r])
+            for t in range(n_types):
+                for r in range(nb):
+                    f_[r] += sums[n_alpha + t, r] * etp_[t, r]
             # ln gamma: the coefficient product, then z_i^2 F
             for j in range(k):
                 for r in range(nb):
@@ -220,24 +351,25 @@ def _kernel(m, z, a_phi, b, alpha, prod_c3, prod_c1, type_w, n_types,
                     for r in range(nb):
                         acc[o, r] += w * x[f, r]
             for j in range(k):
+                zj = z2[j]
                 for r in range(nb):
-                    ln_out[s, j, lo + r] = acc[j, r] + z2[j] * f_[r]
+                    ln_out[s, j, lo + r] = acc[j, r] + zj * f_[r]
             # sum_i m_i (phi - 1) / 2 = -A_phi I^1.5/(1 + b s) + sum m_c m_a (B^phi + Z C)
             #      + sum m_j m_k (theta + Etheta + I Etheta') + sum psi m m m
             for r in range(nb):
-                ii = i_[r]
-                ex = sbs_[r] * (-aphi_[r] * ii)
-                ex += sums[o_zero, r]
-                for u in range(n_alpha):
-                    ex += sums[u, r] * e_[u, r]
-                for t in range(n_types):
-                    ex += sums[n_alpha + t, r] * (et_[t, r] + ii * etp_[t, r])
-                rs = 0.0
-                for j in range(k):
-                    rs += sums[o_zero + 1 + j, r] * x[j, r]
-                ex += rs
-                ex *= 2.0 / tot_[r]
-                phi_out[s, lo + r] = ex + 1.0
+                ex_[r] = sbs_[r] * (-aphi_[r] * i_[r]) + sums[o_zero, r]
+                rs_[r] = 0.0
+            for u in range(n_alpha):
+                for r in range(nb):
+                    ex_[r] += sums[u, r] * e_[u, r]
+            for t in range(n_types):
+                for r in range(nb):
+                    ex_[r] += sums[n_alpha + t, r] * (et_[t, r] + i_[r] * etp_[t, r])
+            for j in range(k):
+                for r in range(nb):
+                    rs_[r] += sums[o_zero + 1 + j, r] * x[j, r]
+            for r in range(nb):
+                phi_out[s, lo + r] = (ex_[r] + rs_[r]) * (2.0 / tot_[r]) + 1.0
 
 
 def etheta_constants(types: tuple[tuple[float, float], ...]
