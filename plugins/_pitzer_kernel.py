@@ -161,8 +161,8 @@ def _g_row(a, two_a2, s, inv, series_below):  # pragma: no cover - compiled
 
 
 @_njit
-def _kernel(m, z, a_phi, b, alpha, prod_c3, prod_c1, type_w, n_types,
-            ln_o, ln_f, ln_w, pr_o, pr_f, pr_w, series_below, ln_out, phi_out):  # pragma: no cover
+def _kernel(m, z, a_phi, b, alpha, prod_c3, prod_c1, type_w, n_types, ln_o, ln_f, ln_w, pr_o, pr_f,
+            pr_w, pair_q, c_w, tri_q, tri_c, psi_w, series_below, ln_out, phi_out):  # pragma: no cover
     """ln gamma (S, K, N) and phi (S, N) into ``ln_out``, ``phi_out``.
 
     m (N, K) molalities; z (K,) charges; a_phi (N,); b (S, 1 or N); alpha (U, 1 or N) the
@@ -170,8 +170,10 @@ def _kernel(m, z, a_phi, b, alpha, prod_c3, prod_c1, type_w, n_types,
     distinct product zz of charges Etheta needs, type_w (T, P) its weights per charge type;
     ln_o, ln_f, ln_w (S, nnz, 1 or N): output row, feature and value of each nonzero
     coefficient of ln gamma's product; pr_o, pr_f, pr_w the same for the sums over pairs (the
-    feature counted from the first product m_j m_k). Every loop over the rows of a block is
-    innermost, so that it runs on vector instructions.
+    feature counted from the first product m_j m_k); pair_q (P,) the product m_c m_a of each
+    cation-anion pair and c_w (S, P, 1 or N) its C; tri_q (R,) the product of the two like ions
+    of each triplet, tri_c (R,) its third ion, psi_w (S, R, 1 or N) its psi. Every loop over
+    the rows of a block is innermost, so that it runs on vector instructions.
     """
     n, k = m.shape
     n_sets = ln_out.shape[0]
@@ -179,8 +181,8 @@ def _kernel(m, z, a_phi, b, alpha, prod_c3, prod_c1, type_w, n_types,
     n_prod = prod_c3.shape[0]
     n_lin = (2 + n_alpha + n_types) * k
     n_q = k * (k - 1) // 2
-    n_out = n_alpha + n_types + 1 + k
     o_zero = n_alpha + n_types
+    n_out = o_zero + 1  # the sums over pairs the functions of I weight, and sum m_j m_k (beta0, theta)
     oz = (1 + n_alpha + n_types) * k
     blk = BLOCK
     x = np.empty((n_lin + n_q, blk))
@@ -205,7 +207,8 @@ def _kernel(m, z, a_phi, b, alpha, prod_c3, prod_c1, type_w, n_types,
     f_ = np.empty(blk)
     sbs_ = np.empty(blk)
     ex_ = np.empty(blk)
-    rs_ = np.empty(blk)
+    cc_ = np.empty(blk)
+    ps_ = np.empty(blk)
     z2 = z * z
     z_abs = np.abs(z)
     alpha_per_row = alpha.shape[1] != 1
@@ -213,6 +216,8 @@ def _kernel(m, z, a_phi, b, alpha, prod_c3, prod_c1, type_w, n_types,
     w_per_row = ln_w.shape[2] != 1
     nnz_ln = ln_o.shape[0]
     nnz_pr = pr_o.shape[0]
+    n_pairs = pair_q.shape[0]
+    n_tri = tri_q.shape[0]
     for lo in range(0, n, blk):
         nb = min(blk, n - lo)
         # molalities (K, nb); I = 1/2 sum z^2 m, Z = sum |z| m, sum m
@@ -322,6 +327,29 @@ def _kernel(m, z, a_phi, b, alpha, prod_c3, prod_c1, type_w, n_types,
                     w = pr_w[s, q, 0]
                     for r in range(nb):
                         sums[o, r] += w * x[f, r]
+            # sum m_c m_a C, and sum psi m_j m_k m_o over the triplets
+            for r in range(nb):
+                cc_[r] = 0.0
+                ps_[r] = 0.0
+            for p in range(n_pairs):
+                f = n_lin + pair_q[p]
+                if w_per_row:
+                    for r in range(nb):
+                        cc_[r] += c_w[s, p, lo + r] * x[f, r]
+                else:
+                    w = c_w[s, p, 0]
+                    for r in range(nb):
+                        cc_[r] += w * x[f, r]
+            for t in range(n_tri):
+                f = n_lin + tri_q[t]
+                c = tri_c[t]
+                if w_per_row:
+                    for r in range(nb):
+                        ps_[r] += psi_w[s, t, lo + r] * (x[f, r] * x[c, r])
+                else:
+                    w = psi_w[s, t, 0]
+                    for r in range(nb):
+                        ps_[r] += w * (x[f, r] * x[c, r])
             # F = -A_phi [s/(1 + b s) + (2/b) ln(1 + b s)] + sum m_c m_a B' + sum m_j m_k Etheta'
             for r in range(nb):
                 bb = b[s, lo + r] if b_per_row else b[s, 0]
@@ -336,7 +364,7 @@ def _kernel(m, z, a_phi, b, alpha, prod_c3, prod_c1, type_w, n_types,
             for t in range(n_types):
                 for r in range(nb):
                     f_[r] += sums[n_alpha + t, r] * etp_[t, r]
-            # ln gamma: the coefficient product, then z_i^2 F
+            # ln gamma: the coefficient product, then z_i^2 F + |z_i| sum m_c m_a C
             for j in range(k):
                 for r in range(nb):
                     acc[j, r] = 0.0
@@ -352,24 +380,21 @@ def _kernel(m, z, a_phi, b, alpha, prod_c3, prod_c1, type_w, n_types,
                         acc[o, r] += w * x[f, r]
             for j in range(k):
                 zj = z2[j]
+                za = z_abs[j]
                 for r in range(nb):
-                    ln_out[s, j, lo + r] = acc[j, r] + zj * f_[r]
+                    ln_out[s, j, lo + r] = acc[j, r] + zj * f_[r] + za * cc_[r]
             # sum_i m_i (phi - 1) / 2 = -A_phi I^1.5/(1 + b s) + sum m_c m_a (B^phi + Z C)
             #      + sum m_j m_k (theta + Etheta + I Etheta') + sum psi m m m
             for r in range(nb):
                 ex_[r] = sbs_[r] * (-aphi_[r] * i_[r]) + sums[o_zero, r]
-                rs_[r] = 0.0
             for u in range(n_alpha):
                 for r in range(nb):
                     ex_[r] += sums[u, r] * e_[u, r]
             for t in range(n_types):
                 for r in range(nb):
                     ex_[r] += sums[n_alpha + t, r] * (et_[t, r] + i_[r] * etp_[t, r])
-            for j in range(k):
-                for r in range(nb):
-                    rs_[r] += sums[o_zero + 1 + j, r] * x[j, r]
             for r in range(nb):
-                phi_out[s, lo + r] = (ex_[r] + rs_[r]) * (2.0 / tot_[r]) + 1.0
+                phi_out[s, lo + r] = (ex_[r] + (zs_[r] * cc_[r] + ps_[r])) * (2.0 / tot_[r]) + 1.0
 
 
 def etheta_constants(types: tuple[tuple[float, float], ...]
@@ -404,20 +429,33 @@ def evaluate(lay: _Layout, alpha_values: np.ndarray, w: _Weights, molality: np.n
     """ln gamma (S, K, N) and phi (S, N), as ``_Mixture.run`` gives them.
 
     ``alpha_values`` (U, 1 or N) are the distinct alphas (``_Alphas.values``), ``w`` the
-    coefficients of ``_weights``, ``molality`` (N, K), ``a_phi`` (N,) and ``b`` (S, 1 or N).
-    The first call in a process compiles the kernel or loads it from numba's cache.
+    coefficients of ``_weights(..., split=True)``, ``molality`` (N, K), ``a_phi`` (N,) and ``b``
+    (S, 1 or N). The first call in a process compiles the kernel or loads it from numba's cache.
     """
+    if w.c_mx is None or w.psi is None:
+        raise ValueError("the kernel takes the coefficients of _weights(..., split=True)")
     m = np.ascontiguousarray(molality, dtype=float)
     n_sets = w.ln.shape[0]
     n = m.shape[0]
     ln_o, ln_f, ln_w = _nonzero(w.ln[..., :-1])  # the last column is F's, added in the kernel
     pr_o, pr_f, pr_w = _nonzero(w.pairs)
+    if pr_o.size and pr_o.max() > w.n_alpha + w.n_types:
+        raise ValueError("the sums over pairs have rows for phi: not split coefficients")
     prod_c3, prod_c1, type_w = etheta_constants(lay.types)
+    tri = lay.triplets
     ln = np.empty((n_sets, lay.k, n))
     phi = np.empty((n_sets, n))
     _kernel(m, np.ascontiguousarray(lay.z, dtype=float),
             np.ascontiguousarray(np.broadcast_to(a_phi, (n,)), dtype=float),
             np.ascontiguousarray(b, dtype=float), np.ascontiguousarray(alpha_values, dtype=float),
             prod_c3, prod_c1, type_w.reshape(len(lay.types), len(prod_c3)), len(lay.types),
-            ln_o, ln_f, ln_w, pr_o, pr_f, pr_w, _SERIES_BELOW, ln, phi)
+            ln_o, ln_f, ln_w, pr_o, pr_f, pr_w,
+            lay.q_of[lay.pc, lay.pa].astype(np.intp), _per_key(w.c_mx),
+            lay.q_of[tri[:, 0], tri[:, 1]].astype(np.intp), tri[:, 2].astype(np.intp),
+            _per_key(w.psi), _SERIES_BELOW, ln, phi)
     return ln, phi
+
+
+def _per_key(values: np.ndarray) -> np.ndarray:
+    """Values (S, R, keys) as (S, keys, R), rows innermost."""
+    return np.ascontiguousarray(values.transpose(0, 2, 1), dtype=float)

@@ -244,10 +244,19 @@ class _Weights:
     pairs: np.ndarray
     n_alpha: int
     n_types: int
+    # with ``split`` (the compiled kernel): C of each pair (S, R, P) and psi of each triplet
+    # (S, R, triplets), whose terms are then left out of ``ln``'s |z_i| C entries and of the
+    # rows of ``pairs`` for phi (the kernel forms sum m_c m_a C and sum psi m m m once)
+    c_mx: np.ndarray | None = None
+    psi: np.ndarray | None = None
 
 
-def _weights(lay: _Layout, vals: np.ndarray, alphas: _Alphas) -> _Weights:
-    """The coefficient matrices of :class:`_Weights` from parameter values (S, R, keys)."""
+def _weights(lay: _Layout, vals: np.ndarray, alphas: _Alphas, split: bool = False) -> _Weights:
+    """The coefficient matrices of :class:`_Weights` from parameter values (S, R, keys).
+
+    ``split`` leaves the terms |z_i| sum m_c m_a C (in ln gamma and phi) and psi's part of phi
+    out of the matrices and gives C and psi beside them: they are sums over pairs and triplets
+    times one factor per ion, which the compiled kernel forms once rather than once per ion."""
     k, n_pairs, n_types, n_alpha = lay.k, lay.n_pairs, len(lay.types), alphas.n
     n_sets, rows = vals.shape[:2]
     n_lin = (2 + n_alpha + n_types) * k
@@ -291,16 +300,20 @@ def _weights(lay: _Layout, vals: np.ndarray, alphas: _Alphas) -> _Weights:
     # the products: |z_i| C (|z_i| sum m_c m_a C) and psi's part of ln gamma (d/dm_i of
     # sum psi m m m); the rows r_i of phi get |z_i| C and a third of psi's part
     z_abs = np.abs(lay.z)[:, None]
-    ln[:, :, :, n_lin + q_pair] = z_abs * c_mx[:, :, None, :]
-    pairs[:, :, o_r:, q_pair] = z_abs * c_mx[:, :, None, :]
+    if not split:
+        ln[:, :, :, n_lin + q_pair] = z_abs * c_mx[:, :, None, :]
+        pairs[:, :, o_r:, q_pair] = z_abs * c_mx[:, :, None, :]
     tri = lay.triplets
     for i, (a, b) in ((0, (1, 2)), (1, (0, 2)), (2, (0, 1))):
         # within one statement each entry is one triplet's (the member and the other two)
         cols = lay.q_of[tri[:, a], tri[:, b]]
         ln[:, :, tri[:, i], n_lin + cols] += psi
-        pairs[:, :, o_r + tri[:, i], cols] += psi / 3.0
+        if not split:
+            pairs[:, :, o_r + tri[:, i], cols] += psi / 3.0
     pairs[:, :, o_zero, q_pair] = beta0
     pairs[:, :, o_zero, lay.q_of[lj, lk]] = theta
+    if split:
+        return _Weights(ln, pairs, n_alpha, n_types, c_mx, psi)
     return _Weights(ln, pairs, n_alpha, n_types)
 
 
@@ -449,26 +462,30 @@ def compute_mixture(request: Request, default_alphas) -> Computed:
     alpha = np.where(alpha == 0.0, lay.default_alpha, alpha)  # 0: the charge-type value
     per_row_alpha = alpha.shape[1] != 1 and bool((alpha != alpha[:, :1]).any())
     alphas = _Alphas(alpha if per_row_alpha else alpha[:, :1])
-    mixture = _Mixture(request, lay, alphas, _weights(lay, vals, alphas))
-    ln, phi = _run(mixture)
+    ln, phi, mixture = _run(request, lay, alphas, vals)
     d_ions, d_osm = _derivatives(request, comp, lay, alphas, mixture)
     return assemble(request, ln.transpose(0, 2, 1), d_ions, phi, d_osm)
 
 
-def _run(mixture: _Mixture) -> tuple[np.ndarray, np.ndarray]:
-    """ln gamma (S, K, N) and phi (S, N): by the compiled kernel where
-    :mod:`saltbench.plugins._pitzer_choice` picks it, else by numpy."""
-    kernel = _pitzer_choice.compiled_for(mixture.m.shape[0])
+def _run(request: Request, lay: _Layout, alphas: _Alphas, vals: np.ndarray
+         ) -> tuple[np.ndarray, np.ndarray, _Mixture]:
+    """ln gamma (S, K, N) and phi (S, N) by the compiled kernel where
+    :mod:`saltbench.plugins._pitzer_choice` picks it, else by numpy; and the evaluation's
+    state, which the derivatives read."""
+    kernel = _pitzer_choice.compiled_for(request.composition.n)
     if kernel is not None:
+        mixture = _Mixture(request, lay, alphas, _weights(lay, vals, alphas, split=True))
         try:
-            out = kernel.evaluate(mixture.lay, mixture.alphas.values, mixture.w, mixture.m,
-                                  mixture.a_phi, mixture.b)
+            ln, phi = kernel.evaluate(lay, alphas.values, mixture.w, mixture.m, mixture.a_phi,
+                                      mixture.b)
         except Exception as exc:  # numba could not compile here: numpy from now on
             _pitzer_choice.KERNEL.failed(exc)
         else:
             _pitzer_choice.KERNEL.proven = True
-            return out
-    return mixture.run()
+            return ln, phi, mixture
+    mixture = _Mixture(request, lay, alphas, _weights(lay, vals, alphas))
+    ln, phi = mixture.run()
+    return ln, phi, mixture
 
 
 def _derivatives(request: Request, comp, lay: _Layout, alphas: _Alphas, mixture: _Mixture):
