@@ -20,7 +20,6 @@ numpy where numba is missing), ``auto`` or unset as above.
 
 from __future__ import annotations
 
-import logging
 import os
 from types import ModuleType
 
@@ -31,7 +30,14 @@ KERNEL_MIN_ROWS = 4096
 KERNEL_ENV = "SALTBENCH_KERNEL"
 CHOICES = ("auto", "numpy", "compiled")
 
-_log = logging.getLogger(__name__)
+
+
+def _debug(message: str, *args: object) -> None:
+    """A debug-level log record (the logging module is imported only then: the plugin loads at
+    every start-up, and a fall back to numpy is the only thing this module says)."""
+    import logging
+
+    logging.getLogger(__name__).debug(message, *args)
 
 
 class _Kernel:
@@ -50,7 +56,7 @@ class _Kernel:
             try:
                 from saltbench.plugins import _pitzer_kernel
             except Exception as exc:  # numba missing, or present but unusable
-                _log.debug("Pitzer mixtures: no compiled kernel (%s: %s); numpy path",
+                _debug("Pitzer mixtures: no compiled kernel (%s: %s); numpy path",
                            type(exc).__name__, exc)
             else:
                 self.module = _pitzer_kernel
@@ -60,7 +66,7 @@ class _Kernel:
         """The first call failed: numpy from now on (raised again when a call had succeeded)."""
         if self.proven:
             raise exc
-        _log.debug("Pitzer mixtures: the compiled kernel failed (%s: %s); numpy path",
+        _debug("Pitzer mixtures: the compiled kernel failed (%s: %s); numpy path",
                    type(exc).__name__, exc)
         self.module = None
 
