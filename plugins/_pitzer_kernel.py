@@ -162,8 +162,10 @@ def _g_row(a, two_a2, s, inv, series_below):  # pragma: no cover - compiled
 
 @_njit
 def _kernel(m, z, a_phi, b, alpha, prod_c3, prod_c1, type_w, n_types, ln_o, ln_f, ln_w, pr_o, pr_f,
-            pr_w, pair_q, c_w, tri_q, tri_c, psi_w, series_below, ln_out, phi_out):  # pragma: no cover
-    """ln gamma (S, K, N) and phi (S, N) into ``ln_out``, ``phi_out``.
+            pr_w, pair_q, c_w, tri_q, tri_c, psi_w, series_below, ln_out, phi_out,
+            total_out):  # pragma: no cover
+    """ln gamma (S, K, N), phi (S, N) and sum_i m_i (N,) into ``ln_out``, ``phi_out``,
+    ``total_out``.
 
     m (N, K) molalities; z (K,) charges; a_phi (N,); b (S, 1 or N); alpha (U, 1 or N) the
     distinct alphas (or one per row); prod_c3, prod_c1 (P,) C3 zz^C4 and C1 zz^-C2 of each
@@ -240,6 +242,7 @@ def _kernel(m, z, a_phi, b, alpha, prod_c3, prod_c1, type_w, n_types, ln_o, ln_f
             s_[r] = np.sqrt(ii)
             inv_[r] = 1.0 / (ii if ii > 0.0 else 1.0)
             tt = tot_[r]
+            total_out[lo + r] = tt
             tot_[r] = tt if tt > 0.0 else 1.0
             aphi_[r] = a_phi[lo + r]
         # e^-x, g, g' per alpha
@@ -425,8 +428,8 @@ def _nonzero(coef: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
 
 
 def evaluate(lay: _Layout, alpha_values: np.ndarray, w: _Weights, molality: np.ndarray,
-             a_phi: np.ndarray, b: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """ln gamma (S, K, N) and phi (S, N), as ``_Mixture.run`` gives them.
+             a_phi: np.ndarray, b: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """ln gamma (S, K, N) and phi (S, N), as ``_Mixture.run`` gives them, and sum_i m_i (N,).
 
     ``alpha_values`` (U, 1 or N) are the distinct alphas (``_Alphas.values``), ``w`` the
     coefficients of ``_weights(..., split=True)``, ``molality`` (N, K), ``a_phi`` (N,) and ``b``
@@ -445,6 +448,7 @@ def evaluate(lay: _Layout, alpha_values: np.ndarray, w: _Weights, molality: np.n
     tri = lay.triplets
     ln = np.empty((n_sets, lay.k, n))
     phi = np.empty((n_sets, n))
+    total = np.empty(n)
     _kernel(m, np.ascontiguousarray(lay.z, dtype=float),
             np.ascontiguousarray(np.broadcast_to(a_phi, (n,)), dtype=float),
             np.ascontiguousarray(b, dtype=float), np.ascontiguousarray(alpha_values, dtype=float),
@@ -452,8 +456,8 @@ def evaluate(lay: _Layout, alpha_values: np.ndarray, w: _Weights, molality: np.n
             ln_o, ln_f, ln_w, pr_o, pr_f, pr_w,
             lay.q_of[lay.pc, lay.pa].astype(np.intp), _per_key(w.c_mx),
             lay.q_of[tri[:, 0], tri[:, 1]].astype(np.intp), tri[:, 2].astype(np.intp),
-            _per_key(w.psi), _SERIES_BELOW, ln, phi)
-    return ln, phi
+            _per_key(w.psi), _SERIES_BELOW, ln, phi, total)
+    return ln, phi, total
 
 
 def _per_key(values: np.ndarray) -> np.ndarray:

@@ -462,30 +462,30 @@ def compute_mixture(request: Request, default_alphas) -> Computed:
     alpha = np.where(alpha == 0.0, lay.default_alpha, alpha)  # 0: the charge-type value
     per_row_alpha = alpha.shape[1] != 1 and bool((alpha != alpha[:, :1]).any())
     alphas = _Alphas(alpha if per_row_alpha else alpha[:, :1])
-    ln, phi, mixture = _run(request, lay, alphas, vals)
+    ln, phi, total, mixture = _run(request, lay, alphas, vals)
     d_ions, d_osm = _derivatives(request, comp, lay, alphas, mixture)
-    return assemble(request, ln.transpose(0, 2, 1), d_ions, phi, d_osm)
+    return assemble(request, ln.transpose(0, 2, 1), d_ions, phi, d_osm, total=total)
 
 
 def _run(request: Request, lay: _Layout, alphas: _Alphas, vals: np.ndarray
-         ) -> tuple[np.ndarray, np.ndarray, _Mixture]:
+         ) -> tuple[np.ndarray, np.ndarray, np.ndarray | None, _Mixture]:
     """ln gamma (S, K, N) and phi (S, N) by the compiled kernel where
-    :mod:`saltbench.plugins._pitzer_choice` picks it, else by numpy; and the evaluation's
-    state, which the derivatives read."""
+    :mod:`saltbench.plugins._pitzer_choice` picks it, else by numpy; sum_i m_i (N,) where the
+    kernel gives it (None from numpy); and the evaluation's state, which the derivatives read."""
     kernel = _pitzer_choice.compiled_for(request.composition.n)
     if kernel is not None:
         mixture = _Mixture(request, lay, alphas, _weights(lay, vals, alphas, split=True))
         try:
-            ln, phi = kernel.evaluate(lay, alphas.values, mixture.w, mixture.m, mixture.a_phi,
-                                      mixture.b)
+            ln, phi, total = kernel.evaluate(lay, alphas.values, mixture.w, mixture.m,
+                                             mixture.a_phi, mixture.b)
         except Exception as exc:  # numba could not compile here: numpy from now on
             _pitzer_choice.KERNEL.failed(exc)
         else:
             _pitzer_choice.KERNEL.proven = True
-            return ln, phi, mixture
+            return ln, phi, total, mixture
     mixture = _Mixture(request, lay, alphas, _weights(lay, vals, alphas))
     ln, phi = mixture.run()
-    return ln, phi, mixture
+    return ln, phi, None, mixture
 
 
 def _derivatives(request: Request, comp, lay: _Layout, alphas: _Alphas, mixture: _Mixture):
