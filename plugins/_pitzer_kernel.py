@@ -13,10 +13,15 @@ block innermost so the compiler can use the processor's vector instructions.
 The coefficients are those the numpy path builds (``_weights``), read as their nonzero entries
 by :func:`evaluate`; so a change to which parameter enters where is made once, in
 ``_weights``. What is written twice, here and in ``_Mixture._block``, is the per-row part: the
-functions of I, F and the assembly of phi; ``tests/test_pitzer_kernel.py`` holds the two equal.
+functions of I, F, the terms in C and psi that ``_weights(..., split=True)`` leaves out, and the
+assembly of phi; ``tests/test_pitzer_kernel.py`` holds the two equal.
 
-Importing this module imports numba (the optional extra ``fast``): ``_pitzer_mixture`` imports
+Importing this module imports numba (the optional extra ``fast``): ``_pitzer_choice`` imports
 it only when a request is large enough, never at start-up.
+
+Every constant of another module (Etheta's C1 to C4, the bound of the Taylor series of g) comes
+in as an argument, not as a global: numba's cache is checked against this file alone, and would
+keep a global's old value after a change elsewhere.
 """
 
 from __future__ import annotations
@@ -56,8 +61,8 @@ def _njit(fn=None, **extra):
 # The C library's exp and log are calls the compiler cannot turn into vector instructions, and
 # they were a third of the kernel's time. These are the textbook forms (range reduction by
 # powers of 2 with ln 2 split in two parts, as in Cody and Waite, Software Manual for the
-# Elementary Functions, 1980; Taylor series of the reduced argument), within one ulp of numpy's
-# exp and log (tests/test_pitzer_kernel.py), on the arguments the kernel gives them.
+# Elementary Functions, 1980; Taylor series of the reduced argument), within an ulp or two of
+# numpy's exp and log (tests/test_pitzer_kernel.py), on the arguments the kernel gives them.
 @intrinsic
 def _as_float(typingctx, bits):  # pragma: no cover - compiled
     """The float64 whose bits are the int64 ``bits``."""
@@ -161,14 +166,15 @@ def _g_row(a, two_a2, s, inv, series_below):  # pragma: no cover - compiled
 
 
 @_njit
-def _kernel(m, z, a_phi, b, alpha, prod_c3, prod_c1, type_w, n_types, ln_o, ln_f, ln_w, pr_o, pr_f,
-            pr_w, pair_q, c_w, tri_q, tri_c, psi_w, series_below, ln_out, phi_out,
+def _kernel(m, z, a_phi, b, alpha, c2, c4, prod_c3, prod_c1, type_w, n_types, ln_o, ln_f, ln_w, pr_o,
+            pr_f, pr_w, pair_q, c_w, tri_q, tri_c, psi_w, series_below, ln_out, phi_out,
             total_out):  # pragma: no cover
     """ln gamma (S, K, N), phi (S, N) and sum_i m_i (N,) into ``ln_out``, ``phi_out``,
     ``total_out``.
 
     m (N, K) molalities; z (K,) charges; a_phi (N,); b (S, 1 or N); alpha (U, 1 or N) the
-    distinct alphas (or one per row); prod_c3, prod_c1 (P,) C3 zz^C4 and C1 zz^-C2 of each
+    distinct alphas (or one per row); c2, c4 Pitzer's (1975) C2 and C4, and prod_c3, prod_c1
+    (P,) C3 zz^C4 and C1 zz^-C2 of each
     distinct product zz of charges Etheta needs, type_w (T, P) its weights per charge type;
     ln_o, ln_f, ln_w (S, nnz, 1 or N): output row, feature and value of each nonzero
     coefficient of ln gamma's product; pr_o, pr_f, pr_w the same for the sums over pairs (the
@@ -266,8 +272,8 @@ def _kernel(m, z, a_phi, b, alpha, prod_c3, prod_c1, type_w, n_types, ln_o, ln_f
                 base = base if i_[r] > 0.0 else 1.0
                 lb = _log(base)
                 base_[r] = base
-                bc4_[r] = _exp(lb * C4)
-                lb_[r] = lb * -C2
+                bc4_[r] = _exp(lb * c4)
+                lb_[r] = lb * -c2
             for p in range(n_prod):
                 c3p = prod_c3[p]
                 c1p = prod_c1[p]
@@ -277,7 +283,7 @@ def _kernel(m, z, a_phi, b, alpha, prod_c3, prod_c1, type_w, n_types, ln_o, ln_f
                     rr = 1.0 / (q + 4.0)
                     jj = base_[r] * rr
                     jr[p, r] = jj
-                    xr[p, r] = ((((u3 * C4) + (1.0 + C2)) * q + 4.0) * rr) * jj
+                    xr[p, r] = ((((u3 * c4) + (1.0 + c2)) * q + 4.0) * rr) * jj
             for t in range(n_types):
                 for r in range(nb):
                     et_[t, r] = 0.0
@@ -452,7 +458,7 @@ def evaluate(lay: _Layout, alpha_values: np.ndarray, w: _Weights, molality: np.n
     _kernel(m, np.ascontiguousarray(lay.z, dtype=float),
             np.ascontiguousarray(np.broadcast_to(a_phi, (n,)), dtype=float),
             np.ascontiguousarray(b, dtype=float), np.ascontiguousarray(alpha_values, dtype=float),
-            prod_c3, prod_c1, type_w.reshape(len(lay.types), len(prod_c3)), len(lay.types),
+            C2, C4, prod_c3, prod_c1, type_w.reshape(len(lay.types), len(prod_c3)), len(lay.types),
             ln_o, ln_f, ln_w, pr_o, pr_f, pr_w,
             lay.q_of[lay.pc, lay.pa].astype(np.intp), _per_key(w.c_mx),
             lay.q_of[tri[:, 0], tri[:, 1]].astype(np.intp), tri[:, 2].astype(np.intp),
