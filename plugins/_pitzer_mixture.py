@@ -30,6 +30,10 @@ Green Book, 3rd ed., 2007, 2.13); the mean of a neutral salt (nu+ ln gamma+ + nu
 Single ions: the values above are the model's own (the split of the Debye-Hückel term F as
 z_i^2 F), a non-thermodynamic convention; only means and the osmotic coefficient are measurable.
 For one cation and one anion the equations are those of one salt (Pitzer 1991, ch. 3, eqs. 49-51).
+
+Large requests are evaluated by a compiled kernel of the same equations and coefficients
+(:mod:`saltbench.plugins._pitzer_kernel`, with numba, the optional extra ``fast``), chosen by
+:mod:`saltbench.plugins._pitzer_choice`; ``tests/test_pitzer_kernel.py`` holds the two equal.
 """
 
 from __future__ import annotations
@@ -41,6 +45,7 @@ import numpy as np
 
 from saltbench.models.assemble import assemble
 from saltbench.models.contract import Computed, ParameterKey, Request
+from saltbench.plugins import _pitzer_choice
 from saltbench.plugins._etheta import etheta
 
 _SERIES_BELOW = 1e-2  # x below which g, g' and their derivatives come from Taylor series
@@ -239,10 +244,19 @@ class _Weights:
     pairs: np.ndarray
     n_alpha: int
     n_types: int
+    # with ``split`` (the compiled kernel): C of each pair (S, R, P) and psi of each triplet
+    # (S, R, triplets), whose terms are then left out of ``ln``'s |z_i| C entries and of the
+    # rows of ``pairs`` for phi (the kernel forms sum m_c m_a C and sum psi m m m once)
+    c_mx: np.ndarray | None = None
+    psi: np.ndarray | None = None
 
 
-def _weights(lay: _Layout, vals: np.ndarray, alphas: _Alphas) -> _Weights:
-    """The coefficient matrices of :class:`_Weights` from parameter values (S, R, keys)."""
+def _weights(lay: _Layout, vals: np.ndarray, alphas: _Alphas, split: bool = False) -> _Weights:
+    """The coefficient matrices of :class:`_Weights` from parameter values (S, R, keys).
+
+    ``split`` leaves the terms |z_i| sum m_c m_a C (in ln gamma and phi) and psi's part of phi
+    out of the matrices and gives C and psi beside them: they are sums over pairs and triplets
+    times one factor per ion, which the compiled kernel forms once rather than once per ion."""
     k, n_pairs, n_types, n_alpha = lay.k, lay.n_pairs, len(lay.types), alphas.n
     n_sets, rows = vals.shape[:2]
     n_lin = (2 + n_alpha + n_types) * k
@@ -286,16 +300,20 @@ def _weights(lay: _Layout, vals: np.ndarray, alphas: _Alphas) -> _Weights:
     # the products: |z_i| C (|z_i| sum m_c m_a C) and psi's part of ln gamma (d/dm_i of
     # sum psi m m m); the rows r_i of phi get |z_i| C and a third of psi's part
     z_abs = np.abs(lay.z)[:, None]
-    ln[:, :, :, n_lin + q_pair] = z_abs * c_mx[:, :, None, :]
-    pairs[:, :, o_r:, q_pair] = z_abs * c_mx[:, :, None, :]
+    if not split:
+        ln[:, :, :, n_lin + q_pair] = z_abs * c_mx[:, :, None, :]
+        pairs[:, :, o_r:, q_pair] = z_abs * c_mx[:, :, None, :]
     tri = lay.triplets
     for i, (a, b) in ((0, (1, 2)), (1, (0, 2)), (2, (0, 1))):
         # within one statement each entry is one triplet's (the member and the other two)
         cols = lay.q_of[tri[:, a], tri[:, b]]
         ln[:, :, tri[:, i], n_lin + cols] += psi
-        pairs[:, :, o_r + tri[:, i], cols] += psi / 3.0
+        if not split:
+            pairs[:, :, o_r + tri[:, i], cols] += psi / 3.0
     pairs[:, :, o_zero, q_pair] = beta0
     pairs[:, :, o_zero, lay.q_of[lj, lk]] = theta
+    if split:
+        return _Weights(ln, pairs, n_alpha, n_types, c_mx, psi)
     return _Weights(ln, pairs, n_alpha, n_types)
 
 
@@ -338,8 +356,8 @@ class _Mixture:
 
     def __init__(self, request: Request, lay: _Layout, alphas: _Alphas, w: _Weights) -> None:
         comp = request.composition
+        self.comp = comp
         self.lay, self.alphas, self.w = lay, alphas, w
-        self.i = comp.ionic_strength
         self.m = comp.molality  # (N, K); each block takes its rows as (K, n)
         cond = request.conditions
         self.a_phi = cond.a_phi  # (N,)
@@ -347,6 +365,12 @@ class _Mixture:
         self.a_phi_et = float(cond.dh[0].a_phi) if len(cond.dh) == 1 else None
         self.b = request.value(ParameterKey("b"))  # (S, 1) or (S, N)
         self.n_sets = request.n_sets
+
+    @property
+    def i(self) -> np.ndarray:
+        """The ionic strength (N,) (the composition keeps it once worked out; the compiled
+        kernel works out its own)."""
+        return self.comp.ionic_strength
 
     def run(self) -> tuple[np.ndarray, np.ndarray]:
         """ln gamma (S, K, N) and phi (S, N)."""
@@ -425,7 +449,9 @@ def compute_mixture(request: Request, default_alphas) -> Computed:
 
     The sums over ions are products of coefficient matrices (from the parameter values,
     :func:`_weights`) with features of each row (m, m g_u, m Etheta_t, m Z and the products
-    m_j m_k), whose outputs the functions of I then weight (:class:`_Mixture`).
+    m_j m_k), whose outputs the functions of I then weight (:class:`_Mixture`). Large requests
+    take the compiled kernel of the same equations and coefficients where numba is installed
+    (:mod:`saltbench.plugins._pitzer_choice`); derivatives always come from numpy.
     """
     comp = request.composition
     lay = _layout(comp.names, comp.charges, default_alphas)
@@ -436,10 +462,30 @@ def compute_mixture(request: Request, default_alphas) -> Computed:
     alpha = np.where(alpha == 0.0, lay.default_alpha, alpha)  # 0: the charge-type value
     per_row_alpha = alpha.shape[1] != 1 and bool((alpha != alpha[:, :1]).any())
     alphas = _Alphas(alpha if per_row_alpha else alpha[:, :1])
+    ln, phi, total, mixture = _run(request, lay, alphas, vals)
+    d_ions, d_osm = _derivatives(request, comp, lay, alphas, mixture)
+    return assemble(request, ln.transpose(0, 2, 1), d_ions, phi, d_osm, total=total)
+
+
+def _run(request: Request, lay: _Layout, alphas: _Alphas, vals: np.ndarray
+         ) -> tuple[np.ndarray, np.ndarray, np.ndarray | None, _Mixture]:
+    """ln gamma (S, K, N) and phi (S, N) by the compiled kernel where
+    :mod:`saltbench.plugins._pitzer_choice` picks it, else by numpy; sum_i m_i (N,) where the
+    kernel gives it (None from numpy); and the evaluation's state, which the derivatives read."""
+    kernel = _pitzer_choice.compiled_for(request.composition.n)
+    if kernel is not None:
+        mixture = _Mixture(request, lay, alphas, _weights(lay, vals, alphas, split=True))
+        try:
+            ln, phi, total = kernel.evaluate(lay, alphas.values, mixture.w, mixture.m,
+                                             mixture.a_phi, mixture.b)
+        except Exception as exc:  # numba could not compile here: numpy from now on
+            _pitzer_choice.KERNEL.failed(exc)
+        else:
+            _pitzer_choice.KERNEL.proven = True
+            return ln, phi, total, mixture
     mixture = _Mixture(request, lay, alphas, _weights(lay, vals, alphas))
     ln, phi = mixture.run()
-    d_ions, d_osm = _derivatives(request, comp, lay, alphas, mixture)
-    return assemble(request, ln.transpose(0, 2, 1), d_ions, phi, d_osm)
+    return ln, phi, None, mixture
 
 
 def _derivatives(request: Request, comp, lay: _Layout, alphas: _Alphas, mixture: _Mixture):

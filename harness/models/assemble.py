@@ -17,10 +17,15 @@ from saltbench.water.properties import MOLAR_MASS_WATER, water_activity
 
 
 def assemble(request: Request, ln_ions: np.ndarray, d_ions: dict[ParameterKey, np.ndarray],
-             phi: np.ndarray | None, d_phi: dict[ParameterKey, np.ndarray]) -> Computed:
-    """The request's quantities from single-ion values (S, N, K) and phi (S, N)."""
+             phi: np.ndarray | None, d_phi: dict[ParameterKey, np.ndarray], *,
+             total: np.ndarray | None = None) -> Computed:
+    """The request's quantities from single-ion values (S, N, K) and phi (S, N).
+
+    ``total`` is sum_i m_i of each row (N,) where the model has it already (summing a few
+    columns of many rows is slow in numpy, a sizeable part of a fast model's time)."""
     comp = request.composition
-    total = comp.molality.sum(axis=1)
+    if total is None:
+        total = comp.molality.sum(axis=1)
     values: dict[Quantity, np.ndarray] = {}
     derivs: dict[Quantity, dict[ParameterKey, np.ndarray]] = {}
     for q in request.quantities:

@@ -13,6 +13,14 @@ their defaults), over N compositions, divided by the time of np.exp on N points 
 item 7: at most 200 per composition). ``--ions`` names the ions (comma-separated, from
 SEAWATER_LIKE below; Na, K, Mg, Ca, Cl, SO4, HCO3 unless given), and may be repeated to time several
 lists in one run; ``mixture`` in the JSON is the first, ``mixtures`` all of them.
+
+Both paths of the mixture evaluation are timed (``SALTBENCH_KERNEL=numpy`` and ``compiled``;
+the compiled one where numba, the extra ``fast``, is installed): ``mixture`` holds the numpy
+figures as before and ``compiled`` the kernel's, after a first call that compiled it or loaded
+it from numba's cache. What that first call costs is timed apart, in fresh processes
+(``kernel_start``): numba's import, then the first call with an empty cache (compiling) and with
+the cache it left (loading), each against a second call. ``by_rows`` times one call of each path
+at a few sizes of request, the figures behind the kernel's threshold (plugins/_pitzer_choice.py).
 """
 
 from __future__ import annotations
@@ -21,6 +29,10 @@ import argparse
 import importlib.util
 import json
 import math
+import os
+import subprocess
+import sys
+import tempfile
 import time
 
 import numpy as np
@@ -59,9 +71,9 @@ def _one_salt_calls(model) -> dict:
             "compute": lambda: model.compute(request)}
 
 
-def _mixture(formulas: list[str], n: int) -> dict:
-    """One full evaluation of ``formulas`` over ``n`` compositions, timed against np.exp on as
-    many points just before (the best of 20 and of 10 runs)."""
+def _request(formulas: list[str], n: int) -> Request:
+    """A full evaluation (every ion's ln gamma, phi, a_w) of ``formulas`` over ``n``
+    seawater-like compositions, every key given a value (random; fixed ones at their default)."""
     rng = np.random.default_rng(0)
     ions = tuple(KNOWN_IONS[f] for f in formulas)
     base = np.array([SEAWATER_LIKE[f] for f in formulas])
@@ -70,13 +82,26 @@ def _mixture(formulas: list[str], n: int) -> dict:
     values = {k: np.array([[p.default if p.fixed else rng.normal(0, 0.05)]])
               for k, p in model.keys_for(comp).items()}
     qs = tuple(ln_gamma(i.name) for i in ions) + (OSMOTIC, WATER_ACTIVITY)
-    request = Request(comp, qs, values, Conditions.of(comp))
+    return Request(comp, qs, values, Conditions.of(comp))
+
+
+def _mixture(formulas: list[str], n: int, path: str = "numpy") -> dict:
+    """One full evaluation of ``formulas`` over ``n`` compositions by ``path`` (numpy or
+    compiled), timed against np.exp on as many points just before (the best of 20 and of 10
+    runs)."""
+    os.environ["SALTBENCH_KERNEL"] = path
+    rng = np.random.default_rng(1)
+    request = _request(formulas, n)
+    ions = request.composition.ions
+    values = request.params
+    model = Pitzer()
+    model.compute(request)  # untimed: the compiled path's first call compiles or loads it
     x = rng.uniform(-1.0, 0.0, n)
     exp_rate = best_rate(lambda: np.exp(x), n, 20)
     mix_rate = best_rate(lambda: model.compute(request), n, 10)
     exp_cpu = _best_cpu(lambda: np.exp(x), 20)
     mix_cpu = _best_cpu(lambda: model.compute(request), 10)
-    return {"compositions": n, "ions": len(ions), "ion_list": [i.name for i in ions],
+    return {"path": path, "compositions": n, "ions": len(ions), "ion_list": [i.name for i in ions],
             "keys": len(values),
             "seconds_per_composition": 1.0 / mix_rate,
             "seconds_per_exp": 1.0 / exp_rate,
@@ -85,6 +110,61 @@ def _mixture(formulas: list[str], n: int) -> dict:
             # milliseconds on a loaded machine is preempted where np.exp's 0.1 ms is not, so
             # wall times then overstate the ratio; threads of a parallel BLAS count in full
             "cpu_exp_equivalents_per_composition": mix_cpu / exp_cpu}
+
+
+def _by_rows(formulas: list[str], sizes: list[int]) -> list[dict]:
+    """Seconds of one call of each path (best of repeats) for requests of ``sizes`` rows."""
+    model = Pitzer()
+    out = []
+    for n in sizes:
+        request = _request(formulas, n)
+        row: dict = {"compositions": n}
+        for path in ("numpy", "compiled"):
+            os.environ["SALTBENCH_KERNEL"] = path
+            model.compute(request)
+            row[f"{path}_s"] = 1.0 / best_rate(lambda: model.compute(request), 1, 30 if n < 10_000 else 5)
+        out.append(row)
+    return out
+
+
+START = """
+import json, os, sys, time
+sys.path.insert(0, {here!r})
+os.environ["SALTBENCH_KERNEL"] = "compiled"
+from bench_pitzer import _request
+from saltbench.plugins.pitzer import Pitzer
+request = _request({formulas!r}, 1000)
+model = Pitzer()
+t0 = time.perf_counter()
+import numba  # noqa: F401
+t1 = time.perf_counter()
+model.compute(request)
+t2 = time.perf_counter()
+model.compute(request)
+t3 = time.perf_counter()
+import saltbench.plugins._pitzer_choice as choice
+print(json.dumps({{"import_numba_s": t1 - t0, "first_call_s": t2 - t1, "second_call_s": t3 - t2,
+                  "kernel_ran": bool(choice.KERNEL.proven)}}))
+"""
+
+
+def _kernel_start(formulas: list[str]) -> dict:
+    """numba's import and the kernel's first call in fresh processes: with an empty cache
+    folder (compiling) and again with the cache that run left (loading)."""
+    here = os.path.dirname(os.path.abspath(__file__))
+    code = START.format(here=here, formulas=formulas)
+    out = {}
+    with tempfile.TemporaryDirectory() as cache:
+        env = {**os.environ, "NUMBA_CACHE_DIR": cache}
+        for name in ("cold_cache", "warm_cache"):
+            proc = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
+                                  env=env, check=True)
+            out[name] = json.loads(proc.stdout.strip().splitlines()[-1])
+    return out
+
+
+def _compiled_available() -> bool:
+    return importlib.util.find_spec("numba") is not None
 
 
 def _best_cpu(fn, repeat: int) -> float:
@@ -103,6 +183,8 @@ def main() -> None:
     ap.add_argument("--before")
     ap.add_argument("--compositions", type=int, default=100_000)
     ap.add_argument("--repeat", type=int, default=2000)
+    ap.add_argument("--only-compiled", action="store_true",
+                    help="time the compiled path alone (no numpy figures, no start-up runs)")
     ap.add_argument("--ions", action="append",
                     help=f"comma-separated ions of {', '.join(SEAWATER_LIKE)} "
                          f"(default {DEFAULT_IONS}); repeat to time several lists")
@@ -128,8 +210,21 @@ def main() -> None:
                                "ratio": times[f"{k}/after"][0] / times[f"{k}/before"][0]}
                            for k in before}
     n = args.compositions
+    out["load_average_at_start"] = os.getloadavg()
+    if args.only_compiled:
+        out["compiled_mixtures"] = [_mixture(formulas, n, "compiled") for formulas in lists]
+        print(json.dumps(out, indent=1))
+        return
     out["mixtures"] = [_mixture(formulas, n) for formulas in lists]
     out["mixture"] = out["mixtures"][0]
+    if _compiled_available():
+        out["compiled_mixtures"] = [_mixture(formulas, n, "compiled") for formulas in lists]
+        out["compiled"] = out["compiled_mixtures"][0]
+        out["kernel_start"] = _kernel_start(lists[0])
+        out["by_rows"] = _by_rows(lists[0], [1, 10, 100, 1000, 4096, 10_000, 100_000])
+    else:
+        out["compiled"] = "numba is not installed (pip install -e '.[fast]')"
+    out["load_average_at_end"] = os.getloadavg()
     print(json.dumps(out, indent=1))
     with open(args.out, "w", encoding="utf-8") as fh:
         json.dump(out, fh, indent=1)

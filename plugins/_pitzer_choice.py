@@ -1,0 +1,90 @@
+"""Which code evaluates a Pitzer mixture request: the compiled kernel or numpy.
+
+The compiled kernel (:mod:`saltbench.plugins._pitzer_kernel`, numba, the optional extra
+``fast``) evaluates large requests; everything else, and every request where numba is missing
+or its kernel fails to compile, takes the numpy path of
+:mod:`saltbench.plugins._pitzer_mixture`. The two give the same values to rounding
+(``tests/test_pitzer_kernel.py``).
+
+Why a threshold: importing numba and loading the kernel from numba's cache costs about half a
+second once per process (compiling it, the first time, several seconds), while a request of a
+few hundred rows takes the numpy path well under a millisecond. Fits and comparisons make many
+small requests, in worker processes; they keep the numpy path and never pay for numba. A
+request of :data:`KERNEL_MIN_ROWS` rows or more (a grid of compositions, a scan) takes the
+kernel. The figures behind the number are in ``tests/benchmarks/SPEED.md``.
+
+``SALTBENCH_KERNEL`` (environment) overrides the choice, for tests and comparisons of the two
+paths: ``numpy`` always takes numpy, ``compiled`` takes the kernel for every request (still
+numpy where numba is missing), ``auto`` or unset as above.
+"""
+
+from __future__ import annotations
+
+import os
+from types import ModuleType
+
+from saltbench.errors import UserError
+
+#: Rows from which a request takes the compiled kernel (``SALTBENCH_KERNEL=auto``).
+KERNEL_MIN_ROWS = 4096
+KERNEL_ENV = "SALTBENCH_KERNEL"
+CHOICES = ("auto", "numpy", "compiled")
+
+
+
+def _debug(message: str, *args: object) -> None:
+    """A debug-level log record (the logging module is imported only then: the plugin loads at
+    every start-up, and a fall back to numpy is the only thing this module says)."""
+    import logging
+
+    logging.getLogger(__name__).debug(message, *args)
+
+
+class _Kernel:
+    """The kernel module once imported (None when numba is missing or the kernel failed), and
+    whether one call has succeeded: until then a failure (numba cannot compile here) sends the
+    process to the numpy path for good; after it, a failure is a fault of ours and is raised."""
+
+    def __init__(self) -> None:
+        self.module: ModuleType | None = None
+        self.tried = False
+        self.proven = False
+
+    def load(self) -> ModuleType | None:
+        if not self.tried:
+            self.tried = True
+            try:
+                from saltbench.plugins import _pitzer_kernel
+            except Exception as exc:  # numba missing, or present but unusable
+                _debug("Pitzer mixtures: no compiled kernel (%s: %s); numpy path",
+                           type(exc).__name__, exc)
+            else:
+                self.module = _pitzer_kernel
+        return self.module
+
+    def failed(self, exc: Exception) -> None:
+        """The first call failed: numpy from now on (raised again when a call had succeeded)."""
+        if self.proven:
+            raise exc
+        _debug("Pitzer mixtures: the compiled kernel failed (%s: %s); numpy path",
+                   type(exc).__name__, exc)
+        self.module = None
+
+
+KERNEL = _Kernel()
+
+
+def choice() -> str:
+    """``SALTBENCH_KERNEL``'s value (``auto`` when unset); another value is refused."""
+    value = os.environ.get(KERNEL_ENV, "").strip().lower() or "auto"
+    if value not in CHOICES:
+        raise UserError(f"{KERNEL_ENV}={os.environ[KERNEL_ENV]!r}: use one of {', '.join(CHOICES)}")
+    return value
+
+
+def compiled_for(n_rows: int) -> ModuleType | None:
+    """The kernel module to evaluate a request of ``n_rows`` rows, or None for numpy."""
+    how = choice()
+    if how == "numpy" or (how == "auto" and n_rows < KERNEL_MIN_ROWS):
+        return None
+    return KERNEL.load()
