@@ -6,12 +6,21 @@ or its kernel fails to compile, takes the numpy path of
 :mod:`saltbench.plugins._pitzer_mixture`. The two give the same values to rounding
 (``tests/test_pitzer_kernel.py``).
 
-Why a threshold: importing numba and loading the kernel from numba's cache costs about half a
-second once per process (compiling it, the first time, several seconds), while a request of a
-few hundred rows takes the numpy path well under a millisecond. Fits and comparisons make many
-small requests, in worker processes; they keep the numpy path and never pay for numba. A
-request of :data:`KERNEL_MIN_ROWS` rows or more (a grid of compositions, a scan) takes the
-kernel. The figures behind the number are in ``tests/benchmarks/SPEED.md``.
+When the kernel pays: importing numba and loading the kernel from numba's cache costs about
+half a second once per process (compiling it, the first time on a machine, several seconds),
+and saves about 0.2 µs per composition afterwards (0.36 against 0.17 on a quiet machine, seven
+ions; ``tests/benchmarks/SPEED.md``). A command that evaluates one grid of 100 000 compositions
+is faster without it (40 ms of numpy against 20 ms after half a second of loading); a long
+session of scans and studies in one process is faster with it. Which kind of process this is
+cannot be known in advance, so the choice follows the rent-or-buy rule of online algorithms (the
+ski-rental problem; Karlin, Manasse, Rudolph and Sleator, Algorithmica 3, 79 (1988), from
+memory): keep paying the slower path until it has cost about what switching costs, then switch.
+That never costs more than about twice the better choice made in hindsight. In numbers: a
+request of :data:`KERNEL_MIN_ROWS` rows or more takes the numpy path until this process has
+evaluated :data:`KERNEL_AFTER_ROWS` compositions that way (about 0.7 s of numpy work), and the
+kernel from then on. Smaller requests always take numpy: fits and comparisons make many small
+requests, in worker processes, and keep their results to the last bit whatever else the process
+has done.
 
 ``SALTBENCH_KERNEL`` (environment) overrides the choice, for tests and comparisons of the two
 paths: ``numpy`` always takes numpy, ``compiled`` takes the kernel for every request (still
@@ -25,8 +34,11 @@ from types import ModuleType
 
 from saltbench.errors import UserError
 
-#: Rows from which a request takes the compiled kernel (``SALTBENCH_KERNEL=auto``).
+#: Requests of fewer rows always take numpy (``SALTBENCH_KERNEL=auto``).
 KERNEL_MIN_ROWS = 4096
+#: Compositions a process evaluates by numpy in large requests before it loads the kernel: at
+#: about 0.36 µs each, about the half second that loading the kernel costs (see the module).
+KERNEL_AFTER_ROWS = 2_000_000
 KERNEL_ENV = "SALTBENCH_KERNEL"
 CHOICES = ("auto", "numpy", "compiled")
 
@@ -49,6 +61,7 @@ class _Kernel:
         self.module: ModuleType | None = None
         self.tried = False
         self.proven = False
+        self.numpy_rows = 0  # compositions evaluated by numpy in large requests so far
 
     def load(self) -> ModuleType | None:
         if not self.tried:
@@ -75,7 +88,8 @@ KERNEL = _Kernel()
 
 
 def choice() -> str:
-    """``SALTBENCH_KERNEL``'s value (``auto`` when unset); another value is refused."""
+    """``SALTBENCH_KERNEL``'s value (``auto`` when unset); another value is refused (a
+    UserError: the model call passes it on, and the command exits with status 2)."""
     value = os.environ.get(KERNEL_ENV, "").strip().lower() or "auto"
     if value not in CHOICES:
         raise UserError(f"{KERNEL_ENV}={os.environ[KERNEL_ENV]!r}: use one of {', '.join(CHOICES)}")
@@ -86,5 +100,8 @@ def compiled_for(n_rows: int) -> ModuleType | None:
     """The kernel module to evaluate a request of ``n_rows`` rows, or None for numpy."""
     how = choice()
     if how == "numpy" or (how == "auto" and n_rows < KERNEL_MIN_ROWS):
+        return None
+    if how == "auto" and not KERNEL.tried and KERNEL.numpy_rows < KERNEL_AFTER_ROWS:
+        KERNEL.numpy_rows += n_rows  # not yet worth loading (see the module)
         return None
     return KERNEL.load()

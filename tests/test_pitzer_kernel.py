@@ -33,7 +33,7 @@ import saltbench.plugins._pitzer_choice as choice  # noqa: E402
 import saltbench.plugins._pitzer_kernel as kernel  # noqa: E402
 from saltbench.chemistry.ions import KNOWN_IONS  # noqa: E402
 from saltbench.chemistry.solution import Composition  # noqa: E402
-from saltbench.errors import ModelError  # noqa: E402
+from saltbench.errors import UserError  # noqa: E402
 from saltbench.models.contract import Conditions, ParameterKey, Request  # noqa: E402
 from saltbench.models.evaluate import compute  # noqa: E402
 from saltbench.models.quantities import OSMOTIC, WATER_ACTIVITY, ln_gamma  # noqa: E402
@@ -246,12 +246,20 @@ def _sea(n: int) -> Request:
     return Request(comp, _all(comp), _values(rng, comp, 1, False), Conditions.single(DH, n))
 
 
-def test_large_requests_take_the_kernel_and_small_ones_numpy(monkeypatch):
+def test_large_requests_take_the_kernel_once_numpy_has_cost_about_its_loading(monkeypatch):
     calls = []
     real = kernel.evaluate
     monkeypatch.setattr(kernel, "evaluate", lambda *a: (calls.append(a[3].shape[0]), real(*a))[1])
-    MODEL.compute(_sea(choice.KERNEL_MIN_ROWS - 1))
+    fresh = choice._Kernel()
+    monkeypatch.setattr(choice, "KERNEL", fresh)
+    monkeypatch.setattr(choice, "KERNEL_AFTER_ROWS", 2 * choice.KERNEL_MIN_ROWS)
+    MODEL.compute(_sea(choice.KERNEL_MIN_ROWS - 1))  # small: never counted, never compiled
+    assert fresh.numpy_rows == 0
     MODEL.compute(_sea(choice.KERNEL_MIN_ROWS))
+    MODEL.compute(_sea(choice.KERNEL_MIN_ROWS))
+    assert calls == [] and fresh.numpy_rows == 2 * choice.KERNEL_MIN_ROWS and not fresh.tried
+    MODEL.compute(_sea(choice.KERNEL_MIN_ROWS))  # the rent is paid: the kernel from now on
+    MODEL.compute(_sea(choice.KERNEL_MIN_ROWS - 1))  # small ones still take numpy
     assert calls == [choice.KERNEL_MIN_ROWS]
     monkeypatch.setenv(choice.KERNEL_ENV, "numpy")
     MODEL.compute(_sea(choice.KERNEL_MIN_ROWS))
@@ -262,7 +270,7 @@ def test_large_requests_take_the_kernel_and_small_ones_numpy(monkeypatch):
 
 def test_an_unknown_choice_is_refused_in_one_line(monkeypatch):
     monkeypatch.setenv(choice.KERNEL_ENV, "fastest")
-    with pytest.raises(ModelError, match=r"SALTBENCH_KERNEL='fastest': use one of auto, numpy, compiled"):
+    with pytest.raises(UserError, match=r"SALTBENCH_KERNEL='fastest': use one of auto, numpy, compiled"):
         compute(MODEL, _sea(2))
 
 
@@ -353,15 +361,19 @@ def run(n):
 
 run(50)
 print("after small:", "numba" in sys.modules)
+run(choice.KERNEL_MIN_ROWS)
+print("after one large:", "numba" in sys.modules)
+choice.KERNEL_AFTER_ROWS = choice.KERNEL_MIN_ROWS
 out = run(choice.KERNEL_MIN_ROWS)
 print("after large:", "numba" in sys.modules, choice.KERNEL.module is not None and choice.KERNEL.proven)
 """
 
 
-def test_numba_is_imported_only_by_the_first_large_request():
+def test_numba_is_imported_only_once_large_requests_have_paid_for_it():
     proc = _python("-c\0" + SMALL_AND_LARGE)
     assert proc.returncode == 0, proc.stderr
     assert "after small: False" in proc.stdout
+    assert "after one large: False" in proc.stdout  # numpy's cost has not reached the loading's
     assert "after large: True True" in proc.stdout
     assert not proc.stderr.strip()  # no warning of numba's on the user's screen
 

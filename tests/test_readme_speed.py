@@ -22,14 +22,21 @@ def _speed_section() -> str:
     return text[start:end if end > 0 else None]
 
 
-def _run() -> dict:
-    m = re.search(r"`(reports/benchmarks/[^`]+\.json)`", _speed_section())
-    assert m, "the Speed section names the JSON of its run"
+def _run(kind: str = "bench") -> dict:
+    m = re.search(rf"`(reports/benchmarks/{kind}-[^`]+\.json)`", _speed_section())
+    assert m, f"the Speed section names the JSON of its {kind} run"
     return json.loads((ROOT / m.group(1)).read_text(encoding="utf-8"))
 
 
-def test_the_speed_table_is_made_from_the_named_run() -> None:
-    assert speed_table.block(_run()) in _speed_section()
+def test_the_speed_table_is_made_from_the_named_runs() -> None:
+    assert speed_table.block(_run(), _run("pitzer-mixture")) in _speed_section()
+
+
+def test_the_mixture_rows_say_met_only_within_the_target() -> None:
+    mix = _run("pitzer-mixture")
+    for row, key in zip(speed_table.mixture_rows(mix), ("compiled", "mixture")):
+        within = mix[key]["exp_equivalents_per_composition"] <= speed_table.MIXTURE_EXP_MAX
+        assert row[-1].endswith("met") and (("not met" in row[-1]) != within)
 
 
 def test_the_table_says_not_met_where_the_run_missed_a_target() -> None:

@@ -27,7 +27,7 @@ import numpy as np
 
 from saltbench.chemistry.electrolyte import Electrolyte
 from saltbench.chemistry.solution import Composition
-from saltbench.errors import ModelDomainError, ModelError
+from saltbench.errors import ModelDomainError, ModelError, UserError
 from saltbench.models.quantities import OSMOTIC, Quantity, kinds, ln_gamma, ln_gamma_pm
 from saltbench.water.debye_huckel import DebyeHuckel
 
@@ -516,10 +516,11 @@ class ActivityModel(SolutionModel):
 
 def call_model(model: SolutionModel, method: str, *args: object) -> Any:
     # Any: the plugin's return, unchecked; callers check its shape
-    """Call one model function, turning any exception of the plugin's into a ModelError."""
+    """Call one model function, turning any exception of the plugin's into a ModelError (a
+    UserError, such as a setting it refuses, passes as it is: the user's to fix)."""
     try:
         return getattr(model, method)(*args)
-    except (ModelError, ModelDomainError):
+    except (ModelError, UserError):
         raise
     except Exception as exc:
         raise ModelError(f"model {model.id}: {method} raised {type(exc).__name__}: {exc}") from exc

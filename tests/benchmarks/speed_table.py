@@ -1,6 +1,7 @@
 """The README's "Speed" table, made from a benchmark run's JSON (bench_compare.py --out).
 
-    python tests/benchmarks/speed_table.py reports/benchmarks/bench-DATE.json --update
+    python tests/benchmarks/speed_table.py reports/benchmarks/bench-DATE.json \
+        --mixture reports/benchmarks/pitzer-mixture-DATE.json --update
 
 rewrites the table between the README's ``speed-table`` markers (and the JSON's name in the
 sentence above it); without ``--update`` it prints the table. tests/test_readme_speed.py holds
@@ -102,32 +103,60 @@ def rows(run: dict[str, Any]) -> list[list[str]]:
     return out
 
 
-def render(run: dict[str, Any]) -> str:
+#: The Pitzer mixture evaluation's target, np.exp-equivalents per composition (issue 19).
+MIXTURE_EXP_MAX = 200
+
+
+def mixture_rows(mix: dict[str, Any]) -> list[list[str]]:
+    """Rows of a bench_pitzer.py run: both paths of the Pitzer mixture evaluation."""
+    out = []
+    for key, label in (("compiled", "compiled kernel (`fast` extra)"), ("mixture", "numpy path")):
+        r = mix.get(key)
+        if not r:
+            continue
+        eq = r["exp_equivalents_per_composition"]
+        out.append([f"Pitzer mixture evaluation, {r['ions']} ions (every ion's ln gamma, phi, "
+                    f"a_w), {r['compositions']:,} compositions: {label}",
+                    f"{r['seconds_per_composition'] * 1e6:.2f} µs per composition",
+                    f"{r['seconds_per_exp'] * 1e9:.2f} ns (np.exp per point)",
+                    f"{eq:.0f} np.exp-equivalents",
+                    f"<= {MIXTURE_EXP_MAX}: {_met(eq <= MIXTURE_EXP_MAX)}"])
+    return out
+
+
+def render(run: dict[str, Any], mixture: dict[str, Any] | None = None) -> str:
     lines = ["| figure | saltbench | baseline | ratio | target |", "|---|---|---|---|---|"]
-    lines += ["| " + " | ".join(r) + " |" for r in rows(run)]
+    lines += ["| " + " | ".join(r) + " |"
+              for r in rows(run) + (mixture_rows(mixture) if mixture else [])]
     return "\n".join(lines)
 
 
-def block(run: dict[str, Any]) -> str:
-    return f"{BEGIN}\n{render(run)}\n{END}"
+def block(run: dict[str, Any], mixture: dict[str, Any] | None = None) -> str:
+    return f"{BEGIN}\n{render(run, mixture)}\n{END}"
 
 
 def main() -> None:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("json", help="a bench_compare.py --out file, kept in reports/benchmarks/")
+    ap.add_argument("--mixture", help="a bench_pitzer.py output, kept in reports/benchmarks/")
     ap.add_argument("--update", action="store_true", help="rewrite the README's table")
     args = ap.parse_args()
     path = Path(args.json)
     run = json.loads(path.read_text(encoding="utf-8"))
+    mix_path = Path(args.mixture) if args.mixture else None
+    mixture = json.loads(mix_path.read_text(encoding="utf-8")) if mix_path else None
     if not args.update:
-        print(render(run))
+        print(render(run, mixture))
         return
     readme = ROOT / "README.md"
     text = readme.read_text(encoding="utf-8")
     start, end = text.index(BEGIN), text.index(END) + len(END)
-    text = text[:start] + block(run) + text[end:]
+    text = text[:start] + block(run, mixture) + text[end:]
     rel = path.resolve().relative_to(ROOT).as_posix()
     text = re.sub(r"`reports/benchmarks/bench-[^`]+\.json`", f"`{rel}`", text)
+    if mix_path:
+        rel = mix_path.resolve().relative_to(ROOT).as_posix()
+        text = re.sub(r"`reports/benchmarks/pitzer-mixture-[^`]+\.json`", f"`{rel}`", text)
     readme.write_text(text, encoding="utf-8")
 
 
