@@ -670,6 +670,18 @@ def _finite(model: ActivityModel, what: str, value: object, shape: tuple[int, ..
 
 
 # -- building problems ------------------------------------------------------------------------
+def checked_value(p: GlobalParameter, value: float, what: str = "fixed value") -> float:
+    """``value`` for parameter ``p`` as a float, refused (UserError naming ``what``) when it is
+    not finite or lies outside the parameter's bounds."""
+    value = float(value)
+    if not math.isfinite(value):
+        raise UserError(f"parameter {p.name}: {what} must be finite")
+    if not p.lower <= value <= p.upper:
+        raise UserError(f"parameter {p.name}: {what} {value:g} lies outside its "
+                        f"bounds {p.lower:g}..{p.upper:g}")
+    return value
+
+
 def parse_assignments(items: Iterable[str]) -> dict[str, float]:
     """``["b=0.2", "a=4"]`` -> ``{"b": 0.2, "a": 4.0}`` (raises UserError on a malformed item)."""
     out: dict[str, float] = {}
@@ -770,11 +782,5 @@ def build_problem(model: SolutionModel, items: Sequence[tuple[Electrolyte, FitDa
     for key, value in fixed.items():
         for i in targets(key, "fix"):
             p = params[i]
-            value = float(value)
-            if not math.isfinite(value):
-                raise UserError(f"parameter {p.name}: fixed value must be finite")
-            if not p.lower <= value <= p.upper:
-                raise UserError(f"parameter {p.name}: fixed value {value:g} lies outside its "
-                                f"bounds {p.lower:g}..{p.upper:g}")
-            params[i] = p._replace(free=False, value=value)
+            params[i] = p._replace(free=False, value=checked_value(p, value))
     return FitProblem(model, blocks, params)

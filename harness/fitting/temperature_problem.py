@@ -35,6 +35,7 @@ from saltbench.fitting.problem import (
     ProblemBase,
     _global_name,
     build_problem,
+    checked_value,
     parameter_layout,
 )
 from saltbench.fitting.thermal_points import (
@@ -342,13 +343,8 @@ def build_temperature_problem(model: SolutionModel, items: Sequence[tuple[Electr
                 raise UserError(f"model {model.id}: no coefficient {key!r} to {what} ({hint})")
             for i in hits:
                 p = outer[i]
-                v = float(value)
-                if not math.isfinite(v):
-                    raise UserError(f"parameter {p.name}: value must be finite")
-                if not p.lower <= v <= p.upper:
-                    raise UserError(f"parameter {p.name}: value {v:g} lies outside its bounds "
-                                    f"{p.lower:g}..{p.upper:g}")
-                outer[i] = p._replace(value=v, free=p.free if what == "start" else False)
+                outer[i] = p._replace(value=checked_value(p, value, "value"),
+                                      free=p.free if what == "start" else False)
     # inner parameters: one copy per temperature of each varying one
     basis = tform.basis(np.array(temps))  # (T, J)
     inner: list[GlobalParameter] = []
