@@ -6,14 +6,14 @@ code spends most of its time on its own per-call and per-step bookkeeping, not o
 This one does only what such a problem needs:
 
 * the step of Levenberg and Marquardt, delta = -(J'J + lambda D'D)^-1 J'r, in the columns
-  scaled to unit norm (Marquardt's scaling, kept as the largest norm seen so far, as Moré
-  recommends: Moré, in Numerical Analysis, Lecture Notes in Mathematics 630, 105 (1978)), from
-  one singular value decomposition of the scaled Jacobian per accepted point, so that every
-  trial damping costs a few multiplications;
-* the damping updated from the gain ratio of actual to predicted reduction (Nielsen's rule:
-  lambda times max(1/3, 1 - (2 rho - 1)^3) after a success, times nu = 2, 4, 8, ... after each
-  failure; Madsen, Nielsen and Tingleff, Methods for Non-Linear Least Squares Problems, 2nd ed.,
-  DTU (2004), sec. 3.2);
+  scaled to unit norm (Marquardt's scaling, kept as the largest norm seen so far), with lambda
+  chosen so that the scaled step stays within a trust radius (Moré, in Numerical Analysis,
+  Lecture Notes in Mathematics 630, 105 (1978): Hebden's iteration for lambda, sec. 5), from one
+  singular value decomposition of the scaled Jacobian per accepted point, so that every trial
+  step costs a few multiplications;
+* the radius updated from the gain ratio rho of actual to predicted reduction: a quarter of the
+  step's length below rho = 1/4, doubled above 3/4 when the radius bounded the step; it starts
+  at the scaled length of the start point (1 at zero), as in scipy's trust-region methods;
 * bounds by projection: a trial point is clipped into the box, and a parameter on its bound
   whose gradient points out of the box is held there for the step (a projected
   Levenberg-Marquardt method: Kanzow, Yamashita and Fukushima, J. Comput. Appl. Math. 172, 375
@@ -24,7 +24,7 @@ This one does only what such a problem needs:
   below gtol; ``max_nfev`` residual evaluations at most (default 100 per parameter).
 
 A residual function that returns non-finite values at a trial point rejects the step (the
-damping grows); at the start point it raises ValueError, as scipy does.
+radius shrinks); at the start point it raises ValueError, as scipy does.
 """
 
 from __future__ import annotations
