@@ -112,11 +112,7 @@ class _Projection:
         # set by the first set_point, which comes before any use
         self.resid: np.ndarray | None = None
         self.pred: np.ndarray | None = None
-        self._basis: np.ndarray | LinearSolution = _NO_BASIS  # a solution: its basis on demand
-        self.design: np.ndarray | None = None
-        self.weighted: np.ndarray | None = None
-        self.svd: ScaledSVD | None = None
-        self.linear_at_bound: dict[int, str] = {}
+        self.lin: LinearSolution | None = None  # with free linear parameters: their solution
         self.failures: list[str] = []
 
     def set_point(self, x: np.ndarray) -> None:
@@ -129,11 +125,10 @@ class _Projection:
         if p.linear.size:
             offset, design = p.linear_design(theta)
             lin = solve_linear(p, offset, design, projection=bool(p.nonlinear.size))
-            theta[p.linear], self._basis, self.linear_at_bound = lin.x, lin, lin.pinned
-            self.design, self.weighted, self.svd = design, lin.weighted, lin.svd
+            theta[p.linear], self.lin = lin.x, lin
             pred = offset + design @ theta[p.linear]
         else:
-            self._basis = _NO_BASIS
+            self.lin = None
             pred = p.predict(theta)
         resid = (p.obs - pred) / p.sigma
         # A sum is finite only if every term is; the elementwise test runs only when it is not.
@@ -142,12 +137,15 @@ class _Projection:
         self.theta, self.key, self.resid, self.pred = theta, key, resid, pred
 
     @property
+    def linear_at_bound(self) -> dict[int, str]:
+        """The free linear parameters held on a bound at the last point (global index)."""
+        return {} if self.lin is None else self.lin.pinned
+
+    @property
     def basis(self) -> np.ndarray:
-        """The basis that the Jacobian is projected off, decomposed when first asked for (a
-        trial point the optimiser rejects never needs it)."""
-        if isinstance(self._basis, LinearSolution):
-            self._basis = self._basis.basis
-        return self._basis
+        """The basis that the Jacobian is projected off (the linear solution decomposes it when
+        first asked: a trial point the optimiser rejects never needs it)."""
+        return _NO_BASIS if self.lin is None else self.lin.basis
 
     def fun(self, x: np.ndarray) -> np.ndarray:
         try:
@@ -456,7 +454,8 @@ def solve(problem: Problem, *, max_evaluations: int | None = None,
         jac_svd = None
         if p.nonlinear.size == 0 and p.linear.size:
             # Affine in every free parameter: the Jacobian is the design matrix, at any point.
-            jac, jac_svd = proj.weighted, proj.svd
+            assert proj.lin is not None  # set with the free linear parameters
+            jac, jac_svd = proj.lin.weighted, proj.lin.svd
         else:
             jac = p.derivatives(theta, p.free, base=prediction) / p.sigma[:, None]
     except _MODEL_FAILURES as exc:
