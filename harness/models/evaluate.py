@@ -121,7 +121,8 @@ def evaluate(model: SolutionModel, electrolyte: Electrolyte, molality: np.ndarra
 def compute(model: SolutionModel, request: Request) -> Computed:
     """``model.compute(request)`` checked, with what the harness derives for every model.
 
-    Plugin exceptions become :class:`ModelError`; every value must be finite and (S, N).
+    Plugin exceptions become :class:`ModelError` (a UserError, a setting the plugin refuses,
+    passes as it is); every value must be finite and (S, N).
     Asked-for quantities the model does not give are derived where thermodynamics allows: the
     osmotic coefficient of a solution of one salt by the Gibbs-Duhem integral of its ln gamma±
     (:mod:`saltbench.chemistry.gibbs_duhem`), and the water activity from phi,
