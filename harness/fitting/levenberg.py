@@ -96,70 +96,159 @@ def _step(s: np.ndarray, ur: np.ndarray, radius: float) -> tuple[np.ndarray, boo
     return p, True
 
 
+class Walk:
+    """One minimisation (see the module) as a sequence of requests: it asks for the residuals
+    or the Jacobian at :attr:`point` (:attr:`want`), and its caller answers with
+    :meth:`give_residuals` or :meth:`give_jacobian` until :attr:`want` is None. :func:`minimise`
+    answers one walk; :func:`minimise_together` answers several at once, so that a caller who
+    evaluates several parameter vectors in one call (the folds of a cross-validation) makes one
+    call per round for all of them. Each walk takes exactly the steps it would take alone."""
+
+    def __init__(self, x0: np.ndarray, lower: np.ndarray, upper: np.ndarray, *,
+                 ftol: float = 1e-10, xtol: float = 1e-10, gtol: float = 1e-10,
+                 max_nfev: int | None = None) -> None:
+        self.lower = np.asarray(lower, dtype=float)
+        self.upper = np.asarray(upper, dtype=float)
+        self.x = np.clip(np.asarray(x0, dtype=float), self.lower, self.upper)
+        self.k = self.x.size
+        self.limit = max_nfev if max_nfev is not None else 100 * self.k
+        self.ftol, self.xtol, self.gtol = ftol, xtol, gtol
+        self.nfev = self.njev = 0
+        self.status: int | None = None
+        #: What the walk waits for at :attr:`point`: "residuals", "jacobian", or None (ended).
+        self.want: str | None = "residuals"
+        self.point = self.x
+        self.r: np.ndarray | None = None
+        self.cost = math.inf
+        self.j = np.zeros((0, self.k))
+        self.scale: np.ndarray | None = None
+        self.radius = 1.0
+
+    def give_residuals(self, r_new: np.ndarray) -> None:
+        """The residuals at :attr:`point` (non-finite ones reject a trial step; at the start
+        point they raise ValueError)."""
+        self.nfev += 1
+        if self.r is None:
+            if not np.isfinite(r_new).all():
+                raise ValueError("the residuals are not finite at the start point")
+            self.r, self.cost = r_new, 0.5 * float(r_new @ r_new)
+            self.want = "jacobian"
+            return
+        r, cost, x = self.r, self.cost, self.x
+        x_new, delta = self.point, self._delta
+        assert self.scale is not None  # set with the first Jacobian
+        step_norm = math.sqrt(float(delta @ delta))
+        cost_new = 0.5 * float(r_new @ r_new) if np.isfinite(r_new).all() else math.inf
+        linear = r + self.j @ delta
+        predicted = cost - 0.5 * float(linear @ linear)
+        actual = cost - cost_new
+        rho = actual / predicted if predicted > 0 else (1.0 if actual > 0 else -1.0)
+        scaled_norm = math.sqrt(float(np.sum((delta * self.scale) ** 2)))
+        if rho < 0.25:
+            self.radius = 0.25 * scaled_norm if scaled_norm > 0 else 0.25 * self.radius
+        elif rho > 0.75 and self._bounded:
+            self.radius *= 2.0
+        converged_f = actual < self.ftol * cost and rho > 0.25
+        if converged_f or step_norm < self.xtol * (self.xtol + self._x_norm):
+            self.status = 2 if converged_f else 3
+        if actual > 0:
+            self.x, self.r, self.cost = x_new, r_new, cost_new
+            self.point = x_new
+            self.want = "jacobian" if self.status is None else None
+        elif self.status is not None:
+            self.want = None
+        else:
+            self._propose()
+
+    def give_jacobian(self, j: np.ndarray) -> None:
+        """The Jacobian of the residuals at :attr:`point` (the last accepted point)."""
+        self.njev += 1
+        self.j = j
+        norms = np.sqrt(np.einsum("ij,ij->j", j, j))
+        if self.scale is None:
+            self.scale = np.where(norms > 0, norms, 1.0)
+            self.radius = math.sqrt(float(np.sum((self.x * self.scale) ** 2))) or 1.0
+        else:
+            self.scale = np.maximum(self.scale, norms)
+        self._decompose()
+
+    def _decompose(self) -> None:
+        x, r, j, scale = self.x, self.r, self.j, self.scale
+        assert r is not None and scale is not None
+        g = j.T @ r  # gradient of the cost
+        blocked = ((x <= self.lower) & (g > 0)) | ((x >= self.upper) & (g < 0))
+        free = ~blocked
+        if not free.any() or float(np.max(np.abs(g[free]) / scale[free])) < self.gtol:
+            self.status, self.want = 1, None
+            return
+        u, self._s, self._vt = thin_svd(j[:, free] / scale[free])
+        self._free = free
+        self._ur = -(u.T @ r)
+        self._x_norm = math.sqrt(float(x @ x))
+        self._propose()
+
+    def _propose(self) -> None:
+        if self.nfev >= self.limit:
+            self.status, self.want = 0, None
+            return
+        assert self.scale is not None
+        p, self._bounded = _step(self._s, self._ur, self.radius)
+        step = np.zeros(self.k)
+        step[self._free] = (self._vt.T @ p) / self.scale[self._free]
+        x_new = np.clip(self.x + step, self.lower, self.upper)
+        self._delta = x_new - self.x
+        self.point, self.want = x_new, "residuals"
+
+    def result(self) -> Minimum:
+        assert self.status is not None  # only an ended walk has one
+        return Minimum(self.x, self.status, self.nfev, self.njev,
+                       active_bounds(self.x, self.lower, self.upper, self.xtol))
+
+
 def minimise(fun: Callable[[np.ndarray], np.ndarray],
              jac: Callable[[np.ndarray], np.ndarray],
              x0: np.ndarray, lower: np.ndarray, upper: np.ndarray, *,
              ftol: float = 1e-10, xtol: float = 1e-10, gtol: float = 1e-10,
              max_nfev: int | None = None) -> Minimum:
     """Minimise 0.5 |fun(x)|^2 for lower <= x <= upper from ``x0`` (see the module)."""
-    lower = np.asarray(lower, dtype=float)
-    upper = np.asarray(upper, dtype=float)
-    x = np.clip(np.asarray(x0, dtype=float), lower, upper)
-    k = x.size
-    limit = max_nfev if max_nfev is not None else 100 * k
-    r = fun(x)
-    nfev, njev = 1, 0
-    if not np.isfinite(r).all():
-        raise ValueError("the residuals are not finite at the start point")
-    cost = 0.5 * float(r @ r)
-    j = jac(x)
-    njev += 1
-    scale = np.sqrt(np.einsum("ij,ij->j", j, j))
-    scale = np.where(scale > 0, scale, 1.0)
-    radius = math.sqrt(float(np.sum((x * scale) ** 2))) or 1.0
-    status: int | None = None
-    while status is None:
-        g = j.T @ r  # gradient of the cost
-        blocked = ((x <= lower) & (g > 0)) | ((x >= upper) & (g < 0))
-        free = ~blocked
-        if not free.any() or float(np.max(np.abs(g[free]) / scale[free])) < gtol:
-            status = 1
-            break
-        u, s, vt = thin_svd(j[:, free] / scale[free])
-        ur = -(u.T @ r)
-        x_norm = math.sqrt(float(x @ x))
-        while True:
-            if nfev >= limit:
-                status = 0
-                break
-            p, bounded = _step(s, ur, radius)
-            step = np.zeros(k)
-            step[free] = (vt.T @ p) / scale[free]
-            x_new = np.clip(x + step, lower, upper)
-            delta = x_new - x
-            step_norm = math.sqrt(float(delta @ delta))
-            r_new = fun(x_new)
-            nfev += 1
-            cost_new = 0.5 * float(r_new @ r_new) if np.isfinite(r_new).all() else math.inf
-            linear = r + j @ delta
-            predicted = cost - 0.5 * float(linear @ linear)
-            actual = cost - cost_new
-            rho = actual / predicted if predicted > 0 else (1.0 if actual > 0 else -1.0)
-            scaled_norm = math.sqrt(float(np.sum((delta * scale) ** 2)))
-            if rho < 0.25:
-                radius = 0.25 * scaled_norm if scaled_norm > 0 else 0.25 * radius
-            elif rho > 0.75 and bounded:
-                radius *= 2.0
-            converged_f = actual < ftol * cost and rho > 0.25
-            if converged_f or step_norm < xtol * (xtol + x_norm):
-                status = 2 if converged_f else 3
-            if actual > 0:
-                x, r, cost = x_new, r_new, cost_new
-                if status is None:
-                    j = jac(x)
-                    njev += 1
-                    scale = np.maximum(scale, np.sqrt(np.einsum("ij,ij->j", j, j)))
-                break
-            if status is not None:
-                break
-    return Minimum(x, status, nfev, njev, active_bounds(x, lower, upper, xtol))
+    walk = Walk(x0, lower, upper, ftol=ftol, xtol=xtol, gtol=gtol, max_nfev=max_nfev)
+    while walk.want is not None:
+        if walk.want == "residuals":
+            walk.give_residuals(fun(walk.point))
+        else:
+            walk.give_jacobian(jac(walk.point))
+    return walk.result()
+
+
+def minimise_together(residuals: Callable[[list[int], list[np.ndarray]], list[np.ndarray | None]],
+                      jacobians: Callable[[list[int], list[np.ndarray]], list[np.ndarray | None]],
+                      walks: list[Walk]) -> list[Minimum | None]:
+    """Advance ``walks`` together: each round asks ``residuals`` for every walk that waits for
+    residuals and ``jacobians`` for every walk that waits for a Jacobian, each in one call with
+    the walks' indices and points. An answer None, or non-finite residuals at a walk's start,
+    takes that walk out (its result is None: the caller minimises it on its own, where the
+    failure is reported as it always was)."""
+    out: list[Minimum | None] = [None] * len(walks)
+    alive = list(range(len(walks)))
+    while alive:
+        for want, call in (("residuals", residuals), ("jacobian", jacobians)):
+            idx = [i for i in alive if walks[i].want == want]
+            if not idx:
+                continue
+            answers = call(idx, [walks[i].point for i in idx])
+            for i, a in zip(idx, answers):
+                w = walks[i]
+                try:
+                    if a is None:
+                        raise ValueError("left the stack")
+                    if want == "residuals":
+                        w.give_residuals(a)
+                    else:
+                        w.give_jacobian(a)
+                except ValueError:
+                    w.want, w.status = None, None
+        for i in alive:
+            if walks[i].want is None and walks[i].status is not None:
+                out[i] = walks[i].result()
+        alive = [i for i in alive if walks[i].want is not None]
+    return out
