@@ -40,7 +40,7 @@ import numpy as np
 from saltbench.errors import ModelDomainError, ModelError
 from saltbench.fitting.flags import Flag, FlagKind, flag
 from saltbench.fitting.lapack import thin_svd
-from saltbench.fitting.levenberg import minimise
+from saltbench.fitting.levenberg import Minimum, minimise
 from saltbench.fitting.protocol import Problem
 
 _MODEL_FAILURES = (ModelError, ModelDomainError, FloatingPointError, np.linalg.LinAlgError)
@@ -94,6 +94,19 @@ class Solution:
     weighted_residual: np.ndarray | None = None  # (y - prediction) / u, when known
 
 
+class FoundMinimum(NamedTuple):
+    """A local minimum in the free nonlinear parameters found by the caller
+    (:mod:`saltbench.fitting.together`), with the problem's state there: the full parameter
+    vector (linear parameters solved), the prediction, the weighted residuals and the linear
+    solution (None without free linear parameters)."""
+
+    minimum: Minimum
+    theta: np.ndarray
+    prediction: np.ndarray
+    residual: np.ndarray
+    linear: LinearSolution | None
+
+
 #: The solver's message for a problem whose free parameters all enter linearly.
 LINEAR_MESSAGE = "all free parameters are linear: solved by linear least squares"
 
@@ -114,6 +127,12 @@ class _Projection:
         self.pred: np.ndarray | None = None
         self.lin: LinearSolution | None = None  # with free linear parameters: their solution
         self.failures: list[str] = []
+
+    def adopt(self, found: FoundMinimum) -> None:
+        """Take ``found`` as the last point evaluated (its state is what set_point would give)."""
+        self.key = np.asarray(found.minimum.x, dtype=float).tobytes()
+        self.theta, self.resid, self.pred, self.lin = (found.theta, found.residual,
+                                                       found.prediction, found.linear)
 
     def set_point(self, x: np.ndarray) -> None:
         key = np.asarray(x, dtype=float).tobytes()
@@ -327,23 +346,97 @@ def _screen(proj: _Projection, points: np.ndarray) -> np.ndarray:
     if parts is None:
         return np.array([_chi2(proj.fun(x)) for x in points])
     out = np.full(len(points), math.inf)
-    for j, part in enumerate(parts):
-        if part is None:
-            # The model failed at this point on the root's data; these may not reach there.
-            if p.is_subset:
-                out[j] = _chi2(proj.fun(points[j]))
-            continue
-        offset, design = part
-        try:
-            pred = offset if design is None else \
-                offset + design @ solve_linear(p, offset, design, projection=False).x
-        except _MODEL_FAILURES:
-            continue
-        out[j] = _chi2((p.obs - pred) / p.sigma)
+    for j in [j for j, part in enumerate(parts) if part is None]:
+        # The model failed at this point on the root's data; these may not reach there.
+        if p.is_subset:
+            out[j] = _chi2(proj.fun(points[j]))
+    plain = [j for j, part in enumerate(parts) if part is not None and part[1] is None]
+    if plain:
+        resid = (p.obs - np.array([parts[j][0] for j in plain])) / p.sigma  # type: ignore[index]
+        out[plain] = _sums_of_squares(resid)
+    designed = [j for j, part in enumerate(parts) if part is not None and part[1] is not None]
+    if designed:
+        out[designed] = _screen_designed(p, [parts[j] for j in designed])  # type: ignore[misc]
     return out
 
 
-def _spread_starts(proj: _Projection, local, first, lower: np.ndarray, upper: np.ndarray):
+def _sums_of_squares(resid: np.ndarray) -> np.ndarray:
+    """Each row's sum of squares, inf where a term is not finite."""
+    with np.errstate(all="ignore"):
+        chi = np.einsum("ij,ij->i", resid, resid)
+    return np.where(np.isfinite(chi), chi, math.inf)
+
+
+def _screen_designed(p: Problem, parts: list[tuple[np.ndarray, np.ndarray]]) -> np.ndarray:
+    """The reduced sum of squares of each (offset, design) of ``parts`` with the linear
+    parameters solved: all in one stacked decomposition of the scaled weighted designs, as
+    :func:`solve_linear` makes for one; a design of lower rank, non-finite, or whose solution
+    leaves the bounds goes through :func:`solve_linear` itself (inf where that fails)."""
+    offset = np.array([q[0] for q in parts])
+    design = np.array([q[1] for q in parts])
+    a = design / p.sigma[None, :, None]
+    rhs = (p.obs - offset) / p.sigma
+    out = np.full(len(parts), math.inf)
+    with np.errstate(all="ignore"):
+        finite = np.isfinite(a).all(axis=(1, 2)) & np.isfinite(rhs).all(axis=1)
+        norms = np.sqrt(np.einsum("pij,pij->pj", a, a))
+        scaled = np.where(finite[:, None, None], a / np.where(norms > 0, norms, 1.0)[:, None, :], 0.0)
+        u, s, vt = np.linalg.svd(scaled, full_matrices=False)
+        tol = s[:, :1] * max(a.shape[1], a.shape[2]) * _EPS
+        full = finite & (s[:, 0] > 0) & (s > tol).all(axis=1) & (norms > 0).all(axis=1)
+        x = np.einsum("pkj,pk->pj", vt, np.einsum("pnk,pn->pk", u, rhs) / np.where(full[:, None], s, 1.0))
+        x /= np.where(norms > 0, norms, 1.0)
+        if p.linear_bounded:
+            full &= ((x >= p.linear_lower) & (x <= p.linear_upper)).all(axis=1)
+        pred = offset + np.einsum("pnj,pj->pn", design, x)
+        out[full] = _sums_of_squares((p.obs - pred[full]) / p.sigma)
+    for j in np.flatnonzero(finite & ~full).tolist():
+        try:
+            pred_j = offset[j] + design[j] @ solve_linear(p, offset[j], design[j], projection=False).x
+        except _MODEL_FAILURES:
+            continue
+        out[j] = _chi2((p.obs - pred_j) / p.sigma)
+    return out
+
+
+class SpreadPlan(NamedTuple):
+    """What the spread screen of a fit found: the chi-square of its first minimum and the
+    starts to refine (see :func:`_spread_starts`)."""
+
+    chi2_first: float
+    starts: list[np.ndarray]
+
+
+def _spread_plan(proj: _Projection, first, lower: np.ndarray, upper: np.ndarray
+                 ) -> SpreadPlan | None:
+    """Screen well-spread points around ``first`` (None when the first minimum's chi-square
+    is not finite)."""
+    chi_first = _chi2(proj.fun(first.x))
+    if not math.isfinite(chi_first):
+        return None
+    points, shape = spread_points(lower, upper, first.x)
+    screened = _screen(proj, points)
+    # The grid point next to the first minimum (within half a step) lies in its basin.
+    step = np.ptp(points, axis=0) / (max(shape) - 1 if shape else 1)
+    near = np.all(np.abs(points - first.x) <= 0.5 * step, axis=1) if shape else \
+        np.zeros(len(points), dtype=bool)
+    below = [i for i in screen_minima(screened, shape)
+             if not near[i] and screened[i] < SPREAD_PROMISE * chi_first][:SPREAD_REFINE]
+    return SpreadPlan(chi_first, [points[i] for i in below])
+
+
+def spread_plan(problem: Problem, first: FoundMinimum) -> SpreadPlan | None:
+    """The spread screen :func:`solve` would make of ``problem`` from the local minimum
+    ``first`` (for a caller that refines the starts of several fits together and gives them
+    back to :func:`solve` as ``planned``)."""
+    proj = _Projection(problem)
+    proj.adopt(first)
+    nl = problem.nonlinear
+    return _spread_plan(proj, first.minimum, problem.lower[nl], problem.upper[nl])
+
+
+def _spread_starts(proj: _Projection, local, first, lower: np.ndarray, upper: np.ndarray,
+                   planned: tuple[SpreadPlan | None, list[FoundMinimum | None]] | None = None):
     """Screen well-spread starts and refine the most promising.
 
     The reduced sum of squares (the linear parameters solved at each point) is evaluated at
@@ -354,52 +447,58 @@ def _spread_starts(proj: _Projection, local, first, lower: np.ndarray, upper: np
     lower than the first by more than ``SPREAD_RTOL`` the result carries a ``several-minima``
     flag with both values. A multi-start by screening, as in global optimisation practice
     (e.g. Rinnooy Kan and Timmer, Math. Program. 39, 27 (1987), whose clustering it reduces to
-    its first step).
+    its first step). ``planned`` is the screen's plan and the minima refined from its starts
+    when the caller has them (None for a start it could not refine: ``local`` refines it).
     """
     best = first
     # The model failing at a screened point says nothing about the fit kept: only the failures
     # on the path to the kept minimum are reported.
     kept_failures = list(proj.failures)
-    chi_first = _chi2(proj.fun(first.x))
-    if not math.isfinite(chi_first):
+    plan = planned[0] if planned is not None else _spread_plan(proj, first, lower, upper)
+    if plan is None:
         proj.failures[:] = kept_failures
         return first, None
-    points, shape = spread_points(lower, upper, first.x)
-    screened = _screen(proj, points)
-    # The grid point next to the first minimum (within half a step) lies in its basin.
-    step = np.ptp(points, axis=0) / (max(shape) - 1 if shape else 1)
-    near = np.all(np.abs(points - first.x) <= 0.5 * step, axis=1) if shape else \
-        np.zeros(len(points), dtype=bool)
-    below = [i for i in screen_minima(screened, shape)
-             if not near[i] and screened[i] < SPREAD_PROMISE * chi_first][:SPREAD_REFINE]
-    chi_best, start = chi_first, None
-    for i in below:
+    refined = planned[1] if planned is not None else [None] * len(plan.starts)
+    chi_best, start, kept = plan.chi2_first, None, None
+    for x, found in zip(plan.starts, refined):
         proj.failures.clear()
-        try:
-            res = local(points[i])
-        except (_Abort, ValueError, *_MODEL_FAILURES):
-            continue
-        c = _chi2(proj.fun(res.x))
+        if found is not None:
+            res, c = found.minimum, _chi2(found.residual)
+        else:
+            try:
+                res = local(x)
+            except (_Abort, ValueError, *_MODEL_FAILURES):
+                continue
+            c = _chi2(proj.fun(res.x))
         if res.status > 0 and c < chi_best * (1 - SPREAD_RTOL) - 1e-9:
-            best, chi_best, start = res, c, points[i]
+            best, chi_best, start, kept = res, c, x, found
             kept_failures = list(proj.failures)
     proj.failures[:] = kept_failures
     if start is None:
         return first, None
+    if kept is not None:
+        proj.adopt(kept)
     names = [proj.p.names[g] for g in proj.p.nonlinear]
-    return best, flag(FlagKind.SEVERAL_MINIMA, chi2_first=chi_first, chi2=chi_best,
+    return best, flag(FlagKind.SEVERAL_MINIMA, chi2_first=plan.chi2_first, chi2=chi_best,
                       first=dict(zip(names, first.x.tolist())),
                       start=dict(zip(names, start.tolist())),
                       found=dict(zip(names, best.x.tolist())))
 
 
 def solve(problem: Problem, *, max_evaluations: int | None = None,
-          tolerance: float = 1e-10, spread: bool = True) -> Solution:
+          tolerance: float = 1e-10, spread: bool = True, first: FoundMinimum | None = None,
+          planned: tuple[SpreadPlan | None, list[FoundMinimum | None]] | None = None,
+          jacobian: bool = True) -> Solution:
     """Minimise the weighted sum of squares of ``problem``; never raises for a model failure.
 
     With nonlinear free parameters and ``spread`` (the default), the local minimum found from
     the problem's start is checked against well-spread starts (:func:`spread_points`); see
-    :func:`_spread_starts`."""
+    :func:`_spread_starts`. ``first`` is that local minimum when the caller has found it
+    already (the folds of a cross-validation minimised together,
+    :mod:`saltbench.fitting.together`), and ``planned`` its spread screen with the minima
+    refined from it (see :func:`spread_plan`). ``jacobian=False`` leaves out the Jacobian at the
+    solution (and so the check that the model gives finite derivatives there), for a caller
+    that reads only the parameters and the prediction."""
     p = problem
     proj = _Projection(p)
     theta = p.theta0.copy()
@@ -418,7 +517,10 @@ def solve(problem: Problem, *, max_evaluations: int | None = None,
                 return minimise(proj.fun, proj.jac, x, lb, ub, ftol=tolerance, xtol=tolerance,
                                 gtol=tolerance, max_nfev=max_evaluations)
 
-            if p.is_refit:
+            if first is not None:
+                proj.adopt(first)
+                res = first.minimum
+            elif p.is_refit:
                 res = local(x0)
             else:
                 # From the root problem's own start, the path decides which minimum the fit
@@ -431,7 +533,9 @@ def solve(problem: Problem, *, max_evaluations: int | None = None,
                                     gtol=tolerance, max_nfev=max_evaluations)
             iterations = int(res.nfev)
             if spread:
-                res, found = _spread_starts(proj, local, res, lb, ub)
+                res, found = _spread_starts(proj, local, res, lb, ub, planned)
+                if first is not None and res is first.minimum:
+                    proj.adopt(first)  # the state there, as the screen left other points
                 if found is not None:
                     flags.append(found)
             proj.set_point(res.x)
@@ -452,7 +556,9 @@ def solve(problem: Problem, *, max_evaluations: int | None = None,
     try:
         prediction = proj.pred
         jac_svd = None
-        if p.nonlinear.size == 0 and p.linear.size:
+        if not jacobian:
+            jac = None
+        elif p.nonlinear.size == 0 and p.linear.size:
             # Affine in every free parameter: the Jacobian is the design matrix, at any point.
             assert proj.lin is not None  # set with the free linear parameters
             jac, jac_svd = proj.lin.weighted, proj.lin.svd

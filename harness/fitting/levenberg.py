@@ -134,7 +134,7 @@ class Walk:
             self.r, self.cost = r_new, 0.5 * float(r_new @ r_new)
             self.want = "jacobian"
             return
-        r, cost, x = self.r, self.cost, self.x
+        r, cost = self.r, self.cost
         x_new, delta = self.point, self._delta
         assert self.scale is not None  # set with the first Jacobian
         step_norm = math.sqrt(float(delta @ delta))

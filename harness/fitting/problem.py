@@ -44,6 +44,8 @@ from saltbench.models.salt_view import salt_view
 from saltbench.water.debye_huckel import DebyeHuckel
 
 _FD_STEP = float(np.finfo(float).eps) ** (1.0 / 3.0)
+# What a stacked evaluation turns into non-finite values of the sets concerned.
+_STACK_FAILURES = (ModelError, ModelDomainError, FloatingPointError, ValueError)
 _ACTIVITY_KINDS = frozenset(("ln_gamma", "osmotic"))  # what a block predicts (see the module)
 
 
@@ -582,6 +584,151 @@ class FitProblem(ProblemBase):
         t_plus[c], t_minus[c] = x + h, x - h
         return (self.predict_block(block, t_plus) - self.predict_block(block, t_minus)) / (2 * h)
 
+    # -- many parameter vectors at once ------------------------------------------------------
+    @property
+    def stacks(self) -> bool:
+        """Whether the model evaluates several parameter sets in one call
+        (``stacks_parameter_sets``; see :class:`~saltbench.models.contract.ActivityModel`)."""
+        return bool(getattr(self.model, "stacks_parameter_sets", False))
+
+    def stack_predict(self, thetas: np.ndarray) -> np.ndarray:
+        """:meth:`predict` at each row of ``thetas`` (sets x parameters): (sets, n). Not finite
+        where the model fails (every value of a set whose own call would raise). One model call
+        per block for all sets where the model stacks them, else one per set."""
+        parts = [self._stack_block(b, thetas)[:, b.gather] for b in self.blocks]
+        return parts[0] if len(parts) == 1 else np.concatenate(parts, axis=1)
+
+    def _stack_block(self, block: Block, thetas: np.ndarray) -> np.ndarray:
+        """:meth:`_block_values` of each row of ``thetas``, stacked (NaN where it fails)."""
+        sets = thetas.shape[0]
+        if self.stacks:
+            values = {name: thetas[:, g][:, None] for name, g in block.mapping.items()}
+            try:
+                with np.errstate(all="ignore"):
+                    return self._stacked_values(block, values, sets)
+            except _STACK_FAILURES:
+                pass  # each set on its own below, where a failure stays that set's
+        out = np.empty((sets, block.union.size + block.n_osm_unique))
+        for s in range(sets):
+            try:
+                out[s] = self._block_values(block, thetas[s])
+            except _STACK_FAILURES:
+                out[s] = np.nan
+        return out
+
+    def _stacked_values(self, block: Block, values: dict[str, np.ndarray], sets: int
+                        ) -> np.ndarray:
+        model, ctx, n_osm, size = self.model, block.ctx, block.n_osm_unique, block.union.size
+        self.n_evaluations += 1
+        phi = None
+        if n_osm and self._analytic_osmotic:
+            ln_g = _broadcast(model, "ln_gamma_pm",
+                              call_model(model, "ln_gamma_pm", block.union, values, ctx), (sets, size))
+            raw = call_model(model, "osmotic", block.union[:n_osm], values, ctx)
+            if raw is not None:
+                phi = _broadcast(model, "osmotic", raw, (sets, n_osm))
+        if n_osm and phi is None:
+            nodes = block.with_nodes
+            every = _broadcast(model, "ln_gamma_pm",
+                               call_model(model, "ln_gamma_pm", nodes, values, ctx),
+                               (sets, nodes.size))
+            ln_g = every[:, :size]
+            phi = osmotic_from_ln_gamma(ln_g[:, :n_osm].T, every[:, size:].T).T
+        elif not n_osm:
+            ln_g = _broadcast(model, "ln_gamma_pm",
+                              call_model(model, "ln_gamma_pm", block.union, values, ctx), (sets, size))
+        return ln_g if phi is None else np.concatenate((ln_g, phi), axis=1)
+
+    def stack_derivatives(self, thetas: np.ndarray, cols: Sequence[int] | np.ndarray
+                          ) -> np.ndarray:
+        """:meth:`derivatives` at each row of ``thetas``: (sets, n, len(cols)), not finite where
+        the model fails. The model's stacked Jacobian where it gives one, else differences of
+        stacked values with the steps :meth:`derivatives` takes."""
+        cols = list(np.asarray(cols, dtype=np.intp).tolist())
+        parts = [self._stack_block_derivatives(b, thetas, cols) for b in self.blocks]
+        return parts[0] if len(parts) == 1 else np.concatenate(parts, axis=1)
+
+    def _stack_block_derivatives(self, b: Block, thetas: np.ndarray, cols: list[int]
+                                 ) -> np.ndarray:
+        sets = thetas.shape[0]
+        out = np.zeros((sets, b.data.n, len(cols)))
+        used = [(j, c, b.users[c]) for j, c in enumerate(cols) if c in b.users]
+        if not used:
+            return out
+        if not self.stacks:
+            for s in range(sets):
+                try:
+                    out[s] = self._block_derivatives(b, thetas[s], cols, None)
+                except _STACK_FAILURES:
+                    out[s] = np.nan
+            return out
+        missing = [(j, c) for j, c, _ in used]
+        if not self._no_jacobian:
+            values = {name: thetas[:, g][:, None] for name, g in b.mapping.items()}
+            ctx = self._context(b, self._wrt(b, [c for _, c, _ in used]))
+            try:
+                with np.errstate(all="ignore"):
+                    raw = call_model(self.model, "jacobian", b.union, values, ctx)
+                    missing = self._stacked_columns(b, raw, used, out, sets)
+            except _STACK_FAILURES:
+                out[:] = np.nan
+                return out
+        for j, c in missing:
+            out[:, :, j] = self._stack_difference(b, thetas, c)
+        return out
+
+    def _stacked_columns(self, b: Block, raw: Any, used: list, out: np.ndarray, sets: int
+                         ) -> list[tuple[int, int]]:
+        """Put the model's stacked derivatives of ``used`` into ``out``; the columns it does
+        not give are returned."""
+        if raw is None:
+            return [(j, c) for j, c, _ in used]
+        try:
+            pair = tuple(raw)
+            d_ln: dict[str, Any] = dict(pair[0])
+            d_phi: dict[str, Any] = dict(pair[1])
+            if len(pair) != 2:
+                raise ValueError
+        except (TypeError, ValueError) as exc:
+            raise ModelError(f"model {self.model.id}: jacobian must return two dicts") from exc
+        size, n_osm = b.union.size, b.n_osm_unique
+        missing = []
+        for j, c, names in used:
+            if any((b.has_ln and n not in d_ln) or (b.has_osm and n not in d_phi) for n in names):
+                missing.append((j, c))
+                continue
+            ln = np.zeros((sets, size))
+            if b.has_ln:
+                for n in names:
+                    ln = ln + _broadcast(self.model, f"jacobian[{n}]", d_ln[n], (sets, size))
+            if b.has_osm:
+                phi = np.zeros((sets, size))
+                for n in names:
+                    phi = phi + _broadcast(self.model, f"jacobian[{n}]", d_phi[n], (sets, size))
+                ln = np.concatenate((ln, phi[:, :n_osm]), axis=1)
+            out[:, :, j] = ln[:, b.gather]
+        return missing
+
+    def _stack_difference(self, b: Block, thetas: np.ndarray, c: int) -> np.ndarray:
+        """:meth:`_difference_column` for each row of ``thetas``, from one stacked call."""
+        p = self.params[c]
+        x = thetas[:, c]
+        ahead, behind = thetas.copy(), thetas.copy()
+        if p.linear:
+            ahead[:, c] = x + 1.0
+            step = np.ones_like(x)
+        else:
+            h = _FD_STEP * np.maximum(1.0, np.abs(x))
+            # one-sided towards the inside when a bound is near (the upper one checked first)
+            up_bad = x + h > p.upper
+            down_bad = (x - h < p.lower) & ~up_bad
+            ahead[:, c] = np.where(up_bad, x, x + h)
+            behind[:, c] = np.where(down_bad, x, x - h)
+            step = np.where(up_bad | down_bad, h, 2.0 * h)
+        both = self._stack_block(b, np.concatenate((ahead, behind)))[:, b.gather]
+        sets = thetas.shape[0]
+        return (both[:sets] - both[sets:]) / step[:, None]
+
     def linear_design(self, theta: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         """Offset and design matrix in the free linear parameters at fixed nonlinear ones.
 
@@ -657,6 +804,17 @@ def _shaped(model: ActivityModel, what: str, value: object, shape: tuple[int, ..
     if arr.shape != shape:
         raise ModelError(f"model {model.id}: {what} has shape {arr.shape}, expected {shape}")
     return arr
+
+
+def _broadcast(model: ActivityModel, what: str, value: object, shape: tuple[int, ...]
+               ) -> np.ndarray:
+    """A stacked call's ``value`` as an array of ``shape`` (sets x points); ModelError when it
+    does not broadcast to it."""
+    try:
+        return np.broadcast_to(np.asarray(value, dtype=float), shape)
+    except ValueError as exc:
+        raise ModelError(f"model {model.id}: {what} has shape {np.asarray(value).shape}, which does not "
+                         f"broadcast to {shape}") from exc
 
 
 def _finite(model: ActivityModel, what: str, value: object, shape: tuple[int, ...]) -> np.ndarray:
