@@ -158,7 +158,8 @@ def test_solve_together_equals_solve_of_each_subset():
     rng = np.random.default_rng(5)
     train = rng.random((4, p.n)) < 0.7
     together = solve_together(p, train)
-    for row, sol in zip(train, together):
+    for row, (sub, sol) in zip(train, together):
+        assert sub.n == int(row.sum())
         ref = solve(p.subset(row))
         assert sol.converged == ref.converged
         np.testing.assert_allclose(sol.theta, ref.theta, rtol=1e-7)

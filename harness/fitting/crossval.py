@@ -194,14 +194,14 @@ def cross_validate_problem(problem: Problem, folds: int | str = 5,
         if full.prediction is not None:
             seeded = problem.with_start(full.theta)
     held_out = labels[None, :] == np.arange(int(folds))[:, None]  # folds x points
-    # Without a stop all folds are solved together; with one, only those that are run.
+    # Without a stop all folds of a linear model are solved at once; with one, only those run.
     stacked = masked.solve_all(~held_out) if masked is not None and stop_outside is None else None
     # A nonlinear parameter free: the folds' minimisations advance together (one model call per
     # round for all of them where the model stacks parameter sets), each then checked against
     # spread starts on its own. All folds are minimised even where a stop may end the loop
     # early: together they cost about what one fold costs alone.
     if masked is None and can_refit_together(seeded):
-        stacked = solve_together(seeded, ~held_out)
+        stacked = [sol for _, sol in solve_together(seeded, ~held_out)]
     pred = np.full(n, np.nan)
     flags: list[Flag] = []
     theta = None

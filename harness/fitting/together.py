@@ -149,10 +149,12 @@ def refit_together(problem, train: np.ndarray, starts: list[np.ndarray] | None =
     return [None if m is None else subsets.found(i, walks[i]) for i, m in enumerate(minima)]
 
 
-def solve_together(problem, train: np.ndarray) -> list:
-    """:func:`saltbench.fitting.least_squares.solve` of ``problem.subset(row)`` for each row
-    of ``train`` (without the Jacobian at the solution): the first minimisations together, each
-    subset's spread screen on its own, then every refinement of every subset together."""
+def solve_together(problem, train: np.ndarray, *, jacobian: bool = False) -> list:
+    """(subset, :func:`saltbench.fitting.least_squares.solve` of it) for each subset
+    ``problem.subset(row)`` of the rows of ``train``: the first minimisations together, each
+    subset's spread screen on its own, then every refinement of every subset together. The
+    Jacobian at each solution only with ``jacobian`` (a cross-validation reads parameters and
+    predictions only)."""
     from saltbench.fitting.least_squares import solve, spread_plan
 
     train = np.asarray(train, dtype=bool)
@@ -165,6 +167,6 @@ def solve_together(problem, train: np.ndarray) -> list:
     by_subset: list[list[FoundMinimum | None]] = [[] for _ in subsets]
     for (i, _), found in zip(pairs, refined):
         by_subset[i].append(found)
-    return [solve(sub, jacobian=False) if first is None else
-            solve(sub, first=first, planned=(plan, found), jacobian=False)
+    return [(sub, solve(sub, jacobian=jacobian) if first is None else
+             solve(sub, first=first, planned=(plan, found), jacobian=jacobian))
             for sub, first, plan, found in zip(subsets, firsts, plans, by_subset)]

@@ -46,7 +46,8 @@ from saltbench.fitting.masked import MaskedLinear
 from saltbench.fitting.problem import FitProblem, build_problem
 from saltbench.fitting.properties import per_point
 from saltbench.fitting.protocol import Problem
-from saltbench.fitting.result import FitResult, fit_flags
+from saltbench.fitting.result import FitResult, build_result, fit_flags
+from saltbench.fitting.together import can_refit_together, solve_together
 from saltbench.models.contract import SolutionModel
 from saltbench.models.salt_view import unwrapped
 from saltbench.water.debye_huckel import DebyeHuckel
@@ -299,15 +300,25 @@ def _fit_scan(problem: Problem, tol: Tolerance,
             trial = sub.with_start(start[-1]) if start else sub
             result = full_fit[1] if full_fit is not None and _same_fit(full_fit, trial) \
                 else run(trial)
-        solved = result.ok and bool(np.all(np.isfinite(result.prediction)))
-        return (solved, result.residual, result.kind, result.flags,
-                problem.theta_from(result.values) if solved else None)
+        return _outcome_of(problem, result)
+
+    ahead: dict[int, tuple] = {}  # outcomes of trials solved before their turn
+
+    def prefetch(indices: list[int]) -> None:
+        """Solve the trials ``indices`` together, each from the last solved start (one model
+        call per round for all of them where the model stacks parameter sets)."""
+        if masked is not None or len(indices) < 2 or not can_refit_together(problem):
+            return
+        base = problem.with_start(start[-1]) if start else problem
+        sels = np.array([m <= grid[i] for i in indices])
+        for i, (sub, sol) in zip(indices, solve_together(base, sels, jacobian=True)):
+            ahead[i] = _outcome_of(problem, build_result(sub, sol))
 
     def passes(i: int) -> bool:
         if i in cache:
             return cache[i]
         L = grid[i]
-        solved, resid, kind, trial_flags, theta = outcome(m <= L)
+        solved, resid, kind, trial_flags, theta = ahead.pop(i) if i in ahead else outcome(m <= L)
         if solved and theta is not None:
             start.append(theta)
         ok = solved and bool(_within(resid, kind, tol).all())
@@ -318,16 +329,27 @@ def _fit_scan(problem: Problem, tol: Tolerance,
             flags.append(flag(FlagKind.TRIAL_FAILED, limit=L, detail=str(trial_flags[0])))
         return ok
 
-    last_ok, first_fail = _search(grid, passes)
+    last_ok, first_fail = _search(grid, passes, prefetch)
     return last_ok, first_fail, flags, trials
 
 
-def _search(grid: list[float], passes) -> tuple[float | None, float | None]:
+def _outcome_of(problem: Problem, result: FitResult
+                ) -> tuple[bool, np.ndarray, np.ndarray, list[Flag], np.ndarray | None]:
+    """A trial fit's outcome as the fit scan reads it (see ``_fit_scan``)."""
+    solved = result.ok and bool(np.all(np.isfinite(result.prediction)))
+    return (solved, result.residual, result.kind, result.flags,
+            problem.theta_from(result.values) if solved else None)
+
+
+def _search(grid: list[float], passes, prefetch=None) -> tuple[float | None, float | None]:
     """Highest passing trial limit (coarse from the top, then bisection) and the first failing
-    one above it."""
+    one above it. ``prefetch``, where given, is told the coarse limits below the top once the
+    top has failed, to solve them ahead of their turn (together)."""
     coarse = _coarse(np.array(grid))
     last_pass, first_fail = -1, None
     for j in range(len(coarse) - 1, -1, -1):
+        if j == len(coarse) - 2 and prefetch is not None:
+            prefetch([coarse[i] for i in range(j, -1, -1)])
         if passes(coarse[j]):
             last_pass = coarse[j]
             if j + 1 < len(coarse):
