@@ -73,24 +73,26 @@ def active_bounds(x: np.ndarray, lower: np.ndarray, upper: np.ndarray, rtol: flo
     return out
 
 
-def _step(s: np.ndarray, ur: np.ndarray, radius: float) -> tuple[np.ndarray, bool]:
+def _step(s: list[float], ur: list[float], radius: float) -> tuple[list[float], bool]:
     """The Levenberg-Marquardt step in the rotated scaled coordinates (V' D delta) whose
     length is at most ``radius``: the Gauss-Newton step when it is shorter, else the damped one
     whose length is the radius within 10 %, its damping found by Hebden's Newton iteration on
-    1/|p(lambda)| (Moré 1978, sec. 5). Also whether the radius bounded it."""
-    keep = s > s[0] * max(s.size, 1) * _EPS if s.size and s[0] > 0 else np.zeros(s.size, bool)
-    su = np.where(keep, s * ur, 0.0)
-    s2 = np.where(keep, s * s, 1.0)
-    p = su / s2
-    norm = math.sqrt(float(p @ p))
+    1/|p(lambda)| (Moré 1978, sec. 5). Also whether the radius bounded it. On plain floats: a
+    fit has one to a few nonlinear parameters, where each numpy call costs more than the sum."""
+    k = len(s)
+    cut = s[0] * max(k, 1) * _EPS if k and s[0] > 0 else math.inf
+    su = [si * ui if si > cut else 0.0 for si, ui in zip(s, ur)]
+    s2 = [si * si if si > cut else 1.0 for si in s]
+    p = [a / b for a, b in zip(su, s2)]
+    norm = math.sqrt(math.fsum(x * x for x in p))
     if norm <= radius:
         return p, False
     lam = 0.0
     for _ in range(20):
-        q = float(np.sum(p * p / (s2 + lam)))
+        q = math.fsum(x * x / (d + lam) for x, d in zip(p, s2))
         lam += norm * norm / q * (norm - radius) / radius
-        p = su / (s2 + lam)
-        norm = math.sqrt(float(p @ p))
+        p = [a / (d + lam) for a, d in zip(su, s2)]
+        norm = math.sqrt(math.fsum(x * x for x in p))
         if abs(norm - radius) <= 0.1 * radius:
             break
     return p, True
@@ -110,6 +112,7 @@ class Walk:
         self.lower = np.asarray(lower, dtype=float)
         self.upper = np.asarray(upper, dtype=float)
         self.x = np.clip(np.asarray(x0, dtype=float), self.lower, self.upper)
+        self._lo, self._hi = self.lower.tolist(), self.upper.tolist()
         self.k = self.x.size
         self.limit = max_nfev if max_nfev is not None else 100 * self.k
         self.ftol, self.xtol, self.gtol = ftol, xtol, gtol
@@ -137,13 +140,15 @@ class Walk:
         r, cost = self.r, self.cost
         x_new, delta = self.point, self._delta
         assert self.scale is not None  # set with the first Jacobian
-        step_norm = math.sqrt(float(delta @ delta))
-        cost_new = 0.5 * float(r_new @ r_new) if np.isfinite(r_new).all() else math.inf
-        linear = r + self.j @ delta
+        step_norm = math.sqrt(math.fsum(d * d for d in delta))
+        # A sum is finite only if every term is; the elementwise test runs only when it is not.
+        finite = math.isfinite(np.add.reduce(r_new)) or bool(np.isfinite(r_new).all())
+        cost_new = 0.5 * float(r_new @ r_new) if finite else math.inf
+        linear = r + self.j @ np.array(delta)
         predicted = cost - 0.5 * float(linear @ linear)
         actual = cost - cost_new
         rho = actual / predicted if predicted > 0 else (1.0 if actual > 0 else -1.0)
-        scaled_norm = math.sqrt(float(np.sum((delta * self.scale) ** 2)))
+        scaled_norm = math.sqrt(math.fsum((d * c) ** 2 for d, c in zip(delta, self.scale.tolist())))
         if rho < 0.25:
             self.radius = 0.25 * scaled_norm if scaled_norm > 0 else 0.25 * self.radius
         elif rho > 0.75 and self._bounded:
@@ -175,16 +180,18 @@ class Walk:
     def _decompose(self) -> None:
         x, r, j, scale = self.x, self.r, self.j, self.scale
         assert r is not None and scale is not None
-        g = j.T @ r  # gradient of the cost
-        blocked = ((x <= self.lower) & (g > 0)) | ((x >= self.upper) & (g < 0))
-        free = ~blocked
-        if not free.any() or float(np.max(np.abs(g[free]) / scale[free])) < self.gtol:
+        g = (j.T @ r).tolist()  # gradient of the cost
+        xs, sc = x.tolist(), scale.tolist()
+        free = [i for i, (xi, gi, lo, hi) in enumerate(zip(xs, g, self._lo, self._hi))
+                if not ((xi <= lo and gi > 0) or (xi >= hi and gi < 0))]
+        if not free or max(abs(g[i]) / sc[i] for i in free) < self.gtol:
             self.status, self.want = 1, None
             return
-        u, self._s, self._vt = thin_svd(j[:, free] / scale[free])
-        self._free = free
-        self._ur = -(u.T @ r)
-        self._x_norm = math.sqrt(float(x @ x))
+        every = len(free) == self.k
+        u, s, self._vt = thin_svd(j / scale if every else j[:, free] / scale[free])
+        self._free = None if every else free
+        self._s, self._ur = s.tolist(), (-(u.T @ r)).tolist()
+        self._x_norm = math.sqrt(math.fsum(v * v for v in xs))
         self._propose()
 
     def _propose(self) -> None:
@@ -193,11 +200,17 @@ class Walk:
             return
         assert self.scale is not None
         p, self._bounded = _step(self._s, self._ur, self.radius)
-        step = np.zeros(self.k)
-        step[self._free] = (self._vt.T @ p) / self.scale[self._free]
-        x_new = np.clip(self.x + step, self.lower, self.upper)
-        self._delta = x_new - self.x
-        self.point, self.want = x_new, "residuals"
+        rotated = self._vt.T @ np.array(p)
+        if self._free is None:
+            step = (rotated / self.scale).tolist()
+        else:
+            step = [0.0] * self.k
+            for i, v in zip(self._free, (rotated / self.scale[self._free]).tolist()):
+                step[i] = v
+        xs = self.x.tolist()
+        new = [min(max(xi + di, lo), hi) for xi, di, lo, hi in zip(xs, step, self._lo, self._hi)]
+        self._delta = [a - b for a, b in zip(new, xs)]
+        self.point, self.want = np.array(new), "residuals"
 
     def result(self) -> Minimum:
         assert self.status is not None  # only an ended walk has one
