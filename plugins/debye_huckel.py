@@ -48,6 +48,7 @@ class DebyeHuckelLimiting(IonicStrengthModel):
 
 class ExtendedDebyeHuckel(ActivityModel):
     id = "extended-debye-huckel"
+    stacks_parameter_sets = True
     single_ion_convention = CONVENTION
     name = "Extended Debye-Hückel (one ion size)"
     citation = "P. Debye and E. Hückel, Phys. Z. 24, 185-206 (1923)"
@@ -85,6 +86,7 @@ class ExtendedDebyeHuckel(ActivityModel):
 
 class ExtendedDebyeHuckelIons(ActivityModel):
     id = "extended-debye-huckel-ions"
+    stacks_parameter_sets = True
     single_ion_convention = CONVENTION
     name = "Extended Debye-Hückel (one size per ion)"
     citation = ("P. Debye and E. Hückel, Phys. Z. 24, 185-206 (1923); per-ion sizes as tabulated "
@@ -142,6 +144,7 @@ class Guntelberg(IonicStrengthModel):
 
 class Huckel(ExtendedDebyeHuckel):
     id = "huckel"
+    stacks_parameter_sets = True  # b I broadcasts as the size term does
     name = "Hückel (ion size and linear term)"
     citation = "E. Hückel, Phys. Z. 26, 93-147 (1925)"
     parameters = ExtendedDebyeHuckel.parameters + (

@@ -75,6 +75,7 @@ def ln_reduced(i, s, q, a_gamma):
 
 class Meissner(MixtureRuleModel):
     id = "meissner"
+    stacks_parameter_sets = True
     name = "Meissner (Kusik-Meissner form)"
     citation = ("H. P. Meissner and C. L. Kusik, AIChE J. 18, 294-298 (1972); C. L. Kusik and "
                 "H. P. Meissner, AIChE Symp. Ser. 74 (173), 14-20 (1978)")

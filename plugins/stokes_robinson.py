@@ -21,7 +21,9 @@ r m < 1), and adaptively where r m > 0.9 (its peak at u = 1 grows as 1/(1 - r m)
 iteration is needed. The derivatives in h and a (``jacobian``) differentiate the same
 integral under the integral sign, on the same nodes (c = r m, d/dh = M_w m d/dc, d/da = B sqrt(I)
 d/dx); a fit needs no extra model calls for them. The equation has no meaning once r m >= 1
-(all the water bound as hydration) or p m <= -1; there the model raises a domain error.
+(all the water bound as hydration) or p m <= -1; there the model raises a domain error, or,
+called with several parameter sets at once (``stacks_parameter_sets``), gives NaN in the rows of
+the sets concerned.
 """
 
 from __future__ import annotations
@@ -32,6 +34,7 @@ from saltbench.chemistry.gibbs_duhem import unit_nodes
 from saltbench.errors import ModelDomainError
 from saltbench.models import ActivityModel, Parameter, Validity, hookimpl
 from saltbench.models import dh_terms as dh
+from saltbench.models.contract import stacked_sets
 from saltbench.water import MOLAR_MASS_WATER
 
 _U, _W = unit_nodes()  # Gauss-Legendre on [0, 1]
@@ -67,11 +70,14 @@ class StokesRobinson(ActivityModel):
     validity = Validity(max_molality=4.0,
                         note="from memory of Stokes and Robinson (1948): fits to about 4 mol/kg")
 
-    def _phi(self, m, params, ctx, derivatives=False):
-        """phi, sqrt(I), x and, with ``derivatives``, (d phi/d h, d phi/d a)."""
+    stacks_parameter_sets = True
+
+    def _phi(self, m, h, a, ctx, derivatives=False):
+        """phi, sqrt(I), x and, with ``derivatives``, (d phi/d h, d phi/d a), for floats h and a
+        or, from :meth:`_stacked`, arrays (S, 1) of them inside the domain."""
         e = ctx.electrolyte
         m = np.asarray(m, dtype=float)
-        h, mw = params["h"], MOLAR_MASS_WATER
+        mw = MOLAR_MASS_WATER
         p, r = mw * (e.nu - h), h * mw
         if np.any(r * m >= 1.0) or np.any(p * m <= -1.0):
             raise ModelDomainError(
@@ -79,13 +85,16 @@ class StokesRobinson(ActivityModel):
                 " mol/kg (the hydration would bind more water than there is)")
         i = e.ionic_strength(m)
         s = np.sqrt(i)
-        x = ctx.dh.b_gamma_per_angstrom * params["a"] * s
+        x = ctx.dh.b_gamma_per_angstrom * a * s
         u = _U[None, :]
         c = r * m
-        bind = 1.0 / (1.0 - c[:, None] * u**2)
-        ion = 1.0 / (1.0 + x[:, None] * u)
+        if x.shape != c.shape:  # stacked sets in one of h and a only: both (S, N)
+            x, c = np.broadcast_arrays(x, c)
+        bind = 1.0 / (1.0 - c[..., None] * u**2)
+        ion = 1.0 / (1.0 + x[..., None] * u)
         integrand = u**2 * ion**2 * bind
         integral = integrand @ _W
+        # Element by element where the peak is narrow, for (N,) as for (S, N) (flat order).
         near = c > _NEAR_BOUND
         if near.any():
             integral[near] = [_adaptive(float(xk), float(ck)) for xk, ck in zip(x[near], c[near])]
@@ -106,23 +115,48 @@ class StokesRobinson(ActivityModel):
         return mixing + q, s, x, (d_h, d_a)
 
     def osmotic(self, m, params, ctx):
-        return self._phi(m, params, ctx)[0]
+        if stacked_sets(params):
+            return self._stacked(m, params, ctx, "phi")
+        return self._phi(m, params["h"], params["a"], ctx)[0]
 
     def ln_gamma_pm(self, m, params, ctx):
-        return self._evaluate(m, params, ctx, False)[0]
+        if stacked_sets(params):
+            return self._stacked(m, params, ctx, "ln")
+        return self._evaluate(m, params["h"], params["a"], ctx, False)[0]
 
     def jacobian(self, m, params, ctx):
         """Analytic derivatives in h and a (the integrals' derivatives on the same nodes)."""
-        return self._evaluate(m, params, ctx, True)[2:]
+        if stacked_sets(params):
+            return self._stacked(m, params, ctx, "jacobian")
+        return self._evaluate(m, params["h"], params["a"], ctx, True)[2:]
 
     def values_and_jacobian(self, m, params, ctx):
-        return self._evaluate(m, params, ctx, True)
+        if stacked_sets(params):
+            return self._stacked(m, params, ctx, "all")
+        return self._evaluate(m, params["h"], params["a"], ctx, True)
 
-    def _evaluate(self, m, params, ctx, derivatives):
+    def _stacked(self, m, params, ctx, what):
+        """One of the functions above for S parameter sets, with NaN in place of a domain error:
+        a set with r m >= 1 or p m <= -1 at any molality is computed with the stand-in h = 0
+        (so nothing overflows or warns) and its row then set to NaN."""
+        m = np.asarray(m, dtype=float)
+        mw = MOLAR_MASS_WATER
+        h = np.broadcast_to(np.asarray(params["h"], dtype=float), (stacked_sets(params), 1))
+        outside = np.any((h * mw * m >= 1.0) | (mw * (ctx.electrolyte.nu - h) * m <= -1.0),
+                         axis=1, keepdims=True)
+        h = np.where(outside, 0.0, h)
+        with np.errstate(all="ignore"):  # an ion size out of its bounds may still divide by 0
+            if what == "phi":
+                return _blank(self._phi(m, h, params["a"], ctx)[0], outside)
+            out = self._evaluate(m, h, params["a"], ctx, what != "ln")
+            return _blank(out[0] if what == "ln" else out[2:] if what == "jacobian" else out,
+                          outside)
+
+    def _evaluate(self, m, h, a, ctx, derivatives):
         e = ctx.electrolyte
         m = np.asarray(m, dtype=float)
-        phi, s, x, d_phi = self._phi(m, params, ctx, derivatives)
-        h, mw = params["h"], MOLAR_MASS_WATER
+        phi, s, x, d_phi = self._phi(m, h, a, ctx, derivatives)
+        mw = MOLAR_MASS_WATER
         a_gamma = ctx.dh.a_gamma
         ln_g = dh.size_term(a_gamma, e.zz, s, x) + h * mw * m * phi - np.log1p(mw * (e.nu - h) * m)
         if d_phi is None:
@@ -138,6 +172,15 @@ class StokesRobinson(ActivityModel):
             d_ln = {k: v for k, v in d_ln.items() if k in wrt}
             d_os = {k: v for k, v in d_os.items() if k in wrt}
         return ln_g, phi, d_ln, d_os
+
+
+def _blank(out, rows):
+    """``out`` (an array, or tuples and dicts of them) with NaN in the ``rows`` (S, 1) marked."""
+    if isinstance(out, dict):
+        return {k: _blank(v, rows) for k, v in out.items()}
+    if isinstance(out, tuple):
+        return tuple(_blank(v, rows) for v in out)
+    return np.where(rows, np.nan, out)
 
 
 @hookimpl

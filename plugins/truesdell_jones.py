@@ -112,6 +112,7 @@ def _defect(composition, values, dh, sizes, linear) -> float:
 
 class TruesdellJones(MixtureRuleModel):
     id = "truesdell-jones"
+    stacks_parameter_sets = True
     single_ion_convention = CONVENTION
     mixture_computes = _MIXTURE_COMPUTES
     name = "Truesdell-Jones"
@@ -186,6 +187,7 @@ class TruesdellJones(MixtureRuleModel):
 
 class BDot(MixtureRuleModel):
     id = "b-dot"
+    stacks_parameter_sets = True
     single_ion_convention = CONVENTION
     mixture_computes = _MIXTURE_COMPUTES
     name = "b-dot (Helgeson)"

@@ -21,7 +21,7 @@ import math
 import re
 from collections.abc import Mapping
 from dataclasses import dataclass, field
-from typing import Any, Literal, NamedTuple
+from typing import Any, ClassVar, Literal, NamedTuple
 
 import numpy as np
 
@@ -399,7 +399,23 @@ class ActivityModel(SolutionModel):
     intermediate terms). Parameters are named flat; ``compute`` keys them by
     :meth:`Parameter.key_for`. Plugins written before the solution contract subclass this and
     keep working unchanged.
+
+    ``stacks_parameter_sets`` (opt-in, default ``False``) declares that the one-salt functions
+    (``ln_gamma_pm``, ``osmotic``, ``ln_gamma_ions``, ``jacobian``, ``values_and_jacobian``)
+    take S parameter sets in one call. Each value in ``params`` is then either a float (the
+    behaviour is exactly that of a model without the attribute, a ModelDomainError included)
+    or a numpy array of shape (S, 1), with ``m`` of shape (N,); every returned array (values
+    and each derivative) broadcasts to (S, N), row s for set s (a derivative that does not
+    depend on the parameters may stay (N,)). In this stacked form (any value an array) a set
+    outside the model's domain gives non-finite values (NaN or inf) in its row: the call does
+    not raise and emits no numpy RuntimeWarning. Without the attribute a caller calls the
+    functions once per set with floats. The contract kit holds a declaring model to it
+    (:mod:`saltbench.models.contract_kit`, check 10); :func:`stacked_sets` tells the two forms
+    apart.
     """
+
+    #: Whether the one-salt functions take S parameter sets at once (see the class docstring).
+    stacks_parameter_sets: ClassVar[bool] = False
 
     # -- what a plugin implements -------------------------------------------------------------
     def ln_gamma_pm(self, m: np.ndarray, params: Params, ctx: EvalContext) -> np.ndarray:
@@ -512,6 +528,15 @@ class ActivityModel(SolutionModel):
                         if name in wrt_names:
                             put(derivs.setdefault(q, {}), keys[name], s, rows, col)
         return Computed(values, derivs)
+
+
+def stacked_sets(params: Mapping[str, object]) -> int:
+    """The number S of parameter sets in ``params`` when any value is an array of them (the
+    stacked form of :attr:`ActivityModel.stacks_parameter_sets`), else 0 (every value a float)."""
+    for value in params.values():
+        if isinstance(value, np.ndarray) and value.ndim:
+            return int(value.shape[0])
+    return 0
 
 
 def call_model(model: SolutionModel, method: str, *args: object) -> Any:

@@ -26,9 +26,17 @@ Checks, each reported as one line naming the electrolyte and what failed:
 9. ``compute`` itself, for one salt of each test electrolyte and, for a model that takes
    mixtures, for test mixtures: keys, shapes, batches of parameter sets, derivatives against
    finite differences, the limiting law for every ion, the cross-differential identity and
-   Gibbs-Duhem along dilution (see :mod:`saltbench.models.solution_kit`).
+   Gibbs-Duhem along dilution (see :mod:`saltbench.models.solution_kit`);
+10. for a model that declares ``stacks_parameter_sets``: three parameter sets drawn inside the
+    bounds around the given values, stacked as (S, 1) arrays in one call of each one-salt
+    function (values and every derivative, with and without ``ctx.wrt``), give rows equal to
+    one call per set (relative 1e-12, after broadcasting to (S, N)); and where a set with one
+    parameter at a bound is outside the model's domain (its own call raises ModelDomainError),
+    stacking it between two others raises nothing, warns nothing (RuntimeWarning) and gives a
+    non-finite row for its values (see :mod:`saltbench.models.stacked_kit`). A
+    self-consistency check: the model against itself.
 
-Checks 2-8 call the one-salt functions: a model's own where it is written to the one-salt form
+Checks 2-8 and 10 call the one-salt functions: a model's own where it is written to the one-salt form
 (:class:`~saltbench.models.contract.ActivityModel`), otherwise those of its
 :func:`~saltbench.models.salt_view.salt_view`. Parameter defaults are updated by ``params``.
 """
@@ -38,13 +46,14 @@ from __future__ import annotations
 import math
 from collections.abc import Iterable, Mapping
 from dataclasses import replace
+from functools import partial
 from typing import Any
 
 import numpy as np
 
 from saltbench.chemistry.electrolyte import Electrolyte, parse_formula
 from saltbench.chemistry.solution import Composition
-from saltbench.models import solution_kit
+from saltbench.models import solution_kit, stacked_kit
 from saltbench.models.contract import ActivityModel, EvalContext, SolutionModel, check_declaration
 from saltbench.models.evaluate import make_context, osmotic_by_gibbs_duhem
 from saltbench.models.salt_view import salt_view
@@ -321,6 +330,7 @@ def check_model(model: SolutionModel, electrolytes: Iterable[Electrolyte | str] 
                                         f"(largest difference {np.max(np.abs(mean - ln_g)):.3g})")
         _check_jacobian(model, e, m, values, ctx, problems)
         _check_values_and_jacobian(model, e, m, values, ctx, ln_g, phi, problems)
+        stacked_kit.check_electrolyte(model, m, values, ctx, partial(problems.add, e))
         solution_kit.check_compute(solution_model, Composition.of_salt(e, m, temperature_k),
                                    values, ctx.dh, e.name, problems.add_named)
     if getattr(solution_model, "mixtures", False) and supported:
