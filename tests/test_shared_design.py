@@ -95,7 +95,7 @@ def test_a_model_failing_beyond_a_subset_leaves_the_subset_to_itself():
 def test_the_spread_screen_of_a_fold_reads_its_roots_evaluations():
     from fitting_models import ExtendedDH
 
-    from saltbench.fitting.least_squares import _Projection, _screen, spread_points
+    from saltbench.fitting.least_squares import Projection, _screen, spread_points
 
     data = synthetic((3.5, 0.08), NACL, GRID, seed=17)
     problem = build_problem(ExtendedDH(), [(NACL, data)])
@@ -104,11 +104,11 @@ def test_the_spread_screen_of_a_fold_reads_its_roots_evaluations():
     points, _ = spread_points(lo, hi, fold.theta0[fold.nonlinear])
     problem.screen_parts(points)  # the root evaluates the model at the screen once
     before = problem.n_evaluations + fold.n_evaluations
-    shared = _screen(_Projection(fold), points)
+    shared = _screen(Projection(fold), points)
     assert problem.n_evaluations + fold.n_evaluations == before
     # ... giving the fold's own reduced sum of squares at each point (the linear b solved for
     # the fold's points alone), as evaluating the fold there does.
-    own = _Projection(fold)
+    own = Projection(fold)
     direct = np.array([float(np.sum(own.fun(x) ** 2)) for x in points])
     np.testing.assert_allclose(shared, direct, rtol=1e-10)
 

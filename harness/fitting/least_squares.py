@@ -105,17 +105,18 @@ class FoundMinimum(NamedTuple):
     prediction: np.ndarray
     residual: np.ndarray
     linear: LinearSolution | None
+    failures: tuple[str, ...] = ()  # the model's messages at steps rejected on the way
 
 
 #: The solver's message for a problem whose free parameters all enter linearly.
 LINEAR_MESSAGE = "all free parameters are linear: solved by linear least squares"
 
 
-class _Abort(Exception):
+class Abort(Exception):
     pass
 
 
-class _Projection:
+class Projection:
     """theta_N -> projected residuals and Jacobian, caching the last point (fun then jac)."""
 
     def __init__(self, problem: Problem) -> None:
@@ -133,6 +134,7 @@ class _Projection:
         self.key = np.asarray(found.minimum.x, dtype=float).tobytes()
         self.theta, self.resid, self.pred, self.lin = (found.theta, found.residual,
                                                        found.prediction, found.linear)
+        self.failures[:] = found.failures
 
     def set_point(self, x: np.ndarray) -> None:
         key = np.asarray(x, dtype=float).tobytes()
@@ -182,7 +184,7 @@ class _Projection:
             j = -self.p.derivatives(self.theta, self.p.nonlinear) / self.p.sigma[:, None]
         except _MODEL_FAILURES as exc:
             self.failures.append(str(exc))
-            raise _Abort(str(exc)) from exc
+            raise Abort(str(exc)) from exc
         basis = self.basis
         if basis.shape[1]:
             j = j - basis @ (basis.T @ j)
@@ -337,7 +339,7 @@ def _chi2(resid: np.ndarray) -> float:
     return float(resid @ resid) if np.isfinite(resid).all() else math.inf
 
 
-def _screen(proj: _Projection, points: np.ndarray) -> np.ndarray:
+def _screen(proj: Projection, points: np.ndarray) -> np.ndarray:
     """The reduced sum of squares at each of ``points`` (inf where the model fails): from the
     values and designs shared with the problem's root (one set of model calls for a fit, its
     folds and its trial limits), else by evaluating the problem at each point."""
@@ -407,7 +409,7 @@ class SpreadPlan(NamedTuple):
     starts: list[np.ndarray]
 
 
-def _spread_plan(proj: _Projection, first, lower: np.ndarray, upper: np.ndarray
+def _spread_plan(proj: Projection, first, lower: np.ndarray, upper: np.ndarray
                  ) -> SpreadPlan | None:
     """Screen well-spread points around ``first`` (None when the first minimum's chi-square
     is not finite)."""
@@ -429,13 +431,13 @@ def spread_plan(problem: Problem, first: FoundMinimum) -> SpreadPlan | None:
     """The spread screen :func:`solve` would make of ``problem`` from the local minimum
     ``first`` (for a caller that refines the starts of several fits together and gives them
     back to :func:`solve` as ``planned``)."""
-    proj = _Projection(problem)
+    proj = Projection(problem)
     proj.adopt(first)
     nl = problem.nonlinear
     return _spread_plan(proj, first.minimum, problem.lower[nl], problem.upper[nl])
 
 
-def _spread_starts(proj: _Projection, local, first, lower: np.ndarray, upper: np.ndarray,
+def _spread_starts(proj: Projection, local, first, lower: np.ndarray, upper: np.ndarray,
                    planned: tuple[SpreadPlan | None, list[FoundMinimum | None]] | None = None):
     """Screen well-spread starts and refine the most promising.
 
@@ -464,10 +466,11 @@ def _spread_starts(proj: _Projection, local, first, lower: np.ndarray, upper: np
         proj.failures.clear()
         if found is not None:
             res, c = found.minimum, _chi2(found.residual)
+            proj.failures[:] = found.failures
         else:
             try:
                 res = local(x)
-            except (_Abort, ValueError, *_MODEL_FAILURES):
+            except (Abort, ValueError, *_MODEL_FAILURES):
                 continue
             c = _chi2(proj.fun(res.x))
         if res.status > 0 and c < chi_best * (1 - SPREAD_RTOL) - 1e-9:
@@ -500,7 +503,7 @@ def solve(problem: Problem, *, max_evaluations: int | None = None,
     solution (and so the check that the model gives finite derivatives there), for a caller
     that reads only the parameters and the prediction."""
     p = problem
-    proj = _Projection(p)
+    proj = Projection(p)
     theta = p.theta0.copy()
     flags: list[Flag] = []
     converged, message, iterations = True, "", 0
@@ -548,7 +551,7 @@ def solve(problem: Problem, *, max_evaluations: int | None = None,
                 if res.active_mask[j]:
                     at_bound[int(g)] = "lower" if res.active_mask[j] < 0 else "upper"
         at_bound.update(proj.linear_at_bound)
-    except (_Abort, ValueError, *_MODEL_FAILURES) as exc:
+    except (Abort, ValueError, *_MODEL_FAILURES) as exc:
         reason = proj.failures[-1] if proj.failures else str(exc)
         return Solution(theta, None, None, False, reason, [flag(FlagKind.MODEL_ERROR, detail=reason)])
     if proj.failures:

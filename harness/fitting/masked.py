@@ -68,7 +68,7 @@ class MaskedLinear:
         theta[p.linear] = lin.x
         pred = self.offset[rows] + self.design[rows] @ theta[p.linear]
         resid = (p.obs[rows] - pred) / p.sigma[rows]
-        # A sum is finite only if every term is (see least_squares._Projection.set_point).
+        # A sum is finite only if every term is (see least_squares.Projection.set_point).
         if not math.isfinite(np.add.reduce(resid)):
             return None
         return Solution(theta, pred, lin.weighted, True, LINEAR_MESSAGE, [], dict(lin.pinned), 0,

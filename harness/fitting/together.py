@@ -24,7 +24,13 @@ from __future__ import annotations
 
 import numpy as np
 
-from saltbench.fitting.least_squares import FoundMinimum, LinearSolution, solve_weighted
+from saltbench.fitting.least_squares import (
+    Abort,
+    FoundMinimum,
+    LinearSolution,
+    Projection,
+    solve_weighted,
+)
 from saltbench.fitting.levenberg import Walk, minimise_together
 
 _FAILURES = (np.linalg.LinAlgError, ValueError, FloatingPointError)
@@ -39,18 +45,27 @@ def can_refit_together(problem: object) -> bool:
 
 
 class _Subsets:
-    """The residuals and projected Jacobians of each subset at its own nonlinear parameters."""
+    """The residuals and projected Jacobians of each subset at its own nonlinear parameters.
 
-    def __init__(self, problem, train: np.ndarray) -> None:
+    Where the stacked values are not finite at a subset's points, or its linear parameters
+    meet a bound, the point is evaluated for that subset alone by the solver's own code
+    (:class:`~saltbench.fitting.least_squares.Projection`), which gives what ``solve`` of the
+    subset gives there: its residuals, or a rejected step with the model's message, or an
+    abort that takes the subset out."""
+
+    def __init__(self, problem, train: np.ndarray, subsets: list | None = None) -> None:
         self.p = problem
+        self.train = train
+        self.subsets = subsets if subsets is not None else [None] * len(train)
         self.rows = [np.flatnonzero(t) for t in train]
         self.obs = [problem.obs[r] for r in self.rows]
         self.sigma = [problem.sigma[r] for r in self.rows]
         # Per subset, its state at the last point evaluated and at the last point accepted
         # (the one whose Jacobian was asked for): key, theta, linear solution, prediction,
-        # residuals.
+        # residuals; and the model's messages at the points rejected on the way.
         self.last: list[_State | None] = [None] * len(self.rows)
         self.accepted: list[_State | None] = [None] * len(self.rows)
+        self.failures: list[list[str]] = [[] for _ in self.rows]
 
     def found(self, i: int, walk: Walk) -> FoundMinimum:
         """Walk ``i``'s minimum with the subset's state there."""
@@ -59,7 +74,22 @@ class _Subsets:
         if state is None or state[0] != key:
             state = self.accepted[i]
         assert state is not None and state[0] == key  # the minimum is a point accepted
-        return FoundMinimum(walk.result(), state[1], state[3], state[4], state[2])
+        return FoundMinimum(walk.result(), state[1], state[3], state[4], state[2],
+                            tuple(self.failures[i]))
+
+    def _alone(self, i: int, x: np.ndarray) -> Projection:
+        sub = self.subsets[i]
+        if sub is None:
+            sub = self.subsets[i] = self.p.subset(self.train[i])
+        return Projection(sub)
+
+    def _residuals_alone(self, i: int, x: np.ndarray) -> np.ndarray:
+        proj = self._alone(i, x)
+        r = proj.fun(x)
+        self.failures[i] += proj.failures
+        if not proj.failures:
+            self.last[i] = (x.tobytes(), proj.theta, proj.lin, proj.pred, r)  # type: ignore[assignment]
+        return r
 
     def _thetas(self, points: list[np.ndarray]) -> np.ndarray:
         p = self.p
@@ -78,22 +108,22 @@ class _Subsets:
             pred_all = p.stack_predict(thetas)
         out: list[np.ndarray | None] = []
         for s, i in enumerate(idx):
+            x = np.asarray(points[s], dtype=float)
             rows, sigma = self.rows[i], self.sigma[i]
             theta = thetas[s]
             lin = None
             if p.linear.size:
                 off, d = offset[s, rows], design[s, rows]
                 if not (np.isfinite(off).all() and np.isfinite(d).all()):
-                    out.append(None)
+                    out.append(self._residuals_alone(i, x))
                     continue
                 try:
                     lin = solve_weighted(p, d / sigma[:, None], (self.obs[i] - off) / sigma,
                                          projection=True)
                 except _FAILURES:
-                    out.append(None)
-                    continue
-                if lin.pinned:  # a bounded linear solve: the subset's own path handles it
-                    out.append(None)
+                    lin = None
+                if lin is None or lin.pinned:  # the subset's own path handles a bound
+                    out.append(self._residuals_alone(i, x))
                     continue
                 theta = theta.copy()
                 theta[p.linear] = lin.x
@@ -102,9 +132,9 @@ class _Subsets:
                 pred = pred_all[s, rows]
             resid = (self.obs[i] - pred) / sigma
             if not np.isfinite(resid).all():
-                out.append(None)
+                out.append(self._residuals_alone(i, x))
                 continue
-            self.last[i] = (np.asarray(points[s], dtype=float).tobytes(), theta, lin, pred, resid)
+            self.last[i] = (x.tobytes(), theta, lin, pred, resid)
             out.append(resid)
         return out
 
@@ -119,7 +149,11 @@ class _Subsets:
             self.accepted[i] = states[s]
             j = -derivs[s, self.rows[i]] / self.sigma[i][:, None]
             if not np.isfinite(j).all():
-                out.append(None)
+                proj = self._alone(i, points[s])
+                try:
+                    out.append(proj.jac(np.asarray(points[s], dtype=float)))
+                except Abort:
+                    out.append(None)  # the subset's own solve fails here: it reports that
                 continue
             lin = states[s][2]  # type: ignore[index]
             if lin is not None:
@@ -131,22 +165,23 @@ class _Subsets:
 
 
 def refit_together(problem, train: np.ndarray, starts: list[np.ndarray] | None = None, *,
-                   tolerance: float = 1e-10, max_evaluations: int | None = None
-                   ) -> list[FoundMinimum | None]:
+                   tolerance: float = 1e-10, max_evaluations: int | None = None,
+                   subsets: list | None = None) -> list[FoundMinimum | None]:
     """For each row of the boolean stack ``train`` (subsets x points): the local minimum in
     the free nonlinear parameters that :func:`saltbench.fitting.least_squares.solve` of
     ``problem.subset(row)`` reaches from ``problem``'s start (or from that row's entry of
     ``starts``, values of the free nonlinear parameters) before its spread screen, or None
-    where the subset left the stack (see the module)."""
+    where the subset left the stack (see the module). ``subsets`` are the problems
+    ``problem.subset(row)`` where the caller has made them."""
     p = problem
     lb, ub = p.lower[p.nonlinear], p.upper[p.nonlinear]
     if starts is None:
         starts = [np.clip(p.theta0[p.nonlinear], lb, ub)] * len(train)
     walks = [Walk(x0, lb, ub, ftol=tolerance, xtol=tolerance, gtol=tolerance,
                   max_nfev=max_evaluations) for x0 in starts]
-    subsets = _Subsets(p, np.asarray(train, dtype=bool))
-    minima = minimise_together(subsets.residuals, subsets.jacobians, walks)
-    return [None if m is None else subsets.found(i, walks[i]) for i, m in enumerate(minima)]
+    state = _Subsets(p, np.asarray(train, dtype=bool), subsets)
+    minima = minimise_together(state.residuals, state.jacobians, walks)
+    return [None if m is None else state.found(i, walks[i]) for i, m in enumerate(minima)]
 
 
 def solve_together(problem, train: np.ndarray, *, jacobian: bool = False) -> list:
@@ -159,11 +194,11 @@ def solve_together(problem, train: np.ndarray, *, jacobian: bool = False) -> lis
 
     train = np.asarray(train, dtype=bool)
     subsets = [problem.subset(row) for row in train]
-    firsts = refit_together(problem, train)
+    firsts = refit_together(problem, train, subsets=subsets)
     plans = [None if f is None else spread_plan(sub, f) for sub, f in zip(subsets, firsts)]
     pairs = [(i, x) for i, plan in enumerate(plans) if plan is not None for x in plan.starts]
-    refined = refit_together(problem, train[[i for i, _ in pairs]], [x for _, x in pairs]) \
-        if pairs else []
+    refined = refit_together(problem, train[[i for i, _ in pairs]], [x for _, x in pairs],
+                             subsets=[subsets[i] for i, _ in pairs]) if pairs else []
     by_subset: list[list[FoundMinimum | None]] = [[] for _ in subsets]
     for (i, _), found in zip(pairs, refined):
         by_subset[i].append(found)
