@@ -174,6 +174,13 @@ def _fixed_scan(problem: Problem, theta: np.ndarray, tol: Tolerance
 COARSE_FACTOR = 1.35
 
 
+#: Once the top trial fails, the coarse trials below it are solved this many at a time,
+#: together (see ``_search``): more at once share more of each round's model call, but the
+#: search usually stops at the second or third, and each one solved ahead that it never
+#: reaches is wasted.
+PREFETCH = 3
+
+
 def _coarse(grid: np.ndarray) -> list[int]:
     picks = [0]
     for i in range(1, len(grid)):
@@ -302,7 +309,7 @@ def _fit_scan(problem: Problem, tol: Tolerance,
                 else run(trial)
         return _outcome_of(problem, result)
 
-    ahead: dict[int, tuple] = {}  # outcomes of trials solved before their turn
+    ahead: dict[int, tuple] = {}  # trials solved before their turn: (problem, solution)
 
     def prefetch(indices: list[int]) -> None:
         """Solve the trials ``indices`` together, each from the last solved start (one model
@@ -311,14 +318,14 @@ def _fit_scan(problem: Problem, tol: Tolerance,
             return
         base = problem.with_start(start[-1]) if start else problem
         sels = np.array([m <= grid[i] for i in indices])
-        for i, (sub, sol) in zip(indices, solve_together(base, sels, jacobian=True)):
-            ahead[i] = _outcome_of(problem, build_result(sub, sol))
+        ahead.update(zip(indices, solve_together(base, sels, jacobian=True)))
 
     def passes(i: int) -> bool:
         if i in cache:
             return cache[i]
         L = grid[i]
-        solved, resid, kind, trial_flags, theta = ahead.pop(i) if i in ahead else outcome(m <= L)
+        solved, resid, kind, trial_flags, theta = \
+            _outcome_of(problem, build_result(*ahead.pop(i))) if i in ahead else outcome(m <= L)
         if solved and theta is not None:
             start.append(theta)
         ok = solved and bool(_within(resid, kind, tol).all())
@@ -343,13 +350,13 @@ def _outcome_of(problem: Problem, result: FitResult
 
 def _search(grid: list[float], passes, prefetch=None) -> tuple[float | None, float | None]:
     """Highest passing trial limit (coarse from the top, then bisection) and the first failing
-    one above it. ``prefetch``, where given, is told the coarse limits below the top once the
-    top has failed, to solve them ahead of their turn (together)."""
+    one above it. ``prefetch``, where given, is told the next ``PREFETCH`` coarse limits below
+    a failing one, to solve them ahead of their turn (together)."""
     coarse = _coarse(np.array(grid))
     last_pass, first_fail = -1, None
     for j in range(len(coarse) - 1, -1, -1):
-        if j == len(coarse) - 2 and prefetch is not None:
-            prefetch([coarse[i] for i in range(j, -1, -1)])
+        if j < len(coarse) - 1 and (len(coarse) - 2 - j) % PREFETCH == 0 and prefetch is not None:
+            prefetch([coarse[i] for i in range(j, max(j - PREFETCH, -1), -1)])
         if passes(coarse[j]):
             last_pass = coarse[j]
             if j + 1 < len(coarse):
