@@ -49,6 +49,7 @@ from saltbench.fitting.protocol import Problem
 from saltbench.fitting.result import FitResult, build_result, fit_flags
 from saltbench.fitting.together import can_refit_together, solve_together
 from saltbench.models.contract import SolutionModel
+from saltbench.models.evaluate import make_context
 from saltbench.models.salt_view import unwrapped
 from saltbench.water.debye_huckel import DebyeHuckel
 
@@ -252,6 +253,19 @@ def _refit_scan(problem: Problem, tol: Tolerance, folds: int, scheme: str,
     return last_ok, first_fail, flags, trials
 
 
+def _built_from(full_fit: tuple[FitProblem, FitResult] | None, model: SolutionModel,
+                e: Electrolyte, data: FitData, dh: DebyeHuckel | None, temperature_k: float) -> bool:
+    """Whether ``full_fit``'s problem is what ``build_problem(model, [(e, data)], dh=dh,
+    temperature_k=temperature_k)`` gives (the same model, electrolyte, data object and
+    constants, and no options), so that it need not be built again to be compared."""
+    if full_fit is None or not isinstance(full_fit[0], FitProblem):
+        return False
+    p = full_fit[0]
+    return (unwrapped(p.model) is unwrapped(model) and len(p.blocks) == 1
+            and p.blocks[0].data is data and p.blocks[0].electrolyte == e
+            and p.blocks[0].ctx == make_context(e, temperature_k, dh=dh))
+
+
 def _same_fit(full_fit: tuple[FitProblem, FitResult] | None, sub: Problem) -> bool:
     """Whether ``full_fit`` (a problem and its result) fits exactly ``sub``'s points with the
     same model, constants, parameters, bounds and start."""
@@ -415,13 +429,17 @@ def validity_range(model: SolutionModel, electrolyte: Electrolyte | str, data: F
     if params is not None:
         problem = build_problem(model, [(e, data)], dh=dh, temperature_k=temperature_k)
         theta = problem.theta_from(params)
+    elif not (fixed or start or free or bounds) and _built_from(full_fit, model, e, data, dh,
+                                                              temperature_k):
+        # The caller's problem is this one: its trials then share the designs and screen
+        # values it has built already (FitProblem.subset).
+        assert full_fit is not None  # _built_from says so
+        problem = full_fit[0]
     else:
         problem = build_problem(model, [(e, data)], fixed=fixed, start=start, free=free,
                                 bounds=bounds, dh=dh, temperature_k=temperature_k)
         if full_fit is not None and _same_fit(full_fit, problem):
-            # The caller's problem is this one: its trials then share the designs and screen
-            # values it has built already (FitProblem.subset).
-            problem = full_fit[0]
+            problem = full_fit[0]  # as above
     found = scan(problem, tol, theta=theta, judge=judge, folds=folds, scheme=scheme,
                  full_cv=full_cv, stop_early=stop_early, full_fit=full_fit)
     return _finish(e, found.mode, found.last_ok, found.first_fail,
