@@ -204,13 +204,16 @@ def run_comparisons(batches: Sequence[tuple[list[ElectrolyteTask], CompareSettin
                 results[(futures[fut], name)] = outs
                 bar(name)
         except BaseException:
-            for fut in futures:
-                fut.cancel()
             if own_pool:
-                # Ctrl-C (or a failure): stop the workers now instead of waiting for their tasks
+                # Ctrl-C (or a failure): stop the workers now instead of waiting for their tasks.
+                # The pool then marks every future not done as broken; a future cancelled here
+                # first would make its manager thread fail on it with a traceback (Python 3.11).
                 for proc in list(getattr(pool, "_processes", {}).values()):
                     proc.terminate()
-                pool.shutdown(wait=False, cancel_futures=True)
+                pool.shutdown(wait=False)
+            else:
+                for fut in futures:
+                    fut.cancel()
             raise
         if own_pool:
             pool.shutdown()
