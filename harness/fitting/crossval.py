@@ -200,12 +200,13 @@ def cross_validate_problem(problem: Problem, folds: int | str = 5,
     # round for all of them where the model stacks parameter sets), each then checked against
     # spread starts on its own. All folds are minimised even where a stop may end the loop
     # early: together they cost about what one fold costs alone.
-    held_values = None  # with the folds solved together: every fold's values at every point
+    # With the folds solved together: every fold's values at every point (None where unsolved).
+    held_values: list[np.ndarray | None] | None = None
     if masked is None and can_refit_together(seeded):
         stacked = [sol for _, sol in solve_together(seeded, ~held_out)]
         solved = [s.theta for s in stacked if s is not None and s.prediction is not None]
         if solved:
-            values = iter(seeded.stack_predict(np.array(solved)))
+            values = iter(seeded.stack_predict(np.array(solved)))  # type: ignore[attr-defined]
             held_values = [next(values) if s is not None and s.prediction is not None else None
                            for s in stacked]
     pred = np.full(n, np.nan)
@@ -235,7 +236,8 @@ def cross_validate_problem(problem: Problem, folds: int | str = 5,
         if not sol.converged:
             flags.append(flag(FlagKind.FOLD_NOT_CONVERGED, **which, detail=sol.message))
         theta = sol.theta
-        known = None if held_values is None or held_values[f] is None else held_values[f][held]
+        row = None if held_values is None else held_values[f]
+        known = None if row is None else row[held]
         try:
             if known is not None and np.isfinite(known).all():
                 pred[held] = known  # the model's values there, from one call for all folds
