@@ -81,6 +81,10 @@ class Session:
     def electrolytes(self) -> pd.DataFrame:
         return queries.electrolytes(self.store)
 
+    def electrolyte_names(self) -> list[str]:
+        """The names of the stored electrolytes with data, as :meth:`electrolytes` orders them."""
+        return queries.electrolyte_names(self.store)
+
     def datasets(self, electrolyte: str | None = None) -> pd.DataFrame:
         return queries.datasets(self.store, self.electrolyte(electrolyte).name if electrolyte else None)
 
@@ -156,7 +160,7 @@ def check_data(session: Session, electrolytes: Sequence[str] = ()):
     from saltbench.curation.checks import CheckReport, check_electrolyte
 
     report = CheckReport()
-    names = [session.electrolyte(n).name for n in electrolytes] or list(session.electrolytes().electrolyte)
+    names = [session.electrolyte(n).name for n in electrolytes] or session.electrolyte_names()
     for name in names:
         e = session.electrolyte(name)
         part = check_electrolyte(e, session.points(name))

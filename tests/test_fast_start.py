@@ -38,6 +38,13 @@ def test_compare_imports_neither_pandas_nor_the_water_library(seeded_store: Path
     assert not loaded & {"pandas", "iapws", "matplotlib"}
 
 
+def test_compare_all_lists_the_electrolytes_without_pandas(seeded_store: Path) -> None:
+    # --all iterates over the stored electrolytes' names: no DataFrame is returned.
+    loaded = _loaded(["compare", "--all", "--models", "davies", "--jobs", "1", "--format", "json"],
+                     seeded_store)
+    assert not loaded & {"pandas", "iapws", "matplotlib"}
+
+
 def test_compare_away_from_cached_states_computes_the_water_state(seeded_store: Path) -> None:
     # 30 °C is not a cached state: the water-property library is asked for it.
     loaded = _loaded(["predict", "NaCl", "--model", "davies", "--temperature", "303.15",

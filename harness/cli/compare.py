@@ -205,7 +205,7 @@ def compare(app, electrolytes, all_, models, up_to, tol, folds, on, data_sel, te
         return
     names = list(electrolytes)
     if all_:
-        names = list(s.electrolytes().electrolyte)
+        names = s.electrolyte_names()
     if not names:
         raise UserError("name at least one electrolyte, or use --all")
     settings = build_settings(models, up_to, tol, folds, on, data_sel, temperature_k, time_limit, temperatures,

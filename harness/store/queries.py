@@ -50,6 +50,16 @@ def electrolytes(store: Store) -> pd.DataFrame:
     return _frame(_rows(store, sql))
 
 
+def electrolyte_names(store: Store) -> list[str]:
+    """The names :func:`electrolytes` lists, in its order, without building a DataFrame (a
+    command that only iterates over them need not import pandas)."""
+    sql = """
+    SELECT e.name FROM electrolytes e JOIN datasets d ON d.electrolyte = e.name
+    GROUP BY e.name ORDER BY e.charge_type, e.name
+    """
+    return [r["name"] for r in _rows(store, sql)]
+
+
 def datasets(store: Store, electrolyte: str | None = None) -> pd.DataFrame:
     return _frame(dataset_rows(store, electrolyte))
 
