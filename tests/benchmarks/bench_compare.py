@@ -51,6 +51,7 @@ import numpy as np
 HERE = Path(__file__).resolve().parent
 sys.path.insert(0, str(HERE))  # the sibling benchmarks (bench_fit) are reused, not copied
 
+from phases import phase_shares  # noqa: E402
 from timing import (  # noqa: E402
     back_to_back_median_times,
     best_rate,
@@ -249,6 +250,27 @@ def curve_fit_vectorised(model, e, data, free, mask=None):
         return exc
 
 
+#: The phases of one fit (phases.py): setting up the problem, the solve (with, inside it, the
+#: model's calls), and the report with its statistics.
+FIT_PHASES = {
+    "build_problem": [("fitting/problem.py", "build_problem")],
+    "solve": [("fitting/least_squares.py", "solve")],
+    "model_calls_inside_solve": [("models/contract.py", "call_model")],
+    "build_result": [("fitting/result.py", "build_result")],
+}
+#: The phases of a comparison in one process. Cross-validation and the validity scan hold the
+#: refits; the first fits are scipy's; model calls and the spread screens run inside all of them.
+COMPARE_PHASES = {
+    "first_fits_scipy_least_squares": [("scipy/optimize/_lsq/least_squares.py", "least_squares")],
+    "cross_validation": [("fitting/crossval.py", "cross_validate_problem")],
+    "validity_scans": [("fitting/validity.py", "validity_range")],
+    "refits_together": [("fitting/together.py", "refit_together")],
+    "spread_screens": [("fitting/least_squares.py", "_spread_plan")],
+    "model_calls": [("models/contract.py", "call_model")],
+    "results_and_flags": [("fitting/result.py", "build_result")],
+}
+
+
 def bench_fitting(quick: bool, store: str) -> dict[str, Any]:
     from saltbench.api import Session, select_data
     from saltbench.chemistry.electrolyte import parse_formula
@@ -294,6 +316,8 @@ def bench_fitting(quick: bool, store: str) -> dict[str, Any]:
                   "purpose_written_max_abs_parameter_difference":
                       float(np.max(np.abs(pfloor - popt))),
                   "calls_each": rounds,
+                  "where_the_time_goes": phase_shares(
+                      lambda: [fit(pitzer, e, data, dh=dh) for _ in range(200)], FIT_PHASES),
                   "timing": "median of single calls, each of the four timed back to back "
                             "(timing.py)",
                   "in_turns": {"saltbench_s": turns["saltbench"],
@@ -478,6 +502,10 @@ def bench_linear(quick: bool, store: str) -> dict[str, Any]:
         cpu_ours.append(t)
         t, limits = yardstick()
         cpu_yard.append(t)
+    profile = phase_shares(lambda: run_comparison(tasks, settings, registry=reg, jobs=1),
+                           {**FIT_PHASES,
+                            "cross_validation": [("fitting/crossval.py", "cross_validate_problem")],
+                            "validity_scans": [("fitting/validity.py", "validity_range")]})
     agree = sum(1 for name, outs in comp.outcomes.items() for o in outs
                 if o.valid_refit is not None
                 and o.valid_refit.max_molality == limits[(name, o.model)])
@@ -488,6 +516,7 @@ def bench_linear(quick: bool, store: str) -> dict[str, Any]:
             "yardstick_cpu_s": statistics.median(cpu_yard), "ratio": ratio,
             "target_met": ratio <= TARGETS["linear_cpu_over_yardstick_max"],
             "refitted_ranges_equal_to_yardstick": agree,
+            "where_the_time_goes": profile,
             "saltbench_does_more": "published-set judgement, flags, covariance and statistics "
                                    "of every fit, held-out predictions per fold",
             "yardstick": "batched_yardstick(): one model evaluation and one stacked "
@@ -590,6 +619,7 @@ def bench_compare(quick: bool, store: str) -> dict[str, Any]:
     same = all(r["stdout"] == runs["default"][0]["stdout"]
                for k in runs for r in runs[k])
     return {"command": "saltbench compare --all --format json (+ --jobs N)",
+            "where_the_time_goes": _compare_profile(store),
             "electrolytes": len({r["electrolyte"] for r in records}),
             "models": len({r["model"] for r in records}), "records": len(records),
             "cores": os.cpu_count(), "default_jobs": _default_jobs(),
@@ -600,6 +630,21 @@ def bench_compare(quick: bool, store: str) -> dict[str, Any]:
             "memory_over_target": memory / TARGETS["compare_all_memory_mb_max"],
             "target_met": default["wall_s"] < TARGETS["compare_all_wall_s_max"]
             and memory < TARGETS["compare_all_memory_mb_max"]}
+
+
+def _compare_profile(store: str) -> dict[str, Any]:
+    """Shares of the phases of the whole comparison (every electrolyte, every model) run in
+    this process with one worker, under the profiler (phases.py)."""
+    from saltbench.api import Session
+    from saltbench.api import compare as api_compare
+    from saltbench.comparison.settings import CompareSettings
+
+    session = Session(store)
+    names = session.electrolyte_names()
+    out = phase_shares(lambda: api_compare(session, names, CompareSettings(), jobs=1),
+                       COMPARE_PHASES)
+    out["run"] = "api.compare of every electrolyte, one process, under cProfile"
+    return out
 
 
 def _default_jobs() -> int:
