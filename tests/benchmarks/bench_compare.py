@@ -52,6 +52,7 @@ HERE = Path(__file__).resolve().parent
 sys.path.insert(0, str(HERE))  # the sibling benchmarks (bench_fit) are reused, not copied
 
 from phases import phase_shares  # noqa: E402
+
 from timing import (  # noqa: E402
     back_to_back_median_times,
     best_rate,
