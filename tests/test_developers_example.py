@@ -7,25 +7,17 @@ it gives ln gamma± = -A sqrt(I)/(1 + sqrt(I)) + 2 beta m, the form checked here
 from __future__ import annotations
 
 import math
-import re
-from pathlib import Path
 
 import numpy as np
 import pytest
+from doc_examples import developers_example
 
 from saltbench.models.contract_kit import assert_model_contract, check_model
-
-DEVELOPERS = Path(__file__).resolve().parents[1] / "DEVELOPERS.md"
-BLOCK = re.compile(r"<!-- example: two-salt model -->\n```python\n(.*?)```\n<!-- end example -->", re.S)
 
 
 @pytest.fixture(scope="module")
 def example() -> dict:
-    found = BLOCK.search(DEVELOPERS.read_text(encoding="utf-8"))
-    assert found, "DEVELOPERS.md lost its worked example"
-    namespace: dict = {}
-    exec(compile(found.group(1), "DEVELOPERS.md example", "exec"), namespace)  # our own doc
-    return namespace
+    return developers_example("two-salt model")
 
 
 def test_the_example_computes_two_salts_for_two_parameter_sets(example):

@@ -9,13 +9,12 @@ Soc. 70, 1870 (1948)); the toy models are invented.
 
 from __future__ import annotations
 
-import re
 import warnings
 from dataclasses import replace
-from pathlib import Path
 
 import numpy as np
 import pytest
+from doc_examples import developers_example
 
 from saltbench.chemistry.electrolyte import parse_formula
 from saltbench.errors import ModelDomainError
@@ -27,9 +26,6 @@ from saltbench.models.evaluate import make_context
 from saltbench.plugins.stokes_robinson import StokesRobinson
 from saltbench.water import MOLAR_MASS_WATER
 
-DEVELOPERS = Path(__file__).resolve().parents[1] / "DEVELOPERS.md"
-BLOCK = re.compile(r"<!-- example: stacked sets -->\n```python\n(.*?)```\n<!-- end example -->",
-                   re.S)
 M = np.geomspace(1e-4, 4.0, 25)  # mol/kg
 FUNCTIONS = ("ln_gamma_pm", "osmotic", "ln_gamma_ions", "jacobian", "values_and_jacobian")
 
@@ -164,11 +160,7 @@ def test_stokes_robinson_with_only_one_parameter_stacked():
 
 @pytest.fixture(scope="module")
 def example() -> dict:
-    found = BLOCK.search(DEVELOPERS.read_text(encoding="utf-8"))
-    assert found, "DEVELOPERS.md lost its stacked-sets example"
-    namespace: dict = {}
-    exec(compile(found.group(1), "DEVELOPERS.md example", "exec"), namespace)  # our own doc
-    return namespace
+    return developers_example("stacked sets")
 
 
 def test_the_developers_example_runs_and_passes_the_kit(example):
