@@ -14,10 +14,13 @@ Each subset's linear parameters are solved on its own rows, with its own residua
 projected Jacobian, by the same functions as
 :func:`saltbench.fitting.least_squares.solve` uses; each walk takes the steps it would take
 alone, so the minimum is the one ``solve`` would find from the same start (the model's values
-are the same numbers unless a stacked evaluation rounds differently). A subset that meets
-anything out of the ordinary (the model failing or giving non-finite values at one of its
-points, a linear parameter on a bound) leaves the stack and is answered None: the caller
-solves it on its own, where the failure is handled and reported as it always was.
+are the same numbers unless a stacked evaluation rounds differently). Where a subset meets
+anything out of the ordinary at a point (the stacked values not finite at one of its points,
+a linear parameter on a bound), that point is evaluated for the subset alone by the solver's
+own code, which gives what ``solve`` gives there (a rejected step carries the model's
+message). A subset whose own solve would abort (no finite residuals at its start, no finite
+derivatives at an accepted point) leaves the stack and is answered None: the caller solves it
+on its own, where the failure is handled and reported as it always was.
 """
 
 from __future__ import annotations
@@ -77,14 +80,14 @@ class _Subsets:
         return FoundMinimum(walk.result(), state[1], state[3], state[4], state[2],
                             tuple(self.failures[i]))
 
-    def _alone(self, i: int, x: np.ndarray) -> Projection:
+    def _alone(self, i: int) -> Projection:
         sub = self.subsets[i]
         if sub is None:
             sub = self.subsets[i] = self.p.subset(self.train[i])
         return Projection(sub)
 
     def _residuals_alone(self, i: int, x: np.ndarray) -> np.ndarray:
-        proj = self._alone(i, x)
+        proj = self._alone(i)
         r = proj.fun(x)
         self.failures[i] += proj.failures
         if not proj.failures:
@@ -149,7 +152,7 @@ class _Subsets:
             self.accepted[i] = states[s]
             j = -derivs[s, self.rows[i]] / self.sigma[i][:, None]
             if not np.isfinite(j).all():
-                proj = self._alone(i, points[s])
+                proj = self._alone(i)
                 try:
                     out.append(proj.jac(np.asarray(points[s], dtype=float)))
                 except Abort:
