@@ -176,3 +176,20 @@ def test_refits_from_given_starts_reach_the_minimum_of_each_start():
         ref = solve(p.with_start(np.array([x0[0], 0.0])).subset(np.ones(p.n, bool)), spread=False)
         assert f is not None
         np.testing.assert_allclose(f.theta, ref.theta, rtol=1e-6)
+
+
+class StackedBadJacobian(StackedDH):
+    """Declares stacking, but its Jacobian is one dict where two are due."""
+
+    id = "test-bad-jacobian-stacked"
+
+    def jacobian(self, m, params, ctx):
+        return (ExtendedDH.jacobian(self, m, params, ctx)[0],)
+
+
+def test_a_malformed_stacked_jacobian_is_a_failure_of_each_set_not_a_crash():
+    # The one-set path calls it a model error (jacobian must return two dicts); stacked, each
+    # set then fails on its own and is not finite, as a failing value would be.
+    p = _problem(StackedBadJacobian())
+    derivs = p.stack_derivatives(np.array([[4.2, 0.06], [3.0, -0.1]]), [0])
+    assert not np.isfinite(derivs).any()

@@ -444,11 +444,7 @@ class FitProblem(ProblemBase):
         if raw is None:
             self._no_jacobian = True
             return None
-        try:
-            d_ln, d_phi = raw  # type: ignore[misc]
-            d_ln, d_phi = dict(d_ln), dict(d_phi)
-        except (TypeError, ValueError) as exc:
-            raise ModelError(f"model {self.model.id}: jacobian must return two dicts") from exc
+        d_ln, d_phi = _jacobian_dicts(self.model, raw)
         out = block._last_jacobian = _Jacobian(key, wrt, d_ln, d_phi, {})
         return out
 
@@ -608,13 +604,8 @@ class FitProblem(ProblemBase):
                     return self._stacked_values(block, values, sets)
             except _STACK_FAILURES:
                 pass  # each set on its own below, where a failure stays that set's
-        out = np.empty((sets, block.union.size + block.n_osm_unique))
-        for s in range(sets):
-            try:
-                out[s] = self._block_values(block, thetas[s])
-            except _STACK_FAILURES:
-                out[s] = np.nan
-        return out
+        return _set_by_set(lambda t: self._block_values(block, t), thetas,
+                           (block.union.size + block.n_osm_unique,))
 
     def _stacked_values(self, block: Block, values: dict[str, np.ndarray], sets: int
                         ) -> np.ndarray:
@@ -655,13 +646,13 @@ class FitProblem(ProblemBase):
         used = [(j, c, b.users[c]) for j, c in enumerate(cols) if c in b.users]
         if not used:
             return out
+
+        def each_set() -> np.ndarray:
+            return _set_by_set(lambda t: self._block_derivatives(b, t, cols, None), thetas,
+                               (b.data.n, len(cols)))
+
         if not self.stacks:
-            for s in range(sets):
-                try:
-                    out[s] = self._block_derivatives(b, thetas[s], cols, None)
-                except _STACK_FAILURES:
-                    out[s] = np.nan
-            return out
+            return each_set()
         missing = [(j, c) for j, c, _ in used]
         if not self._no_jacobian:
             values = {name: thetas[:, g][:, None] for name, g in b.mapping.items()}
@@ -671,8 +662,7 @@ class FitProblem(ProblemBase):
                     raw = call_model(self.model, "jacobian", b.union, values, ctx)
                     missing = self._stacked_columns(b, raw, used, out, sets)
             except _STACK_FAILURES:
-                out[:] = np.nan
-                return out
+                return each_set()  # as for values: each set on its own, a failure its own
         for j, c in missing:
             out[:, :, j] = self._stack_difference(b, thetas, c)
         return out
@@ -683,14 +673,7 @@ class FitProblem(ProblemBase):
         not give are returned."""
         if raw is None:
             return [(j, c) for j, c, _ in used]
-        try:
-            pair = tuple(raw)
-            d_ln: dict[str, Any] = dict(pair[0])
-            d_phi: dict[str, Any] = dict(pair[1])
-            if len(pair) != 2:
-                raise ValueError
-        except (TypeError, ValueError) as exc:
-            raise ModelError(f"model {self.model.id}: jacobian must return two dicts") from exc
+        d_ln, d_phi = _jacobian_dicts(self.model, raw)
         size, n_osm = b.union.size, b.n_osm_unique
         missing = []
         for j, c, names in used:
@@ -804,6 +787,28 @@ def _shaped(model: ActivityModel, what: str, value: object, shape: tuple[int, ..
     if arr.shape != shape:
         raise ModelError(f"model {model.id}: {what} has shape {arr.shape}, expected {shape}")
     return arr
+
+
+def _jacobian_dicts(model: ActivityModel, raw: Any) -> tuple[dict[str, Any], dict[str, Any]]:
+    """A model's ``jacobian`` return (d ln gamma±, d phi) as two dicts; ModelError otherwise."""
+    try:
+        d_ln, d_phi = raw
+        return dict(d_ln), dict(d_phi)
+    except (TypeError, ValueError) as exc:
+        raise ModelError(f"model {model.id}: jacobian must return two dicts") from exc
+
+
+def _set_by_set(fn, thetas: np.ndarray, shape: tuple[int, ...]) -> np.ndarray:
+    """``fn(theta)`` of shape ``shape`` for each row of ``thetas``, stacked; NaN for a set where
+    the model fails (what a stacked evaluation gives when the model does not stack the sets, or
+    raises for some of them)."""
+    out = np.empty((thetas.shape[0], *shape))
+    for s, theta in enumerate(thetas):
+        try:
+            out[s] = fn(theta)
+        except _STACK_FAILURES:
+            out[s] = np.nan
+    return out
 
 
 def _broadcast(model: ActivityModel, what: str, value: object, shape: tuple[int, ...]
